@@ -1,0 +1,12 @@
+import { sequence } from '@sveltejs/kit/hooks';
+import type { ServerInit } from '@sveltejs/kit';
+import { authHandle, standardAuthEndpoints } from '$lib/server/auth';
+import { actorHandle, assertAuthSecret, contextHandle } from '$lib/server/hooks';
+import { getDb } from '$lib/server/db';
+
+export const init: ServerInit = async () => {
+	assertAuthSecret();
+	await getDb(); // applies pending migrations, so an empty database is ready at start-up
+};
+
+export const handle = sequence(contextHandle, standardAuthEndpoints, authHandle, actorHandle);

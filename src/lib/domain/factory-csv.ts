@@ -1,0 +1,559 @@
+/**
+ * Reading the CSV files written by the end-of-line test rigs. Pure functions: the text is
+ * passed in (already decoded), the clock is passed in as `now`, and looking serials up in
+ * the register is the caller's business.
+ *
+ * Format: RFC 4180 (quoted fields, doubled inner quotes, CRLF or LF), with a UTF-8 BOM
+ * allowed, `,` or `;` as delimiter and, in `;` files, a decimal comma — European rigs and
+ * spreadsheets write "45,2" when the list separator is `;`.
+ */
+import Papa from 'papaparse';
+import { dcirTwoPulse, type TwoPulseReading } from './factory-test';
+
+export const COLUMNS = [
+	'serial',
+	'tested_at',
+	'capacity_ah',
+	'energy_wh',
+	'dcir_mohm',
+	'ocv_v',
+	'cell_spread_mv',
+	'insulation_mohm',
+	'ambient_c',
+	'rig',
+	'operator',
+	'pulse_u1_v',
+	'pulse_i1_a',
+	'pulse_u2_v',
+	'pulse_i2_a'
+] as const;
+export type FactoryColumn = (typeof COLUMNS)[number];
+
+export const REQUIRED_COLUMNS: readonly FactoryColumn[] = ['serial', 'tested_at', 'capacity_ah', 'dcir_mohm', 'cell_spread_mv', 'insulation_mohm'];
+export const PULSE_COLUMNS = ['pulse_u1_v', 'pulse_i1_a', 'pulse_u2_v', 'pulse_i2_a'] as const satisfies readonly FactoryColumn[];
+
+/**
+ * Other names rigs and spreadsheets use, after normalisation (lower case, spaces and
+ * hyphens as `_`, unit suffix in brackets removed). Kept small on purpose: a wrong guess
+ * would put a value in the wrong column.
+ */
+const ALIASES: Record<string, FactoryColumn> = {
+	serial_number: 'serial',
+	serial_no: 'serial',
+	sn: 'serial',
+	module_serial: 'serial',
+	tested: 'tested_at',
+	test_time: 'tested_at',
+	timestamp: 'tested_at',
+	date_time: 'tested_at',
+	datetime: 'tested_at',
+	capacity: 'capacity_ah',
+	discharge_capacity: 'capacity_ah',
+	energy: 'energy_wh',
+	discharge_energy: 'energy_wh',
+	dcir: 'dcir_mohm',
+	internal_resistance: 'dcir_mohm',
+	dc_internal_resistance: 'dcir_mohm',
+	ocv: 'ocv_v',
+	open_circuit_voltage: 'ocv_v',
+	cell_spread: 'cell_spread_mv',
+	cell_voltage_spread: 'cell_spread_mv',
+	insulation: 'insulation_mohm',
+	insulation_resistance: 'insulation_mohm',
+	ambient: 'ambient_c',
+	ambient_temp: 'ambient_c',
+	ambient_temperature: 'ambient_c',
+	station: 'rig',
+	operator_id: 'operator',
+	tested_by: 'operator',
+	pulse_u1: 'pulse_u1_v',
+	pulse_i1: 'pulse_i1_a',
+	pulse_u2: 'pulse_u2_v',
+	pulse_i2: 'pulse_i2_a'
+};
+
+/**
+ * Units a bracketed suffix may name for each numeric column, and how to say the expected
+ * one. Case matters for the ohm columns: "mOhm" is a milliohm, "MOhm" a megaohm, and
+ * mixing them up is a factor of 10⁹. "Ω" is read as "Ohm".
+ */
+const UNITS: Partial<Record<FactoryColumn, { ok: RegExp; say: string }>> = {
+	capacity_ah: { ok: /^(ah|a·h|amp[- ]?hours?)$/i, say: 'Ah' },
+	energy_wh: { ok: /^(wh|w·h|watt[- ]?hours?)$/i, say: 'Wh' },
+	dcir_mohm: { ok: /^m(illi)?[oO][hH][mM][sS]?$/, say: 'mΩ' },
+	ocv_v: { ok: /^(v|volts?)$/i, say: 'V' },
+	cell_spread_mv: { ok: /^(mv|millivolts?)$/i, say: 'mV' },
+	insulation_mohm: { ok: /^(M[oO][hH][mM][sS]?|[mM]eg(a)?ohms?)$/, say: 'MΩ' },
+	// U+FFFD: a degree sign written in Windows-1252 and read as UTF-8.
+	ambient_c: { ok: /^([°º\uFFFD]\s?c|c|deg\s?c|celsius)$/i, say: '°C' },
+	pulse_u1_v: { ok: /^(v|volts?)$/i, say: 'V' },
+	pulse_u2_v: { ok: /^(v|volts?)$/i, say: 'V' },
+	pulse_i1_a: { ok: /^(a|amps?|amperes?)$/i, say: 'A' },
+	pulse_i2_a: { ok: /^(a|amps?|amperes?)$/i, say: 'A' }
+};
+
+export interface HeaderMatch {
+	column: FactoryColumn | null;
+	/** Unit named in brackets or parentheses after the name, if any. */
+	unit: string | null;
+}
+
+/**
+ * Match a header cell to a column: case, spaces and a unit suffix in brackets or
+ * parentheses are ignored ("Capacity (Ah)", "capacity_ah [Ah]" → capacity_ah).
+ */
+export function matchHeader(header: string): HeaderMatch {
+	let h = header.replace(/^\uFEFF/, '').trim();
+	let unit: string | null = null;
+	const m = /^(.*?)\s*[[(]([^\])]*)[\])]\s*$/.exec(h);
+	if (m) {
+		h = m[1];
+		unit = m[2].trim().replace(/Ω/g, 'Ohm').replace(/ω/g, 'ohm');
+	}
+	const key = h
+		.toLowerCase()
+		.replace(/[\s\-./]+/g, '_')
+		.replace(/_+/g, '_')
+		.replace(/^_|_$/g, '');
+	const column = (COLUMNS as readonly string[]).includes(key) ? (key as FactoryColumn) : (ALIASES[key] ?? null);
+	return { column, unit };
+}
+
+export interface RowError {
+	/** Row as a person sees it in a spreadsheet: the header is row 1, the first data row 2. */
+	row: number;
+	column: string;
+	message: string;
+}
+
+export interface ParsedRow {
+	row: number;
+	/** Cell text by column name; columns the file lacks are absent. */
+	raw: Partial<Record<FactoryColumn, string>>;
+}
+
+export type ParseResult =
+	| { ok: false; error: string }
+	| {
+			ok: true;
+			delimiter: ',' | ';';
+			/** True for `;` files, where "45,2" means 45.2. */
+			decimalComma: boolean;
+			/** Column name → the header text as written in the file. */
+			headerMap: Partial<Record<FactoryColumn, string>>;
+			/** Header cells that match no column; their values are not read. */
+			ignoredColumns: string[];
+			/** Data rows that could be split into the header's columns. */
+			rows: ParsedRow[];
+			/** Rows that could not be split (too many fields, a broken quote); not in `rows`. */
+			rowErrors: RowError[];
+	  };
+
+const isBlankRecord = (r: string[]) => r.every((c) => c.trim() === '');
+
+/** Why the text is not CSV, or null. Thresholds are common practice, not a standard. */
+function binaryReason(text: string): string | null {
+	const sample = text.slice(0, 8192);
+	if (sample.startsWith('PK\u0003\u0004')) {
+		return 'This does not look like a CSV text file: it looks like an Excel workbook or another zip file. In Excel use Save As → "CSV UTF-8".';
+	}
+	if (sample.includes('\u0000')) {
+		return 'This does not look like a CSV text file: it contains NUL bytes. If it was saved as UTF-16 ("Unicode text"), save it again as "CSV UTF-8".';
+	}
+	let odd = 0;
+	for (const ch of sample) {
+		const c = ch.codePointAt(0)!;
+		if ((c < 32 && c !== 9 && c !== 10 && c !== 13) || c === 127 || c === 0xfffd) odd++;
+	}
+	if (odd > 0.05 * sample.length) {
+		return `This does not look like a CSV text file: ${odd} of the first ${sample.length} characters are not printable text.`;
+	}
+	return null;
+}
+
+/**
+ * The delimiter, judged from the header line alone: header names hold neither `,` nor
+ * `;`, whereas data rows of a `;` file hold decimal commas. (Papa Parse's own guess
+ * compares field counts over the first rows; reading the header is simpler to predict.)
+ */
+function detectDelimiter(text: string): ',' | ';' {
+	const firstLine = text.split(/\r\n|\n|\r/).find((l) => l.trim() !== '') ?? '';
+	let commas = 0;
+	let semicolons = 0;
+	let quoted = false;
+	for (const ch of firstLine) {
+		if (ch === '"') quoted = !quoted;
+		else if (!quoted && ch === ',') commas++;
+		else if (!quoted && ch === ';') semicolons++;
+	}
+	return semicolons > commas ? ';' : ',';
+}
+
+/** Split a rig file into header and rows; file-level problems end the import with one message. */
+export function parseFactoryCsv(text: string): ParseResult {
+	const body = text.replace(/^\uFEFF/, '');
+	if (body.trim() === '') return { ok: false, error: 'The file is empty.' };
+	const binary = binaryReason(body);
+	if (binary) return { ok: false, error: binary };
+
+	const delimiter = detectDelimiter(body);
+	const parsed = Papa.parse<string[]>(body, { delimiter, skipEmptyLines: false });
+	const unclosed = parsed.errors.find((e) => e.code === 'MissingQuotes');
+	if (unclosed) {
+		return {
+			ok: false,
+			error: `Row ${(unclosed.row ?? 0) + 1} has a double quote (") that is never closed, so the rest of the file cannot be read. Remove the stray quote or double it ("").`
+		};
+	}
+	const records = parsed.data;
+	const headerIndex = records.findIndex((r) => !isBlankRecord(r));
+	if (headerIndex < 0) return { ok: false, error: 'The file is empty.' };
+	const header = records[headerIndex].map((h) => h.trim());
+
+	const headerMap: Partial<Record<FactoryColumn, string>> = {};
+	const positions: Partial<Record<FactoryColumn, number>> = {};
+	const ignoredColumns: string[] = [];
+	for (const [i, cell] of header.entries()) {
+		const { column, unit } = matchHeader(cell);
+		if (!column) {
+			if (cell !== '') ignoredColumns.push(cell);
+			continue;
+		}
+		if (headerMap[column] !== undefined) {
+			return { ok: false, error: `The columns "${headerMap[column]}" and "${cell}" both mean ${column}; keep one of them.` };
+		}
+		const expected = UNITS[column];
+		if (unit !== null && expected && !expected.ok.test(unit)) {
+			return {
+				ok: false,
+				error: `The column "${cell}" is in ${unit}, but ${column} must be in ${expected.say}. Convert the values to ${expected.say} and rename the column.`
+			};
+		}
+		headerMap[column] = cell;
+		positions[column] = i;
+	}
+
+	const hasPulse = PULSE_COLUMNS.every((c) => headerMap[c] !== undefined);
+	const missing = REQUIRED_COLUMNS.filter((c) => headerMap[c] === undefined && !(c === 'dcir_mohm' && hasPulse));
+	if (missing.length > 0) {
+		const names = missing.map((c) => (c === 'dcir_mohm' ? `dcir_mohm (or all four of ${PULSE_COLUMNS.join(', ')})` : c));
+		const found = header.filter((h) => h !== '').map((h) => `"${h}"`);
+		return {
+			ok: false,
+			error: `Missing required column${missing.length > 1 ? 's' : ''}: ${names.join(', ')}. Columns found: ${found.join(', ') || 'none'}.`
+		};
+	}
+
+	const badQuotes = new Set(parsed.errors.filter((e) => e.code === 'InvalidQuotes').map((e) => e.row));
+	const rows: ParsedRow[] = [];
+	const rowErrors: RowError[] = [];
+	for (let i = headerIndex + 1; i < records.length; i++) {
+		const record = records[i];
+		if (isBlankRecord(record)) continue;
+		const row = i + 1;
+		if (badQuotes.has(i)) {
+			rowErrors.push({ row, column: '', message: 'A quoted value has text after its closing quote; put the whole value in quotes and double any quote inside it ("").' });
+			continue;
+		}
+		// Spreadsheets sometimes write trailing empty cells; only non-empty extras are a problem.
+		if (record.length > header.length && !record.slice(header.length).every((c) => c.trim() === '')) {
+			const hint = delimiter === ',' ? ' A decimal comma or an unquoted comma inside a value splits it in two; write numbers with a decimal point.' : ' A semicolon inside a value must be quoted.';
+			rowErrors.push({ row, column: '', message: `This row has ${record.length} values but the header has ${header.length} columns.${hint}` });
+			continue;
+		}
+		const raw: Partial<Record<FactoryColumn, string>> = {};
+		for (const [column, pos] of Object.entries(positions) as [FactoryColumn, number][]) {
+			raw[column] = record[pos] ?? '';
+		}
+		rows.push({ row, raw });
+	}
+	if (rows.length === 0 && rowErrors.length === 0) {
+		return { ok: false, error: 'The file has a header but no data rows.' };
+	}
+	return { ok: true, delimiter, decimalComma: delimiter === ';', headerMap, ignoredColumns, rows, rowErrors };
+}
+
+/** One validated test record, ready for the register to look its serial up. */
+export interface FactoryTestRow {
+	serial: string;
+	testedAt: Date;
+	capacityAh: number;
+	energyWh: number | null;
+	dcirMohm: number;
+	/** Whether DCIR was in the file or computed from the pulse columns (IEC 61960-3 two-step pulse). */
+	dcirSource: 'measured' | 'two_pulse';
+	ocvV: number | null;
+	cellSpreadMv: number;
+	insulationMohm: number;
+	ambientC: number | null;
+	rig: string | null;
+	operator: string | null;
+	pulse: TwoPulseReading | null;
+}
+
+export type RowValidation = { ok: true; value: FactoryTestRow } | { ok: false; errors: RowError[] };
+
+interface NumberRule {
+	label: string;
+	unit: string;
+	min: number;
+	/** True when the minimum itself is not allowed (capacity 0 Ah is no measurement). */
+	minExclusive: boolean;
+	max: number;
+}
+
+/**
+ * Plausible physical bounds (common practice, not from a standard): wide enough for any
+ * module Tidewater builds, narrow enough to catch a wrong unit or a misplaced decimal point.
+ */
+const RULES: Record<Exclude<FactoryColumn, 'serial' | 'tested_at' | 'rig' | 'operator'>, NumberRule> = {
+	capacity_ah: { label: 'Capacity', unit: 'Ah', min: 0, minExclusive: true, max: 10_000 },
+	energy_wh: { label: 'Energy', unit: 'Wh', min: 0, minExclusive: true, max: 1_000_000 },
+	dcir_mohm: { label: 'DC internal resistance', unit: 'mΩ', min: 0, minExclusive: true, max: 10_000 },
+	ocv_v: { label: 'Open-circuit voltage', unit: 'V', min: 0, minExclusive: true, max: 1500 },
+	cell_spread_mv: { label: 'Cell voltage spread', unit: 'mV', min: 0, minExclusive: false, max: 5000 },
+	insulation_mohm: { label: 'Insulation resistance', unit: 'MΩ', min: 0, minExclusive: false, max: 1_000_000 },
+	ambient_c: { label: 'Ambient temperature', unit: '°C', min: -40, minExclusive: false, max: 85 },
+	pulse_u1_v: { label: 'Pulse voltage U1', unit: 'V', min: 0, minExclusive: true, max: 1500 },
+	pulse_i1_a: { label: 'Pulse current I1', unit: 'A', min: 0, minExclusive: false, max: 100_000 },
+	pulse_u2_v: { label: 'Pulse voltage U2', unit: 'V', min: 0, minExclusive: true, max: 1500 },
+	pulse_i2_a: { label: 'Pulse current I2', unit: 'A', min: 0, minExclusive: true, max: 100_000 }
+};
+
+type NumberColumn = keyof typeof RULES;
+
+const POINT_NUMBER = /^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$/;
+const COMMA_NUMBER = /^[+-]?(\d+(,\d*)?|,\d+)$/;
+
+/** Read a number cell: null when empty, else the number or a message saying what to fix. */
+function readNumber(text: string, rule: NumberRule, decimalComma: boolean): { value: number | null } | { message: string } {
+	const s = text.trim();
+	if (s === '') return { value: null };
+	let value: number;
+	if (POINT_NUMBER.test(s)) value = Number(s);
+	else if (decimalComma && COMMA_NUMBER.test(s)) value = Number(s.replace(',', '.'));
+	else if (/^[+-]?\d{1,3}([.,]\d{3})+([.,]\d+)?$/.test(s) && s.includes(',') && s.includes('.')) {
+		return { message: `${rule.label} "${s}" has a thousands separator; write the number without it, e.g. ${s.replace(/[.,](?=\d{3}(\D|$))/g, '')}.` };
+	} else if (COMMA_NUMBER.test(s)) {
+		return { message: `${rule.label} "${s}" has a decimal comma; write ${s.replace(',', '.')} (a decimal comma is only read in files separated by semicolons).` };
+	} else if (/^[+-]?[\d.,]+\s*[^\d\s.,]+$/.test(s)) {
+		return { message: `${rule.label} "${s}" has text after the number; write only the number, in ${rule.unit}.` };
+	} else {
+		return { message: `${rule.label} "${s}" is not a number; write the value in ${rule.unit} with digits and a decimal point.` };
+	}
+	const low = rule.minExclusive ? value <= rule.min : value < rule.min;
+	if (low || value > rule.max) {
+		const lower = rule.minExclusive ? `above ${rule.min}` : `at least ${rule.min}`;
+		return {
+			message: `${rule.label} ${s} ${rule.unit} is out of range: it must be ${lower} and at most ${rule.max} ${rule.unit}. Check the unit and the decimal point.`
+		};
+	}
+	return { value };
+}
+
+/** Clock skew allowed between rig and server before a time counts as "in the future" (common practice). */
+export const CLOCK_SKEW_MS = 5 * 60 * 1000;
+/** Earlier times mean a rig whose clock was reset (often to 1970); common practice. */
+const EARLIEST_TEST = Date.UTC(2000, 0, 1);
+
+const ISO_DATE_TIME = /^(\d{4})-(\d{2})-(\d{2})(?:[Tt ](\d{2}):(\d{2})(?::(\d{2})(?:[.,](\d+))?)?)?\s*([Zz]|[+-]\d{2}(?::?\d{2})?)?$/;
+
+/**
+ * An ISO 8601 date-time with a UTC offset ("2026-03-12T08:15:00Z", "…+01:00"). A time
+ * without an offset is refused rather than guessed: the instant decides duplicates and
+ * the "not in the future" check, and a rig's local time shifts with daylight saving.
+ */
+export function parseTestedAt(text: string): { ok: true; date: Date } | { ok: false; message: string } {
+	const s = text.trim();
+	if (s === '') return { ok: false, message: 'Tested at is empty; enter the date and time of the test in ISO 8601, e.g. 2026-03-12T08:15:00Z.' };
+	const local = /^(\d{1,2})[./-](\d{1,2})[./-](\d{4})(.*)$/.exec(s);
+	if (local) {
+		const [a, b, y] = [Number(local[1]), Number(local[2]), local[3]];
+		const iso = (month: number, day: number) => `${y}-${String(month).padStart(2, '0')}-${String(day).padStart(2, '0')}T08:15:00Z`;
+		let example: string;
+		if (a > 12) example = iso(b, a);
+		else if (b > 12) example = iso(a, b);
+		else example = `${iso(b, a)} (if ${a} is the day) or ${iso(a, b)} (if ${a} is the month)`;
+		return { ok: false, message: `Tested at "${s}" is not an ISO 8601 date; write the year first, with the time and UTC offset, e.g. ${example}.` };
+	}
+	const m = ISO_DATE_TIME.exec(s);
+	if (!m) return { ok: false, message: `Tested at "${s}" is not an ISO 8601 date-time; write it like 2026-03-12T08:15:00Z.` };
+	const [, ys, mos, ds, hs, mis, ss, frac, offset] = m;
+	if (hs === undefined) return { ok: false, message: `Tested at "${s}" has a date but no time; add the time and UTC offset, e.g. ${ys}-${mos}-${ds}T08:15:00Z.` };
+	if (offset === undefined) {
+		return { ok: false, message: `Tested at "${s}" has no UTC offset, so the instant is ambiguous; add Z for UTC or the rig's offset, e.g. ${s.replace(' ', 'T')}+01:00.` };
+	}
+	const [y, mo, d, h, mi, sec] = [ys, mos, ds, hs, mis, ss ?? '0'].map(Number);
+	const daysInMonth = new Date(Date.UTC(y, mo, 0)).getUTCDate();
+	let offsetMin = 0;
+	if (offset.toUpperCase() !== 'Z') {
+		const digits = offset.slice(1).replace(':', '');
+		const oh = Number(digits.slice(0, 2));
+		const om = Number(digits.slice(2) || '0');
+		if (oh > 23 || om > 59) return { ok: false, message: `Tested at "${s}" has an impossible UTC offset ${offset}.` };
+		offsetMin = (offset[0] === '-' ? -1 : 1) * (oh * 60 + om);
+	}
+	if (mo < 1 || mo > 12 || d < 1 || d > daysInMonth || h > 23 || mi > 59 || sec > 59) {
+		return { ok: false, message: `Tested at "${s}" is not a real date and time; check the month, day and hour.` };
+	}
+	const ms = frac ? Math.round(Number(`0.${frac}`) * 1000) : 0;
+	return { ok: true, date: new Date(Date.UTC(y, mo - 1, d, h, mi, sec, ms) - offsetMin * 60_000) };
+}
+
+/**
+ * Check one row's values (raw cell text by column name). `rowNumber` is passed through
+ * to the errors. DCIR comes from dcir_mohm, or when that is empty from the four pulse
+ * columns by the IEC 61960-3 two-step pulse (see `dcirTwoPulse`).
+ */
+export function validateRowValues(
+	raw: Partial<Record<string, string>>,
+	rowNumber: number,
+	now: Date,
+	options: { decimalComma?: boolean } = {}
+): RowValidation {
+	const errors: RowError[] = [];
+	const fail = (column: string, message: string) => errors.push({ row: rowNumber, column, message });
+	const cell = (c: FactoryColumn) => (raw[c] ?? '').trim();
+	const num = (c: NumberColumn, required: boolean): number | null => {
+		const r = readNumber(cell(c), RULES[c], options.decimalComma ?? false);
+		if ('message' in r) {
+			fail(c, r.message);
+			return null;
+		}
+		if (r.value === null && required) fail(c, `${RULES[c].label} is empty; enter the measured value in ${RULES[c].unit}.`);
+		return r.value;
+	};
+
+	const serial = cell('serial');
+	if (serial === '') fail('serial', 'Serial is empty; every row needs the serial number of the module tested.');
+	else if (/[\u0000-\u001f\u007f]/.test(serial)) fail('serial', `Serial "${serial}" contains control characters; retype it.`);
+
+	let testedAt: Date | null = null;
+	const t = parseTestedAt(cell('tested_at'));
+	if (!t.ok) fail('tested_at', t.message);
+	else if (t.date.getTime() > now.getTime() + CLOCK_SKEW_MS) {
+		fail('tested_at', `Tested at ${t.date.toISOString()} is in the future (the import ran at ${now.toISOString()}); check the rig's clock and time zone.`);
+	} else if (t.date.getTime() < EARLIEST_TEST) {
+		fail('tested_at', `Tested at ${t.date.toISOString()} is before the year 2000; the rig's clock was probably reset. Correct the date.`);
+	} else testedAt = t.date;
+
+	const capacityAh = num('capacity_ah', true);
+	const energyWh = num('energy_wh', false);
+	const ocvV = num('ocv_v', false);
+	const cellSpreadMv = num('cell_spread_mv', true);
+	const insulationMohm = num('insulation_mohm', true);
+	const ambientC = num('ambient_c', false);
+
+	let dcirMohm: number | null = null;
+	let dcirSource: FactoryTestRow['dcirSource'] = 'measured';
+	let pulse: TwoPulseReading | null = null;
+	const anyPulse = PULSE_COLUMNS.some((c) => cell(c) !== '');
+	if (cell('dcir_mohm') !== '') {
+		dcirMohm = num('dcir_mohm', true);
+	} else if (anyPulse) {
+		const [u1V, i1A, u2V, i2A] = PULSE_COLUMNS.map((c) => num(c, true));
+		if (u1V !== null && i1A !== null && u2V !== null && i2A !== null) {
+			pulse = { u1V, i1A, u2V, i2A };
+			try {
+				const r = dcirTwoPulse(pulse);
+				const checked = readNumber(String(r), RULES.dcir_mohm, false);
+				if ('message' in checked) fail('dcir_mohm', `Computed from the pulse columns: ${checked.message}`);
+				else {
+					dcirMohm = r;
+					dcirSource = 'two_pulse';
+				}
+			} catch (e) {
+				if (!(e instanceof RangeError)) throw e;
+				fail('dcir_mohm', `DC internal resistance cannot be computed from the pulse columns: ${e.message}.`);
+			}
+		}
+	} else {
+		fail('dcir_mohm', `DC internal resistance is empty; enter it in mΩ, or fill the four pulse columns (${PULSE_COLUMNS.join(', ')}).`);
+	}
+
+	const rig = cell('rig') || null;
+	const operator = cell('operator') || null;
+	if (errors.length > 0 || testedAt === null || capacityAh === null || dcirMohm === null || cellSpreadMv === null || insulationMohm === null) {
+		return { ok: false, errors };
+	}
+	return {
+		ok: true,
+		value: { serial, testedAt, capacityAh, energyWh, dcirMohm, dcirSource, ocvV, cellSpreadMv, insulationMohm, ambientC, rig, operator, pulse }
+	};
+}
+
+/**
+ * Key of a test for spotting duplicates, within a file and against the register: the
+ * same module, at the same instant, on the same rig. JSON keeps the parts apart even when
+ * a rig name holds a separator character.
+ */
+export function rowKey(row: Pick<FactoryTestRow, 'serial' | 'testedAt' | 'rig'>): string {
+	return JSON.stringify([row.serial, row.testedAt.toISOString(), row.rig ?? '']);
+}
+
+export type FileValidation =
+	| { ok: false; error: string }
+	| {
+			ok: true;
+			headerMap: Partial<Record<FactoryColumn, string>>;
+			ignoredColumns: string[];
+			rows: { row: number; value: FactoryTestRow }[];
+			/** Sorted by row; `column` is the header as written in the file. */
+			errors: RowError[];
+	  };
+
+/**
+ * Parse and check a whole file: the usual entry point for an import. A row repeating an
+ * earlier row's key (`rowKey`) is reported as an error on the later row.
+ */
+export function validateFactoryCsv(text: string, now: Date): FileValidation {
+	const parsed = parseFactoryCsv(text);
+	if (!parsed.ok) return parsed;
+	const errors: RowError[] = [...parsed.rowErrors];
+	const rows: { row: number; value: FactoryTestRow }[] = [];
+	const seen = new Map<string, number>();
+	const shown = (column: string) => parsed.headerMap[column as FactoryColumn] ?? column;
+	for (const p of parsed.rows) {
+		const v = validateRowValues(p.raw, p.row, now, { decimalComma: parsed.decimalComma });
+		if (!v.ok) {
+			errors.push(...v.errors.map((e) => ({ ...e, column: shown(e.column) })));
+			continue;
+		}
+		const key = rowKey(v.value);
+		const first = seen.get(key);
+		if (first !== undefined) {
+			errors.push({ row: p.row, column: shown('serial'), message: `Same serial, test time and rig as row ${first}; remove the duplicate row.` });
+			continue;
+		}
+		seen.set(key, p.row);
+		rows.push({ row: p.row, value: v.value });
+	}
+	errors.sort((a, b) => a.row - b.row);
+	return { ok: true, headerMap: parsed.headerMap, ignoredColumns: parsed.ignoredColumns, rows, errors };
+}
+
+/**
+ * Make a cell safe to open in a spreadsheet: a leading `=`, `+`, `-` or `@` (and tab or
+ * carriage return) would start a formula, so the cell gets a leading single quote
+ * (OWASP "CSV Injection" guidance, from memory).
+ */
+export function neutraliseCell(value: string): string {
+	return /^[=+\-@\t\r]/.test(value) ? `'${value}` : value;
+}
+
+/**
+ * The row errors as a CSV a person can open beside the rig file: row, column, message;
+ * RFC 4180 quoting and CRLF by Papa Parse. A UTF-8 BOM is added by default because Excel
+ * reads a file without one in the local code page and mangles "mΩ" and "°C" (common practice).
+ */
+export function toErrorReportCsv(errors: RowError[], options: { bom?: boolean } = {}): string {
+	const csv = Papa.unparse(
+		{
+			fields: ['row', 'column', 'message'],
+			data: errors.map((e) => [e.row, neutraliseCell(e.column), neutraliseCell(e.message)])
+		},
+		{ newline: '\r\n' }
+	);
+	// Papa Parse ends the text with a line break only when there are no data rows.
+	return (options.bom ?? true ? '\uFEFF' : '') + csv.replace(/\r\n$/, '') + '\r\n';
+}

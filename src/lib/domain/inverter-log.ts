@@ -1,0 +1,262 @@
+/**
+ * Reads an inverter log exported as CSV (RFC 4180, REFERENCES §7) and sums the battery's
+ * discharge energy for the energy-basis equivalent full cycles of a warranty claim.
+ * Pure: the text comes in, a summary goes out.
+ */
+import Papa from 'papaparse';
+
+/** A fatal problem with the file or the mapping; row-level problems go in `problems`. */
+export class InverterLogError extends Error {
+	override name = 'InverterLogError';
+}
+
+export interface ColumnGuess {
+	timestamp?: string;
+	dischargeEnergyWh?: string;
+	dischargeEnergyKWh?: string;
+	chargeEnergyWh?: string;
+	chargeEnergyKWh?: string;
+	cellTempC?: string;
+	maxCellTempC?: string;
+	/** Guessed from the energy column's name ("total", "lifetime" → cumulative). */
+	energyKind?: 'cumulative' | 'interval';
+}
+
+export interface LogMapping {
+	timestampColumn: string;
+	energyColumn: string;
+	energyUnit: 'Wh' | 'kWh';
+	energyKind: 'cumulative' | 'interval';
+	tempColumn?: string;
+}
+
+export interface LogSummary {
+	/** Data rows in the file (blank lines not counted). */
+	rows: number;
+	/** Timestamps as written in the file, of the first and last rows read. */
+	firstAt: string | null;
+	lastAt: string | null;
+	/** Discharge energy in Wh (3 decimals); null when no row had a usable value. */
+	throughputWh: number | null;
+	/** Plain mean of the readings (not time-weighted), 2 decimals. */
+	avgTempC: number | null;
+	maxTempC: number | null;
+	problems: string[];
+}
+
+/** How many problems of one kind are listed row by row before they are only counted. */
+export const PROBLEMS_PER_KIND = 10;
+
+const normalise = (h: string) =>
+	h
+		.toLowerCase()
+		.replace(/°/g, ' deg ')
+		.replace(/[^a-z0-9]+/g, ' ')
+		.trim();
+
+const words = (h: string) => normalise(h).split(' ');
+
+/** Energy unit from a header such as "E_Discharge_Total(kWh)" or "battery discharge [Wh]". */
+function energyUnitOf(h: string): 'Wh' | 'kWh' | null {
+	const w = words(h);
+	if (w.includes('kwh') || /kwh/.test(normalise(h))) return 'kWh';
+	if (w.includes('wh') || /(^|[^k])wh\b/.test(normalise(h))) return 'Wh';
+	return null;
+}
+
+const isDischarge = (n: string) => /dis ?ch(ar)?g|discharge|\bdchg\b|\bbat(tery)? out\b|\bexport/.test(n);
+const isCharge = (n: string) => !isDischarge(n) && /\bch(ar)?g|\bcharge|\bbat(tery)? in\b/.test(n);
+const isEnergy = (n: string) => /energy|kwh|\bwh\b|\be\b/.test(n) || /wh\b/.test(n);
+
+/**
+ * Suggests which columns hold what, by name. Only a suggestion: the person uploading the
+ * log confirms the mapping, so a wrong guess costs one click, a missing one none.
+ */
+export function detectColumns(headers: string[]): ColumnGuess {
+	const guess: ColumnGuess = {};
+	const cleaned = headers.map((h) => h.replace(/^\uFEFF/, '').trim());
+	for (const h of cleaned) {
+		const n = normalise(h);
+		if (!n) continue;
+		if (!guess.timestamp && /\b(timestamp|datetime|date ?time|time|date|ts)\b/.test(n)) {
+			guess.timestamp = h;
+			continue;
+		}
+		if (isEnergy(n)) {
+			const unit = energyUnitOf(h);
+			if (unit && isDischarge(n)) {
+				const key = unit === 'kWh' ? 'dischargeEnergyKWh' : 'dischargeEnergyWh';
+				if (!guess.dischargeEnergyKWh && !guess.dischargeEnergyWh) {
+					guess[key] = h;
+					if (/\b(total|cumulative|lifetime|counter|acc|accumulated|today|daily|day)\b/.test(n)) guess.energyKind = 'cumulative';
+					else if (/\b(interval|delta|period)\b/.test(n)) guess.energyKind = 'interval';
+				}
+				continue;
+			}
+			if (unit && isCharge(n)) {
+				const key = unit === 'kWh' ? 'chargeEnergyKWh' : 'chargeEnergyWh';
+				if (!guess.chargeEnergyKWh && !guess.chargeEnergyWh) guess[key] = h;
+				continue;
+			}
+		}
+		const compact = n.replace(/ /g, '');
+		if (/temp/.test(compact) && /cell|bat|module|bms|pack/.test(compact) && !/inverter|inv|ambient|heatsink|igbt|pcb|mosfet|\bmos\b/.test(n) && !/degf|fahrenheit/.test(compact)) {
+			if (/max|highest|peak/.test(compact)) guess.maxCellTempC ??= h;
+			else if (!/min|lowest/.test(compact)) guess.cellTempC ??= h;
+		}
+	}
+	return guess;
+}
+
+/** A numeric cell: "12.5", "-3", and "12,5" (decimal comma, as in semicolon exports). */
+function readNumber(raw: string | undefined): number | null {
+	if (raw === undefined) return null;
+	const s = raw.trim().replace(/^(-?\d+),(\d+)$/, '$1.$2');
+	if (s === '') return null;
+	const n = Number(s);
+	return Number.isFinite(n) ? n : null;
+}
+
+const ISO_LIKE = /^\d{4}-\d{2}-\d{2}([ T]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?$/;
+
+class ProblemList {
+	private kinds = new Map<string, { listed: string[]; more: number; tail: (n: number) => string }>();
+	add(kind: string, text: string, tail: (n: number) => string) {
+		let k = this.kinds.get(kind);
+		if (!k) this.kinds.set(kind, (k = { listed: [], more: 0, tail }));
+		if (k.listed.length < PROBLEMS_PER_KIND) k.listed.push(text);
+		else k.more++;
+	}
+	toArray(): string[] {
+		const out: string[] = [];
+		for (const k of this.kinds.values()) {
+			out.push(...k.listed);
+			if (k.more > 0) out.push(k.tail(k.more));
+		}
+		return out;
+	}
+}
+
+/**
+ * Summarises a log. Row numbers in problems count the header as row 1, as a spreadsheet
+ * shows them. Cumulative counters: throughput is the rise of the counter; a drop is taken
+ * as a counter reset and starts a new segment, each adding its own rise (energy between the
+ * last reading before a reset and the reset itself is not known, so this can only
+ * under-count, which favours the owner). Interval values are summed.
+ */
+export function summariseLog(text: string, mapping: LogMapping): LogSummary {
+	const body = text.replace(/^\uFEFF/, '');
+	if (body.trim() === '') throw new InverterLogError('The file is empty.');
+
+	const parsed = Papa.parse<string[]>(body, { header: false, skipEmptyLines: false });
+	const table = parsed.data;
+	const headers = (table[0] ?? []).map((h) => h.trim());
+	const columnIndex = (name: string, role: string) => {
+		const i = headers.indexOf(name.trim());
+		if (i < 0) throw new InverterLogError(`The ${role} column "${name}" is not in the file. Columns found: ${headers.map((h) => `"${h}"`).join(', ')}.`);
+		return i;
+	};
+	const tsCol = columnIndex(mapping.timestampColumn, 'timestamp');
+	const eCol = columnIndex(mapping.energyColumn, 'energy');
+	const tCol = mapping.tempColumn ? columnIndex(mapping.tempColumn, 'temperature') : null;
+	const scale = mapping.energyUnit === 'kWh' ? 1000 : 1;
+
+	const problems = new ProblemList();
+	for (const e of parsed.errors) {
+		if (e.code === 'UndetectableDelimiter' || e.code === 'TooFewFields' || e.code === 'TooManyFields') continue;
+		const where = typeof e.row === 'number' ? `Row ${e.row + 1}` : 'The file';
+		problems.add('csv', `${where}: ${e.message}.`, (n) => `… and ${n} more CSV syntax problems.`);
+	}
+
+	let rows = 0;
+	let firstAt: string | null = null;
+	let lastAt: string | null = null;
+	let previousIso: string | null = null;
+	let energyRows = 0;
+	let total = 0;
+	let segmentStart: number | null = null;
+	let last: number | null = null;
+	let tempSum = 0;
+	let tempCount = 0;
+	let tempMax: number | null = null;
+
+	for (let i = 1; i < table.length; i++) {
+		const cells = table[i];
+		if (cells.every((c) => c.trim() === '')) continue;
+		rows++;
+		const rowNo = i + 1;
+
+		const ts = (cells[tsCol] ?? '').trim();
+		if (ts === '') problems.add('ts', `Row ${rowNo}: no timestamp.`, (n) => `… and ${n} more rows without a timestamp.`);
+		else {
+			firstAt ??= ts;
+			lastAt = ts;
+			if (ISO_LIKE.test(ts)) {
+				if (previousIso !== null && ts.replace('T', ' ') < previousIso.replace('T', ' '))
+					problems.add('order', `Row ${rowNo}: ${ts} is earlier than the row before; cumulative throughput assumes the rows are in time order.`, (n) => `… and ${n} more rows out of time order.`);
+				previousIso = ts;
+			}
+		}
+
+		const raw = cells[eCol];
+		const value = readNumber(raw);
+		if (value === null) {
+			const shown = (raw ?? '').trim();
+			problems.add(
+				'energy',
+				shown === '' ? `Row ${rowNo}: no energy value.` : `Row ${rowNo}: energy value "${shown}" is not a number.`,
+				(n) => `… and ${n} more rows with a missing or non-numeric energy value.`
+			);
+		} else if (mapping.energyKind === 'interval') {
+			if (value < 0) problems.add('negative', `Row ${rowNo}: negative interval energy ${raw?.trim()} ${mapping.energyUnit} was left out.`, (n) => `… and ${n} more negative interval values left out.`);
+			else {
+				total += value * scale;
+				energyRows++;
+			}
+		} else {
+			energyRows++;
+			if (segmentStart === null) segmentStart = value;
+			else if (last !== null && value < last) {
+				total += (last - segmentStart) * scale;
+				problems.add(
+					'reset',
+					`Row ${rowNo}: the energy counter dropped from ${last} to ${value} ${mapping.energyUnit}; taken as a reset and counted as a new segment (energy just before the reset is not known).`,
+					(n) => `… and ${n} more counter resets.`
+				);
+				segmentStart = value;
+			}
+			last = value;
+		}
+
+		if (tCol !== null) {
+			const rawT = cells[tCol];
+			const t = readNumber(rawT);
+			if (t === null) {
+				if ((rawT ?? '').trim() !== '')
+					problems.add('temp', `Row ${rowNo}: temperature "${rawT?.trim()}" is not a number.`, (n) => `… and ${n} more rows with a non-numeric temperature.`);
+			} else {
+				tempSum += t;
+				tempCount++;
+				tempMax = tempMax === null ? t : Math.max(tempMax, t);
+			}
+		}
+	}
+
+	if (rows === 0) throw new InverterLogError('The file has a header row but no data rows.');
+	if (mapping.energyKind === 'cumulative' && segmentStart !== null && last !== null) total += (last - segmentStart) * scale;
+
+	const out = problems.toArray();
+	if (mapping.energyKind === 'cumulative' && energyRows === 1) out.push('Only one energy reading: a cumulative counter needs two to show any throughput.');
+	if (energyRows === 0) out.push(`No row has a usable value in "${mapping.energyColumn}", so the throughput is unknown.`);
+	if (tCol !== null && tempCount === 0) out.push(`No row has a usable temperature in "${mapping.tempColumn}".`);
+
+	return {
+		rows,
+		firstAt,
+		lastAt,
+		throughputWh: energyRows === 0 ? null : Math.round(total * 1000) / 1000,
+		avgTempC: tempCount === 0 ? null : Math.round((tempSum / tempCount) * 100) / 100,
+		maxTempC: tempMax,
+		problems: out
+	};
+}

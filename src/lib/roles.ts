@@ -1,0 +1,40 @@
+/** Roles and what each may reach. Shared by the server guards and the navigation. */
+export const ROLE_NAMES = ['admin', 'workshop', 'field_tech', 'warranty', 'dealer'] as const;
+export type RoleName = (typeof ROLE_NAMES)[number];
+
+export const ROLE_LABELS: Record<RoleName, string> = {
+	admin: 'Administrator',
+	workshop: 'Workshop',
+	field_tech: 'Field technician',
+	warranty: 'Warranty officer',
+	dealer: 'Dealer'
+};
+
+/** Pure role check used inside every handler (never a URL-prefix rule). */
+export function hasRole(role: string | null | undefined, allowed: readonly RoleName[]): boolean {
+	return !!role && (allowed as readonly string[]).includes(role);
+}
+
+export interface NavItem {
+	href: string;
+	label: string;
+	roles: readonly RoleName[];
+	/** One line on the home page saying what the area is for. */
+	blurb: string;
+}
+
+/** Every area of the app, with the roles that see it. Order is display order. */
+export const NAV: NavItem[] = [
+	{ href: '/', label: 'Home', roles: ROLE_NAMES, blurb: '' },
+	{ href: '/bench', label: 'Build bench', roles: ['workshop', 'admin'], blurb: 'Scan a label, record cells and checks, next.' },
+	{ href: '/allocations', label: 'Serials & labels', roles: ['workshop', 'admin'], blurb: 'Reserve serials for a model and print their QR labels.' },
+	{ href: '/modules', label: 'Module lookup', roles: ROLE_NAMES, blurb: 'Find a module by serial and open its record.' },
+	{ href: '/admin/models', label: 'Models', roles: ['admin'], blurb: 'Rated data, test limits and warranty terms of each model.' },
+	{ href: '/admin/users', label: 'People', roles: ['admin'], blurb: 'Invite staff, dealers and technicians; see who has access.' },
+	{ href: '/admin/outbox', label: 'Outbox', roles: ['admin'], blurb: 'Every e-mail the register has sent.' },
+	{ href: '/admin/audit', label: 'Audit trail', roles: ['admin'], blurb: 'Who changed what, and when, with the values before and after.' }
+];
+
+export function navFor(role: RoleName): NavItem[] {
+	return NAV.filter((n) => n.roles.includes(role));
+}

@@ -1,0 +1,122 @@
+/**
+ * Inputs of warranty assessment: the JSON request for `assessClaim` and the evidence a
+ * dealer files with a claim (a form, so numbers arrive as strings and blanks mean "not given").
+ */
+import { z } from 'zod';
+
+const TEMP_MIN_C = -40;
+const TEMP_MAX_C = 120;
+
+/** A real calendar day written YYYY-MM-DD (2023-02-29 is rejected). */
+export function isCalendarDate(s: string): boolean {
+	const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(s);
+	if (!m) return false;
+	const [y, mo, d] = [Number(m[1]), Number(m[2]), Number(m[3])];
+	const t = new Date(Date.UTC(y, mo - 1, d));
+	return t.getUTCFullYear() === y && t.getUTCMonth() === mo - 1 && t.getUTCDate() === d;
+}
+
+const day = (label: string) =>
+	z.string({ error: `${label} is required.` }).refine(isCalendarDate, { error: `${label} must be a real date written YYYY-MM-DD.` });
+
+const temperature = (label: string) =>
+	z
+		.number({ error: `${label} must be a number in °C.` })
+		.min(TEMP_MIN_C, { error: `${label} must be between ${TEMP_MIN_C} and ${TEMP_MAX_C} °C.` })
+		.max(TEMP_MAX_C, { error: `${label} must be between ${TEMP_MIN_C} and ${TEMP_MAX_C} °C.` });
+
+const positive = (label: string, unit: string) =>
+	z.number({ error: `${label} must be a number in ${unit}.` }).positive({ error: `${label} must be above 0 ${unit}.` });
+
+const nonNegative = (label: string, unit: string) =>
+	z.number({ error: `${label} must be a number in ${unit}.` }).min(0, { error: `${label} must not be negative.` });
+
+export const warrantyTermsSchema = z
+	.object({
+		years: z.number().int({ error: 'Warranty years must be a whole number.' }).min(1).max(50),
+		ratedCycles: positive('Rated cycles', 'cycles'),
+		endRetentionPct: z
+			.number({ error: 'End retention must be a number in %.' })
+			.min(1, { error: 'End retention must be between 1 and 100 %.' })
+			.max(100, { error: 'End retention must be between 1 and 100 %.' }),
+		referenceTempC: temperature('Reference temperature'),
+		hotTempC: temperature('Hot temperature'),
+		hotRatedCycles: positive('Hot rated cycles', 'cycles')
+	})
+	.refine((t) => t.hotTempC > t.referenceTempC, {
+		error: 'The hot temperature must be above the reference temperature.',
+		path: ['hotTempC']
+	})
+	.refine((t) => t.hotRatedCycles < t.ratedCycles, {
+		error: 'The hot rated cycles must be fewer than the rated cycles at the reference temperature.',
+		path: ['hotRatedCycles']
+	});
+
+/** Request body for a warranty assessment; matches `ClaimInput` of domain/warranty. */
+export const assessRequestSchema = z
+	.object({
+		terms: warrantyTermsSchema,
+		commissionedOn: day('Commissioning date').nullable(),
+		claimedOn: day('Claim date'),
+		ratedCapacityAh: positive('Rated capacity', 'Ah'),
+		measuredCapacityAh: nonNegative('Measured capacity', 'Ah').nullish(),
+		usableWh: positive('Usable energy', 'Wh'),
+		throughputWh: nonNegative('Throughput', 'Wh').nullish(),
+		cycles: nonNegative('Cycle count', 'cycles').nullish(),
+		avgCellTempC: temperature('Average cell temperature').nullish(),
+		stopChargeProven: z.boolean().nullish(),
+		eventsOutsideLimits: z
+			.union([z.array(z.string().trim().min(1).max(500)).max(200), z.number().int().min(0)], {
+				error: 'Events outside limits must be a list of descriptions or a whole number.'
+			})
+			.nullish()
+	})
+	.refine((r) => !r.commissionedOn || !isCalendarDate(r.commissionedOn) || !isCalendarDate(r.claimedOn) || r.claimedOn >= r.commissionedOn, {
+		error: 'The claim date must not be before the commissioning date.',
+		path: ['claimedOn']
+	});
+
+export type AssessRequest = z.infer<typeof assessRequestSchema>;
+
+/** Form field to number: blank means not given; "12,5" is read as 12.5. */
+const formNumber = <T extends z.ZodType>(inner: T) =>
+	z.preprocess((v) => {
+		if (v === null || v === undefined) return undefined;
+		if (typeof v === 'string') {
+			const s = v.trim();
+			if (s === '') return undefined;
+			const n = Number(s.replace(/^(-?\d+),(\d+)$/, '$1.$2'));
+			return Number.isNaN(n) ? v : n;
+		}
+		return v;
+	}, inner.optional());
+
+const formText = (max: number) =>
+	z.preprocess((v) => (typeof v === 'string' && v.trim() === '' ? undefined : v), z.string().trim().max(max).optional());
+
+/** Evidence a dealer files with a claim. Throughput or a cycle count is required. */
+export const claimEvidenceSchema = z
+	.object({
+		measuredCapacityAh: formNumber(nonNegative('Measured capacity', 'Ah')),
+		measuredAtC: formNumber(temperature('Test temperature')),
+		throughputWh: formNumber(nonNegative('Throughput', 'Wh')),
+		cycleCount: formNumber(nonNegative('Cycle count', 'cycles').int({ error: 'Cycle count must be a whole number.' })),
+		avgCellTempC: formNumber(temperature('Average cell temperature')),
+		maxCellTempC: formNumber(temperature('Maximum cell temperature')),
+		eventsOutsideLimits: formText(2000),
+		description: z
+			.string({ error: 'Describe the fault.' })
+			.trim()
+			.min(10, { error: 'Describe the fault in at least 10 characters.' })
+			.max(2000, { error: 'Keep the fault description under 2000 characters.' })
+	})
+	.refine((e) => e.throughputWh !== undefined || e.cycleCount !== undefined, {
+		error: 'Give the energy throughput (Wh) or the cycle count.',
+		path: ['throughputWh']
+	})
+	.refine((e) => e.avgCellTempC === undefined || e.maxCellTempC === undefined || e.maxCellTempC >= e.avgCellTempC, {
+		error: 'The maximum cell temperature cannot be below the average.',
+		path: ['maxCellTempC']
+	});
+
+export type ClaimEvidence = z.infer<typeof claimEvidenceSchema>;

@@ -1,0 +1,24 @@
+import type { RoleName } from '$lib/roles';
+
+/** Who is acting: a signed-in user, an API token, or the system itself (seed, migrations). */
+export interface Actor {
+	userId: number | null;
+	role: RoleName | 'system' | 'rig';
+	organisationId: number | null;
+	/** True when the organisation is a dealer: every module query is scoped to it. */
+	dealerScoped: boolean;
+	label: string;
+}
+
+export const SYSTEM_ACTOR: Actor = {
+	userId: null,
+	role: 'system',
+	organisationId: null,
+	dealerScoped: false,
+	label: 'system'
+};
+
+/** The dealer organisation an actor's queries are limited to, or null for the assembler's staff. */
+export function dealerScopeOf(actor: Actor): number | null {
+	return actor.dealerScoped ? actor.organisationId : null;
+}

@@ -1,0 +1,52 @@
+import { createClient, type Client } from '@libsql/client';
+import { drizzle, type LibSQLDatabase } from 'drizzle-orm/libsql';
+import { migrate } from 'drizzle-orm/libsql/migrator';
+import { mkdirSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
+import * as schema from './schema';
+
+export type Db = LibSQLDatabase<typeof schema> & { $client: Client };
+export type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
+
+export const DEFAULT_DATABASE_URL = 'file:data/packledger.db';
+
+/** Opens a database: a local SQLite file (`file:`), `:memory:`, or a libSQL server (`libsql://`, `http(s)://`). */
+export async function openDb(url: string = DEFAULT_DATABASE_URL, authToken?: string): Promise<Db> {
+	if (url.startsWith('file:') && !url.includes(':memory:')) {
+		const path = url.slice('file:'.length);
+		mkdirSync(dirname(resolve(path)), { recursive: true });
+	}
+	const client = createClient({ url, authToken, timeout: 5000 });
+	if (url.startsWith('file:') && !url.includes(':memory:')) {
+		// WAL lets the fleet table read while the workshop writes; it persists in the file.
+		await client.execute('PRAGMA journal_mode = WAL');
+	}
+	return drizzle(client, { schema }) as Db;
+}
+
+export async function migrateDb(db: Db, migrationsFolder = resolve('drizzle')): Promise<void> {
+	await migrate(db, { migrationsFolder });
+}
+
+const locks = new WeakMap<object, Promise<unknown>>();
+
+/**
+ * Runs `fn` in a write transaction, one at a time per database handle.
+ * SQLite allows one writer; two interleaved async transactions in the same
+ * process would wait on each other's lock while blocking the event loop, so
+ * write transactions queue here instead.
+ */
+export async function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T> {
+	const previous = locks.get(db) ?? Promise.resolve();
+	let release!: () => void;
+	const mine = new Promise<void>((r) => (release = r));
+	const chained = previous.then(() => mine);
+	locks.set(db, chained);
+	await previous;
+	try {
+		return await db.transaction(fn, { behavior: 'immediate' });
+	} finally {
+		release();
+		if (locks.get(db) === chained) locks.delete(db);
+	}
+}

@@ -1,0 +1,230 @@
+import { sql } from 'drizzle-orm';
+import { index, integer, primaryKey, real, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
+
+const createdAt = () =>
+	integer('created_at', { mode: 'timestamp_ms' })
+		.notNull()
+		.default(sql`(unixepoch('subsec') * 1000)`);
+
+export const ROLES = ['admin', 'workshop', 'field_tech', 'warranty', 'dealer'] as const;
+export type Role = (typeof ROLES)[number];
+
+export const organisations = sqliteTable('organisations', {
+	id: integer('id').primaryKey({ autoIncrement: true }),
+	kind: text('kind', { enum: ['assembler', 'dealer'] }).notNull(),
+	name: text('name').notNull().unique(),
+	contactEmail: text('contact_email'),
+	region: text('region'),
+	active: integer('active', { mode: 'boolean' }).notNull().default(true),
+	createdAt: createdAt()
+});
+
+export const users = sqliteTable('users', {
+	id: integer('id').primaryKey({ autoIncrement: true }),
+	email: text('email').notNull().unique(),
+	name: text('name').notNull(),
+	role: text('role', { enum: ROLES }).notNull(),
+	organisationId: integer('organisation_id')
+		.notNull()
+		.references(() => organisations.id),
+	passwordHash: text('password_hash'),
+	active: integer('active', { mode: 'boolean' }).notNull().default(true),
+	lastSignInAt: integer('last_sign_in_at', { mode: 'timestamp_ms' }),
+	createdAt: createdAt()
+});
+
+/** One-time links: invitations and password resets. Only a hash of the token is stored. */
+export const userTokens = sqliteTable('user_tokens', {
+	id: integer('id').primaryKey({ autoIncrement: true }),
+	userId: integer('user_id')
+		.notNull()
+		.references(() => users.id),
+	purpose: text('purpose', { enum: ['invite', 'reset'] }).notNull(),
+	tokenHash: text('token_hash').notNull().unique(),
+	expiresAt: integer('expires_at', { mode: 'timestamp_ms' }).notNull(),
+	usedAt: integer('used_at', { mode: 'timestamp_ms' }),
+	createdAt: createdAt()
+});
+
+export const moduleModels = sqliteTable('module_models', {
+	id: integer('id').primaryKey({ autoIncrement: true }),
+	code: text('code').notNull().unique(),
+	name: text('name').notNull(),
+	variant: text('variant').notNull(),
+	cellsSeries: integer('cells_series').notNull(),
+	cellMinV: real('cell_min_v').notNull(),
+	cellNominalV: real('cell_nominal_v').notNull(),
+	cellMaxV: real('cell_max_v').notNull(),
+	ratedAh: real('rated_ah').notNull(),
+	usableWh: real('usable_wh').notNull(),
+	maxContinuousC: real('max_continuous_c').notNull(),
+	burstC: real('burst_c').notNull(),
+	burstSeconds: integer('burst_seconds').notNull(),
+	chargeTempMinC: real('charge_temp_min_c').notNull(),
+	chargeTempMaxC: real('charge_temp_max_c').notNull(),
+	dischargeTempMinC: real('discharge_temp_min_c').notNull(),
+	dischargeTempMaxC: real('discharge_temp_max_c').notNull(),
+	massKg: real('mass_kg').notNull(),
+	gtin: text('gtin'),
+	minCapacityAh: real('min_capacity_ah').notNull(),
+	maxDcirMohm: real('max_dcir_mohm').notNull(),
+	maxCellSpreadMv: real('max_cell_spread_mv').notNull(),
+	minInsulationMohm: real('min_insulation_mohm').notNull(),
+	warrantyYears: integer('warranty_years').notNull(),
+	ratedCycles: integer('rated_cycles').notNull(),
+	referenceTempC: real('reference_temp_c').notNull(),
+	endRetentionPct: real('end_retention_pct').notNull(),
+	hotTempC: real('hot_temp_c').notNull(),
+	hotRatedCycles: integer('hot_rated_cycles').notNull(),
+	retiredAt: integer('retired_at', { mode: 'timestamp_ms' }),
+	createdAt: createdAt()
+});
+
+/** Next free running number per (variant, year): serials are never reused or skipped. */
+export const serialCounters = sqliteTable(
+	'serial_counters',
+	{
+		variant: text('variant').notNull(),
+		year: integer('year').notNull(),
+		next: integer('next').notNull()
+	},
+	(t) => [primaryKey({ columns: [t.variant, t.year] })]
+);
+
+export const allocations = sqliteTable('allocations', {
+	id: integer('id').primaryKey({ autoIncrement: true }),
+	modelId: integer('model_id')
+		.notNull()
+		.references(() => moduleModels.id),
+	firstSerial: text('first_serial').notNull(),
+	lastSerial: text('last_serial').notNull(),
+	count: integer('count').notNull(),
+	createdBy: integer('created_by')
+		.notNull()
+		.references(() => users.id),
+	createdAt: createdAt()
+});
+
+export const MODULE_STATES = [
+	'allocated',
+	'built',
+	'test_failed',
+	'in_stock',
+	'shipped',
+	'installed',
+	'commissioned',
+	'claim_open',
+	'returned',
+	'replaced',
+	'scrapped'
+] as const;
+export type ModuleState = (typeof MODULE_STATES)[number];
+
+export const modules = sqliteTable(
+	'modules',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		serial: text('serial').notNull().unique(),
+		modelId: integer('model_id')
+			.notNull()
+			.references(() => moduleModels.id),
+		allocationId: integer('allocation_id').references(() => allocations.id),
+		state: text('state', { enum: MODULE_STATES }).notNull().default('allocated'),
+		dealerOrgId: integer('dealer_org_id').references(() => organisations.id),
+		builtAt: integer('built_at', { mode: 'timestamp_ms' }),
+		builtBy: integer('built_by').references(() => users.id),
+		/** Cell lot codes as a JSON array, in cell order; module_cell_lots indexes them. */
+		cellLots: text('cell_lots'),
+		/** Assembly checks confirmed at build, JSON object of check → true. */
+		buildChecks: text('build_checks'),
+		buildNotes: text('build_notes'),
+		testOutcome: text('test_outcome', { enum: ['pass', 'fail'] }),
+		testedAt: integer('tested_at', { mode: 'timestamp_ms' }),
+		shippedAt: integer('shipped_at', { mode: 'timestamp_ms' }),
+		commissionedAt: integer('commissioned_at', { mode: 'timestamp_ms' }),
+		createdAt: createdAt(),
+		updatedAt: integer('updated_at', { mode: 'timestamp_ms' })
+	},
+	(t) => [
+		index('modules_state_idx').on(t.state),
+		index('modules_model_idx').on(t.modelId),
+		index('modules_dealer_idx').on(t.dealerOrgId),
+		index('modules_built_idx').on(t.builtAt)
+	]
+);
+
+export const moduleCellLots = sqliteTable(
+	'module_cell_lots',
+	{
+		moduleId: integer('module_id')
+			.notNull()
+			.references(() => modules.id),
+		lotCode: text('lot_code').notNull()
+	},
+	(t) => [primaryKey({ columns: [t.moduleId, t.lotCode] }), index('cell_lots_lot_idx').on(t.lotCode)]
+);
+
+export const EVENT_KINDS = [
+	'allocated',
+	'label_printed',
+	'label_reprinted',
+	'built',
+	'tested',
+	'shipped',
+	'installed',
+	'commissioned',
+	'claim_filed',
+	'claim_updated',
+	'returned',
+	'replaced',
+	'service_notice',
+	'scrapped'
+] as const;
+export type EventKind = (typeof EVENT_KINDS)[number];
+
+/** The module's timeline: what happened, who did it, when. */
+export const moduleEvents = sqliteTable(
+	'module_events',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		moduleId: integer('module_id')
+			.notNull()
+			.references(() => modules.id),
+		kind: text('kind', { enum: EVENT_KINDS }).notNull(),
+		at: integer('at', { mode: 'timestamp_ms' }).notNull(),
+		actorUserId: integer('actor_user_id').references(() => users.id),
+		actorLabel: text('actor_label').notNull(),
+		summary: text('summary').notNull(),
+		detail: text('detail')
+	},
+	(t) => [index('module_events_module_idx').on(t.moduleId, t.at)]
+);
+
+/** Append-only record of every change (triggers in the migration refuse UPDATE and DELETE). */
+export const auditLog = sqliteTable(
+	'audit_log',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		at: integer('at', { mode: 'timestamp_ms' }).notNull(),
+		actorUserId: integer('actor_user_id'),
+		actorLabel: text('actor_label').notNull(),
+		action: text('action').notNull(),
+		entity: text('entity').notNull(),
+		entityId: text('entity_id').notNull(),
+		before: text('before'),
+		after: text('after')
+	},
+	(t) => [index('audit_entity_idx').on(t.entity, t.entityId)]
+);
+
+/** Messages kept by the local fake SMTP server (and copies of those sent through real SMTP). */
+export const mailOutbox = sqliteTable('mail_outbox', {
+	id: integer('id').primaryKey({ autoIncrement: true }),
+	at: integer('at', { mode: 'timestamp_ms' }).notNull(),
+	fromAddr: text('from_addr').notNull(),
+	toAddr: text('to_addr').notNull(),
+	subject: text('subject').notNull(),
+	text: text('text').notNull(),
+	transport: text('transport', { enum: ['fake', 'smtp'] }).notNull()
+});
+

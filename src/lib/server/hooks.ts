@@ -1,0 +1,56 @@
+import type { Handle } from '@sveltejs/kit';
+import { eq } from 'drizzle-orm';
+import { getDb } from '$lib/server/db';
+import { organisations, users } from '$lib/server/db/schema';
+import { requestContext } from '$lib/server/request-context';
+import type { Actor } from '$lib/server/actor';
+
+/** Makes the client's address visible to Auth.js's authorize (for rate limiting). */
+export const contextHandle: Handle = ({ event, resolve }) =>
+	requestContext.run({ clientAddress: safeAddress(event) }, () => resolve(event));
+
+function safeAddress(event: Parameters<Handle>[0]['event']): string {
+	try {
+		return event.getClientAddress();
+	} catch {
+		return 'unknown';
+	}
+}
+
+/**
+ * Turns the session into an Actor, re-reading the user so that a deactivated
+ * account or a changed role takes effect at once, not when the token expires.
+ */
+export const actorHandle: Handle = async ({ event, resolve }) => {
+	event.locals.user = null;
+	if (!event.url.pathname.startsWith('/auth/')) {
+		const session = await event.locals.auth();
+		const id = Number((session?.user as { id?: unknown } | undefined)?.id);
+		if (Number.isInteger(id) && id > 0) event.locals.user = await loadActor(id);
+	}
+	return resolve(event);
+};
+
+export async function loadActor(userId: number): Promise<Actor | null> {
+	const db = await getDb();
+	const [row] = await db
+		.select({ id: users.id, email: users.email, name: users.name, role: users.role, active: users.active, orgId: users.organisationId, orgKind: organisations.kind })
+		.from(users)
+		.innerJoin(organisations, eq(users.organisationId, organisations.id))
+		.where(eq(users.id, userId))
+		.limit(1);
+	if (!row || !row.active) return null;
+	return { userId: row.id, role: row.role, organisationId: row.orgId, dealerScoped: row.orgKind === 'dealer', label: row.email };
+}
+
+/** Refuses to start without AUTH_SECRET rather than answering every page with 500. */
+export function assertAuthSecret(): void {
+	if (!process.env.AUTH_SECRET || process.env.AUTH_SECRET.length < 16) {
+		console.error(
+			'\nPackledger cannot start: AUTH_SECRET is not set (or shorter than 16 characters).\n' +
+				'Set it to a long random value, e.g.  AUTH_SECRET=$(openssl rand -base64 33) node build\n' +
+				'(`npm run demo` makes one for you in data/.auth-secret.)\n'
+		);
+		process.exit(1);
+	}
+}

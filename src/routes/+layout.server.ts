@@ -1,0 +1,7 @@
+import { allowAnonymous } from '$lib/server/auth/guards';
+import type { LayoutServerLoad } from './$types';
+
+export const load: LayoutServerLoad = (event) => {
+	const user = allowAnonymous(event);
+	return { user: user && { label: user.label, role: user.role, dealerScoped: user.dealerScoped } };
+};

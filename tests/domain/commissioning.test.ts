@@ -1,0 +1,203 @@
+import { describe, expect, it } from 'vitest';
+import {
+	evaluateCommissioning,
+	operatingTempRange,
+	type CommissioningMeasurements,
+	type CommissioningSystem
+} from '../../src/lib/domain/commissioning';
+
+// Invented TC-HC-24 (11 cells, 93 Ah) with invented temperature ranges; 2 in series × 2 strings.
+const model = {
+	cellsSeries: 11,
+	cellMinV: 1.8,
+	cellNominalV: 2.35,
+	cellMaxV: 2.75,
+	ratedAh: 93,
+	maxContinuousC: 2,
+	chargeTempMinC: -10,
+	chargeTempMaxC: 45,
+	dischargeTempMinC: -30,
+	dischargeTempMaxC: 55
+};
+const system: CommissioningSystem = { series: 2, parallel: 2, model };
+
+// String max 22 × 2.75 = 60.5 V; continuous 2 × 2C × 93 Ah = 372 A → device ≥ 465 A (125 %, from memory).
+const good: CommissioningMeasurements = {
+	moduleOcvV: [
+		[25.41, 25.43],
+		[25.4, 25.42]
+	],
+	stringVoltageV: [50.84, 50.82],
+	insulation: { testVoltageV: 500, measuredMohm: 50 },
+	polarityChecked: true,
+	torqueConfirmed: true,
+	protectiveDevice: { ratingA: 500, dcVoltageRatingV: 80 },
+	ambientC: 20,
+	stopChargeProven: true
+};
+
+const item = (m: CommissioningMeasurements, key: string, sys = system, t = {}) =>
+	evaluateCommissioning(sys, m, t).items.find((i) => i.key === key)!;
+
+describe('evaluateCommissioning: overall', () => {
+	it('passes when every item passes', () => {
+		const r = evaluateCommissioning(system, good);
+		expect(r.items.map((i) => [i.key, i.status])).toEqual([
+			['module_ocv_spread', 'pass'],
+			['string_voltage', 'pass'],
+			['inter_string_difference', 'pass'],
+			['insulation', 'pass'],
+			['polarity', 'pass'],
+			['torque', 'pass'],
+			['protective_device', 'pass'],
+			['ambient_temperature', 'pass'],
+			['stop_charge', 'pass']
+		]);
+		expect(r.overall).toBe('pass');
+	});
+
+	it('is incomplete when nothing fails but something is not measured', () => {
+		const r = evaluateCommissioning(system, { ...good, stopChargeProven: null });
+		expect(item({ ...good, stopChargeProven: null }, 'stop_charge').status).toBe('not_measured');
+		expect(r.overall).toBe('incomplete');
+	});
+
+	it('is incomplete with no measurements at all', () => {
+		const r = evaluateCommissioning(system, {});
+		expect(r.items.every((i) => i.status === 'not_measured')).toBe(true);
+		expect(r.overall).toBe('incomplete');
+	});
+
+	it('fails when any item fails, even with others missing', () => {
+		const r = evaluateCommissioning(system, { polarityChecked: false });
+		expect(r.overall).toBe('fail');
+	});
+});
+
+describe('Insulation against IEC 60364-6:2016 Table 6.1', () => {
+	it('0.4 MΩ at 500 V fails the 1.0 MΩ minimum of a ≤ 500 V circuit', () => {
+		const i = item({ ...good, insulation: { testVoltageV: 500, measuredMohm: 0.4 } }, 'insulation');
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain('Insulation 0.4 MΩ at 500 V is below the 1.0 MΩ minimum of IEC 60364-6 Table 6.1');
+	});
+
+	it('a test at 250 V is too low for a 51.7 V circuit not built as SELV/PELV (needs 500 V)', () => {
+		const i = item({ ...good, insulation: { testVoltageV: 250, measuredMohm: 50 } }, 'insulation');
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain('tested at 250 V, below the 500 V DC test voltage');
+	});
+
+	it('SELV/PELV: 0.6 MΩ at 250 V meets the 0.5 MΩ minimum', () => {
+		const i = item({ ...good, insulation: { testVoltageV: 250, measuredMohm: 0.6 } }, 'insulation', { ...system, selvPelv: true });
+		expect(i.status).toBe('pass');
+		expect(i.reason).toContain('0.5 MΩ');
+	});
+
+	it('a 600 V circuit needs a 1000 V test (above 500 V row)', () => {
+		const i = item({ ...good, insulation: { testVoltageV: 500, measuredMohm: 50 } }, 'insulation', { ...system, circuitNominalV: 600 });
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain('1000 V');
+	});
+
+	it('not measured says what is required', () => {
+		const i = item({ ...good, insulation: null }, 'insulation');
+		expect(i.status).toBe('not_measured');
+		expect(i.reason).toContain('1.0 MΩ at 500 V DC');
+	});
+});
+
+describe('Module OCV spread (50 mV default, common practice)', () => {
+	it('fails a 60 mV spread', () => {
+		const i = item({ ...good, moduleOcvV: [[25.4, 25.46], [25.41, 25.42]] }, 'module_ocv_spread');
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain('a spread of 60 mV, above the 50 mV limit (common practice)');
+	});
+
+	it('the limit is a parameter', () => {
+		const m = { ...good, moduleOcvV: [[25.4, 25.46], [25.41, 25.42]] };
+		expect(item(m, 'module_ocv_spread', system, { maxModuleOcvSpreadV: 0.1 }).status).toBe('pass');
+	});
+
+	it('a partial set is not measured, unless what was measured already fails', () => {
+		expect(item({ ...good, moduleOcvV: [[25.4, null], [25.41, 25.42]] }, 'module_ocv_spread').status).toBe('not_measured');
+		expect(item({ ...good, moduleOcvV: [[25.4, null], [25.41, 25.6]] }, 'module_ocv_spread').status).toBe('fail');
+	});
+
+	it('a grid that does not match the system shape is not measured, with the reason', () => {
+		const i = item({ ...good, moduleOcvV: [[25.4, 25.41, 25.42]] }, 'module_ocv_spread');
+		expect(i.status).toBe('not_measured');
+		expect(i.reason).toContain('system has 2 strings of 2');
+	});
+});
+
+describe('String voltage against the sum of its modules (1 % or 0.5 V, common practice)', () => {
+	it('fails 51.50 V against 50.84 V summed (0.66 V apart, 0.51 V allowed)', () => {
+		const i = item({ ...good, stringVoltageV: [51.5, 50.82] }, 'string_voltage');
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain('String 1 reads 51.5 V against 50.84 V summed from its modules');
+	});
+
+	it('fails a reading outside the string range 39.6–60.5 V', () => {
+		const i = item({ ...good, stringVoltageV: [25.4, 50.82] }, 'string_voltage');
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain("outside the model's 39.6 V to 60.5 V");
+	});
+
+	it('a missing string reading is not measured', () => {
+		expect(item({ ...good, stringVoltageV: [50.84, null] }, 'string_voltage').status).toBe('not_measured');
+	});
+});
+
+describe('Difference between parallel strings (1.0 V default, common practice)', () => {
+	it('derives 1.1 V from the string voltages and fails it', () => {
+		const m = { ...good, moduleOcvV: null, stringVoltageV: [50.8, 51.9] };
+		const i = item(m, 'inter_string_difference');
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain('Strings differ by 1.1 V (from the string voltages)');
+	});
+
+	it('uses a measured difference when given', () => {
+		const i = item({ ...good, interStringDiffV: 0.3 }, 'inter_string_difference');
+		expect(i.status).toBe('pass');
+		expect(i.reason).toContain('0.3 V (measured)');
+	});
+
+	it('a single string has nothing to join', () => {
+		const one = { ...system, parallel: 1 };
+		expect(item({}, 'inter_string_difference', one).status).toBe('pass');
+	});
+});
+
+describe('Protective device (≥ 125 % continuous, from memory; DC rating ≥ string maximum)', () => {
+	it('fails 400 A against 465 A = 125 % of 372 A', () => {
+		const i = item({ ...good, protectiveDevice: { ratingA: 400, dcVoltageRatingV: 80 } }, 'protective_device');
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain('rated 400.0 A, below 465.0 A');
+	});
+
+	it('fails a 48 V DC rating against the 60.5 V string maximum', () => {
+		const i = item({ ...good, protectiveDevice: { ratingA: 500, dcVoltageRatingV: 48 } }, 'protective_device');
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain('DC voltage rating 48.0 V is below the string maximum 60.5 V');
+	});
+
+	it('uses the system current limit when given: 100 A → 125 A', () => {
+		const i = item({ ...good, protectiveDevice: { ratingA: 125, dcVoltageRatingV: 80 } }, 'protective_device', {
+			...system,
+			maxContinuousA: 100
+		});
+		expect(i.status).toBe('pass');
+	});
+});
+
+describe('Ambient temperature: overlap of the charge and discharge ranges', () => {
+	it('the overlap of −10…45 °C charge and −30…55 °C discharge is −10…45 °C', () => {
+		expect(operatingTempRange(model)).toEqual({ minC: -10, maxC: 45 });
+	});
+
+	it('−15 °C is within discharge but not charge, so it fails and says which range', () => {
+		const i = item({ ...good, ambientC: -15 }, 'ambient_temperature');
+		expect(i.status).toBe('fail');
+		expect(i.reason).toContain('outside -10 to 45 °C, the overlap of the model');
+	});
+});
