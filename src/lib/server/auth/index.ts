@@ -38,6 +38,12 @@ export const authConfig: SvelteKitAuthConfig = {
 	basePath: '/auth',
 	session: { strategy: 'jwt', maxAge: 12 * 60 * 60 },
 	pages: { signIn: '/signin' },
+	logger: {
+		// A wrong password is an everyday event answered on the form, not a server error.
+		error(e) {
+			if (e.name !== 'CredentialsSignin') console.error(e);
+		}
+	},
 	providers: [
 		Credentials({
 			credentials: { email: { label: 'E-mail', type: 'email' }, password: { label: 'Password', type: 'password' } },
