@@ -19,3 +19,13 @@ export function qrPayloadFor({ baseUrl, gtin, serial }: QrPayloadInput): string 
 	if (gtin) return buildDigitalLink(baseUrl, gtin, serial);
 	return `${baseUrl.replace(/\/+$/, '')}/m/${encodeURIComponent(serial)}`;
 }
+
+/** What a printed label shows; built on the server, drawn by the label component. */
+export interface LabelView {
+	serial: string;
+	payload: string;
+	qrSvg: string;
+	modelCode: string;
+	modelName: string;
+	rated: string;
+}

@@ -142,6 +142,10 @@ export const modules = sqliteTable(
 		testedAt: integer('tested_at', { mode: 'timestamp_ms' }),
 		shippedAt: integer('shipped_at', { mode: 'timestamp_ms' }),
 		commissionedAt: integer('commissioned_at', { mode: 'timestamp_ms' }),
+		/** Warranty registered at commissioning: dates as YYYY-MM-DD and a JSON snapshot of the terms then. */
+		warrantyStartsOn: text('warranty_starts_on'),
+		warrantyEndsOn: text('warranty_ends_on'),
+		warrantyTerms: text('warranty_terms'),
 		createdAt: createdAt(),
 		updatedAt: integer('updated_at', { mode: 'timestamp_ms' })
 	},

@@ -1,0 +1,36 @@
+import { json } from '@sveltejs/kit';
+import { requireUser } from '$lib/server/auth/guards';
+import { getDb } from '$lib/server/db';
+import { getModuleRecord, getPublicRecord } from '$lib/server/services/modules';
+import { jsonFrom } from '$lib/server/http';
+import type { RequestHandler } from './$types';
+
+/** A module as the caller may see it; another dealer's serial answers 404 like an unknown one. */
+export const GET: RequestHandler = async (event) => {
+	const actor = requireUser(event);
+	const db = await getDb();
+	try {
+		const record = await getModuleRecord(db, actor, event.params.serial);
+		const publicRecord = await getPublicRecord(db, record.module.serial, new Date().toISOString().slice(0, 10));
+		const { module: m, model, builder, dealer, events } = record;
+		return json({
+			serial: m.serial,
+			state: m.state,
+			model: { code: model.code, name: model.name, gtin: model.gtin },
+			builtAt: m.builtAt,
+			builtBy: builder?.name ?? null,
+			cellLots: m.cellLots,
+			buildChecks: m.buildChecks,
+			testOutcome: m.testOutcome,
+			testedAt: m.testedAt,
+			dealer: dealer?.name ?? null,
+			shippedAt: m.shippedAt,
+			commissionedAt: m.commissionedAt,
+			warranty: publicRecord.warranty,
+			publicRecord,
+			events: events.map((e) => ({ kind: e.kind, at: e.at, by: e.actorLabel, summary: e.summary }))
+		});
+	} catch (e) {
+		return jsonFrom(e);
+	}
+};
