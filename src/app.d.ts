@@ -4,6 +4,8 @@ declare global {
 	namespace App {
 		interface Locals {
 			user: Actor | null;
+			/** A rig authenticated by `Authorization: Bearer …`, or why its token was refused. */
+			token: { actor: Actor; scope: 'imports' } | { error: string } | null;
 		}
 		interface Error {
 			message: string;

@@ -163,6 +163,3 @@ function crossCheck(m: Partial<Fields>, ctx: z.RefinementCtx<Fields>) {
 export const modelInputSchema = fields.superRefine(crossCheck, { when: () => true });
 
 export type ModelInput = z.output<typeof modelInputSchema>;
-
-/** The form's field names, in the order of the schema. */
-export const MODEL_FIELDS = Object.keys(fields.shape) as (keyof ModelInput)[];

@@ -8,6 +8,8 @@ export interface Actor {
 	/** True when the organisation is a dealer: every module query is scoped to it. */
 	dealerScoped: boolean;
 	label: string;
+	/** Set when the request came with an API token instead of a session. */
+	tokenId?: number;
 }
 
 export const SYSTEM_ACTOR: Actor = {

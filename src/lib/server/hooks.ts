@@ -4,6 +4,7 @@ import { getDb } from '$lib/server/db';
 import { organisations, users } from '$lib/server/db/schema';
 import { requestContext } from '$lib/server/request-context';
 import type { Actor } from '$lib/server/actor';
+import { verifyToken } from '$lib/server/services/tokens';
 
 /** Makes the client's address visible to Auth.js's authorize (for rate limiting). */
 export const contextHandle: Handle = ({ event, resolve }) =>
@@ -23,7 +24,11 @@ function safeAddress(event: Parameters<Handle>[0]['event']): string {
  */
 export const actorHandle: Handle = async ({ event, resolve }) => {
 	event.locals.user = null;
-	if (!event.url.pathname.startsWith('/auth/')) {
+	event.locals.token = null;
+	const authz = event.request.headers.get('authorization');
+	if (authz?.startsWith('Bearer ') && event.url.pathname.startsWith('/api/')) {
+		event.locals.token = await verifyToken(await getDb(), authz.slice(7).trim());
+	} else if (!event.url.pathname.startsWith('/auth/')) {
 		const session = await event.locals.auth();
 		const id = Number((session?.user as { id?: unknown } | undefined)?.id);
 		if (Number.isInteger(id) && id > 0) event.locals.user = await loadActor(id);

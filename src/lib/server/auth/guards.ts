@@ -30,3 +30,17 @@ export function requireRole(event: Event, ...roles: RoleName[]): Actor {
 export function allowAnonymous(event: Event): Actor | null {
 	return event.locals.user ?? null;
 }
+
+/**
+ * For API routes that test rigs may call: a valid token with the scope, or a signed-in
+ * user with one of the roles. A revoked or unknown token is refused with 401 and the reason.
+ */
+export function requireApiActor(event: Event, opts: { roles: RoleName[]; tokenScope?: 'imports' }): Actor {
+	const token = event.locals.token;
+	if (token) {
+		if ('error' in token) error(401, token.error);
+		if (token.scope !== opts.tokenScope) error(403, 'This API token may only send factory test imports.');
+		return token.actor;
+	}
+	return requireRole(event, ...opts.roles);
+}

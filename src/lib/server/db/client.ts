@@ -31,12 +31,12 @@ export async function migrateDb(db: Db, migrationsFolder = resolve('drizzle')): 
 const locks = new WeakMap<object, Promise<unknown>>();
 
 /**
- * Runs `fn` in a write transaction, one at a time per database handle.
+ * Runs `fn` while holding this process's write lock for the database handle.
  * SQLite allows one writer; two interleaved async transactions in the same
  * process would wait on each other's lock while blocking the event loop, so
- * write transactions queue here instead.
+ * every writing transaction (drizzle's or a raw batch) queues here.
  */
-export async function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T> {
+export async function withWriteLock<T>(db: Db, fn: () => Promise<T>): Promise<T> {
 	const previous = locks.get(db) ?? Promise.resolve();
 	let release!: () => void;
 	const mine = new Promise<void>((r) => (release = r));
@@ -44,9 +44,14 @@ export async function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T>
 	locks.set(db, chained);
 	await previous;
 	try {
-		return await db.transaction(fn, { behavior: 'immediate' });
+		return await fn();
 	} finally {
 		release();
 		if (locks.get(db) === chained) locks.delete(db);
 	}
+}
+
+/** Runs `fn` in a write transaction (BEGIN IMMEDIATE), one at a time per database handle. */
+export function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T> {
+	return withWriteLock(db, () => db.transaction(fn, { behavior: 'immediate' }));
 }

@@ -13,4 +13,4 @@ export function getDb(): Promise<Db> {
 }
 
 export type { Db, Tx } from './client';
-export { writeTx } from './client';
+export { writeTx, withWriteLock } from './client';

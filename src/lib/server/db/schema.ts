@@ -232,3 +232,82 @@ export const mailOutbox = sqliteTable('mail_outbox', {
 	transport: text('transport', { enum: ['fake', 'smtp'] }).notNull()
 });
 
+
+/** Tokens for machines (test rigs): shown once, stored as a SHA-256 hash, limited to a scope. */
+export const apiTokens = sqliteTable('api_tokens', {
+	id: integer('id').primaryKey({ autoIncrement: true }),
+	name: text('name').notNull(),
+	tokenHash: text('token_hash').notNull().unique(),
+	/** First characters of the token, so people can tell tokens apart without the secret. */
+	prefix: text('prefix').notNull(),
+	scope: text('scope', { enum: ['imports'] }).notNull(),
+	createdBy: integer('created_by')
+		.notNull()
+		.references(() => users.id),
+	createdAt: createdAt(),
+	lastUsedAt: integer('last_used_at', { mode: 'timestamp_ms' }),
+	revokedAt: integer('revoked_at', { mode: 'timestamp_ms' })
+});
+
+/** One uploaded rig file: its preview counts, then its commit. */
+export const imports = sqliteTable(
+	'imports',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		kind: text('kind', { enum: ['factory_tests'] }).notNull(),
+		sha256: text('sha256').notNull(),
+		fileName: text('file_name').notNull(),
+		bytes: integer('bytes').notNull(),
+		uploadedBy: integer('uploaded_by').references(() => users.id),
+		tokenId: integer('token_id').references(() => apiTokens.id),
+		uploaderLabel: text('uploader_label').notNull(),
+		createdAt: createdAt(),
+		status: text('status', { enum: ['previewed', 'committed'] }).notNull(),
+		rowsTotal: integer('rows_total').notNull(),
+		accepted: integer('accepted').notNull(),
+		rejected: integer('rejected').notNull(),
+		duplicates: integer('duplicates').notNull(),
+		passed: integer('passed'),
+		failed: integer('failed'),
+		/** Rejected rows as JSON [{row, column, message}]. */
+		errors: text('errors').notNull(),
+		committedAt: integer('committed_at', { mode: 'timestamp_ms' })
+	},
+	(t) => [uniqueIndex('imports_sha_idx').on(t.kind, t.sha256)]
+);
+
+/** The uploaded file itself, kept until (and after) commit so the commit re-reads exactly what was previewed. */
+export const importFiles = sqliteTable('import_files', {
+	importId: integer('import_id')
+		.primaryKey()
+		.references(() => imports.id),
+	content: text('content').notNull()
+});
+
+export const factoryTests = sqliteTable(
+	'factory_tests',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		moduleId: integer('module_id')
+			.notNull()
+			.references(() => modules.id),
+		importId: integer('import_id').references(() => imports.id),
+		/** serial + tested_at + rig: the same measurement sent twice is recognised. */
+		rowKey: text('row_key').notNull().unique(),
+		testedAt: integer('tested_at', { mode: 'timestamp_ms' }).notNull(),
+		capacityAh: real('capacity_ah').notNull(),
+		energyWh: real('energy_wh'),
+		dcirMohm: real('dcir_mohm').notNull(),
+		dcirSource: text('dcir_source', { enum: ['measured', 'two_pulse'] }).notNull(),
+		ocvV: real('ocv_v'),
+		cellSpreadMv: real('cell_spread_mv').notNull(),
+		insulationMohm: real('insulation_mohm').notNull(),
+		ambientC: real('ambient_c'),
+		rig: text('rig'),
+		operator: text('operator'),
+		outcome: text('outcome', { enum: ['pass', 'fail'] }).notNull(),
+		/** Failed checks as JSON [{check, message}]; empty for a pass. */
+		failures: text('failures').notNull()
+	},
+	(t) => [index('factory_tests_module_idx').on(t.moduleId, t.testedAt), index('factory_tests_import_idx').on(t.importId), index('factory_tests_time_idx').on(t.testedAt)]
+);

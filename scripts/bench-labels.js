@@ -1,0 +1,26 @@
+// Times the A4 label sheet for 1,000 serials through the production server (median of 5).
+import { startBenchServer, signInCookie } from './lib/bench-server.js';
+
+const server = await startBenchServer({ port: 4198, dbDir: 'data/bench-labels' });
+try {
+	const cookie = await signInCookie(server.origin, 'workshop@tidewater.example');
+	const form = new URLSearchParams({ modelId: '3', count: '1000' });
+	const res = await fetch(`${server.origin}/allocations?/allocate`, { method: 'POST', redirect: 'manual', headers: { cookie, origin: server.origin, accept: 'text/html', 'content-type': 'application/x-www-form-urlencoded' }, body: form });
+	const loc = res.headers.get('location');
+	if (!loc) throw new Error(`allocation failed: ${res.status} ${await res.text()}`);
+	const times = [];
+	let bytes = 0;
+	for (let i = 0; i < 5; i++) {
+		const t0 = performance.now();
+		const page = await fetch(`${server.origin}${loc}/labels?format=a4`, { headers: { cookie } });
+		const html = await page.text();
+		times.push(performance.now() - t0);
+		bytes = html.length;
+		const n = (html.match(/class="module-label/g) ?? []).length;
+		if (n !== 1000) throw new Error(`expected 1000 labels, got ${n}`);
+	}
+	times.sort((a, b) => a - b);
+	console.log(`A4 sheet of 1,000 labels (server render incl. 1,000 QR SVGs): median ${times[2].toFixed(0)} ms, min ${times[0].toFixed(0)} ms, max ${times[4].toFixed(0)} ms, ${(bytes / 1e6).toFixed(2)} MB HTML`);
+} finally {
+	server.stop();
+}

@@ -1,0 +1,52 @@
+// Starts the production build on a throwaway database for a benchmark and signs a user in.
+import { spawn, spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, rmSync } from 'node:fs';
+
+export async function startBenchServer({ port = 4199, dbDir = 'data/bench', seed = true, env: extra = {} } = {}) {
+	if (!existsSync('build/handler.js')) {
+		const b = spawnSync('npm', ['run', 'build', '--silent'], { stdio: 'inherit' });
+		if (b.status !== 0) throw new Error('build failed');
+	}
+	rmSync(dbDir, { recursive: true, force: true });
+	mkdirSync(dbDir, { recursive: true });
+	const origin = `http://localhost:${port}`;
+	const env = { ...process.env, PORT: String(port), ORIGIN: origin, PUBLIC_BASE_URL: origin, DATABASE_URL: `file:${dbDir}/bench.db`, AUTH_SECRET: 'bench-only-secret-0123456789', SMTP_URL: '', ...extra };
+	if (seed) {
+		const s = spawnSync('npm', ['run', 'db:seed', '--silent'], { stdio: 'inherit', env });
+		if (s.status !== 0) throw new Error('seed failed');
+	}
+	const proc = spawn('node', ['build'], { stdio: ['ignore', 'ignore', 'inherit'], env });
+	for (let i = 0; i < 100; i++) {
+		try {
+			if ((await fetch(`${origin}/signin`)).ok) break;
+		} catch {
+			/* not up yet */
+		}
+		await new Promise((r) => setTimeout(r, 200));
+	}
+	return { origin, env, proc, stop: () => proc.kill('SIGTERM') };
+}
+
+/** Signs in through Auth.js's standard endpoints; returns a Cookie header value. */
+export async function signInCookie(origin, email, password = 'packledger-demo') {
+	const jar = new Map();
+	const keep = (res) => {
+		for (const c of res.headers.getSetCookie()) {
+			const [pair] = c.split(';');
+			const i = pair.indexOf('=');
+			jar.set(pair.slice(0, i), pair.slice(i + 1));
+		}
+	};
+	const cookie = () => [...jar].map(([k, v]) => `${k}=${v}`).join('; ');
+	const r1 = await fetch(`${origin}/auth/csrf`);
+	keep(r1);
+	const { csrfToken } = await r1.json();
+	const r2 = await fetch(`${origin}/auth/callback/credentials`, {
+		method: 'POST',
+		redirect: 'manual',
+		headers: { 'content-type': 'application/x-www-form-urlencoded', origin, cookie: cookie() },
+		body: new URLSearchParams({ csrfToken, email, password })
+	});
+	keep(r2);
+	return cookie();
+}
