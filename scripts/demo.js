@@ -17,6 +17,7 @@ if (!process.env.AUTH_SECRET && !existsSync(secretFile)) {
 const env = {
 	...process.env,
 	PORT: port,
+	BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT || '30M',
 	ORIGIN: origin,
 	PUBLIC_BASE_URL: process.env.PUBLIC_BASE_URL || origin,
 	DATABASE_URL: process.env.DATABASE_URL || 'file:data/packledger.db',

@@ -11,7 +11,8 @@ const env = {
 	AUTH_SECRET: 'e2e-only-secret-not-for-production-use',
 	PUBLIC_BASE_URL: process.env.ORIGIN,
 	UPLOAD_DIR: 'data/e2e/uploads',
-	SMTP_URL: ''
+	SMTP_URL: '',
+	BODY_SIZE_LIMIT: '30M'
 };
 const run = (cmd, args) => {
 	const r = spawnSync(cmd, args, { stdio: 'inherit', env });

@@ -4,8 +4,8 @@ import { factoryTests, imports, moduleModels, modules } from '$lib/server/db/sch
 import { InvalidInputError, NotFoundError } from '$lib/server/errors';
 import { capability, describe, grubbs, histogram, tukeyFences, type Capability, type Description, type Histogram } from '$lib/domain/quality';
 
-export type QualityGroupBy = 'import' | 'week' | 'model';
-export const QUALITY_GROUP_BY: readonly QualityGroupBy[] = ['import', 'week', 'model'];
+export const QUALITY_GROUP_BY = ['import', 'week', 'model'] as const;
+export type QualityGroupBy = (typeof QUALITY_GROUP_BY)[number];
 export type QuantityKey = 'capacity_ah' | 'dcir_mohm' | 'cell_spread_mv' | 'insulation_mohm';
 
 /** Significance level of Grubbs' test on this page (NIST §1.3.5.17 uses 0.05 in its example). */
