@@ -12,6 +12,8 @@ function isApi(url: URL) {
 export function requireUser(event: Event): Actor {
 	const user = event.locals.user;
 	if (user) return user;
+	const token = event.locals.token;
+	if (token) error('error' in token ? 401 : 403, 'error' in token ? token.error : 'This API token may only send factory test imports.');
 	if (isApi(event.url)) error(401, 'Sign in first: this request carries no valid session or token.');
 	redirect(303, `/signin?next=${encodeURIComponent(event.url.pathname + event.url.search)}`);
 }
