@@ -146,6 +146,8 @@ export const modules = sqliteTable(
 		warrantyStartsOn: text('warranty_starts_on'),
 		warrantyEndsOn: text('warranty_ends_on'),
 		warrantyTerms: text('warranty_terms'),
+		/** The system the module is installed in (denormalised from system_slots for fast fleet queries). */
+		systemId: integer('system_id'),
 		createdAt: createdAt(),
 		updatedAt: integer('updated_at', { mode: 'timestamp_ms' })
 	},
@@ -153,7 +155,11 @@ export const modules = sqliteTable(
 		index('modules_state_idx').on(t.state),
 		index('modules_model_idx').on(t.modelId),
 		index('modules_dealer_idx').on(t.dealerOrgId),
-		index('modules_built_idx').on(t.builtAt)
+		index('modules_built_idx').on(t.builtAt),
+		index('modules_tested_idx').on(t.testedAt),
+		index('modules_shipped_idx').on(t.shippedAt),
+		index('modules_system_idx').on(t.systemId),
+		index('modules_dealer_state_idx').on(t.dealerOrgId, t.state)
 	]
 );
 
@@ -310,4 +316,116 @@ export const factoryTests = sqliteTable(
 		failures: text('failures').notNull()
 	},
 	(t) => [index('factory_tests_module_idx').on(t.moduleId, t.testedAt), index('factory_tests_import_idx').on(t.importId), index('factory_tests_time_idx').on(t.testedAt)]
+);
+
+export const shipments = sqliteTable(
+	'shipments',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		/** Human reference printed on the packing list, e.g. SH-2026-0042. */
+		reference: text('reference').notNull().unique(),
+		dealerOrgId: integer('dealer_org_id')
+			.notNull()
+			.references(() => organisations.id),
+		status: text('status', { enum: ['draft', 'dispatched'] }).notNull().default('draft'),
+		note: text('note'),
+		createdBy: integer('created_by')
+			.notNull()
+			.references(() => users.id),
+		createdAt: createdAt(),
+		dispatchedAt: integer('dispatched_at', { mode: 'timestamp_ms' }),
+		dispatchedBy: integer('dispatched_by').references(() => users.id)
+	},
+	(t) => [index('shipments_dealer_idx').on(t.dealerOrgId)]
+);
+
+export const shipmentItems = sqliteTable(
+	'shipment_items',
+	{
+		shipmentId: integer('shipment_id')
+			.notNull()
+			.references(() => shipments.id),
+		moduleId: integer('module_id')
+			.notNull()
+			.references(() => modules.id),
+		addedAt: createdAt()
+	},
+	(t) => [primaryKey({ columns: [t.shipmentId, t.moduleId] }), index('shipment_items_module_idx').on(t.moduleId)]
+);
+
+export const SITE_APPLICATIONS = ['off_grid_home', 'backup', 'ups', 'workshop', 'telecom', 'other'] as const;
+
+/** A place where systems are installed. Owner name and contact are personal data: the site's dealer and the assembler's staff only. */
+export const sites = sqliteTable(
+	'sites',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		/** The dealer responsible for the site; null when the assembler's own technicians installed it. */
+		dealerOrgId: integer('dealer_org_id').references(() => organisations.id),
+		name: text('name').notNull(),
+		ownerName: text('owner_name').notNull(),
+		ownerContact: text('owner_contact').notNull(),
+		address: text('address').notNull(),
+		application: text('application', { enum: SITE_APPLICATIONS }).notNull(),
+		createdBy: integer('created_by')
+			.notNull()
+			.references(() => users.id),
+		createdAt: createdAt()
+	},
+	(t) => [index('sites_dealer_idx').on(t.dealerOrgId)]
+);
+
+export const systems = sqliteTable(
+	'systems',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		siteId: integer('site_id')
+			.notNull()
+			.references(() => sites.id),
+		name: text('name').notNull(),
+		modelId: integer('model_id')
+			.notNull()
+			.references(() => moduleModels.id),
+		series: integer('series').notNull(),
+		parallel: integer('parallel').notNull(),
+		inverterName: text('inverter_name'),
+		inverterMinV: real('inverter_min_v').notNull(),
+		inverterMaxV: real('inverter_max_v').notNull(),
+		preferredMinV: real('preferred_min_v'),
+		preferredMaxV: real('preferred_max_v'),
+		maxChargeA: real('max_charge_a'),
+		maxDischargeA: real('max_discharge_a'),
+		status: text('status', { enum: ['planned', 'commissioned'] }).notNull().default('planned'),
+		createdAt: createdAt()
+	},
+	(t) => [index('systems_site_idx').on(t.siteId)]
+);
+
+/** Where each module sits in a system: string (1-based) and position in the string (1-based). */
+export const systemSlots = sqliteTable(
+	'system_slots',
+	{
+		systemId: integer('system_id')
+			.notNull()
+			.references(() => systems.id),
+		stringNo: integer('string_no').notNull(),
+		position: integer('position').notNull(),
+		moduleId: integer('module_id')
+			.notNull()
+			.references(() => modules.id)
+	},
+	(t) => [primaryKey({ columns: [t.systemId, t.stringNo, t.position] }), uniqueIndex('system_slots_module_idx').on(t.moduleId)]
+);
+
+/** Small per-user settings, e.g. the fleet table's chosen columns. */
+export const userPrefs = sqliteTable(
+	'user_prefs',
+	{
+		userId: integer('user_id')
+			.notNull()
+			.references(() => users.id),
+		key: text('key').notNull(),
+		value: text('value').notNull()
+	},
+	(t) => [primaryKey({ columns: [t.userId, t.key] })]
 );
