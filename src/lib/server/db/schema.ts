@@ -429,3 +429,51 @@ export const userPrefs = sqliteTable(
 	},
 	(t) => [primaryKey({ columns: [t.userId, t.key] })]
 );
+
+/** One commissioning attempt of a system: what was measured, how each item was judged, who signed. */
+export const commissionings = sqliteTable(
+	'commissionings',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		systemId: integer('system_id')
+			.notNull()
+			.references(() => systems.id),
+		/** Certificate number, given only to a passing commissioning (e.g. PLC-2026-00012). */
+		certificateNo: text('certificate_no').unique(),
+		overall: text('overall', { enum: ['pass', 'fail', 'incomplete'] }).notNull(),
+		technicianUserId: integer('technician_user_id')
+			.notNull()
+			.references(() => users.id),
+		technicianName: text('technician_name').notNull(),
+		licenceNumber: text('licence_number').notNull(),
+		/** The measurements as entered (JSON) and the evaluated items (JSON), kept for decades. */
+		measurements: text('measurements').notNull(),
+		items: text('items').notNull(),
+		handoverName: text('handover_name'),
+		commissionedOn: text('commissioned_on').notNull(),
+		createdAt: createdAt()
+	},
+	(t) => [index('commissionings_system_idx').on(t.systemId)]
+);
+
+/** Files attached to records (commissioning photos, claim evidence), stored through the storage module. */
+export const attachments = sqliteTable(
+	'attachments',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		/** What the file belongs to, e.g. 'system' / 'commissioning' / 'claim', and that record's id. */
+		ownerKind: text('owner_kind').notNull(),
+		ownerId: integer('owner_id').notNull(),
+		storageKey: text('storage_key').notNull().unique(),
+		fileName: text('file_name').notNull(),
+		contentType: text('content_type').notNull(),
+		bytes: integer('bytes').notNull(),
+		sha256: text('sha256').notNull(),
+		caption: text('caption'),
+		uploadedBy: integer('uploaded_by')
+			.notNull()
+			.references(() => users.id),
+		createdAt: createdAt()
+	},
+	(t) => [index('attachments_owner_idx').on(t.ownerKind, t.ownerId)]
+);
