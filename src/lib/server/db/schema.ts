@@ -477,3 +477,79 @@ export const attachments = sqliteTable(
 	},
 	(t) => [index('attachments_owner_idx').on(t.ownerKind, t.ownerId)]
 );
+
+export const CLAIM_STATES = ['filed', 'in_review', 'awaiting_evidence', 'covered', 'not_covered', 'replacement_sent', 'closed'] as const;
+export type ClaimState = (typeof CLAIM_STATES)[number];
+
+/** A warranty claim on one or more modules of a commissioned system. */
+export const claims = sqliteTable(
+	'claims',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		reference: text('reference').notNull().unique(),
+		systemId: integer('system_id')
+			.notNull()
+			.references(() => systems.id),
+		/** The dealer organisation the claim belongs to (null for the assembler's own sites). */
+		dealerOrgId: integer('dealer_org_id').references(() => organisations.id),
+		state: text('state', { enum: CLAIM_STATES }).notNull().default('filed'),
+		fault: text('fault').notNull(),
+		/** Evidence as JSON: measured capacity and its temperature, throughput or cycles, temperatures, events. */
+		evidence: text('evidence').notNull(),
+		/** The assessment computed when the claim was decided (JSON), kept for later reading. */
+		assessment: text('assessment'),
+		decision: text('decision', { enum: ['covered', 'not_covered'] }),
+		decisionReason: text('decision_reason'),
+		decidedBy: integer('decided_by').references(() => users.id),
+		decidedAt: integer('decided_at', { mode: 'timestamp_ms' }),
+		filedBy: integer('filed_by')
+			.notNull()
+			.references(() => users.id),
+		filedAt: integer('filed_at', { mode: 'timestamp_ms' }).notNull(),
+		updatedAt: integer('updated_at', { mode: 'timestamp_ms' }).notNull()
+	},
+	(t) => [index('claims_state_idx').on(t.state), index('claims_dealer_idx').on(t.dealerOrgId)]
+);
+
+export const claimModules = sqliteTable(
+	'claim_modules',
+	{
+		claimId: integer('claim_id')
+			.notNull()
+			.references(() => claims.id),
+		moduleId: integer('module_id')
+			.notNull()
+			.references(() => modules.id),
+		replacementModuleId: integer('replacement_module_id').references(() => modules.id),
+		returnFindings: text('return_findings'),
+		returnCause: text('return_cause')
+	},
+	(t) => [primaryKey({ columns: [t.claimId, t.moduleId] }), index('claim_modules_module_idx').on(t.moduleId)]
+);
+
+/** Every change of a claim's state: who, when, from what to what, and why. */
+export const claimEvents = sqliteTable(
+	'claim_events',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		claimId: integer('claim_id')
+			.notNull()
+			.references(() => claims.id),
+		at: integer('at', { mode: 'timestamp_ms' }).notNull(),
+		actorUserId: integer('actor_user_id').references(() => users.id),
+		actorLabel: text('actor_label').notNull(),
+		fromState: text('from_state'),
+		toState: text('to_state').notNull(),
+		comment: text('comment')
+	},
+	(t) => [index('claim_events_claim_idx').on(t.claimId)]
+);
+
+/** How a dealer's inverter log columns map to throughput and temperature, remembered once mapped. */
+export const logMappings = sqliteTable('log_mappings', {
+	dealerOrgId: integer('dealer_org_id')
+		.primaryKey()
+		.references(() => organisations.id),
+	mapping: text('mapping').notNull(),
+	updatedAt: integer('updated_at', { mode: 'timestamp_ms' }).notNull()
+});
