@@ -1,0 +1,29 @@
+import { z } from 'zod';
+
+const date = z
+	.string()
+	.regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date like 2026-11-30.')
+	.optional()
+	.or(z.literal('').transform(() => undefined));
+const text = (max: number) => z.string().trim().max(max).optional().transform((v) => v || undefined);
+
+/** What to trace: any combination narrows the set; at least one is required. */
+export const traceQuerySchema = z
+	.object({
+		lot: text(40),
+		model: text(20),
+		builtFrom: date,
+		builtTo: date,
+		importId: z.coerce.number().int().positive().optional().or(z.literal('').transform(() => undefined))
+	})
+	.refine((q) => q.lot || q.model || q.builtFrom || q.builtTo || q.importId, {
+		message: 'Give a cell lot, a model, a build date range or an import to trace.',
+		path: ['lot']
+	})
+	.refine((q) => !q.builtFrom || !q.builtTo || q.builtFrom <= q.builtTo, { message: 'The range ends before it starts.', path: ['builtTo'] });
+export type TraceQuery = z.infer<typeof traceQuerySchema>;
+
+export const noticeSchema = z.object({
+	subject: z.string().trim().min(5, 'Give the notice a subject.').max(150),
+	body: z.string().trim().min(20, 'Write what the dealers should do (at least 20 characters).').max(5000)
+});

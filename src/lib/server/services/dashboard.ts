@@ -1,0 +1,36 @@
+import { sql } from 'drizzle-orm';
+import type { Db } from '$lib/server/db';
+
+export const DASHBOARD_WEEKS = 12;
+
+/** Monday (UTC) of the week `weeksAgo` weeks before the one containing `now`. */
+export function mondayOf(now: Date, weeksAgo = 0): string {
+	const d = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate()));
+	d.setUTCDate(d.getUTCDate() - ((d.getUTCDay() + 6) % 7) - 7 * weeksAgo);
+	return d.toISOString().slice(0, 10);
+}
+
+/**
+ * The assembler's overview: modules by state and by model, builds and shipments per
+ * week (Monday-based UTC weeks) over the last twelve weeks. Aggregates run in SQLite.
+ */
+export async function dashboardFigures(db: Db, now = new Date()) {
+	const since = Date.parse(`${mondayOf(now, DASHBOARD_WEEKS - 1)}T00:00:00Z`);
+	const week = (col: string) => sql.raw(`date(${col} / 1000, 'unixepoch', '-6 days', 'weekday 1')`);
+	const [byState, byModel, builds, shipments] = await Promise.all([
+		db.all<{ state: string; n: number }>(sql`SELECT state, count(*) AS n FROM modules GROUP BY state`),
+		db.all<{ code: string; state: string; n: number }>(sql`SELECT m.code AS code, mo.state AS state, count(*) AS n FROM modules mo JOIN module_models m ON m.id = mo.model_id GROUP BY m.code, mo.state ORDER BY m.code`),
+		db.all<{ week: string; n: number }>(sql`SELECT ${week('built_at')} AS week, count(*) AS n FROM modules WHERE built_at >= ${since} GROUP BY week`),
+		db.all<{ week: string; n: number }>(sql`SELECT ${week('shipped_at')} AS week, count(*) AS n FROM modules WHERE shipped_at >= ${since} GROUP BY week`)
+	]);
+	const weeks = Array.from({ length: DASHBOARD_WEEKS }, (_, i) => mondayOf(now, DASHBOARD_WEEKS - 1 - i));
+	const series = (rows: { week: string; n: number }[]) => weeks.map((w) => ({ week: w, n: rows.find((r) => r.week === w)?.n ?? 0 }));
+	const models = new Map<string, Record<string, number>>();
+	for (const r of byModel) models.set(r.code, { ...(models.get(r.code) ?? {}), [r.state]: r.n });
+	return {
+		byState: Object.fromEntries(byState.map((r) => [r.state, r.n])) as Record<string, number>,
+		byModel: [...models].map(([code, states]) => ({ code, states, total: Object.values(states).reduce((a, b) => a + b, 0) })),
+		builds: series(builds),
+		shipments: series(shipments)
+	};
+}

@@ -1,0 +1,35 @@
+import { fail } from '@sveltejs/kit';
+import { requireRole } from '$lib/server/auth/guards';
+import { getDb } from '$lib/server/db';
+import { noticeSchema, traceQuerySchema } from '$lib/schemas/trace';
+import { parseForm, toIssues } from '$lib/server/validation';
+import { describeTrace, sendServiceNotice, traceModules } from '$lib/server/services/trace';
+import { failFrom } from '$lib/server/http';
+import type { Actions, PageServerLoad } from './$types';
+
+const SHOWN = 500;
+
+export const load: PageServerLoad = async (event) => {
+	requireRole(event, 'admin', 'workshop', 'warranty');
+	const params = Object.fromEntries(event.url.searchParams);
+	if (!Object.keys(params).length) return { query: null, result: null, issues: [] };
+	const parsed = traceQuerySchema.safeParse(params);
+	if (!parsed.success) return { query: params, result: null, issues: toIssues(parsed.error) };
+	const result = await traceModules(await getDb(), parsed.data);
+	return { query: params, criteria: describeTrace(parsed.data), result: { ...result, items: result.items.slice(0, SHOWN) }, issues: [] };
+};
+
+export const actions: Actions = {
+	notice: async (event) => {
+		const actor = requireRole(event, 'admin');
+		const query = traceQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
+		if (!query.success) return fail(400, { message: 'The trace criteria are missing; run the trace again.' });
+		const parsed = await parseForm(noticeSchema, event.request);
+		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
+		try {
+			return { sent: await sendServiceNotice(await getDb(), actor, query.data, parsed.data) };
+		} catch (e) {
+			return failFrom(e, parsed.data);
+		}
+	}
+};
