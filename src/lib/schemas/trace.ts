@@ -21,7 +21,8 @@ export const traceQuerySchema = z
 		path: ['lot']
 	})
 	.refine((q) => !q.builtFrom || !q.builtTo || q.builtFrom <= q.builtTo, { message: 'The range ends before it starts.', path: ['builtTo'] });
-export type TraceQuery = z.infer<typeof traceQuerySchema>;
+/** Trace criteria; every field optional (the schema insists on at least one). */
+export type TraceQuery = Partial<z.output<typeof traceQuerySchema>>;
 
 export const noticeSchema = z.object({
 	subject: z.string().trim().min(5, 'Give the notice a subject.').max(150),
