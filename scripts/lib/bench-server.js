@@ -2,12 +2,12 @@
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, rmSync } from 'node:fs';
 
-export async function startBenchServer({ port = 4199, dbDir = 'data/bench', seed = true, env: extra = {} } = {}) {
+export async function startBenchServer({ port = 4199, dbDir = 'data/bench', seed = true, keep = false, env: extra = {} } = {}) {
 	if (!existsSync('build/handler.js')) {
 		const b = spawnSync('npm', ['run', 'build', '--silent'], { stdio: 'inherit' });
 		if (b.status !== 0) throw new Error('build failed');
 	}
-	rmSync(dbDir, { recursive: true, force: true });
+	if (!keep) rmSync(dbDir, { recursive: true, force: true });
 	mkdirSync(dbDir, { recursive: true });
 	const origin = `http://localhost:${port}`;
 	const env = { ...process.env, PORT: String(port), ORIGIN: origin, PUBLIC_BASE_URL: origin, DATABASE_URL: `file:${dbDir}/bench.db`, AUTH_SECRET: 'bench-only-secret-0123456789', SMTP_URL: '', BODY_SIZE_LIMIT: '30M', ...extra };

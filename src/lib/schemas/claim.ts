@@ -1,0 +1,194 @@
+/**
+ * Inputs of the claim workflow (filing, moves, decision, evidence, replacement, return
+ * inspection, the queue's query) and the words shown for claim states. Shared by the
+ * pages, their actions and the API routes.
+ */
+import { z } from 'zod';
+import { claimEvidenceSchema } from './warranty-assess';
+
+export const CLAIM_STATE_NAMES = ['filed', 'in_review', 'awaiting_evidence', 'covered', 'not_covered', 'replacement_sent', 'closed'] as const;
+export type ClaimStateName = (typeof CLAIM_STATE_NAMES)[number];
+
+export const CLAIM_STATE_LABELS: Record<ClaimStateName, string> = {
+	filed: 'Filed',
+	in_review: 'Under review',
+	awaiting_evidence: 'Waiting for evidence',
+	covered: 'Covered',
+	not_covered: 'Not covered',
+	replacement_sent: 'Replacement sent',
+	closed: 'Closed'
+};
+
+/**
+ * Moves a warranty officer may make by hand. Covered and not covered are reached only
+ * through a decision (which stores the assessment and, where needed, the reason), and
+ * replacement sent also follows on its own when the last replacement is scanned.
+ */
+export const CLAIM_MOVES: Record<ClaimStateName, ClaimStateName[]> = {
+	filed: ['in_review'],
+	in_review: ['awaiting_evidence'],
+	awaiting_evidence: ['in_review'],
+	covered: ['replacement_sent'],
+	not_covered: ['closed'],
+	replacement_sent: ['closed'],
+	closed: []
+};
+
+/** States in which the claim still waits for the assembler's decision: the response-time target applies. */
+export const AWAITING_DECISION: readonly ClaimStateName[] = ['filed', 'in_review', 'awaiting_evidence'];
+
+/** Target response time: a decision within 10 calendar days of filing (calendar, not working days, to keep it plain). */
+export const TARGET_RESPONSE_DAYS = 10;
+
+/** What the return inspection found to be the cause. Our own short list. */
+export const RETURN_CAUSES = {
+	cell_fade_within_spec: 'Cell fade within the warranted curve',
+	cell_fade_premature: 'Premature cell fade',
+	over_temperature_operation: 'Operated above the temperature limits',
+	over_charge: 'Over-charged (stop-charge not obeyed)',
+	mechanical_damage: 'Mechanical damage',
+	connection_fault: 'Connection or terminal fault',
+	no_fault_found: 'No fault found'
+} as const;
+export type ReturnCause = keyof typeof RETURN_CAUSES;
+
+/** The shortest reason accepted for a decision that departs from the recommendation. */
+export const MIN_DECISION_REASON = 20;
+
+const blankToUndefined = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? undefined : v);
+
+/** Serials as scanned or typed: one per line (commas and spaces also separate). */
+export const serialListSchema = z.preprocess(
+	(v) => {
+		const parts = (Array.isArray(v) ? v : [v]).flatMap((x) => (typeof x === 'string' ? x.split(/[\s,;]+/) : []));
+		return [...new Set(parts.map((s) => s.trim()).filter(Boolean))];
+	},
+	z
+		.array(z.string().max(300))
+		.min(1, { error: 'Scan or type the serial of at least one module.' })
+		.max(50, { error: 'One claim covers at most 50 modules; file separate claims for more.' })
+);
+
+export const throughputScopeSchema = z.enum(['system', 'module'], { error: 'Say whether the throughput is for the whole system or for one module.' });
+
+/** What an inverter log summary adds to the evidence (set by the log step of the form). */
+export const logSummarySchema = z.object({
+	fileName: z.string().max(200).optional(),
+	rows: z.number().int().min(0),
+	firstAt: z.string().max(40).nullable(),
+	lastAt: z.string().max(40).nullable(),
+	problems: z.array(z.string().max(500)).max(100)
+});
+export type LogSummaryEvidence = z.infer<typeof logSummarySchema>;
+
+const jsonField = <T extends z.ZodType>(inner: T) =>
+	z.preprocess((v) => {
+		if (typeof v !== 'string') return v;
+		if (v.trim() === '') return undefined;
+		try {
+			return JSON.parse(v);
+		} catch {
+			return v;
+		}
+	}, inner.optional());
+
+/** The filing form: serials, fault, the evidence fields and where the throughput comes from. */
+export const fileClaimFormSchema = z
+	.object({
+		serials: serialListSchema,
+		fault: z
+			.string({ error: 'Name the fault.' })
+			.trim()
+			.min(3, { error: 'Name the fault in a few words (at least 3 characters).' })
+			.max(200, { error: 'Keep the fault name under 200 characters; the description takes the detail.' }),
+		throughputScope: z.preprocess(blankToUndefined, throughputScopeSchema.default('system')),
+		log: jsonField(logSummarySchema)
+	})
+	.and(claimEvidenceSchema);
+export type FileClaimForm = z.infer<typeof fileClaimFormSchema>;
+
+export const moveClaimSchema = z.object({
+	to: z.enum(CLAIM_STATE_NAMES, { error: 'Choose the state to move the claim to.' }),
+	comment: z.preprocess(blankToUndefined, z.string().trim().max(2000, { error: 'Keep the comment under 2000 characters.' }).optional())
+});
+export type MoveClaimInput = z.infer<typeof moveClaimSchema>;
+
+export const commentSchema = z.object({
+	comment: z
+		.string({ error: 'Write the comment.' })
+		.trim()
+		.min(2, { error: 'Write the comment.' })
+		.max(2000, { error: 'Keep the comment under 2000 characters.' })
+});
+
+export const decideClaimSchema = z.object({
+	decision: z.enum(['covered', 'not_covered'], { error: 'Choose covered or not covered.' }),
+	reason: z.preprocess(blankToUndefined, z.string().trim().max(4000, { error: 'Keep the reason under 4000 characters.' }).optional())
+});
+export type DecideClaimInput = z.infer<typeof decideClaimSchema>;
+
+/**
+ * Evidence added later: every field optional (a blank field keeps what is on record);
+ * the merged evidence is checked again with the filing rules.
+ */
+export const addEvidenceSchema = z.object({
+	measuredCapacityAh: z.unknown().optional(),
+	measuredAtC: z.unknown().optional(),
+	throughputWh: z.unknown().optional(),
+	cycleCount: z.unknown().optional(),
+	avgCellTempC: z.unknown().optional(),
+	maxCellTempC: z.unknown().optional(),
+	eventsOutsideLimits: z.unknown().optional(),
+	description: z.unknown().optional(),
+	throughputScope: z.preprocess(blankToUndefined, throughputScopeSchema.optional()),
+	log: jsonField(logSummarySchema),
+	comment: z.preprocess(blankToUndefined, z.string().trim().max(2000, { error: 'Keep the note under 2000 characters.' }).optional())
+});
+export type AddEvidenceInput = z.infer<typeof addEvidenceSchema>;
+
+export const replacementSchema = z.object({
+	failedSerial: z.string({ error: 'Choose the failed module.' }).trim().min(1, { error: 'Choose the failed module.' }),
+	replacementScan: z.string({ error: 'Scan or type the replacement module.' }).trim().min(1, { error: 'Scan or type the replacement module.' }).max(300)
+});
+
+export const returnInspectionSchema = z.object({
+	serial: z.string({ error: 'Choose the returned module.' }).trim().min(1, { error: 'Choose the returned module.' }),
+	cause: z.enum(Object.keys(RETURN_CAUSES) as [ReturnCause, ...ReturnCause[]], { error: 'Choose the cause found.' }),
+	findings: z
+		.string({ error: 'Write what the inspection found.' })
+		.trim()
+		.min(10, { error: 'Write what the inspection found (at least 10 characters).' })
+		.max(4000, { error: 'Keep the findings under 4000 characters.' })
+});
+export type ReturnInspectionInput = z.infer<typeof returnInspectionSchema>;
+
+/** Largest inverter log accepted in one upload: 20 MB, years of 5-minute rows. */
+export const MAX_LOG_BYTES = 20 * 1024 * 1024;
+
+/** How an inverter log's columns are read: the person confirms what detectColumns suggests. */
+export const logMappingSchema = z.object({
+	timestampColumn: z.string({ error: 'Choose the timestamp column.' }).trim().min(1, { error: 'Choose the timestamp column.' }),
+	energyColumn: z.string({ error: 'Choose the discharge energy column.' }).trim().min(1, { error: 'Choose the discharge energy column.' }),
+	energyUnit: z.enum(['Wh', 'kWh'], { error: 'Choose Wh or kWh.' }),
+	energyKind: z.enum(['cumulative', 'interval'], { error: 'Say whether the energy is a running total or per interval.' }),
+	tempColumn: z.preprocess(blankToUndefined, z.string().trim().optional())
+});
+
+export const CLAIM_SORTS = ['reference', 'state', 'dealer', 'models', 'serialCount', 'filedAt'] as const;
+export type ClaimSort = (typeof CLAIM_SORTS)[number];
+
+const queryInt = (min: number, max: number, label: string) =>
+	z.preprocess(blankToUndefined, z.coerce.number({ error: `${label} must be a whole number.` }).int({ error: `${label} must be a whole number.` }).min(min).max(max).optional());
+
+/** The claims queue's query, from the URL (`/claims?…` and `/api/claims?…`). */
+export const claimQuerySchema = z.object({
+	state: z.preprocess(blankToUndefined, z.enum(CLAIM_STATE_NAMES, { error: 'Unknown claim state.' }).optional()),
+	dealer: queryInt(1, Number.MAX_SAFE_INTEGER, 'Dealer'),
+	model: z.preprocess(blankToUndefined, z.string().trim().max(40).optional()),
+	minAgeDays: queryInt(0, 100_000, 'Minimum age'),
+	page: z.preprocess(blankToUndefined, z.coerce.number().int().min(1).default(1)),
+	pageSize: z.preprocess(blankToUndefined, z.coerce.number().int().min(1).max(100).default(25)),
+	sort: z.preprocess(blankToUndefined, z.enum(CLAIM_SORTS).default('filedAt')),
+	dir: z.preprocess(blankToUndefined, z.enum(['asc', 'desc']).default('asc'))
+});
+export type ClaimQuery = z.infer<typeof claimQuerySchema>;

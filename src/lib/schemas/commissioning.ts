@@ -1,0 +1,171 @@
+/**
+ * The commissioning checklist as a technician enters it on a phone, shared by the page
+ * (live preview), its form action and any API route. Safe for the browser.
+ *
+ * Form names: module open-circuit voltages `moduleOcvV.{string}.{position}` and string
+ * voltages `stringVoltageV.{string}` (1-based); the rest by their key below. A blank
+ * number means "not measured"; "12,5" reads as 12.5. Yes/no answers are 'yes' / 'no' /
+ * blank. A JSON body may instead send `moduleOcvV` and `stringVoltageV` as arrays.
+ */
+import { z } from 'zod';
+import type { CommissioningMeasurements } from '$lib/domain/commissioning';
+
+/** The cautions shown before any work on a battery (PRODUCT.md, Cautions), on the page and the certificate. */
+export const COMMISSIONING_CAUTIONS: { title: string; text: string }[] = [
+	{ title: 'Isolate and lock off', text: 'Open every battery and inverter isolator, lock and tag them off, and prove the circuit dead before you touch a conductor.' },
+	{ title: 'Insulated tools and suitable PPE', text: 'Use insulated tools, take off rings and watches, and wear eye protection and insulating gloves rated for the voltage.' },
+	{ title: 'DC arc and short-circuit hazard', text: 'A battery is always live: a short circuit delivers very high currents, and a DC arc does not go out by itself. Keep terminals covered until you connect them.' },
+	{ title: 'Polarity', text: 'Check the polarity of every connection before closing an isolator; reversed polarity can destroy the inverter and the protective devices.' },
+	{ title: 'Work by a licensed electrician', text: 'Installation and commissioning are done by a licensed electrician.' },
+	{ title: 'Local codes take precedence', text: 'Local electrical codes and installation standards take precedence over anything the application computes.' }
+];
+
+export const CODES_TAKE_PRECEDENCE = 'Local electrical codes and installation standards take precedence over anything the application computes.';
+
+/** Form text to a number: blank → null, "0,4" → 0.4, anything else unreadable → 'invalid'. */
+export function readDecimal(v: unknown): number | null | 'invalid' {
+	if (v === undefined || v === null) return null;
+	if (typeof v === 'number') return Number.isFinite(v) ? v : 'invalid';
+	if (typeof v !== 'string') return 'invalid';
+	const s = v.trim().replace(/\s+/g, '');
+	if (s === '') return null;
+	if (!/^[+-]?(\d+([.,]\d*)?|[.,]\d+)$/.test(s)) return 'invalid';
+	return Number(s.replace(',', '.'));
+}
+
+const GRID = /^moduleOcvV\.(\d{1,2})\.(\d{1,2})$/;
+const STRING = /^stringVoltageV\.(\d{1,2})$/;
+
+/** Gathers the flat form names of the grid into arrays; a JSON body with arrays passes through. */
+export function nestForm(raw: unknown): unknown {
+	if (!raw || typeof raw !== 'object' || Array.isArray(raw)) return raw;
+	const out: Record<string, unknown> = { ...(raw as Record<string, unknown>) };
+	const grid: unknown[][] = [];
+	const strings: unknown[] = [];
+	let flat = false;
+	for (const [key, value] of Object.entries(raw)) {
+		const g = GRID.exec(key);
+		const s = STRING.exec(key);
+		if (g) {
+			const [si, pi] = [Number(g[1]) - 1, Number(g[2]) - 1];
+			if (si < 0 || pi < 0) continue;
+			(grid[si] ??= [])[pi] = value;
+			flat = true;
+		} else if (s && Number(s[1]) > 0) {
+			strings[Number(s[1]) - 1] = value;
+			flat = true;
+		}
+	}
+	if (flat) {
+		const width = Math.max(0, ...grid.map((r) => r?.length ?? 0));
+		if (!Array.isArray(out.moduleOcvV)) out.moduleOcvV = Array.from(grid, (row) => Array.from({ length: width }, (_, i) => row?.[i] ?? null));
+		if (!Array.isArray(out.stringVoltageV)) out.stringVoltageV = Array.from(strings, (v) => v ?? null);
+	}
+	return out;
+}
+
+function measured(label: string, unit: string, min: number, max: number) {
+	const range = `${label} must be between ${min} and ${max} ${unit}; leave it blank if not measured.`;
+	return z.preprocess(
+		(v) => {
+			const n = readDecimal(v);
+			return n === 'invalid' ? v : n;
+		},
+		z
+			.number({ error: `${label} must be a number in ${unit}, e.g. 51,2; leave it blank if not measured.` })
+			.min(min, { error: range })
+			.max(max, { error: range })
+			.nullable()
+	);
+}
+
+function yesNo(label: string) {
+	return z.preprocess(
+		(v) => (v === 'yes' || v === true || v === 'true' ? true : v === 'no' || v === false || v === 'false' ? false : v === '' || v == null ? null : v),
+		z.boolean({ error: `${label}: answer yes or no, or leave it open if not checked.` }).nullable()
+	);
+}
+
+/** The measured items; `lenient` turns unreadable values into "not measured" for the live preview. */
+function measurementFields(lenient: boolean) {
+	const m = (label: string, unit: string, min: number, max: number) => (lenient ? measured(label, unit, min, max).catch(null) : measured(label, unit, min, max));
+	const yn = (label: string) => (lenient ? yesNo(label).catch(null) : yesNo(label));
+	return {
+		moduleOcvV: z.array(z.array(m('Module open-circuit voltage', 'V', 0, 1000)).max(64)).max(64).default([]),
+		stringVoltageV: z.array(m('String voltage', 'V', 0, 2000)).max(64).default([]),
+		interStringDiffV: m('Difference between strings', 'V', 0, 1000).default(null),
+		insulationTestV: m('Insulation test voltage', 'V', 0, 5000).default(null),
+		insulationMohm: m('Insulation resistance', 'MΩ', 0, 1_000_000).default(null),
+		polarityChecked: yn('Polarity').default(null),
+		torqueConfirmed: yn('Terminal torque').default(null),
+		deviceRatingA: m('Protective device rating', 'A', 0, 100_000).default(null),
+		deviceDcRatingV: m('Protective device DC voltage rating', 'V', 0, 10_000).default(null),
+		ambientC: m('Ambient temperature', '°C', -60, 100).default(null),
+		stopChargeProven: yn('Stop-charge signal').default(null)
+	};
+}
+
+const measurementsObject = z.object(measurementFields(false));
+export type MeasurementsInput = z.output<typeof measurementsObject>;
+
+/** The measurements alone, strict: an unreadable number is an issue. */
+export const measurementsSchema = z.preprocess(nestForm, measurementsObject);
+
+/** The measurements for the live preview: an unreadable number counts as not measured. */
+export const draftMeasurementsSchema = z.preprocess(nestForm, z.object(measurementFields(true)));
+
+const optionalText = (max: number, label: string) =>
+	z.preprocess((v) => (typeof v === 'string' && v.trim() === '' ? null : (v ?? null)), z.string().trim().max(max, { error: `Keep the ${label} under ${max} characters.` }).nullable());
+
+/** The whole submission: measurements, who signs, handover, and the cautions acknowledged. */
+export const commissioningSchema = z.preprocess(
+	nestForm,
+	measurementsObject.extend({
+		technicianName: z
+			.string({ error: 'Enter the technician’s name.' })
+			.trim()
+			.min(2, { error: 'Enter the technician’s full name.' })
+			.max(120, { error: 'Keep the name under 120 characters.' }),
+		licenceNumber: z
+			.string({ error: 'Enter the electrical licence number.' })
+			.trim()
+			.min(2, { error: 'Enter the electrical licence number: a commissioning is signed by a licensed electrician.' })
+			.max(60, { error: 'Keep the licence number under 60 characters.' }),
+		handoverName: optionalText(120, 'handover name'),
+		cautionsAcknowledged: z.preprocess(
+			(v) => v === true || v === 'yes' || v === 'on' || v === 'true',
+			z.literal(true, { error: 'Read the cautions and confirm “I have read the cautions” before submitting.' })
+		)
+	})
+);
+export type CommissioningInput = z.output<typeof commissioningSchema>;
+
+/** The parsed checklist in the form the domain's evaluateCommissioning takes. */
+export function toMeasurements(input: MeasurementsInput): CommissioningMeasurements {
+	return {
+		moduleOcvV: input.moduleOcvV,
+		stringVoltageV: input.stringVoltageV,
+		interStringDiffV: input.interStringDiffV,
+		insulation: { testVoltageV: input.insulationTestV, measuredMohm: input.insulationMohm },
+		polarityChecked: input.polarityChecked,
+		torqueConfirmed: input.torqueConfirmed,
+		protectiveDevice:
+			input.deviceRatingA !== null && input.deviceDcRatingV !== null ? { ratingA: input.deviceRatingA, dcVoltageRatingV: input.deviceDcRatingV } : null,
+		ambientC: input.ambientC,
+		stopChargeProven: input.stopChargeProven
+	};
+}
+
+/** The preview's measurements from the page's form values (never throws). */
+export function draftMeasurements(values: Record<string, string>): CommissioningMeasurements {
+	const parsed = draftMeasurementsSchema.safeParse(values);
+	return parsed.success ? toMeasurements(parsed.data) : {};
+}
+
+/** A photo from the phone camera, with an optional caption. */
+export const photoSchema = z.object({
+	photo: z
+		.instanceof(File, { error: 'Take or choose a photo first.' })
+		.refine((f) => f.size > 0, { error: 'Take or choose a photo first.' }),
+	caption: optionalText(200, 'caption')
+});

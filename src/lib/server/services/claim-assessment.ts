@@ -1,0 +1,264 @@
+import { and, asc, count, desc, eq } from 'drizzle-orm';
+import type { Db, Tx } from '$lib/server/db';
+import { claimModules, claims, commissionings, moduleModels, modules, systemSlots, systems } from '$lib/server/db/schema';
+import { assessClaim, type ClaimAssessment, type ClaimInput } from '$lib/domain/warranty';
+import type { WarrantyTerms } from '$lib/domain/model';
+import { warrantyTermsSchema, type ClaimEvidence } from '$lib/schemas/warranty-assess';
+import type { LogSummaryEvidence } from '$lib/schemas/claim';
+import type { Issue } from '$lib/server/validation';
+
+type Conn = Db | Tx;
+type ClaimRow = typeof claims.$inferSelect;
+type ModelRow = typeof moduleModels.$inferSelect;
+type ModuleRow = typeof modules.$inferSelect;
+
+/**
+ * A claim's evidence as stored. `throughputScope` says whose throughput `throughputWh` is:
+ * 'system' (the default: an inverter log counts the energy of the whole battery) is shared
+ * equally over the system's modules for the per-module cycles; 'module' is used as given.
+ */
+export interface StoredEvidence extends ClaimEvidence {
+	throughputScope: 'system' | 'module';
+	log?: LogSummaryEvidence | null;
+}
+
+export interface ClaimAssessmentResult extends ClaimAssessment {
+	claimedOn: string;
+	/** The first claimed module's input, which the what-if panel starts from. */
+	input: ClaimInput;
+	throughputShare: { systemWh: number; modules: number; perModuleWh: number } | null;
+	stopCharge: { proven: boolean; certificateNo: string | null; commissionedOn: string } | null;
+	modules: { serial: string; assessment: ClaimAssessment }[];
+}
+
+const DAY_MS = 86_400_000;
+export const isoDay = (d: Date) => d.toISOString().slice(0, 10);
+
+/** Numbers as the assessment's sentences write them: grouped by spaces, at most `decimals`. */
+export function fmtNumber(x: number, decimals = 0): string {
+	const [int, frac] = Math.abs(x).toFixed(decimals).split('.');
+	const grouped = int.length > 3 ? int.replace(/\B(?=(\d{3})+(?!\d))/g, ' ') : int;
+	return (x < 0 ? '−' : '') + grouped + (frac && Number(frac) !== 0 ? `.${frac}` : '');
+}
+
+export function parseEvidence(json: string): StoredEvidence {
+	const e = JSON.parse(json) as StoredEvidence;
+	return { ...e, throughputScope: e.throughputScope === 'module' ? 'module' : 'system' };
+}
+
+/**
+ * The warranty terms a module was commissioned under. The snapshot may use the domain's
+ * names (`years`) or the model's column names (`warrantyYears`); when it is missing or
+ * unreadable, the model's current terms stand in and a reason says so.
+ */
+export function termsOf(snapshot: string | null, model: ModelRow): { terms: WarrantyTerms; note: string | null } {
+	const current: WarrantyTerms = {
+		years: model.warrantyYears,
+		ratedCycles: model.ratedCycles,
+		endRetentionPct: model.endRetentionPct,
+		referenceTempC: model.referenceTempC,
+		hotTempC: model.hotTempC,
+		hotRatedCycles: model.hotRatedCycles
+	};
+	if (!snapshot) return { terms: current, note: `No warranty terms were recorded at commissioning, so the ${model.code}'s current terms are used.` };
+	let raw: Record<string, unknown> = {};
+	try {
+		raw = JSON.parse(snapshot) ?? {};
+	} catch {
+		/* handled below as unreadable */
+	}
+	const parsed = warrantyTermsSchema.safeParse({ ...raw, years: raw.years ?? raw.warrantyYears });
+	if (parsed.success) return { terms: parsed.data, note: null };
+	return { terms: current, note: `The warranty terms recorded at commissioning could not be read, so the ${model.code}'s current terms are used: check the module's record.` };
+}
+
+/** Modules in a system: its slots, else the modules pointing at it, else series × parallel. */
+export async function modulesInSystem(conn: Conn, systemId: number): Promise<number> {
+	const [slots] = await conn.select({ n: count() }).from(systemSlots).where(eq(systemSlots.systemId, systemId));
+	if (slots.n > 0) return slots.n;
+	const [mods] = await conn.select({ n: count() }).from(modules).where(eq(modules.systemId, systemId));
+	if (mods.n > 0) return mods.n;
+	const [sys] = await conn.select({ series: systems.series, parallel: systems.parallel }).from(systems).where(eq(systems.id, systemId));
+	return Math.max(1, (sys?.series ?? 1) * (sys?.parallel ?? 1));
+}
+
+/** Whether the latest passing commissioning of the system proved the stop-charge signal. */
+export async function stopChargeProof(conn: Conn, systemId: number): Promise<ClaimAssessmentResult['stopCharge']> {
+	const [c] = await conn
+		.select({ items: commissionings.items, certificateNo: commissionings.certificateNo, commissionedOn: commissionings.commissionedOn })
+		.from(commissionings)
+		.where(and(eq(commissionings.systemId, systemId), eq(commissionings.overall, 'pass')))
+		.orderBy(desc(commissionings.commissionedOn), desc(commissionings.id))
+		.limit(1);
+	if (!c) return null;
+	let items: { key?: string; status?: string }[] = [];
+	try {
+		items = JSON.parse(c.items);
+	} catch {
+		/* an unreadable record proves nothing */
+	}
+	const item = Array.isArray(items) ? items.find((i) => i?.key === 'stop_charge') : undefined;
+	return { proven: item?.status === 'pass', certificateNo: c.certificateNo, commissionedOn: c.commissionedOn };
+}
+
+/** Events outside the limits: the ones described, plus a logged maximum above the model's discharge limit. */
+function eventsOf(evidence: StoredEvidence, model: ModelRow): string[] {
+	const listed = (evidence.eventsOutsideLimits ?? '')
+		.split(/\r?\n|;/)
+		.map((s) => s.trim())
+		.filter(Boolean);
+	if (evidence.maxCellTempC !== undefined && evidence.maxCellTempC > model.dischargeTempMaxC) {
+		listed.push(`a maximum cell temperature of ${fmtNumber(evidence.maxCellTempC, 1)} °C, above the ${model.code}'s ${fmtNumber(model.dischargeTempMaxC, 1)} °C limit`);
+	}
+	return listed;
+}
+
+/** Per-module throughput: the system's figure shared equally over its modules, or the module's own. */
+export function perModuleThroughput(evidence: StoredEvidence, moduleCount: number): number | null {
+	if (evidence.throughputWh === undefined) return null;
+	return evidence.throughputScope === 'system' ? evidence.throughputWh / Math.max(1, moduleCount) : evidence.throughputWh;
+}
+
+function assessSafely(input: ClaimInput): ClaimAssessment {
+	try {
+		return assessClaim(input);
+	} catch (e) {
+		if (!(e instanceof RangeError)) throw e;
+		return {
+			recommendation: 'need-evidence',
+			withinTerm: null,
+			yearsElapsed: null,
+			termEndsOn: null,
+			equivalentFullCycles: null,
+			cycleBasis: null,
+			deratedRatedCycles: input.terms.ratedCycles,
+			activationEnergyKJPerMol: 0,
+			retentionPct: null,
+			promisedRetentionPct: null,
+			reasons: [`The assessment could not be computed from the record: ${e.message}`]
+		};
+	}
+}
+
+/**
+ * The assessment of a claim, built from each claimed module's warranty snapshot (terms,
+ * start date, rated Ah and usable Wh of its model), the evidence, and the stop-charge proof
+ * of the system's latest passing commissioning. Every claimed module is assessed; where
+ * they differ, the claim asks the officer to weigh each one.
+ */
+export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimAssessmentResult> {
+	const evidence = parseEvidence(claim.evidence);
+	const rows = await conn
+		.select({ module: modules, model: moduleModels })
+		.from(claimModules)
+		.innerJoin(modules, eq(claimModules.moduleId, modules.id))
+		.innerJoin(moduleModels, eq(modules.modelId, moduleModels.id))
+		.where(eq(claimModules.claimId, claim.id))
+		.orderBy(asc(modules.serial));
+	const moduleCount = await modulesInSystem(conn, claim.systemId);
+	const stopCharge = await stopChargeProof(conn, claim.systemId);
+	const claimedOn = isoDay(claim.filedAt);
+	const perModuleWh = perModuleThroughput(evidence, moduleCount);
+
+	const preface: string[] = [];
+	let throughputShare: ClaimAssessmentResult['throughputShare'] = null;
+	if (evidence.throughputWh !== undefined && perModuleWh !== null) {
+		if (evidence.throughputScope === 'system') {
+			throughputShare = { systemWh: evidence.throughputWh, modules: moduleCount, perModuleWh };
+			preface.push(
+				`The throughput of ${fmtNumber(evidence.throughputWh)} Wh is the whole system's, as an inverter records it; shared equally over the system's ${moduleCount} ${moduleCount === 1 ? 'module' : 'modules'}, each module's part is ${fmtNumber(perModuleWh)} Wh, and its cycles are counted from that.`
+			);
+		} else {
+			preface.push(`The throughput of ${fmtNumber(evidence.throughputWh)} Wh was given for the module itself, so it is used as it stands.`);
+		}
+	}
+	if (stopCharge) {
+		preface.push(
+			stopCharge.proven
+				? `The commissioning of ${stopCharge.commissionedOn}${stopCharge.certificateNo ? ` (certificate ${stopCharge.certificateNo})` : ''} proved the stop-charge signal.`
+				: `The commissioning of ${stopCharge.commissionedOn}${stopCharge.certificateNo ? ` (certificate ${stopCharge.certificateNo})` : ''} passed, but the stop-charge signal is not recorded as proven.`
+		);
+	} else {
+		preface.push('No passing commissioning of the system is on record.');
+	}
+
+	const assessed = rows.map(({ module, model }) => ({ module, model, ...assessModule(module, model, evidence, perModuleWh, stopCharge, claimedOn) }));
+	if (!assessed.length) throw new Error(`Claim ${claim.reference} has no modules.`);
+	const [first] = assessed;
+	const reasons = [...preface, ...(first.note ? [first.note] : []), ...first.assessment.reasons];
+	let recommendation = first.assessment.recommendation;
+	const differing = assessed.filter((a) => a.assessment.recommendation !== recommendation || a.assessment.termEndsOn !== first.assessment.termEndsOn);
+	if (differing.length) {
+		recommendation = 'need-evidence';
+		reasons.push(
+			`The claimed modules' warranty records differ (${assessed.map((a) => `${a.module.serial}: ${a.assessment.recommendation}, term to ${a.assessment.termEndsOn ?? 'unknown'}`).join('; ')}): weigh each module's assessment.`
+		);
+	}
+	return {
+		...first.assessment,
+		recommendation,
+		reasons,
+		claimedOn,
+		input: first.input,
+		throughputShare,
+		stopCharge,
+		modules: assessed.map((a) => ({ serial: a.module.serial, assessment: a.assessment }))
+	};
+}
+
+function assessModule(module: ModuleRow, model: ModelRow, evidence: StoredEvidence, perModuleWh: number | null, stopCharge: ClaimAssessmentResult['stopCharge'], claimedOn: string) {
+	const { terms, note } = termsOf(module.warrantyTerms, model);
+	const events = eventsOf(evidence, model);
+	const input: ClaimInput = {
+		terms,
+		commissionedOn: module.warrantyStartsOn ?? (module.commissionedAt ? isoDay(module.commissionedAt) : null),
+		claimedOn,
+		ratedCapacityAh: model.ratedAh,
+		measuredCapacityAh: evidence.measuredCapacityAh ?? null,
+		usableWh: model.usableWh,
+		throughputWh: perModuleWh === null ? null : Math.round(perModuleWh * 1000) / 1000,
+		cycles: evidence.cycleCount ?? null,
+		avgCellTempC: evidence.avgCellTempC ?? null,
+		stopChargeProven: stopCharge ? stopCharge.proven : null,
+		eventsOutsideLimits: events.length ? events : null
+	};
+	return { input, note, assessment: assessSafely(input) };
+}
+
+/**
+ * Figures no module can have produced: more equivalent full cycles per day since the
+ * warranty started than a full discharge and a full recharge at the model's maximum
+ * continuous C-rate allow (each takes 1/C hours, so at most 12 × C cycles a day). A
+ * log that ends after the claim date is refused too. Returns issues on the form's fields.
+ */
+export function implausibleEvidence(
+	evidence: StoredEvidence,
+	ctx: { model: ModelRow; moduleCount: number; startsOn: string | null; now: Date }
+): Issue[] {
+	const issues: Issue[] = [];
+	const today = isoDay(ctx.now);
+	const start = ctx.startsOn ? Date.parse(`${ctx.startsOn}T00:00:00Z`) : NaN;
+	const days = Number.isFinite(start) ? Math.max(1, (ctx.now.getTime() - start) / DAY_MS) : null;
+	const maxPerDay = 12 * ctx.model.maxContinuousC;
+	const perModule = perModuleThroughput(evidence, ctx.moduleCount);
+	if (days !== null && perModule !== null) {
+		const perDay = perModule / ctx.model.usableWh / days;
+		if (perDay > maxPerDay) {
+			issues.push({
+				path: 'throughputWh',
+				message: `${fmtNumber(evidence.throughputWh!)} Wh would be ${fmtNumber(perDay, 1)} equivalent full cycles a day per module since ${ctx.startsOn}; a ${ctx.model.code} cannot do more than ${fmtNumber(maxPerDay)} a day at its ${fmtNumber(ctx.model.maxContinuousC, 1)} C maximum rate. Check the figure, its unit (Wh, not kWh) and whether it is for the whole system.`
+			});
+		}
+	}
+	if (days !== null && evidence.cycleCount !== undefined && evidence.cycleCount / days > maxPerDay) {
+		issues.push({
+			path: 'cycleCount',
+			message: `${fmtNumber(evidence.cycleCount)} cycles since ${ctx.startsOn} would be ${fmtNumber(evidence.cycleCount / days, 1)} a day; a ${ctx.model.code} cannot do more than ${fmtNumber(maxPerDay)} a day. Check the counter reading.`
+		});
+	}
+	const lastDay = evidence.log?.lastAt?.slice(0, 10);
+	if (lastDay && /^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > today) {
+		issues.push({ path: 'log', message: `The inverter log runs to ${evidence.log!.lastAt}, after today (${today}): check the inverter's clock or the file.` });
+	}
+	return issues;
+}

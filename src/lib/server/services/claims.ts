@@ -1,0 +1,325 @@
+import { and, asc, count, desc, eq, inArray, like, lte, ne, sql, type SQL } from 'drizzle-orm';
+import { alias } from 'drizzle-orm/sqlite-core';
+import Papa from 'papaparse';
+import type { Db, Tx } from '$lib/server/db';
+import { writeTx } from '$lib/server/db';
+import { claimEvents, claimModules, claims, logMappings, moduleModels, modules, organisations, sites, systems, users } from '$lib/server/db/schema';
+import { dealerScopeOf, type Actor } from '$lib/server/actor';
+import { ConflictError, ForbiddenError, InvalidInputError, NotFoundError } from '$lib/server/errors';
+import { sendMail } from '$lib/server/mail';
+import { detectColumns, InverterLogError, summariseLog, type LogMapping } from '$lib/domain/inverter-log';
+import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
+import { AWAITING_DECISION, CLAIM_STATE_LABELS, TARGET_RESPONSE_DAYS, type ClaimQuery, type LogSummaryEvidence } from '$lib/schemas/claim';
+import { STATE_LABELS } from '$lib/module-states';
+import { toIssues } from '$lib/server/validation';
+import { recordAudit, recordEvent } from './audit';
+import { findModule, serialFromScan } from './modules';
+import { assessmentFor, implausibleEvidence, modulesInSystem, parseEvidence, type ClaimAssessmentResult, type StoredEvidence } from './claim-assessment';
+
+export { TARGET_RESPONSE_DAYS };
+type Conn = Db | Tx;
+export type ClaimRow = typeof claims.$inferSelect;
+
+const DAY_MS = 86_400_000;
+const FILERS = ['dealer', 'field_tech', 'warranty', 'admin'];
+
+/** The claim if the actor may see it: a dealer's people see their organisation's claims only. */
+export async function loadClaim(conn: Conn, actor: Actor, claimId: number): Promise<ClaimRow> {
+	const notFound = new NotFoundError(`Claim #${claimId} is not in the register.`);
+	if (!Number.isInteger(claimId) || claimId < 1) throw notFound;
+	const [claim] = await conn.select().from(claims).where(eq(claims.id, claimId));
+	const scope = dealerScopeOf(actor);
+	if (!claim || (scope !== null && claim.dealerOrgId !== scope)) throw notFound;
+	return claim;
+}
+
+/** Warranty officers and administrators of the assembler move and decide claims; nobody else. */
+export function requireOfficer(actor: Actor): void {
+	if (actor.dealerScoped || (actor.role !== 'warranty' && actor.role !== 'admin'))
+		throw new ForbiddenError('Only a warranty officer or an administrator moves and decides claims.');
+}
+
+/** Tells the person who filed the claim what happened to it. */
+export async function mailFiler(db: Db, claim: ClaimRow, subject: string, body: string): Promise<void> {
+	const [filer] = await db.select({ email: users.email, name: users.name }).from(users).where(eq(users.id, claim.filedBy));
+	if (!filer) return;
+	await sendMail(db, {
+		to: filer.email,
+		subject,
+		text: `Hello ${filer.name},\n\n${body}\n\nOpen the claim in Packledger under Claims → ${claim.reference}.\n\nTidewater Cellworks warranty`
+	});
+}
+
+export interface FileClaimInput {
+	/** As scanned or typed: bare serials, our label URLs or GS1 Digital Links. */
+	serials: string[];
+	fault: string;
+	/** Checked here with claimEvidenceSchema (form strings or numbers). */
+	evidence: unknown;
+	throughputScope?: 'system' | 'module';
+	log?: LogSummaryEvidence | null;
+	baseUrl?: string;
+}
+
+/**
+ * Files a claim on modules of one commissioned system. A dealer's people can only name
+ * their organisation's modules (another dealer's serial answers like an unknown one);
+ * modules must be in service and on no other claim that is not closed. The evidence is
+ * checked for form and for plausibility. Modules go to "Under claim"; the filer gets an e-mail.
+ */
+export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now = new Date()) {
+	if (actor.userId === null || !FILERS.includes(actor.role)) throw new ForbiddenError('Claims are filed by dealers, technicians and warranty staff.');
+	const fault = (input.fault ?? '').trim();
+	if (fault.length < 3 || fault.length > 200) throw new InvalidInputError('Name the fault in a few words (3 to 200 characters).', [{ path: 'fault', message: 'Name the fault in a few words (3 to 200 characters).' }]);
+	const parsed = claimEvidenceSchema.safeParse(input.evidence);
+	if (!parsed.success) {
+		const issues = toIssues(parsed.error);
+		throw new InvalidInputError(`Check the evidence: ${issues[0].message}`, issues);
+	}
+	const texts = [...new Set(input.serials.map((s) => s.trim()).filter(Boolean))];
+	if (!texts.length) throw new InvalidInputError('Scan or type the serial of at least one module.', [{ path: 'serials', message: 'Scan or type the serial of at least one module.' }]);
+	if (texts.length > 50) throw new InvalidInputError('One claim covers at most 50 modules.');
+
+	const mods: (typeof modules.$inferSelect)[] = [];
+	for (const text of texts) {
+		const mod = await findModule(db, actor, await serialFromScan(db, actor, text, input.baseUrl));
+		if (!mods.some((m) => m.id === mod.id)) mods.push(mod);
+	}
+	const open = await db
+		.select({ serial: modules.serial, reference: claims.reference, state: claims.state })
+		.from(claimModules)
+		.innerJoin(claims, eq(claimModules.claimId, claims.id))
+		.innerJoin(modules, eq(claimModules.moduleId, modules.id))
+		.where(and(inArray(claimModules.moduleId, mods.map((m) => m.id)), ne(claims.state, 'closed')));
+	if (open.length) {
+		const o = open[0];
+		throw new ConflictError(`${o.serial} is already on claim ${o.reference} (${CLAIM_STATE_LABELS[o.state]}); that claim must be closed before another is filed.`);
+	}
+	for (const m of mods) {
+		if (m.state !== 'commissioned') throw new ConflictError(`${m.serial} is ${STATE_LABELS[m.state].toLowerCase()}, not in service: only modules of a commissioned system can be claimed.`);
+	}
+	const systemId = mods[0].systemId;
+	if (systemId === null) throw new ConflictError(`${mods[0].serial} is not recorded in any system; a claim needs the system's commissioning record.`);
+	if (mods.some((m) => m.systemId !== systemId)) throw new ConflictError('These modules are in different systems: file one claim per system.');
+
+	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mods[0].modelId));
+	const moduleCount = await modulesInSystem(db, systemId);
+	const evidence: StoredEvidence = { ...parsed.data, throughputScope: input.throughputScope ?? 'system', log: input.log ?? null };
+	const implausible = implausibleEvidence(evidence, { model, moduleCount, startsOn: mods[0].warrantyStartsOn, now });
+	if (implausible.length) throw new InvalidInputError(implausible[0].message, implausible);
+
+	const claim = await writeTx(db, async (tx) => {
+		const reference = await nextReference(tx, now);
+		const taken = await tx
+			.update(modules)
+			.set({ state: 'claim_open', updatedAt: now })
+			.where(and(inArray(modules.id, mods.map((m) => m.id)), eq(modules.state, 'commissioned')))
+			.returning({ id: modules.id });
+		if (taken.length !== mods.length) throw new ConflictError('One of these modules changed while the claim was filed; reload and try again.');
+		const [row] = await tx
+			.insert(claims)
+			.values({ reference, systemId, dealerOrgId: mods[0].dealerOrgId, state: 'filed', fault, evidence: JSON.stringify(evidence), filedBy: actor.userId!, filedAt: now, updatedAt: now })
+			.returning();
+		await tx.insert(claimModules).values(mods.map((m) => ({ claimId: row.id, moduleId: m.id })));
+		await tx.insert(claimEvents).values({ claimId: row.id, at: now, actorUserId: actor.userId, actorLabel: actor.label, fromState: null, toState: 'filed', comment: fault });
+		for (const m of mods) await recordEvent(tx, actor, { moduleId: m.id, kind: 'claim_filed', summary: `Claim ${reference} filed: ${fault}`, detail: { claim: reference }, at: now });
+		await recordAudit(tx, actor, { action: 'claim.file', entity: 'claim', entityId: reference, after: { serials: mods.map((m) => m.serial), fault, evidence }, at: now });
+		return row;
+	});
+	const list = mods.map((m) => `  ${m.serial}`).join('\n');
+	await mailFiler(
+		db,
+		claim,
+		`Claim ${claim.reference} received`,
+		`We have received warranty claim ${claim.reference} (${fault}) for:\n${list}\n\nA warranty officer will review the evidence; we aim to decide within ${TARGET_RESPONSE_DAYS} calendar days. Keep the modules in place, isolated if they are unsafe, until we ask for them.`
+	);
+	return { id: claim.id, reference: claim.reference };
+}
+
+/** CL-{year}-{NNNN}: the next number of the year, read and written inside the caller's write transaction. */
+async function nextReference(tx: Tx, now: Date): Promise<string> {
+	const prefix = `CL-${now.getUTCFullYear()}-`;
+	const [last] = await tx
+		.select({ reference: claims.reference })
+		.from(claims)
+		.where(like(claims.reference, `${prefix}%`))
+		.orderBy(desc(sql`length(${claims.reference})`), desc(claims.reference))
+		.limit(1);
+	const next = last ? Number(last.reference.slice(prefix.length)) + 1 : 1;
+	return prefix + String(next).padStart(4, '0');
+}
+
+/** The dealer whose remembered log mapping applies when staff file for a module (null: the assembler's own). */
+export async function logDealerFor(db: Db, actor: Actor, scanText: string | null | undefined): Promise<number | null> {
+	const scope = dealerScopeOf(actor);
+	if (scope !== null || !scanText?.trim()) return scope;
+	try {
+		return (await findModule(db, actor, await serialFromScan(db, actor, scanText))).dealerOrgId;
+	} catch (e) {
+		if (e instanceof NotFoundError) return null;
+		throw e;
+	}
+}
+
+/**
+ * Reads an inverter log CSV for a claim's evidence. Without a mapping, the dealer's
+ * remembered one is used when the file has its columns; otherwise the answer carries the
+ * headers and a suggested mapping for the person to confirm. A confirmed mapping is
+ * remembered for the dealer. A dealer's people always read with their own organisation's mapping.
+ */
+export async function readInverterLog(db: Db, actor: Actor, dealerOrgId: number | null, csvText: string, mapping?: LogMapping, now = new Date()) {
+	const org = dealerScopeOf(actor) ?? dealerOrgId;
+	const headers = ((Papa.parse<string[]>(csvText.replace(/^\uFEFF/, ''), { preview: 1 }).data[0] ?? []) as string[]).map((h) => h.trim()).filter(Boolean);
+	if (!headers.length) throw new InvalidInputError('The log has no header row: export it again with column names.');
+	const guess = detectColumns(headers);
+	const energy = guess.dischargeEnergyKWh ?? guess.dischargeEnergyWh;
+	const suggested: Partial<LogMapping> = {
+		timestampColumn: guess.timestamp,
+		energyColumn: energy,
+		energyUnit: guess.dischargeEnergyKWh ? 'kWh' : guess.dischargeEnergyWh ? 'Wh' : undefined,
+		energyKind: guess.energyKind ?? 'cumulative',
+		tempColumn: guess.cellTempC
+	};
+	const [stored] = org === null ? [] : await db.select().from(logMappings).where(eq(logMappings.dealerOrgId, org));
+	const remembered = stored ? (JSON.parse(stored.mapping) as LogMapping) : null;
+	const fits = (m: LogMapping) => [m.timestampColumn, m.energyColumn, m.tempColumn].every((c) => !c || headers.includes(c));
+	const use = mapping ?? (remembered && fits(remembered) ? remembered : null);
+	if (!use) return { headers, suggested, remembered, mapping: null, usedRemembered: false, summary: null, evidence: null };
+
+	let summary;
+	try {
+		summary = summariseLog(csvText, use);
+	} catch (e) {
+		if (e instanceof InverterLogError) throw new InvalidInputError(e.message);
+		throw e;
+	}
+	const lastDay = summary.lastAt?.slice(0, 10) ?? '';
+	if (/^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > now.toISOString().slice(0, 10)) summary.problems.push(`The last row is dated ${summary.lastAt}, after today: check the inverter's clock.`);
+	if (mapping && org !== null && JSON.stringify(mapping) !== stored?.mapping) {
+		await writeTx(db, async (tx) => {
+			const value = JSON.stringify(mapping);
+			await tx.insert(logMappings).values({ dealerOrgId: org, mapping: value, updatedAt: now }).onConflictDoUpdate({ target: logMappings.dealerOrgId, set: { mapping: value, updatedAt: now } });
+			await recordAudit(tx, actor, { action: 'log_mapping.save', entity: 'organisation', entityId: org, before: remembered ?? undefined, after: mapping, at: now });
+		});
+	}
+	return {
+		headers,
+		suggested,
+		remembered,
+		mapping: use,
+		usedRemembered: !mapping,
+		summary,
+		evidence: { throughputWh: summary.throughputWh, avgCellTempC: summary.avgTempC, maxCellTempC: summary.maxTempC }
+	};
+}
+
+const modelsOf = sql<string | null>`(SELECT group_concat(DISTINCT mm.code) FROM claim_modules cm JOIN modules m ON m.id = cm.module_id JOIN module_models mm ON mm.id = m.model_id WHERE cm.claim_id = ${claims.id})`;
+const serialCountOf = sql<number>`(SELECT count(*) FROM claim_modules cm WHERE cm.claim_id = ${claims.id})`;
+
+/**
+ * The claims queue, oldest claim first unless sorted otherwise: filters by state,
+ * dealer, model and minimum age; a dealer's people see their organisation's claims only
+ * (a dealer filter from them is ignored). Each item says whether it is past the
+ * response-time target ({@link TARGET_RESPONSE_DAYS} calendar days to a decision).
+ */
+export async function listClaims(db: Db, actor: Actor, q: Partial<ClaimQuery> = {}, now = new Date()) {
+	const page = q.page ?? 1;
+	const pageSize = Math.min(q.pageSize ?? 25, 100);
+	const scope = dealerScopeOf(actor);
+	const where: SQL[] = [];
+	if (scope !== null) where.push(eq(claims.dealerOrgId, scope));
+	else if (q.dealer) where.push(eq(claims.dealerOrgId, q.dealer));
+	if (q.state) where.push(eq(claims.state, q.state));
+	if (q.model) where.push(sql`EXISTS (SELECT 1 FROM claim_modules cm JOIN modules m ON m.id = cm.module_id JOIN module_models mm ON mm.id = m.model_id WHERE cm.claim_id = ${claims.id} AND mm.code = ${q.model})`);
+	if (q.minAgeDays) where.push(lte(claims.filedAt, new Date(now.getTime() - q.minAgeDays * DAY_MS)));
+	const cond = where.length ? and(...where) : undefined;
+
+	const dir = q.dir === 'desc' ? desc : asc;
+	const sortCol = { reference: claims.reference, state: claims.state, dealer: organisations.name, models: modelsOf, serialCount: serialCountOf, filedAt: claims.filedAt }[q.sort ?? 'filedAt'];
+	const [{ total }] = await db.select({ total: count() }).from(claims).where(cond);
+	const rows = await db
+		.select({ id: claims.id, reference: claims.reference, state: claims.state, fault: claims.fault, dealer: organisations.name, models: modelsOf, serialCount: serialCountOf, filedAt: claims.filedAt })
+		.from(claims)
+		.leftJoin(organisations, eq(claims.dealerOrgId, organisations.id))
+		.where(cond)
+		.orderBy(dir(sortCol), dir(claims.id))
+		.limit(pageSize)
+		.offset((page - 1) * pageSize);
+	const items = rows.map((r) => {
+		const ageMs = now.getTime() - r.filedAt.getTime();
+		return {
+			...r,
+			stateLabel: CLAIM_STATE_LABELS[r.state],
+			dealer: r.dealer ?? 'Tidewater Cellworks (own site)',
+			models: r.models ? r.models.split(',') : [],
+			serialCount: Number(r.serialCount),
+			filedAt: r.filedAt.toISOString(),
+			ageDays: Math.floor(ageMs / DAY_MS),
+			overdue: AWAITING_DECISION.includes(r.state) && ageMs > TARGET_RESPONSE_DAYS * DAY_MS
+		};
+	});
+	return { items, total, page, pageSize };
+}
+
+/** The choices of the queue's filters: dealers (staff only) and models. */
+export async function claimFilterOptions(db: Db, actor: Actor) {
+	const dealers = actor.dealerScoped ? [] : await db.select({ id: organisations.id, name: organisations.name }).from(organisations).where(eq(organisations.kind, 'dealer')).orderBy(asc(organisations.name));
+	const models = (await db.select({ code: moduleModels.code }).from(moduleModels).orderBy(asc(moduleModels.code))).map((m) => m.code);
+	return { dealers, models };
+}
+
+/** A claim as its page shows it: context, modules with their replacements, timeline and the live assessment. */
+export async function getClaim(db: Db, actor: Actor, claimId: number, now = new Date()) {
+	const claim = await loadClaim(db, actor, claimId);
+	const [system] = await db
+		.select({ id: systems.id, name: systems.name, siteName: sites.name, series: systems.series, parallel: systems.parallel, inverterName: systems.inverterName, modelCode: moduleModels.code })
+		.from(systems)
+		.innerJoin(sites, eq(systems.siteId, sites.id))
+		.innerJoin(moduleModels, eq(systems.modelId, moduleModels.id))
+		.where(eq(systems.id, claim.systemId));
+	const [dealer] = claim.dealerOrgId ? await db.select({ name: organisations.name }).from(organisations).where(eq(organisations.id, claim.dealerOrgId)) : [];
+	const people = await db.select({ id: users.id, name: users.name, email: users.email }).from(users).where(inArray(users.id, [claim.filedBy, claim.decidedBy ?? claim.filedBy]));
+	const replacement = alias(modules, 'replacement');
+	const mods = await db
+		.select({
+			serial: modules.serial,
+			state: modules.state,
+			modelCode: moduleModels.code,
+			warrantyStartsOn: modules.warrantyStartsOn,
+			warrantyEndsOn: modules.warrantyEndsOn,
+			replacementSerial: replacement.serial,
+			returnFindings: claimModules.returnFindings,
+			returnCause: claimModules.returnCause
+		})
+		.from(claimModules)
+		.innerJoin(modules, eq(claimModules.moduleId, modules.id))
+		.innerJoin(moduleModels, eq(modules.modelId, moduleModels.id))
+		.leftJoin(replacement, eq(claimModules.replacementModuleId, replacement.id))
+		.where(eq(claimModules.claimId, claim.id))
+		.orderBy(asc(modules.serial));
+	const events = await db.select().from(claimEvents).where(eq(claimEvents.claimId, claim.id)).orderBy(asc(claimEvents.at), asc(claimEvents.id));
+	const ageMs = now.getTime() - claim.filedAt.getTime();
+	return {
+		claim: {
+			id: claim.id,
+			reference: claim.reference,
+			state: claim.state,
+			fault: claim.fault,
+			evidence: parseEvidence(claim.evidence),
+			decision: claim.decision,
+			decisionReason: claim.decisionReason,
+			decidedAt: claim.decidedAt,
+			decidedBy: people.find((p) => p.id === claim.decidedBy)?.name ?? null,
+			storedAssessment: claim.assessment ? (JSON.parse(claim.assessment) as ClaimAssessmentResult) : null,
+			filedAt: claim.filedAt,
+			filedBy: people.find((p) => p.id === claim.filedBy) ?? null,
+			dealer: dealer?.name ?? null,
+			ageDays: Math.floor(ageMs / DAY_MS),
+			overdue: AWAITING_DECISION.includes(claim.state) && ageMs > TARGET_RESPONSE_DAYS * DAY_MS
+		},
+		system: system ?? null,
+		modules: mods,
+		events,
+		assessment: await assessmentFor(db, claim)
+	};
+}

@@ -1,0 +1,458 @@
+import { and, asc, desc, eq, inArray, like } from 'drizzle-orm';
+import type { Db, Tx } from '$lib/server/db';
+import { writeTx } from '$lib/server/db';
+import { commissionings, moduleModels, modules, organisations, sites, systems, systemSlots } from '$lib/server/db/schema';
+import { dealerScopeOf, type Actor } from '$lib/server/actor';
+import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
+import { sendMail } from '$lib/server/mail';
+import { evaluateCommissioning, type CommissioningItem, type CommissioningSystem } from '$lib/domain/commissioning';
+import { currentForCRate } from '$lib/domain/model';
+import { warrantyTermEnd } from '$lib/domain/warranty';
+import { STATE_LABELS } from '$lib/module-states';
+import { CODES_TAKE_PRECEDENCE, COMMISSIONING_CAUTIONS, toMeasurements, type CommissioningInput, type MeasurementsInput } from '$lib/schemas/commissioning';
+import { PageSizes, PDFDocument, rgb, StandardFonts, type PDFFont, type PDFPage } from 'pdf-lib';
+import { recordAudit, recordEvent } from './audit';
+
+const roundMv = (x: number) => Math.round(x * 1000) / 1000;
+
+export interface CertificateData {
+	commissioningId: number;
+	certificateNo: string;
+	commissionedOn: string;
+	site: { name: string; address: string; dealerOrgId: number | null };
+	system: { id: number; name: string; modelCode: string; modelName: string; series: number; parallel: number; inverterName: string | null; minV: number; nominalV: number; maxV: number };
+	modules: { stringNo: number; position: number; serial: string }[];
+	items: CommissioningItem[];
+	technicianName: string;
+	licenceNumber: string;
+	handoverName: string | null;
+	warranty: { startsOn: string; endsOn: string; years: number };
+	cautions: { title: string; text: string }[];
+	codesNote: string;
+}
+
+/**
+ * A system as the commissioning checklist needs it: site, model, the module in every
+ * string/position (null where none is recorded), earlier attempts, and the input of the
+ * domain's evaluation. A dealer's people only reach their own organisation's sites; any
+ * other system answers exactly like one that does not exist.
+ */
+export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId: number) {
+	const notFound = new NotFoundError(`System ${systemId} is not in the register.`);
+	if (!Number.isInteger(systemId) || systemId < 1) throw notFound;
+	const [row] = await db
+		.select({ system: systems, site: sites, model: moduleModels })
+		.from(systems)
+		.innerJoin(sites, eq(systems.siteId, sites.id))
+		.innerJoin(moduleModels, eq(systems.modelId, moduleModels.id))
+		.where(eq(systems.id, systemId));
+	const scope = dealerScopeOf(actor);
+	if (!row || (scope !== null && row.site.dealerOrgId !== scope)) throw notFound;
+	const { system, site, model } = row;
+
+	const slots = await db
+		.select({ stringNo: systemSlots.stringNo, position: systemSlots.position, id: modules.id, serial: modules.serial, state: modules.state })
+		.from(systemSlots)
+		.innerJoin(modules, eq(systemSlots.moduleId, modules.id))
+		.where(eq(systemSlots.systemId, systemId))
+		.orderBy(asc(systemSlots.stringNo), asc(systemSlots.position));
+	const strings = Array.from({ length: system.parallel }, (_, s) =>
+		Array.from({ length: system.series }, (_, p) => {
+			const slot = slots.find((x) => x.stringNo === s + 1 && x.position === p + 1);
+			return { stringNo: s + 1, position: p + 1, module: slot ? { id: slot.id, serial: slot.serial, state: slot.state } : null };
+		})
+	);
+	const attempts = await db
+		.select({ id: commissionings.id, overall: commissionings.overall, certificateNo: commissionings.certificateNo, commissionedOn: commissionings.commissionedOn, technicianName: commissionings.technicianName, createdAt: commissionings.createdAt })
+		.from(commissionings)
+		.where(eq(commissionings.systemId, systemId))
+		.orderBy(desc(commissionings.id));
+
+	const cells = system.series * model.cellsSeries;
+	// The current the system is set up for: the inverter's limit where recorded, never above what the modules can deliver.
+	const batteryA = currentForCRate(model.maxContinuousC, model.ratedAh) * system.parallel;
+	const inverterA = Math.max(system.maxChargeA ?? 0, system.maxDischargeA ?? 0);
+	const evaluationSystem: CommissioningSystem = {
+		series: system.series,
+		parallel: system.parallel,
+		maxContinuousA: inverterA > 0 ? Math.min(inverterA, batteryA) : undefined,
+		model: {
+			cellsSeries: model.cellsSeries,
+			cellMinV: model.cellMinV,
+			cellNominalV: model.cellNominalV,
+			cellMaxV: model.cellMaxV,
+			ratedAh: model.ratedAh,
+			maxContinuousC: model.maxContinuousC,
+			chargeTempMinC: model.chargeTempMinC,
+			chargeTempMaxC: model.chargeTempMaxC,
+			dischargeTempMinC: model.dischargeTempMinC,
+			dischargeTempMaxC: model.dischargeTempMaxC
+		}
+	};
+	return {
+		system,
+		site: { id: site.id, name: site.name, address: site.address, ownerName: site.ownerName, dealerOrgId: site.dealerOrgId },
+		model,
+		strings,
+		emptySlots: strings.flat().filter((s) => !s.module),
+		voltages: { minV: roundMv(cells * model.cellMinV), nominalV: roundMv(cells * model.cellNominalV), maxV: roundMv(cells * model.cellMaxV) },
+		evaluationSystem,
+		attempts
+	};
+}
+
+export type SystemForCommissioning = Awaited<ReturnType<typeof loadSystemForCommissioning>>;
+
+/** The checklist evaluated as entered, without storing anything (the page's preview runs the same function). */
+export function evaluateDraft(system: Pick<SystemForCommissioning, 'evaluationSystem'>, input: MeasurementsInput) {
+	return evaluateCommissioning(system.evaluationSystem, toMeasurements(input));
+}
+
+/** Next certificate number of a year: PLC-{YYYY}-{NNNNN}. Call inside the write transaction. */
+async function nextCertificateNo(tx: Tx, year: string): Promise<string> {
+	const prefix = `PLC-${year}-`;
+	const [last] = await tx
+		.select({ no: commissionings.certificateNo })
+		.from(commissionings)
+		.where(like(commissionings.certificateNo, `${prefix}%`))
+		.orderBy(desc(commissionings.certificateNo))
+		.limit(1);
+	const n = last?.no ? Number(last.no.slice(prefix.length)) + 1 : 1;
+	return `${prefix}${String(n).padStart(5, '0')}`;
+}
+
+export interface SubmitResult {
+	id: number;
+	overall: 'pass' | 'fail' | 'incomplete';
+	certificateNo: string | null;
+	commissionedOn: string;
+	items: CommissioningItem[];
+	/** Where the certificate went; `error` when the mail server refused it (the commissioning stands). */
+	mail: { to: string; sent: boolean; error?: string } | null;
+}
+
+/**
+ * Records one commissioning attempt of a system. Refused when a slot has no module, a
+ * module is not installed, or the system is already commissioned. The checklist is
+ * evaluated and stored whatever the outcome, so a fail or an incomplete attempt shows
+ * what to correct and can be repeated. A pass gives a certificate number, commissions the
+ * system and every module, and starts each module's warranty with a snapshot of the
+ * model's terms; the certificate then goes by e-mail to the site's dealer (or the
+ * assembler's office for its own sites).
+ */
+export async function submitCommissioning(db: Db, actor: Actor, systemId: number, input: CommissioningInput, now = new Date()): Promise<SubmitResult> {
+	if (actor.userId === null) throw new InvalidInputError('A commissioning is signed by a signed-in technician.');
+	const loaded = await loadSystemForCommissioning(db, actor, systemId);
+	const { system, model, site } = loaded;
+	const label = `${system.name} at ${site.name}`;
+	if (system.status === 'commissioned') {
+		const cert = loaded.attempts.find((a) => a.certificateNo);
+		throw new ConflictError(`${label} is already commissioned${cert ? ` (certificate ${cert.certificateNo} of ${cert.commissionedOn})` : ''}; it cannot be commissioned again.`);
+	}
+	if (loaded.emptySlots.length > 0) {
+		const where = loaded.emptySlots.map((s) => `string ${s.stringNo} position ${s.position}`).join(', ');
+		throw new ConflictError(`${label} has no module recorded at ${where}. Record every module of the system before commissioning it.`);
+	}
+	const placed = loaded.strings.flat().map((s) => ({ ...s, module: s.module! }));
+	const notInstalled = placed.filter((s) => s.module.state !== 'installed');
+	if (notInstalled.length > 0) {
+		throw new ConflictError(
+			`Only installed modules can be commissioned: ${notInstalled.map((s) => `${s.module.serial} is “${STATE_LABELS[s.module.state] ?? s.module.state}”`).join('; ')}.`
+		);
+	}
+
+	const measurements = toMeasurements(input);
+	const result = evaluateCommissioning(loaded.evaluationSystem, measurements);
+	const commissionedOn = now.toISOString().slice(0, 10);
+	const passed = result.overall === 'pass';
+	const warrantyEndsOn = warrantyTermEnd(commissionedOn, model.warrantyYears);
+	const terms = {
+		years: model.warrantyYears,
+		ratedCycles: model.ratedCycles,
+		endRetentionPct: model.endRetentionPct,
+		referenceTempC: model.referenceTempC,
+		hotTempC: model.hotTempC,
+		hotRatedCycles: model.hotRatedCycles,
+		usableWh: model.usableWh,
+		ratedAh: model.ratedAh
+	};
+
+	const saved = await writeTx(db, async (tx) => {
+		// A second phone submitting at the same moment finds the system already commissioned here.
+		const [current] = await tx.select({ status: systems.status }).from(systems).where(eq(systems.id, systemId));
+		if (current?.status === 'commissioned') throw new ConflictError(`${label} has just been commissioned by someone else; it cannot be commissioned again.`);
+		const certificateNo = passed ? await nextCertificateNo(tx, commissionedOn.slice(0, 4)) : null;
+		const [row] = await tx
+			.insert(commissionings)
+			.values({
+				systemId,
+				certificateNo,
+				overall: result.overall,
+				technicianUserId: actor.userId!,
+				technicianName: input.technicianName,
+				licenceNumber: input.licenceNumber,
+				// The serial at each position is kept with the voltages measured there.
+				measurements: JSON.stringify({ ...measurements, serials: loaded.strings.map((row) => row.map((x) => x.module?.serial ?? null)) }),
+				items: JSON.stringify(result.items),
+				handoverName: input.handoverName ?? null,
+				commissionedOn,
+				createdAt: now
+			})
+			.returning({ id: commissionings.id });
+		const failed = result.items.filter((i) => i.status !== 'pass').map((i) => ({ key: i.key, status: i.status }));
+		await recordAudit(tx, actor, { action: `commissioning.${result.overall}`, entity: 'system', entityId: systemId, after: { commissioningId: row.id, certificateNo, overall: result.overall, notPassed: failed }, at: now });
+		if (!passed) return { id: row.id, certificateNo };
+
+		await tx.update(systems).set({ status: 'commissioned' }).where(eq(systems.id, systemId));
+		const ids = placed.map((s) => s.module.id);
+		const updated = await tx
+			.update(modules)
+			.set({ state: 'commissioned', commissionedAt: now, warrantyStartsOn: commissionedOn, warrantyEndsOn, warrantyTerms: JSON.stringify(terms), updatedAt: now })
+			.where(and(inArray(modules.id, ids), eq(modules.state, 'installed')))
+			.returning({ id: modules.id });
+		if (updated.length !== ids.length) throw new ConflictError('A module of this system changed state while it was being commissioned. Reload the page and submit again.');
+		for (const s of placed) {
+			await recordEvent(tx, actor, {
+				moduleId: s.module.id,
+				kind: 'commissioned',
+				summary: `Commissioned in ${label}, string ${s.stringNo} position ${s.position} (certificate ${certificateNo}); warranty ${commissionedOn} to ${warrantyEndsOn}`,
+				detail: { certificateNo, commissioningId: row.id, systemId, stringNo: s.stringNo, position: s.position, warrantyStartsOn: commissionedOn, warrantyEndsOn, terms },
+				at: now
+			});
+			await recordAudit(tx, actor, {
+				action: 'module.commission',
+				entity: 'module',
+				entityId: s.module.serial,
+				before: { state: 'installed' },
+				after: { state: 'commissioned', certificateNo, warrantyStartsOn: commissionedOn, warrantyEndsOn, warrantyTerms: terms },
+				at: now
+			});
+		}
+		return { id: row.id, certificateNo };
+	});
+
+	const base = { id: saved.id, overall: result.overall, certificateNo: saved.certificateNo, commissionedOn, items: result.items };
+	if (!saved.certificateNo) return { ...base, mail: null };
+	return { ...base, mail: await mailCertificate(db, actor, saved.id) };
+}
+
+/** Sends the certificate PDF to the site's dealer, or the assembler's office for its own sites. */
+async function mailCertificate(db: Db, actor: Actor, commissioningId: number): Promise<SubmitResult['mail']> {
+	const data = await certificateData(db, actor, commissioningId);
+	const [org] = data.site.dealerOrgId
+		? await db.select({ email: organisations.contactEmail }).from(organisations).where(eq(organisations.id, data.site.dealerOrgId))
+		: await db.select({ email: organisations.contactEmail }).from(organisations).where(eq(organisations.kind, 'assembler')).limit(1);
+	const to = org?.email;
+	if (!to) return { to: '', sent: false, error: 'No contact e-mail address is on record for the site’s dealer; download the PDF and send it yourself.' };
+	const pdf = await certificatePdf(data);
+	try {
+		await sendMail(db, {
+			to,
+			subject: `Commissioning certificate ${data.certificateNo}: ${data.system.name} at ${data.site.name}`,
+			text:
+				`${data.system.name} at ${data.site.name} (${data.site.address}) was commissioned on ${data.commissionedOn} by ${data.technicianName} (licence ${data.licenceNumber}).\n\n` +
+				`${data.modules.length} modules of ${data.system.modelCode}, ${data.system.series} in series × ${data.system.parallel} in parallel. ` +
+				`Warranty from ${data.warranty.startsOn} to ${data.warranty.endsOn}.\n\nThe certificate ${data.certificateNo} is attached as a PDF.\n\n${data.codesNote}\n`,
+			attachments: [{ filename: `${data.certificateNo}.pdf`, content: Buffer.from(pdf), contentType: 'application/pdf' }]
+		});
+		return { to, sent: true };
+	} catch (e) {
+		// The commissioning is stored either way; the page says the mail failed so someone sends the PDF by hand.
+		console.error(`Certificate ${data.certificateNo} could not be mailed to ${to}:`, e);
+		return { to, sent: false, error: `The mail server refused the message (${(e as Error).message}); download the PDF and send it yourself.` };
+	}
+}
+
+/**
+ * Everything printed on a commissioning certificate, for a passing commissioning the
+ * actor may see (same scope as its system). A failed or incomplete attempt has no certificate.
+ */
+export async function certificateData(db: Db, actor: Actor, commissioningId: number): Promise<CertificateData> {
+	const notFound = new NotFoundError(`Commissioning ${commissioningId} is not in the register.`);
+	if (!Number.isInteger(commissioningId) || commissioningId < 1) throw notFound;
+	const [c] = await db.select().from(commissionings).where(eq(commissionings.id, commissioningId));
+	if (!c) throw notFound;
+	let loaded: SystemForCommissioning;
+	try {
+		loaded = await loadSystemForCommissioning(db, actor, c.systemId);
+	} catch (e) {
+		if (e instanceof NotFoundError) throw notFound;
+		throw e;
+	}
+	if (!c.certificateNo) throw new NotFoundError(`Commissioning ${commissioningId} did not pass, so it has no certificate. Correct what failed and submit the checklist again.`);
+	const { system, model, site, voltages } = loaded;
+	// The modules as they were at commissioning (stored with the measurements), not as the slots are today.
+	const stored = JSON.parse(c.measurements) as { serials?: (string | null)[][] };
+	const serials = stored.serials?.length ? stored.serials : loaded.strings.map((row) => row.map((s) => s.module?.serial ?? null));
+	const [mod] = await db
+		.select({ startsOn: modules.warrantyStartsOn, endsOn: modules.warrantyEndsOn })
+		.from(modules)
+		.where(and(inArray(modules.serial, serials.flat().filter((x): x is string => !!x)), eq(modules.warrantyStartsOn, c.commissionedOn)))
+		.limit(1);
+	return {
+		commissioningId: c.id,
+		certificateNo: c.certificateNo,
+		commissionedOn: c.commissionedOn,
+		site: { name: site.name, address: site.address, dealerOrgId: site.dealerOrgId },
+		system: { id: system.id, name: system.name, modelCode: model.code, modelName: model.name, series: system.series, parallel: system.parallel, inverterName: system.inverterName, ...voltages },
+		modules: serials.flatMap((row, s) => row.map((serial, p) => ({ stringNo: s + 1, position: p + 1, serial: serial ?? '-' }))),
+		items: JSON.parse(c.items) as CommissioningItem[],
+		technicianName: c.technicianName,
+		licenceNumber: c.licenceNumber,
+		handoverName: c.handoverName,
+		warranty: { startsOn: mod?.startsOn ?? c.commissionedOn, endsOn: mod?.endsOn ?? warrantyTermEnd(c.commissionedOn, model.warrantyYears), years: model.warrantyYears },
+		cautions: COMMISSIONING_CAUTIONS,
+		codesNote: CODES_TAKE_PRECEDENCE
+	};
+}
+
+// ---------------------------------------------------------------------------
+// The certificate as a PDF
+
+/** Characters the standard PDF fonts (WinAnsi) cannot show, in words they can. */
+const WIN_ANSI_SWAPS: [RegExp, string][] = [
+	[/Ω/g, 'Ohm'],
+	[/≤/g, '<='],
+	[/≥/g, '>='],
+	[/→/g, '->'],
+	[/−/g, '-'],
+	[/≈/g, '~'],
+	[/[\u00a0\u2009\u202f]/g, ' ']
+];
+
+const STATUS_WORDS: Record<CommissioningItem['status'], string> = { pass: 'PASS', fail: 'FAIL', not_measured: 'NOT MEASURED' };
+
+/**
+ * The commissioning certificate on A4, in a standard font (text outside WinAnsi is
+ * rewritten: "MOhm", "<="): number, date, site, system, every module's place, each
+ * checklist item with its reason, sign-off, warranty, and the cautions; every page ends
+ * with the note that local codes take precedence.
+ */
+export async function certificatePdf(data: CertificateData): Promise<Uint8Array> {
+	const doc = await PDFDocument.create();
+	doc.setTitle(`Commissioning certificate ${data.certificateNo}`);
+	doc.setSubject(`${data.system.name} at ${data.site.name}, commissioned ${data.commissionedOn}`);
+	doc.setCreator('Packledger');
+	const regular = await doc.embedFont(StandardFonts.Helvetica);
+	const bold = await doc.embedFont(StandardFonts.HelveticaBold);
+	const charset = new Set(regular.getCharacterSet());
+	const clean = (s: string) => [...WIN_ANSI_SWAPS.reduce((t, [re, to]) => t.replace(re, to), s)].map((ch) => (charset.has(ch.codePointAt(0)!) ? ch : '?')).join('');
+
+	const [W, H] = PageSizes.A4;
+	const LEFT = 50;
+	const WIDTH = W - 2 * LEFT;
+	const TOP = H - 50;
+	const BOTTOM = 70;
+	const ink = rgb(0.05, 0.17, 0.24);
+	const soft = rgb(0.21, 0.33, 0.42);
+	let page: PDFPage = doc.addPage(PageSizes.A4);
+	let y = TOP;
+
+	const wrap = (text: string, font: PDFFont, size: number, width: number): string[] => {
+		const lines: string[] = [];
+		for (const para of clean(text).split('\n')) {
+			let line = '';
+			for (const word of para.split(/\s+/).filter(Boolean)) {
+				const next = line ? `${line} ${word}` : word;
+				if (font.widthOfTextAtSize(next, size) <= width) line = next;
+				else {
+					if (line) lines.push(line);
+					line = word;
+					while (font.widthOfTextAtSize(line, size) > width && line.length > 1) {
+						let cut = line.length - 1;
+						while (cut > 1 && font.widthOfTextAtSize(line.slice(0, cut), size) > width) cut--;
+						lines.push(line.slice(0, cut));
+						line = line.slice(cut);
+					}
+				}
+			}
+			lines.push(line);
+		}
+		return lines;
+	};
+	const ensure = (h: number) => {
+		if (y - h < BOTTOM) {
+			page = doc.addPage(PageSizes.A4);
+			y = TOP;
+		}
+	};
+	const write = (text: string, o: { size?: number; font?: PDFFont; x?: number; width?: number; color?: ReturnType<typeof rgb> } = {}) => {
+		const size = o.size ?? 10;
+		const x = LEFT + (o.x ?? 0);
+		for (const line of wrap(text, o.font ?? regular, size, o.width ?? WIDTH - (o.x ?? 0))) {
+			ensure(size * 1.4);
+			page.drawText(line, { x, y: y - size, size, font: o.font ?? regular, color: o.color ?? ink });
+			y -= size * 1.4;
+		}
+	};
+	const heading = (text: string) => {
+		y -= 10;
+		ensure(40);
+		write(text, { size: 13, font: bold });
+		page.drawLine({ start: { x: LEFT, y: y + 2 }, end: { x: LEFT + WIDTH, y: y + 2 }, thickness: 0.75, color: soft });
+		y -= 6;
+	};
+	/** A label and its value side by side; the value wraps in its own column. */
+	const field = (label: string, value: string) => {
+		ensure(14);
+		const top = y;
+		write(label, { font: bold, width: 140 });
+		const afterLabel = y;
+		y = top;
+		write(value, { x: 150 });
+		y = Math.min(y, afterLabel);
+	};
+
+	const sys = data.system;
+	write('Commissioning certificate', { size: 22, font: bold });
+	y -= 4;
+	write(`Certificate ${data.certificateNo}`, { size: 14, font: bold });
+	write(`Commissioned on ${data.commissionedOn}`, { size: 11, color: soft });
+
+	heading('Site');
+	field('Site', data.site.name);
+	field('Address', data.site.address);
+
+	heading('System');
+	field('System', sys.name);
+	field('Module model', `${sys.modelCode} (${sys.modelName})`);
+	field('Arrangement', `${sys.series} in series x ${sys.parallel} in parallel (${sys.series * sys.parallel} modules)`);
+	field('String voltage', `${sys.minV} V minimum, ${sys.nominalV} V nominal, ${sys.maxV} V maximum`);
+	if (sys.inverterName) field('Inverter', sys.inverterName);
+
+	heading('Modules');
+	for (const m of data.modules) field(`String ${m.stringNo}, position ${m.position}`, m.serial);
+
+	heading('Checklist');
+	for (const item of data.items) {
+		ensure(30);
+		write(`${STATUS_WORDS[item.status]}  ${item.label}`, { font: bold });
+		write(item.reason, { x: 12, size: 9, color: soft });
+		y -= 3;
+	}
+
+	heading('Sign-off');
+	field('Technician', data.technicianName);
+	field('Licence number', data.licenceNumber);
+	field('Handed over to', data.handoverName ?? 'not recorded');
+
+	heading('Warranty');
+	field('Starts', data.warranty.startsOn);
+	field('Ends', data.warranty.endsOn);
+	write(`Each module listed above is warranted for ${data.warranty.years} years from commissioning, or its rated cycles, whichever comes first, on the terms recorded at commissioning.`, { size: 9, color: soft });
+
+	heading('Cautions');
+	for (const c of data.cautions) {
+		ensure(26);
+		write(c.title, { font: bold, size: 10 });
+		write(c.text, { x: 12, size: 9 });
+	}
+
+	const pages = doc.getPages();
+	pages.forEach((p, i) => {
+		const note = wrap(data.codesNote, bold, 8, WIDTH);
+		note.forEach((line, j) => p.drawText(line, { x: LEFT, y: 40 - j * 10, size: 8, font: bold, color: ink }));
+		p.drawText(clean(`${data.certificateNo} · page ${i + 1} of ${pages.length}`), { x: LEFT, y: 40 - note.length * 10 - 2, size: 8, font: regular, color: soft });
+	});
+	return doc.save({ useObjectStreams: false });
+}

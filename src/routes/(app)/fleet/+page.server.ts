@@ -1,0 +1,14 @@
+import { requireUser } from '$lib/server/auth/guards';
+import { getDb } from '$lib/server/db';
+import { fleetFilterOptions, getColumnPrefs } from '$lib/server/services/fleet';
+import { DEFAULT_FLEET_COLUMNS } from '$lib/schemas/fleet';
+import type { PageServerLoad } from './$types';
+
+/** Filter choices and saved columns only: the rows are fetched by the page from /api/modules as the view changes. */
+export const load: PageServerLoad = async (event) => {
+	const actor = requireUser(event);
+	const db = await getDb();
+	const options = await fleetFilterOptions(db, actor);
+	const saved = actor.userId === null ? null : await getColumnPrefs(db, actor.userId);
+	return { ...options, columns: saved ?? DEFAULT_FLEET_COLUMNS };
+};

@@ -1,0 +1,44 @@
+import { fail } from '@sveltejs/kit';
+import { requireRole } from '$lib/server/auth/guards';
+import { hasRole } from '$lib/roles';
+import { getDb } from '$lib/server/db';
+import { placeModuleSchema, removeModuleSchema } from '$lib/schemas/site';
+import { parseForm } from '$lib/server/validation';
+import { errorFrom, failFrom } from '$lib/server/http';
+import { baseUrl } from '$lib/server/base-url';
+import { getSystem, placeModule, removeModule } from '$lib/server/services/systems';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async (event) => {
+	const actor = requireRole(event, 'field_tech', 'dealer', 'admin', 'warranty');
+	try {
+		const view = await getSystem(await getDb(), actor, Number(event.params.id));
+		return { ...view, canChange: hasRole(actor.role, ['field_tech', 'admin']), created: event.url.searchParams.has('created') };
+	} catch (e) {
+		errorFrom(e);
+	}
+};
+
+export const actions: Actions = {
+	place: async (event) => {
+		const actor = requireRole(event, 'field_tech', 'admin');
+		const parsed = await parseForm(placeModuleSchema, event.request);
+		if (!parsed.ok) return fail(400, { action: 'place', message: parsed.issues[0]?.message ?? 'Scan a module label.', issues: parsed.issues });
+		try {
+			const placed = await placeModule(await getDb(), actor, Number(event.params.id), parsed.data.slot, parsed.data.scan, baseUrl(event.url));
+			return { action: 'place', placed };
+		} catch (e) {
+			return failFrom(e, { action: 'place', scan: parsed.data.scan });
+		}
+	},
+	remove: async (event) => {
+		const actor = requireRole(event, 'field_tech', 'admin');
+		const parsed = await parseForm(removeModuleSchema, event.request);
+		if (!parsed.ok) return fail(400, { action: 'remove', message: parsed.issues[0]?.message ?? 'Say which module to take out.', issues: parsed.issues });
+		try {
+			return { action: 'remove', removed: await removeModule(await getDb(), actor, Number(event.params.id), parsed.data.serial) };
+		} catch (e) {
+			return failFrom(e, { action: 'remove' });
+		}
+	}
+};

@@ -1,0 +1,19 @@
+import { json } from '@sveltejs/kit';
+import { requireUser } from '$lib/server/auth/guards';
+import { getDb } from '$lib/server/db';
+import { listModules } from '$lib/server/services/fleet';
+import { fleetQueryProblem, parseFleetQuery } from '$lib/schemas/fleet';
+import { jsonFrom } from '$lib/server/http';
+import type { RequestHandler } from './$types';
+
+/** One page of the fleet table: `?page&pageSize&sort&dir` and filters; a dealer's staff see their own units only. */
+export const GET: RequestHandler = async (event) => {
+	const actor = requireUser(event);
+	const query = parseFleetQuery(event.url.searchParams);
+	if (!query.success) return json(fleetQueryProblem(query.error), { status: 400 });
+	try {
+		return json(await listModules(await getDb(), actor, query.data));
+	} catch (e) {
+		return jsonFrom(e);
+	}
+};

@@ -1,0 +1,23 @@
+import { json } from '@sveltejs/kit';
+import { requireUser } from '$lib/server/auth/guards';
+import { getDb } from '$lib/server/db';
+import { exportModules } from '$lib/server/services/fleet';
+import { fleetQueryProblem, parseFleetQuery } from '$lib/schemas/fleet';
+import { jsonFrom } from '$lib/server/http';
+import type { RequestHandler } from './$types';
+
+/** Every module of the view (same filters, scope and order as the table) as a CSV download. */
+export const GET: RequestHandler = async (event) => {
+	const actor = requireUser(event);
+	const query = parseFleetQuery(event.url.searchParams);
+	if (!query.success) return json(fleetQueryProblem(query.error), { status: 400 });
+	try {
+		const csv = await exportModules(await getDb(), actor, query.data);
+		const today = new Date().toISOString().slice(0, 10);
+		return new Response(csv, {
+			headers: { 'content-type': 'text/csv; charset=utf-8', 'content-disposition': `attachment; filename="packledger-fleet-${today}.csv"`, 'cache-control': 'private, no-store' }
+		});
+	} catch (e) {
+		return jsonFrom(e);
+	}
+};

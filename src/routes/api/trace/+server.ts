@@ -1,0 +1,16 @@
+import { json } from '@sveltejs/kit';
+import { requireRole } from '$lib/server/auth/guards';
+import { getDb } from '$lib/server/db';
+import { traceQuerySchema } from '$lib/schemas/trace';
+import { toIssues } from '$lib/server/validation';
+import { traceModules } from '$lib/server/services/trace';
+import type { RequestHandler } from './$types';
+
+/** Affected modules of a cell lot / model / build range / import, with counts per dealer. */
+export const GET: RequestHandler = async (event) => {
+	requireRole(event, 'admin', 'workshop', 'warranty');
+	const parsed = traceQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
+	if (!parsed.success) return json({ message: 'Give a cell lot, model, build date range or import.', issues: toIssues(parsed.error) }, { status: 400 });
+	const r = await traceModules(await getDb(), parsed.data);
+	return json({ total: r.total, truncated: r.truncated, byDealer: r.byDealer, items: r.items.map(({ id: _id, dealerId: _d, ...rest }) => rest) });
+};
