@@ -49,7 +49,7 @@ const day = z
 	.string()
 	.regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date like 2026-03-31.')
 	.refine((s) => !Number.isNaN(Date.parse(`${s}T00:00:00Z`)) && new Date(`${s}T00:00:00Z`).toISOString().startsWith(s), 'This date does not exist; check the month and day.');
-const id = (what: string) => z.coerce.number({ message: `Choose ${what} from the list.` }).int(`Choose ${what} from the list.`).positive(`Choose ${what} from the list.`);
+const id = (message: string) => z.coerce.number({ message }).int(message).positive(message);
 
 export const fleetQuerySchema = z
 	.object({
@@ -64,11 +64,11 @@ export const fleetQuerySchema = z
 		dir: z.enum(['asc', 'desc'], { message: 'The direction is asc or desc.' }).default('desc'),
 		state: z.enum(FLEET_STATES as [ModuleState, ...ModuleState[]], { message: `The state is one of: ${FLEET_STATES.join(', ')}.` }).optional(),
 		model: z.string().trim().min(1).max(40, 'A model code has at most 40 characters.').optional(),
-		dealer: id('a dealer').optional(),
+		dealer: id('Choose a dealer from the list.').optional(),
 		builtFrom: day.optional(),
 		builtTo: day.optional(),
 		lot: z.string().trim().min(1).max(60, 'A cell lot code has at most 60 characters.').optional(),
-		importId: id('an import').optional(),
+		importId: id('An import is known by its number, e.g. 12 (see Test imports).').optional(),
 		q: z.string().trim().max(40, 'Search with at most 40 characters of a serial.').optional()
 	})
 	.refine((v) => !v.builtFrom || !v.builtTo || v.builtFrom <= v.builtTo, { message: 'The “built to” date is before the “built from” date.', path: ['builtTo'] });

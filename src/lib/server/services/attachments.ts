@@ -1,7 +1,7 @@
 import { createHash, randomUUID } from 'node:crypto';
 import { and, asc, eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { attachments, commissionings, sites, systems } from '$lib/server/db/schema';
+import { attachments, commissionings, sites, systems, claims } from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { InvalidInputError, NotFoundError } from '$lib/server/errors';
 import { deleteObject, getObject, putObject } from '$lib/server/storage';
@@ -10,7 +10,7 @@ import { recordAudit } from './audit';
 /** Largest photo accepted: 10 MB, enough for a full-resolution phone photo. */
 export const PHOTO_MAX_BYTES = 10 * 1024 * 1024;
 
-export type AttachmentOwnerKind = 'system' | 'commissioning';
+export type AttachmentOwnerKind = 'system' | 'commissioning' | 'claim';
 export interface AttachmentOwner {
 	ownerKind: AttachmentOwnerKind;
 	ownerId: number;
@@ -73,6 +73,10 @@ async function ownerSite(db: Db, owner: AttachmentOwner): Promise<{ systemId: nu
 		const [c] = await db.select({ systemId: commissionings.systemId }).from(commissionings).where(eq(commissionings.id, owner.ownerId));
 		if (!c) throw new NotFoundError();
 		systemId = c.systemId;
+	} else if (owner.ownerKind === 'claim') {
+		const [c] = await db.select({ systemId: claims.systemId }).from(claims).where(eq(claims.id, owner.ownerId));
+		if (!c) throw new NotFoundError();
+		systemId = c.systemId;
 	} else if (owner.ownerKind !== 'system') {
 		throw new NotFoundError();
 	}
@@ -83,7 +87,7 @@ async function ownerSite(db: Db, owner: AttachmentOwner): Promise<{ systemId: nu
 
 /** Throws NotFound unless the actor may see the owner: its site's dealer, or the assembler's staff. */
 async function assertOwnerVisible(db: Db, actor: Actor, owner: AttachmentOwner): Promise<void> {
-	const what = owner.ownerKind === 'commissioning' ? 'Commissioning' : 'System';
+	const what = owner.ownerKind === 'commissioning' ? 'Commissioning' : owner.ownerKind === 'claim' ? 'Claim' : 'System';
 	const notFound = () => new NotFoundError(`${what} ${owner.ownerId} is not in the register.`);
 	let site;
 	try {

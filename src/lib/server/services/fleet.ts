@@ -18,10 +18,12 @@ const DAY_MS = 86_400_000;
  * One WHERE condition in up to three forms: `plain` lets SQLite use the column's index
  * (the count, the export); `hinted` switches that index off with a unary `+` (SQLite's
  * documented way to steer the planner) so a walk down the sort's index is kept; `gather`,
- * when set, is a form that collects matches faster than `plain`. `on` names the sort
- * whose column the condition tests, if any.
+ * when set, is a form that collects matches faster than `plain` when it is the only
+ * condition. `on` names the sort whose column the condition tests, if any; `bunched`
+ * marks matches that sit together in time (a cell lot, an import), where walking an
+ * index of dates in order finds nothing for long stretches.
  */
-type Condition = { on: FleetSort | null; plain: SQL; hinted: SQL; gather?: SQL };
+type Condition = { on: FleetSort | null; plain: SQL; hinted: SQL; gather?: SQL; bunched?: boolean };
 
 function condition(on: FleetSort | null, make: (col: (c: AnySQLiteColumn) => SQL) => SQL): Condition {
 	return { on, plain: make((c) => sql`${c}`), hinted: make((c) => sql`+${c}`) };
@@ -53,11 +55,11 @@ function conditions(query: FleetQuery, scope: number | null): Condition[] {
 	// IN (subquery) starts from the small side's index; a correlated EXISTS visits every module (~180 ms).
 	if (query.lot) {
 		const ids = sql`(SELECT ${moduleCellLots.moduleId} FROM ${moduleCellLots} WHERE ${moduleCellLots.lotCode} = ${query.lot})`;
-		out.push(condition(null, (c) => sql`${c(modules.id)} IN ${ids}`));
+		out.push({ ...condition(null, (c) => sql`${c(modules.id)} IN ${ids}`), bunched: true });
 	}
 	if (query.importId !== undefined) {
 		const ids = sql`(SELECT ${factoryTests.moduleId} FROM ${factoryTests} WHERE ${factoryTests.importId} = ${query.importId})`;
-		out.push(condition(null, (c) => sql`${c(modules.id)} IN ${ids}`));
+		out.push({ ...condition(null, (c) => sql`${c(modules.id)} IN ${ids}`), bunched: true });
 	}
 	const search = serialSearch(query.q ?? '');
 	if (search?.kind === 'prefix') {
@@ -71,37 +73,63 @@ function conditions(query: FleetQuery, scope: number | null): Condition[] {
 	return out;
 }
 
-/** `CASE col WHEN v0 THEN 0 WHEN v1 THEN 1 … ELSE missing END`: sorts by a short list's order. */
-function rank(col: AnySQLiteColumn, values: readonly (string | number)[], missing: number): SQL {
-	return sql`CASE ${col} ${sql.join(values.map((v, i) => sql`WHEN ${v} THEN ${i}`), sql` `)} ELSE ${missing} END`;
-}
-
 /** Sorts backed by an index of their own. */
 const SORT_COLUMNS: Partial<Record<FleetSort, AnySQLiteColumn>> = { serial: modules.serial, builtAt: modules.builtAt, testedAt: modules.testedAt, shippedAt: modules.shippedAt };
 
 /**
+ * Sorts by a short list: the column and each value's place. States go in the order of a
+ * module's life, models by code, dealers by name; "no dealer" comes last both ways.
+ */
+async function ranking(db: Db, sort: FleetSort): Promise<{ col: AnySQLiteColumn; keys: (string | number)[] } | null> {
+	if (sort === 'state') return { col: modules.state, keys: FLEET_STATES };
+	if (sort === 'model') return { col: modules.modelId, keys: (await db.select({ id: moduleModels.id }).from(moduleModels).orderBy(asc(moduleModels.code))).map((m) => m.id) };
+	if (sort === 'dealer') return { col: modules.dealerOrgId, keys: (await db.select({ id: organisations.id }).from(organisations).orderBy(asc(organisations.name), asc(organisations.id))).map((o) => o.id) };
+	return null;
+}
+
+/**
  * ORDER BY for a sort, always ending in the id so equal values page stably. Dates put
- * "not yet" last both ways (SQLite still walks the index for ASC NULLS LAST). States sort
- * in the order of a module's life, models by code, dealers by name (none last). The
- * returned function's `hint` puts a unary `+` on the sort column, so SQLite sorts the
- * matches instead of walking the column's index.
+ * "not yet" last both ways (SQLite still walks the index for ASC NULLS LAST). `hint` puts
+ * a unary `+` on the sort column, so SQLite sorts the matches instead of walking its index.
  */
 async function sortOrder(db: Db, sort: FleetSort, dir: 'asc' | 'desc'): Promise<(hint: boolean) => SQL[]> {
 	const d = dir === 'asc' ? sql`ASC` : sql`DESC`;
 	const id = sql`${modules.id} ${d}`;
-	const by = (first: SQL) => () => [first, id];
-	if (sort === 'state') return by(sql`${rank(modules.state, FLEET_STATES, FLEET_STATES.length)} ${d}`);
-	if (sort === 'model') {
-		const models = await db.select({ id: moduleModels.id }).from(moduleModels).orderBy(asc(moduleModels.code));
-		return by(sql`${rank(modules.modelId, models.map((m) => m.id), models.length)} ${d}`);
-	}
-	if (sort === 'dealer') {
-		const orgs = await db.select({ id: organisations.id }).from(organisations).orderBy(asc(organisations.name), asc(organisations.id));
-		return by(sql`${rank(modules.dealerOrgId, orgs.map((o) => o.id), dir === 'asc' ? orgs.length : -1)} ${d}`);
+	const ranked = await ranking(db, sort);
+	if (ranked) {
+		const missing = dir === 'asc' ? ranked.keys.length : -1;
+		const place = sql`CASE ${ranked.col} ${sql.join(ranked.keys.map((k, i) => sql`WHEN ${k} THEN ${i}`), sql` `)} ELSE ${missing} END`;
+		return () => [sql`${place} ${d}`, id];
 	}
 	const col = SORT_COLUMNS[sort]!;
 	const nulls = sort !== 'serial' && dir === 'asc' ? sql` NULLS LAST` : sql``;
 	return (hint) => [hint ? sql`+${col} ${d}${nulls}` : sql`${col} ${d}${nulls}`, id];
+}
+
+/**
+ * A page sorted by a short list, without sorting the matches: count them per value
+ * (GROUP BY on the value's index), put the groups in order, and read the page from the
+ * one or two groups it falls in, each in id order along the value's index.
+ */
+async function groupedPage(db: Db, where: SQL | undefined, ranked: { col: AnySQLiteColumn; keys: (string | number)[] }, query: FleetQuery) {
+	const { page, pageSize, dir } = query;
+	const groups = await db.select({ key: sql<string | number | null>`${ranked.col}`, n: count() }).from(modules).where(where).groupBy(ranked.col);
+	const place = (k: string | number | null) => (k === null ? Infinity : ranked.keys.indexOf(k));
+	groups.sort((a, b) => (place(a.key) === Infinity ? 1 : place(b.key) === Infinity ? -1 : (place(a.key) - place(b.key)) * (dir === 'asc' ? 1 : -1)));
+	const ids: number[] = [];
+	let skip = (page - 1) * pageSize;
+	for (const g of groups) {
+		if (ids.length === pageSize) break;
+		if (skip >= g.n) {
+			skip -= g.n;
+			continue;
+		}
+		const inGroup = g.key === null ? sql`${ranked.col} IS NULL` : sql`${ranked.col} = ${g.key}`;
+		const rows = await db.select({ id: modules.id }).from(modules).where(and(where, inGroup)).orderBy(dir === 'asc' ? asc(modules.id) : sql`${modules.id} DESC`).limit(pageSize - ids.length).offset(skip);
+		ids.push(...rows.map((r) => r.id));
+		skip = 0;
+	}
+	return { total: groups.reduce((sum, g) => sum + g.n, 0), ids };
 }
 
 const ITEM = {
@@ -139,8 +167,9 @@ export type FleetItem = ReturnType<typeof toItem>;
  * One page of the register as the actor may see it: filtered, sorted and paged in SQLite.
  * A dealer's staff see only their own organisation's modules, whatever filter is sent.
  *
- * A COUNT, then the page's ids chosen on `modules` alone, then names joined for those ids.
- * When the sort has an index and filters are set, the count decides how to find the page:
+ * A count, then the page's ids chosen on `modules` alone, then names joined for those ids.
+ * Sorted by state, model or dealer, see `groupedPage`. Sorted by a column with an index
+ * while filters are set, the count decides how to find the page:
  * if matches are common, walk the sort's index and test each row, bounded to the first
  * `budget` index entries (eight times the rows an even spread needs); if that walk comes
  * back short (matches bunched late, e.g. unbuilt modules under "built"), or matches are
@@ -149,41 +178,44 @@ export type FleetItem = ReturnType<typeof toItem>;
  */
 export async function listModules(db: Db, actor: Actor, query: FleetQuery) {
 	const conds = conditions(query, dealerScopeOf(actor));
+	const { page, pageSize, sort, dir } = query;
+	const ranked = await ranking(db, sort);
+	const { total, ids } = ranked ? await groupedPage(db, and(...conds.map((c) => c.plain)), ranked, query) : await indexedPage(db, conds, query);
+	const rows = ids.length ? await selectItems(db).where(inArray(modules.id, ids)) : [];
+	const byId = new Map(rows.map((r) => [r.id, r]));
+	return { items: ids.map((id) => toItem(byId.get(id)!)), total, page, pageSize };
+}
+
+/** A page sorted by a column with an index (serial or a date): see `listModules`. */
+async function indexedPage(db: Db, conds: Condition[], query: FleetQuery) {
+	const { page, pageSize, sort, dir } = query;
 	const [{ total, size }] = await db
 		.select({ total: count(), size: sql<number | null>`(SELECT max(m2.id) FROM modules m2)` })
 		.from(modules)
 		.where(and(...conds.map((c) => c.plain)));
-	const { page, pageSize, sort, dir } = query;
 	const offset = (page - 1) * pageSize;
-	if (total === 0 || offset >= total) return { items: [] as FleetItem[], total, page, pageSize };
+	if (total === 0 || offset >= total) return { total, ids: [] };
 
 	const order = await sortOrder(db, sort, dir);
-	const expected = Math.min(pageSize, total - offset);
 	const pageIds = async (where: SQL | undefined, hint: boolean) =>
 		(await db.select({ id: modules.id }).from(modules).where(where).orderBy(...order(hint)).limit(pageSize).offset(offset)).map((r) => r.id);
-
-	const sortCol = SORT_COLUMNS[sort];
+	const gathered = and(...conds.map((c) => (conds.length === 1 && c.gather) || c.plain));
+	const sortCol = SORT_COLUMNS[sort]!;
 	const own = conds.filter((c) => c.on === sort);
 	const others = conds.filter((c) => c.on !== sort);
-	let ids: number[] | null = null;
-	if (!sortCol || others.length === 0) {
-		ids = await pageIds(and(...conds.map((c) => c.gather ?? c.plain)), false);
-	} else {
-		const n = Math.max(size ?? total, total);
-		const budget = Math.max(1000, Math.ceil((8 * (offset + pageSize) * n) / total));
-		if (budget * 4 <= n) {
-			const [edge] = await db.select({ v: sql<number | string | null>`${sortCol}` }).from(modules).where(and(...own.map((c) => c.plain))).orderBy(...order(false)).limit(1).offset(budget);
-			if (edge && edge.v !== null) {
-				const bound = dir === 'desc' ? sql`${sortCol} >= ${edge.v}` : sql`${sortCol} <= ${edge.v}`;
-				const walked = await pageIds(and(...own.map((c) => c.plain), ...others.map((c) => c.hinted), bound), false);
-				if (walked.length === expected) ids = walked;
-			}
+	if (others.length === 0) return { total, ids: await pageIds(gathered, false) };
+
+	const n = Math.max(size ?? total, total);
+	const budget = Math.max(1000, Math.ceil((8 * (offset + pageSize) * n) / total));
+	if (budget * 4 <= n && !others.some((c) => c.bunched)) {
+		const [edge] = await db.select({ v: sql<number | string | null>`${sortCol}` }).from(modules).where(and(...own.map((c) => c.plain))).orderBy(...order(false)).limit(1).offset(budget);
+		if (edge && edge.v !== null) {
+			const bound = dir === 'desc' ? sql`${sortCol} >= ${edge.v}` : sql`${sortCol} <= ${edge.v}`;
+			const walked = await pageIds(and(...own.map((c) => c.plain), ...others.map((c) => c.hinted), bound), false);
+			if (walked.length === Math.min(pageSize, total - offset)) return { total, ids: walked };
 		}
-		ids ??= await pageIds(and(...conds.map((c) => c.gather ?? c.plain)), true);
 	}
-	const rows = ids.length ? await selectItems(db).where(inArray(modules.id, ids)) : [];
-	const byId = new Map(rows.map((r) => [r.id, r]));
-	return { items: ids.map((id) => toItem(byId.get(id)!)), total, page, pageSize };
+	return { total, ids: await pageIds(gathered, true) };
 }
 
 const iso = (ms: number | null) => (ms === null ? '' : new Date(ms).toISOString());
@@ -199,7 +231,7 @@ export async function exportModules(db: Db, actor: Actor, query: FleetQuery): Pr
 	const conds = conditions(query, dealerScopeOf(actor));
 	const order = await sortOrder(db, query.sort, query.dir);
 	const x = selectItems(db)
-		.where(and(...conds.map((c) => c.gather ?? c.plain)))
+		.where(and(...conds.map((c) => (conds.length === 1 && c.gather) || c.plain)))
 		.orderBy(...order(false))
 		.limit(EXPORT_CAP)
 		.as('x');

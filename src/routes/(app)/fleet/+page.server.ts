@@ -10,5 +10,7 @@ export const load: PageServerLoad = async (event) => {
 	const db = await getDb();
 	const options = await fleetFilterOptions(db, actor);
 	const saved = actor.userId === null ? null : await getColumnPrefs(db, actor.userId);
-	return { ...options, columns: saved ?? DEFAULT_FLEET_COLUMNS };
+	// A dealer's staff see only their own organisation, so its column starts hidden for them.
+	const defaults = options.dealers ? DEFAULT_FLEET_COLUMNS : DEFAULT_FLEET_COLUMNS.filter((c) => c !== 'dealer');
+	return { ...options, columns: saved ?? defaults };
 };

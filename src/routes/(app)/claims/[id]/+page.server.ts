@@ -6,6 +6,8 @@ import { errorFrom, failFrom } from '$lib/server/http';
 import { baseUrl } from '$lib/server/base-url';
 import { addEvidenceSchema, commentSchema, decideClaimSchema, moveClaimSchema, replacementSchema, returnInspectionSchema } from '$lib/schemas/claim';
 import { getClaim } from '$lib/server/services/claims';
+import { listAttachments, savePhoto } from '$lib/server/services/attachments';
+import { photoSchema } from '$lib/schemas/commissioning';
 import { addEvidence, commentOnClaim, decideClaim, moveClaim, recordReturnInspection, replaceModule } from '$lib/server/services/claim-workflow';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -26,15 +28,30 @@ function failed(form: string, e: unknown) {
 export const load: PageServerLoad = async (event) => {
 	const actor = requireRole(event, ...VIEWERS);
 	try {
-		const detail = await getClaim(await getDb(), actor, claimId(event));
+		const db = await getDb();
+		const detail = await getClaim(db, actor, claimId(event));
+		const photos = await listAttachments(db, actor, { ownerKind: 'claim', ownerId: claimId(event) });
 		const officer = !actor.dealerScoped && (actor.role === 'warranty' || actor.role === 'admin');
-		return { ...detail, officer, canReplace: officer || actor.role === 'field_tech', isFiler: actor.userId === null ? false : detail.claim.filedBy?.id === actor.userId };
+		return { ...detail, photos, officer, canReplace: officer || actor.role === 'field_tech', isFiler: actor.userId === null ? false : detail.claim.filedBy?.id === actor.userId };
 	} catch (e) {
 		errorFrom(e);
 	}
 };
 
 export const actions: Actions = {
+	photo: async (event) => {
+		const actor = requireRole(event, ...VIEWERS);
+		const parsed = await parseForm(photoSchema, event.request);
+		if (!parsed.ok) return fail(400, { form: 'photo', message: parsed.issues[0].message, issues: parsed.issues });
+		const { photo, caption } = parsed.data;
+		try {
+			const file = { name: photo.name, type: photo.type, bytes: new Uint8Array(await photo.arrayBuffer()) };
+			await savePhoto(await getDb(), actor, { ownerKind: 'claim', ownerId: claimId(event) }, file, caption);
+			return { done: 'photo' };
+		} catch (e) {
+			return failed('photo', e);
+		}
+	},
 	move: async (event) => {
 		const actor = requireRole(event, 'warranty', 'admin');
 		const parsed = await parseForm(moveClaimSchema, event.request);
