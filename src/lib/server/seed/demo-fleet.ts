@@ -19,6 +19,8 @@ import { submitCommissioning } from '$lib/server/services/commissioning';
 import { commissioningSchema } from '$lib/schemas/commissioning';
 import { BUILD_CHECKS } from '$lib/schemas/build';
 import { actorForEmail, getModelIdByCode } from './demo-actors';
+import { fileClaim } from '$lib/server/services/claims';
+import { decideClaim, moveClaim, replaceModule } from '$lib/server/services/claim-workflow';
 
 const CHECKS = BUILD_CHECKS.map((c) => c.key);
 const at = (iso: string) => new Date(iso);
@@ -124,5 +126,14 @@ export async function seedDemoFleet(db: Db) {
 	const hut = await createSite(db, tech, { name: 'Mast Hill relay hut', ownerName: 'Coastline Relay Co-op (invented)', ownerContact: 'ops@relay-coop.example', address: 'Mast Hill summit road', application: 'telecom', dealerOrgId: saltmarsh.id }, at('2026-11-20T08:00:00Z'));
 	const hutSys = await createSystem(db, tech, hut, { name: 'Relay battery', modelCode: 'TC-HC-48', series: 1, parallel: 2, ...inverter }, at('2026-11-20T08:10:00Z'));
 	await placeModule(db, tech, hutSys.id, null, r48.serials[4], undefined, at('2026-11-20T09:00:00Z'));
+	// Claims on the 2023 cabin bank: one decided and replaced, one waiting for the officer.
+	const dealer = await actorForEmail(db, 'dealer@saltmarsh.example');
+	const officer = await actorForEmail(db, 'warranty@tidewater.example');
+	const perModuleWh = (efc: number) => String(Math.round(efc * 2300 * 4));
+	const faded = await fileClaim(db, dealer, { serials: [old.serials[0]], fault: 'Bank no longer lasts the night', evidence: { measuredCapacityAh: '33.1', measuredAtC: '22', throughputWh: perModuleWh(3100), avgCellTempC: '27', maxCellTempC: '38', description: 'Since August the cabin runs out of energy before dawn; a capacity test of this module gave 33.1 Ah.' } }, at('2026-09-08T15:20:00Z'));
+	await moveClaim(db, officer, faded.id, { to: 'in_review', comment: 'Logs and capacity test received.' }, at('2026-09-10T08:05:00Z'));
+	await decideClaim(db, officer, faded.id, { decision: 'covered' }, at('2026-09-11T10:40:00Z'));
+	await replaceModule(db, officer, faded.id, old.serials[0], r48.serials[26], undefined, at('2026-09-18T13:00:00Z'));
+	await fileClaim(db, dealer, { serials: [old.serials[2]], fault: 'One module warmer than the others', evidence: { measuredCapacityAh: '44.0', measuredAtC: '21', throughputWh: perModuleWh(2900), avgCellTempC: '26', maxCellTempC: '41', description: 'The owner noticed one module runs a few degrees warmer; its capacity test gave 44.0 Ah.' } }, at('2026-11-24T09:45:00Z'));
 	return { cabinSystemId: cabinSys.id, oldSerials: old.serials };
 }

@@ -1,4 +1,4 @@
-import { and, asc, count, eq, inArray, sql, type SQL } from 'drizzle-orm';
+import { and, asc, count, desc, eq, inArray, sql, type SQL } from 'drizzle-orm';
 import type { AnySQLiteColumn } from 'drizzle-orm/sqlite-core';
 import Papa from 'papaparse';
 import type { Db } from '$lib/server/db';
@@ -20,8 +20,8 @@ const DAY_MS = 86_400_000;
  * documented way to steer the planner) so a walk down the sort's index is kept; `gather`,
  * when set, is a form that collects matches faster than `plain` when it is the only
  * condition. `on` names the sort whose column the condition tests, if any; `bunched`
- * marks matches that sit together in time (a cell lot, an import), where walking an
- * index of dates in order finds nothing for long stretches.
+ * marks matches that sit together in time (a cell lot, an import, a serial's year),
+ * where walking an index of dates in order finds nothing for long stretches.
  */
 type Condition = { on: FleetSort | null; plain: SQL; hinted: SQL; gather?: SQL; bunched?: boolean };
 
@@ -63,7 +63,8 @@ function conditions(query: FleetQuery, scope: number | null): Condition[] {
 	}
 	const search = serialSearch(query.q ?? '');
 	if (search?.kind === 'prefix') {
-		out.push(condition('serial', (c) => sql`${c(modules.serial)} >= ${search.from} AND ${c(modules.serial)} < ${search.to}`));
+		const range = condition('serial', (c) => sql`${c(modules.serial)} >= ${search.from} AND ${c(modules.serial)} < ${search.to}`);
+		out.push({ ...range, bunched: /^PL[0-9A-Z]{1,4}-\d/.test(search.from) });
 	} else if (search?.kind === 'contains') {
 		// No index finds text inside a serial. instr over the serial index alone (no table rows)
 		// counts 200,000 serials in ~12 ms; `gather` collects the matching ids the same way.
@@ -125,7 +126,7 @@ async function groupedPage(db: Db, where: SQL | undefined, ranked: { col: AnySQL
 			continue;
 		}
 		const inGroup = g.key === null ? sql`${ranked.col} IS NULL` : sql`${ranked.col} = ${g.key}`;
-		const rows = await db.select({ id: modules.id }).from(modules).where(and(where, inGroup)).orderBy(dir === 'asc' ? asc(modules.id) : sql`${modules.id} DESC`).limit(pageSize - ids.length).offset(skip);
+		const rows = await db.select({ id: modules.id }).from(modules).where(and(where, inGroup)).orderBy(dir === 'asc' ? asc(modules.id) : desc(modules.id)).limit(pageSize - ids.length).offset(skip);
 		ids.push(...rows.map((r) => r.id));
 		skip = 0;
 	}
@@ -266,12 +267,7 @@ const known = (ids: unknown): FleetColumn[] =>
 /** The columns a person chose to see in the fleet table, or null when they never chose. */
 export async function getColumnPrefs(db: Db, userId: number): Promise<FleetColumn[] | null> {
 	const [row] = await db.select({ value: userPrefs.value }).from(userPrefs).where(and(eq(userPrefs.userId, userId), eq(userPrefs.key, PREFS_KEY)));
-	if (!row) return null;
-	try {
-		return known(JSON.parse(row.value));
-	} catch {
-		return null; // a damaged value means "never chose": the defaults show
-	}
+	return row ? known(JSON.parse(row.value)) : null;
 }
 
 /**
