@@ -1,6 +1,6 @@
 import { and, asc, desc, eq, like, or } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { moduleEvents, moduleModels, modules, organisations, users } from '$lib/server/db/schema';
+import { claimModules, claims, moduleEvents, moduleModels, modules, organisations, sites, systems, users } from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
 import { extractSerialFromScan, parseSerial } from '$lib/domain/serial';
@@ -60,11 +60,22 @@ export async function getModuleRecord(db: Db, actor: Actor, serialText: string) 
 	const [builder] = mod.builtBy ? await db.select({ name: users.name, email: users.email }).from(users).where(eq(users.id, mod.builtBy)) : [];
 	const [dealer] = mod.dealerOrgId ? await db.select({ id: organisations.id, name: organisations.name, email: organisations.contactEmail }).from(organisations).where(eq(organisations.id, mod.dealerOrgId)) : [];
 	const events = await db.select().from(moduleEvents).where(eq(moduleEvents.moduleId, mod.id)).orderBy(desc(moduleEvents.at), desc(moduleEvents.id));
+	const [placement] = mod.systemId
+		? await db.select({ systemId: systems.id, system: systems.name, siteId: sites.id, site: sites.name }).from(systems).innerJoin(sites, eq(systems.siteId, sites.id)).where(eq(systems.id, mod.systemId))
+		: [];
+	const moduleClaims = await db
+		.select({ id: claims.id, reference: claims.reference, state: claims.state, filedAt: claims.filedAt })
+		.from(claimModules)
+		.innerJoin(claims, eq(claimModules.claimId, claims.id))
+		.where(eq(claimModules.moduleId, mod.id))
+		.orderBy(desc(claims.filedAt));
 	return {
 		module: { ...mod, cellLots: mod.cellLots ? (JSON.parse(mod.cellLots) as string[]) : [], buildChecks: mod.buildChecks ? (JSON.parse(mod.buildChecks) as Record<string, boolean>) : {} },
 		model,
 		builder: builder ?? null,
 		dealer: dealer ?? null,
+		placement: placement ?? null,
+		claims: moduleClaims,
 		events: events.map((e) => ({ ...e, detail: e.detail ? JSON.parse(e.detail) : null }))
 	};
 }
