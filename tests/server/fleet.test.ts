@@ -255,11 +255,17 @@ describe('a larger register', () => {
 	let rows: { id: number; serial: string; state: string; modelId: number; dealer: number | null; builtAt: number | null; shippedAt: number | null }[];
 	let dealers: number[];
 	let bigDealer: Actor;
+	let codeOf: Map<number, string>;
+	let nameOf: Map<number, string>;
 
 	beforeAll(async () => {
 		big = await createSeededDb();
-		const models = (await big.select().from(moduleModels)).map((m) => m.id);
-		dealers = (await big.select().from(organisations).where(eq(organisations.kind, 'dealer'))).map((o) => o.id);
+		const modelRows = await big.select().from(moduleModels);
+		const models = modelRows.map((m) => m.id);
+		codeOf = new Map(modelRows.map((m) => [m.id, m.code]));
+		const orgRows = await big.select().from(organisations);
+		nameOf = new Map(orgRows.map((o) => [o.id, o.name]));
+		dealers = orgRows.filter((o) => o.kind === 'dealer').map((o) => o.id);
 		bigDealer = await actorFor(big, 'dealer@ridgeline.example');
 		const states = ['allocated', 'in_stock', 'shipped', 'commissioned'];
 		let seed = 7;
@@ -298,10 +304,22 @@ describe('a larger register', () => {
 			[null, { q: 'PL48', sort: 'builtAt', dir: 'desc', page: 4 }, (r) => r.serial.startsWith('PL48')],
 			[null, { q: '1', sort: 'shippedAt', dir: 'desc' }, (r) => r.serial.includes('1')],
 			[null, { builtFrom: '2025-03-01', state: 'shipped', sort: 'builtAt', dir: 'asc' }, (r) => r.state === 'shipped' && r.builtAt! >= Date.UTC(2025, 2, 1)],
+			[null, { sort: 'state', dir: 'desc', page: 37 }, () => true],
+			[null, { sort: 'model', dir: 'asc', page: 54, pageSize: 100 }, () => true],
+			[null, { sort: 'dealer', dir: 'desc', page: 80 }, () => true],
+			[null, { sort: 'dealer', dir: 'asc', page: 40, state: 'commissioned' }, (r) => r.state === 'commissioned'],
+			[bigDealer, { sort: 'state', dir: 'asc', page: 12 }, (r) => r.dealer === bigDealer.organisationId],
 			[bigDealer, {}, (r) => r.dealer === bigDealer.organisationId],
 			[bigDealer, { sort: 'serial', dir: 'asc', page: 2 }, (r) => r.dealer === bigDealer.organisationId]
 		];
-		const sortKey: Record<string, (r: (typeof rows)[number]) => string | number | null> = { serial: (r) => r.serial, builtAt: (r) => r.builtAt, shippedAt: (r) => r.shippedAt };
+		const sortKey: Record<string, (r: (typeof rows)[number]) => string | number | null> = {
+			serial: (r) => r.serial,
+			builtAt: (r) => r.builtAt,
+			shippedAt: (r) => r.shippedAt,
+			state: (r) => FLEET_STATES.indexOf(r.state as (typeof FLEET_STATES)[number]),
+			model: (r) => codeOf.get(r.modelId)!,
+			dealer: (r) => (r.dealer === null ? null : nameOf.get(r.dealer)!)
+		};
 		for (const [actor, raw, match] of cases) {
 			const query = fleetQuerySchema.parse(raw);
 			const sign = query.dir === 'asc' ? 1 : -1;

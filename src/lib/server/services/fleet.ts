@@ -1,5 +1,5 @@
 import { and, asc, count, desc, eq, inArray, sql, type SQL } from 'drizzle-orm';
-import type { AnySQLiteColumn } from 'drizzle-orm/sqlite-core';
+import { alias, type AnySQLiteColumn } from 'drizzle-orm/sqlite-core';
 import Papa from 'papaparse';
 import type { Db } from '$lib/server/db';
 import { moduleCellLots, moduleModels, modules, organisations, factoryTests, sites, systems, userPrefs } from '$lib/server/db/schema';
@@ -13,24 +13,32 @@ import { FLEET_COLUMN_IDS, FLEET_STATES, type FleetColumn, type FleetQuery, type
 export const EXPORT_CAP = 200_000;
 const PREFS_KEY = 'fleet.columns';
 const DAY_MS = 86_400_000;
+/** Up to this many matches are read with their sort value and sorted in JavaScript (~1-5 µs a row). */
+const FEW = 1000;
 
 /**
- * One WHERE condition in up to three forms: `plain` lets SQLite use the column's index
- * (the count, the export); `hinted` switches that index off with a unary `+` (SQLite's
- * documented way to steer the planner) so a walk down the sort's index is kept; `gather`,
- * when set, is a form that collects matches faster than `plain` when it is the only
- * condition. `on` names the sort whose column the condition tests, if any; `bunched`
- * marks matches that sit together in time (a cell lot, an import, a serial's year),
- * where walking an index of dates in order finds nothing for long stretches.
+ * One filter. `test(t, hint)` writes it against a copy of `modules`; `hint` puts a unary
+ * `+` on the column (SQLite's documented way to keep a term from choosing the index).
+ * `on`: the sort whose column it tests; `col`: the column; `rank`: the order in which to
+ * prefer it as the index a count starts from (small ranges first, the dealer scope last);
+ * `list`: ids from another table (cell lot, import), small and read through that table's
+ * index; `bunched`: matches sit together in time, so walking a date index finds them late.
  */
-type Condition = { on: FleetSort | null; plain: SQL; hinted: SQL; gather?: SQL; bunched?: boolean };
+type Columns = Record<'id' | 'serial' | 'state' | 'modelId' | 'dealerOrgId' | 'builtAt', AnySQLiteColumn>;
+type Condition = { on: FleetSort | null; col: AnySQLiteColumn; rank: number; test: (t: Columns, hint: boolean) => SQL; list?: boolean; bunched?: boolean; scope?: boolean };
 
-function condition(on: FleetSort | null, make: (col: (c: AnySQLiteColumn) => SQL) => SQL): Condition {
-	return { on, plain: make((c) => sql`${c}`), hinted: make((c) => sql`+${c}`) };
-}
+const x = alias(modules, 'x');
+const col = (c: AnySQLiteColumn, hint: boolean) => (hint ? sql`+${c}` : sql`${c}`);
+const plain = (c: Condition) => c.test(modules, false);
+const hinted = (c: Condition) => c.test(modules, true);
+/**
+ * The condition as a set of ids read from its own covering index (`+id IN (SELECT x.id …)`):
+ * testing a row against it reads no table row, which is what makes filters cheap to combine.
+ */
+const asSet = (c: Condition) => (c.list ? hinted(c) : sql`+${modules.id} IN (SELECT ${x.id} FROM ${modules} AS ${x} WHERE ${c.test(x, false)})`);
 
 /** Serials are PL…; text starting so is read as the start of a serial, anything else as text inside one. */
-export function serialSearch(text: string): { kind: 'prefix'; from: string; to: string } | { kind: 'contains'; text: string } | null {
+function serialSearch(text: string): { kind: 'prefix'; from: string; to: string } | { kind: 'contains'; text: string } | null {
 	const q = text.replace(/\s+/g, '').toUpperCase();
 	if (q === '') return null;
 	if (/^PL[A-Z0-9-]*$/.test(q)) return { kind: 'prefix', from: q, to: q.slice(0, -1) + String.fromCharCode(q.charCodeAt(q.length - 1) + 1) };
@@ -40,38 +48,58 @@ export function serialSearch(text: string): { kind: 'prefix'; from: string; to: 
 /** Days are UTC days: `builtTo` 2026-03-31 includes everything built before 2026-04-01T00:00Z. */
 const dayStart = (d: string) => Date.parse(`${d}T00:00:00Z`);
 
-/** The filters of a view as conditions; the dealer scope is always the first and no filter lifts it. */
-function conditions(query: FleetQuery, scope: number | null): Condition[] {
+/**
+ * The filters of a view. The dealer scope is always one of them and no filter lifts it:
+ * a `dealer` filter naming another organisation answers null (nothing to show).
+ */
+function conditions(query: FleetQuery, scope: number | null): Condition[] | null {
 	const out: Condition[] = [];
-	if (scope !== null) out.push(condition(null, (c) => sql`${c(modules.dealerOrgId)} = ${scope}`));
-	if (query.dealer !== undefined) out.push(condition(null, (c) => sql`${c(modules.dealerOrgId)} = ${query.dealer}`));
-	if (query.state) out.push(condition(null, (c) => sql`${c(modules.state)} = ${query.state}`));
+	if (scope !== null) out.push({ on: null, col: modules.dealerOrgId, rank: 5, scope: true, test: (t, h) => sql`${col(t.dealerOrgId, h)} = ${scope}` });
+	if (query.dealer !== undefined && scope !== null && query.dealer !== scope) return null;
+	if (query.dealer !== undefined && scope === null) out.push({ on: null, col: modules.dealerOrgId, rank: 4, test: (t, h) => sql`${col(t.dealerOrgId, h)} = ${query.dealer}` });
+	if (query.state) out.push({ on: null, col: modules.state, rank: 2, test: (t, h) => sql`${col(t.state, h)} = ${query.state}` });
 	if (query.model) {
 		const id = sql`(SELECT ${moduleModels.id} FROM ${moduleModels} WHERE ${moduleModels.code} = ${query.model})`;
-		out.push(condition(null, (c) => sql`${c(modules.modelId)} = ${id}`));
+		out.push({ on: null, col: modules.modelId, rank: 3, test: (t, h) => sql`${col(t.modelId, h)} = ${id}` });
 	}
-	if (query.builtFrom) out.push(condition('builtAt', (c) => sql`${c(modules.builtAt)} >= ${dayStart(query.builtFrom!)}`));
-	if (query.builtTo) out.push(condition('builtAt', (c) => sql`${c(modules.builtAt)} < ${dayStart(query.builtTo!) + DAY_MS}`));
-	// IN (subquery) starts from the small side's index; a correlated EXISTS visits every module (~180 ms).
+	const from = query.builtFrom ? dayStart(query.builtFrom) : null;
+	const to = query.builtTo ? dayStart(query.builtTo) + DAY_MS : null;
+	if (from !== null || to !== null) {
+		const range = (t: Columns, h: boolean) => and(from === null ? undefined : sql`${col(t.builtAt, h)} >= ${from}`, to === null ? undefined : sql`${col(t.builtAt, h)} < ${to}`)!;
+		out.push({ on: 'builtAt', col: modules.builtAt, rank: 1, test: range });
+	}
+	// IN (subquery) starts from the lot's or import's index; a correlated EXISTS visits every module (~180 ms).
 	if (query.lot) {
 		const ids = sql`(SELECT ${moduleCellLots.moduleId} FROM ${moduleCellLots} WHERE ${moduleCellLots.lotCode} = ${query.lot})`;
-		out.push({ ...condition(null, (c) => sql`${c(modules.id)} IN ${ids}`), bunched: true });
+		out.push({ on: null, col: modules.id, rank: 0, list: true, bunched: true, test: (t, h) => sql`${col(t.id, h)} IN ${ids}` });
 	}
 	if (query.importId !== undefined) {
 		const ids = sql`(SELECT ${factoryTests.moduleId} FROM ${factoryTests} WHERE ${factoryTests.importId} = ${query.importId})`;
-		out.push({ ...condition(null, (c) => sql`${c(modules.id)} IN ${ids}`), bunched: true });
+		out.push({ on: null, col: modules.id, rank: 0, list: true, bunched: true, test: (t, h) => sql`${col(t.id, h)} IN ${ids}` });
 	}
 	const search = serialSearch(query.q ?? '');
 	if (search?.kind === 'prefix') {
-		const range = condition('serial', (c) => sql`${c(modules.serial)} >= ${search.from} AND ${c(modules.serial)} < ${search.to}`);
-		out.push({ ...range, bunched: /^PL[0-9A-Z]{1,4}-\d/.test(search.from) });
+		// A range on the unique serial index. Past the variant, a prefix names a build year.
+		const test = (t: Columns, h: boolean) => sql`${col(t.serial, h)} >= ${search.from} AND ${col(t.serial, h)} < ${search.to}`;
+		out.push({ on: 'serial', col: modules.serial, rank: 1, bunched: /^PL[0-9A-Z]{1,4}-\d/.test(search.from), test });
 	} else if (search?.kind === 'contains') {
-		// No index finds text inside a serial. instr over the serial index alone (no table rows)
-		// counts 200,000 serials in ~12 ms; `gather` collects the matching ids the same way.
-		const test = sql`instr(${modules.serial}, ${search.text}) > 0`;
-		out.push({ on: null, plain: test, hinted: test, gather: sql`${modules.id} IN (SELECT s.id FROM modules s WHERE instr(s.serial, ${search.text}) > 0)` });
+		// No index finds text inside a serial: instr reads the serial index alone (no table rows), 200,000 serials in ~13 ms.
+		out.push({ on: null, col: modules.serial, rank: 6, test: (t) => sql`instr(${t.serial}, ${search.text}) > 0` });
 	}
 	return out;
+}
+
+/**
+ * The WHERE for counting (and for gathering a few matches): one condition starts the
+ * search on its index, the others are id sets. An id list (lot, import) starts, the
+ * others then checked through their index by (value, rowid). The dealer scope with a state
+ * filter uses the (dealer, state) index directly.
+ */
+function counted(conds: Condition[]): SQL | undefined {
+	const pairIndex = conds.length === 2 && conds.some((c) => c.scope) && conds.some((c) => c.col === modules.state);
+	if (conds.length <= 1 || pairIndex || conds.some((c) => c.list)) return and(...conds.map(plain));
+	const [first, ...rest] = [...conds].sort((a, b) => a.rank - b.rank);
+	return and(plain(first), ...rest.map(asSet));
 }
 
 /** Sorts backed by an index of their own. */
@@ -90,30 +118,29 @@ async function ranking(db: Db, sort: FleetSort): Promise<{ col: AnySQLiteColumn;
 
 /**
  * ORDER BY for a sort, always ending in the id so equal values page stably. Dates put
- * "not yet" last both ways (SQLite still walks the index for ASC NULLS LAST). `hint` puts
- * a unary `+` on the sort column, so SQLite sorts the matches instead of walking its index.
+ * "not yet" last both ways (SQLite still walks the index for ASC NULLS LAST).
  */
-async function sortOrder(db: Db, sort: FleetSort, dir: 'asc' | 'desc'): Promise<(hint: boolean) => SQL[]> {
+async function sortOrder(db: Db, sort: FleetSort, dir: 'asc' | 'desc'): Promise<SQL[]> {
 	const d = dir === 'asc' ? sql`ASC` : sql`DESC`;
-	const id = sql`${modules.id} ${d}`;
 	const ranked = await ranking(db, sort);
 	if (ranked) {
-		const missing = dir === 'asc' ? ranked.keys.length : -1;
-		const place = sql`CASE ${ranked.col} ${sql.join(ranked.keys.map((k, i) => sql`WHEN ${k} THEN ${i}`), sql` `)} ELSE ${missing} END`;
-		return () => [sql`${place} ${d}`, id];
+		const place = sql`CASE ${ranked.col} ${sql.join(ranked.keys.map((k, i) => sql`WHEN ${k} THEN ${i}`), sql` `)} ELSE ${dir === 'asc' ? ranked.keys.length : -1} END`;
+		return [sql`${place} ${d}`, sql`${modules.id} ${d}`];
 	}
-	const col = SORT_COLUMNS[sort]!;
-	const nulls = sort !== 'serial' && dir === 'asc' ? sql` NULLS LAST` : sql``;
-	return (hint) => [hint ? sql`+${col} ${d}${nulls}` : sql`${col} ${d}${nulls}`, id];
+	return [sql`${SORT_COLUMNS[sort]} ${d}${sort !== 'serial' && dir === 'asc' ? sql` NULLS LAST` : sql``}`, sql`${modules.id} ${d}`];
 }
 
 /**
  * A page sorted by a short list, without sorting the matches: count them per value
- * (GROUP BY on the value's index), put the groups in order, and read the page from the
- * one or two groups it falls in, each in id order along the value's index.
+ * (GROUP BY along the value's index), put the groups in order, and read the page from the
+ * one or two groups it falls in, each in id order along the same index. Conditions on the
+ * grouped column (or the dealer's, with the (dealer, state) index) narrow that walk; the
+ * others are id sets.
  */
-async function groupedPage(db: Db, where: SQL | undefined, ranked: { col: AnySQLiteColumn; keys: (string | number)[] }, query: FleetQuery) {
+async function groupedPage(db: Db, conds: Condition[], ranked: { col: AnySQLiteColumn; keys: (string | number)[] }, query: FleetQuery) {
 	const { page, pageSize, dir } = query;
+	const narrows = (c: Condition) => c.col === ranked.col || (ranked.col === modules.state && c.col === modules.dealerOrgId);
+	const where = and(...conds.map((c) => (narrows(c) ? plain(c) : asSet(c))));
 	const groups = await db.select({ key: sql<string | number | null>`${ranked.col}`, n: count() }).from(modules).where(where).groupBy(ranked.col);
 	const place = (k: string | number | null) => (k === null ? Infinity : ranked.keys.indexOf(k));
 	groups.sort((a, b) => (place(a.key) === Infinity ? 1 : place(b.key) === Infinity ? -1 : (place(a.key) - place(b.key)) * (dir === 'asc' ? 1 : -1)));
@@ -134,17 +161,8 @@ async function groupedPage(db: Db, where: SQL | undefined, ranked: { col: AnySQL
 }
 
 const ITEM = {
-	id: modules.id,
-	serial: modules.serial,
-	state: modules.state,
-	model: sql<string>`${moduleModels.code}`.as('model'),
-	dealer: sql<string | null>`${organisations.name}`.as('dealer'),
-	builtAt: modules.builtAt,
-	testedAt: modules.testedAt,
-	testOutcome: modules.testOutcome,
-	shippedAt: modules.shippedAt,
-	cellLots: modules.cellLots,
-	site: sql<string | null>`${sites.name}`.as('site')
+	id: modules.id, serial: modules.serial, state: modules.state, model: sql<string>`${moduleModels.code}`.as('model'), dealer: sql<string | null>`${organisations.name}`.as('dealer'),
+	builtAt: modules.builtAt, testedAt: modules.testedAt, testOutcome: modules.testOutcome, shippedAt: modules.shippedAt, cellLots: modules.cellLots, site: sql<string | null>`${sites.name}`.as('site')
 };
 
 /** Module rows with their model, dealer and site names: joined for the rows returned only. */
@@ -168,55 +186,65 @@ export type FleetItem = ReturnType<typeof toItem>;
  * One page of the register as the actor may see it: filtered, sorted and paged in SQLite.
  * A dealer's staff see only their own organisation's modules, whatever filter is sent.
  *
- * A count, then the page's ids chosen on `modules` alone, then names joined for those ids.
- * Sorted by state, model or dealer, see `groupedPage`. Sorted by a column with an index
- * while filters are set, the count decides how to find the page:
- * if matches are common, walk the sort's index and test each row, bounded to the first
- * `budget` index entries (eight times the rows an even spread needs); if that walk comes
- * back short (matches bunched late, e.g. unbuilt modules under "built"), or matches are
- * rare, gather them through the filters' indexes and sort them. Left to itself SQLite
- * (without ANALYZE statistics) always gathers, ~40 ms per 50,000 matches.
+ * Table rows are read for the page only (~1-5 µs each on a 150 MB file; an index entry
+ * costs ~0.05 µs): a count, the page's ids from indexes, then names joined for those ids.
+ * Sorted by state, model or dealer, see `groupedPage`. Sorted by serial or a date, the
+ * page is read walking that column's index in order, testing each entry:
+ * - when matches are common (an even spread reaches the page within 500 entries), by
+ *   reading each row, bounded to four times that many entries;
+ * - otherwise, or when that bounded walk comes back short (matches bunched late, e.g.
+ *   unbuilt modules under "built"), against the filters' id sets: no row is read, and the
+ *   cost stays under one pass over the index plus the sets.
  */
 export async function listModules(db: Db, actor: Actor, query: FleetQuery) {
+	const { page, pageSize, sort } = query;
 	const conds = conditions(query, dealerScopeOf(actor));
-	const { page, pageSize, sort, dir } = query;
+	if (!conds) return { items: [] as FleetItem[], total: 0, page, pageSize };
 	const ranked = await ranking(db, sort);
-	const { total, ids } = ranked ? await groupedPage(db, and(...conds.map((c) => c.plain)), ranked, query) : await indexedPage(db, conds, query);
+	const { total, ids } = ranked ? await groupedPage(db, conds, ranked, query) : await indexedPage(db, conds, query);
 	const rows = ids.length ? await selectItems(db).where(inArray(modules.id, ids)) : [];
 	const byId = new Map(rows.map((r) => [r.id, r]));
 	return { items: ids.map((id) => toItem(byId.get(id)!)), total, page, pageSize };
 }
 
-/** A page sorted by a column with an index (serial or a date): see `listModules`. */
+/** A page sorted by serial or a date: see `listModules`. */
 async function indexedPage(db: Db, conds: Condition[], query: FleetQuery) {
 	const { page, pageSize, sort, dir } = query;
+	const offset = (page - 1) * pageSize;
+	const sortCol = SORT_COLUMNS[sort]!;
+	const own = conds.filter((c) => c.on === sort).map(plain);
+	const others = conds.filter((c) => c.on !== sort);
+	if (others.length > 0) {
+		// Typed serial text, a cell lot: often a few matches. Their ids come from indexes alone;
+		// if there are few, read their sort values and sort here.
+		const ids = (await db.select({ id: modules.id }).from(modules).where(counted(conds)).limit(FEW + 1)).map((r) => r.id);
+		if (ids.length <= FEW) {
+			const few = await db.select({ id: modules.id, v: sql<number | string | null>`${sortCol}` }).from(modules).where(sql`${modules.id} IN (SELECT value FROM json_each(${JSON.stringify(ids)}))`);
+			const sign = dir === 'asc' ? 1 : -1;
+			few.sort((a, b) => (a.v === b.v ? (a.id - b.id) * sign : a.v === null ? 1 : b.v === null ? -1 : (a.v < b.v ? -1 : 1) * sign));
+			return { total: few.length, ids: few.slice(offset, offset + pageSize).map((r) => r.id) };
+		}
+	}
 	const [{ total, size }] = await db
 		.select({ total: count(), size: sql<number | null>`(SELECT max(m2.id) FROM modules m2)` })
 		.from(modules)
-		.where(and(...conds.map((c) => c.plain)));
-	const offset = (page - 1) * pageSize;
+		.where(counted(conds));
 	if (total === 0 || offset >= total) return { total, ids: [] };
 
 	const order = await sortOrder(db, sort, dir);
-	const pageIds = async (where: SQL | undefined, hint: boolean) =>
-		(await db.select({ id: modules.id }).from(modules).where(where).orderBy(...order(hint)).limit(pageSize).offset(offset)).map((r) => r.id);
-	const gathered = and(...conds.map((c) => (conds.length === 1 && c.gather) || c.plain));
-	const sortCol = SORT_COLUMNS[sort]!;
-	const own = conds.filter((c) => c.on === sort);
-	const others = conds.filter((c) => c.on !== sort);
-	if (others.length === 0) return { total, ids: await pageIds(gathered, false) };
+	const pageIds = async (where: SQL | undefined) => (await db.select({ id: modules.id }).from(modules).where(where).orderBy(...order).limit(pageSize).offset(offset)).map((r) => r.id);
+	if (others.length === 0) return { total, ids: await pageIds(and(...own)) };
 
-	const n = Math.max(size ?? total, total);
-	const budget = Math.max(1000, Math.ceil((8 * (offset + pageSize) * n) / total));
-	if (budget * 4 <= n && !others.some((c) => c.bunched)) {
-		const [edge] = await db.select({ v: sql<number | string | null>`${sortCol}` }).from(modules).where(and(...own.map((c) => c.plain))).orderBy(...order(false)).limit(1).offset(budget);
-		if (edge && edge.v !== null) {
-			const bound = dir === 'desc' ? sql`${sortCol} >= ${edge.v}` : sql`${sortCol} <= ${edge.v}`;
-			const walked = await pageIds(and(...own.map((c) => c.plain), ...others.map((c) => c.hinted), bound), false);
+	const spread = Math.ceil(((offset + pageSize) * Math.max(size ?? total, total)) / total);
+	if (spread <= 250 && !others.some((c) => c.bunched)) {
+		const [edge] = await db.select({ v: sql<number | string | null>`${sortCol}` }).from(modules).where(and(...own)).orderBy(...order).limit(1).offset(4 * spread);
+		const bound = !edge ? undefined : dir === 'desc' ? sql`${sortCol} >= ${edge.v}` : sql`${sortCol} <= ${edge.v}`;
+		if (!edge || edge.v !== null) {
+			const walked = await pageIds(and(...own, ...others.map(hinted), bound));
 			if (walked.length === Math.min(pageSize, total - offset)) return { total, ids: walked };
 		}
 	}
-	return { total, ids: await pageIds(gathered, true) };
+	return { total, ids: await pageIds(and(...own, ...others.map(asSet))) };
 }
 
 const iso = (ms: number | null) => (ms === null ? '' : new Date(ms).toISOString());
@@ -231,14 +259,14 @@ const iso = (ms: number | null) => (ms === null ? '' : new Date(ms).toISOString(
 export async function exportModules(db: Db, actor: Actor, query: FleetQuery): Promise<string> {
 	const conds = conditions(query, dealerScopeOf(actor));
 	const order = await sortOrder(db, query.sort, query.dir);
-	const x = selectItems(db)
-		.where(and(...conds.map((c) => (conds.length === 1 && c.gather) || c.plain)))
-		.orderBy(...order(false))
+	const v = selectItems(db)
+		.where(conds ? counted(conds) : sql`0`)
+		.orderBy(...order)
 		.limit(EXPORT_CAP)
-		.as('x');
+		.as('v');
 	const [{ json }] = await db
-		.select({ json: sql<string>`json_group_array(json_array(${x.serial}, ${x.model}, ${x.state}, ${x.dealer}, ${x.builtAt}, ${x.testedAt}, ${x.testOutcome}, ${x.shippedAt}, ${x.cellLots}, ${x.site}))` })
-		.from(x);
+		.select({ json: sql<string>`json_group_array(json_array(${v.serial}, ${v.model}, ${v.state}, ${v.dealer}, ${v.builtAt}, ${v.testedAt}, ${v.testOutcome}, ${v.shippedAt}, ${v.cellLots}, ${v.site}))` })
+		.from(v);
 	type Row = [string, string, string, string | null, number | null, number | null, string | null, number | null, string | null, string | null];
 	const fields = ['serial', 'model', 'state', 'state_label', 'dealer', 'built_at', 'tested_at', 'test_outcome', 'shipped_at', 'cell_lots', 'site'];
 	const data = (JSON.parse(json) as Row[]).map(([serial, model, state, dealer, built, tested, outcome, shipped, lots, site]) =>
@@ -254,15 +282,12 @@ export async function exportModules(db: Db, actor: Actor, query: FleetQuery): Pr
 /** The filter choices for the fleet page: models, and dealers for the assembler's staff only. */
 export async function fleetFilterOptions(db: Db, actor: Actor) {
 	const models = await db.select({ code: moduleModels.code, name: moduleModels.name }).from(moduleModels).orderBy(asc(moduleModels.code));
-	const dealers =
-		dealerScopeOf(actor) === null
-			? await db.select({ id: organisations.id, name: organisations.name }).from(organisations).where(eq(organisations.kind, 'dealer')).orderBy(asc(organisations.name))
-			: null;
+	if (dealerScopeOf(actor) !== null) return { models, dealers: null };
+	const dealers = await db.select({ id: organisations.id, name: organisations.name }).from(organisations).where(eq(organisations.kind, 'dealer')).orderBy(asc(organisations.name));
 	return { models, dealers };
 }
 
-const known = (ids: unknown): FleetColumn[] =>
-	Array.isArray(ids) ? FLEET_COLUMN_IDS.filter((c) => ids.includes(c)) : [];
+const known = (ids: unknown): FleetColumn[] => (Array.isArray(ids) ? FLEET_COLUMN_IDS.filter((c) => ids.includes(c)) : []);
 
 /** The columns a person chose to see in the fleet table, or null when they never chose. */
 export async function getColumnPrefs(db: Db, userId: number): Promise<FleetColumn[] | null> {
