@@ -7,7 +7,7 @@ import { startBenchServer, signInCookie } from './lib/bench-server.js';
 
 const dbDir = 'data/bench-fleet';
 const reuse = process.env.BENCH_REUSE === '1' && existsSync(`${dbDir}/bench.db`);
-const CONCURRENCY = 4;
+const CONCURRENCY = Number(process.env.BENCH_CONCURRENCY ?? 2);
 const REQUESTS = 200;
 
 async function load(origin, path, cookie) {
@@ -43,9 +43,9 @@ else {
 try {
 	const admin = await signInCookie(server.origin, 'admin@tidewater.example');
 	const dealer = await signInCookie(server.origin, 'dealer@saltmarsh.example');
-	const first = await (await fetch(`${server.origin}/api/modules?pageSize=1&sort=serial&dir=asc`, { headers: { cookie: admin } })).json();
+	const first = await (await fetch(`${server.origin}/api/modules?pageSize=10&sort=serial&dir=asc`, { headers: { cookie: admin } })).json();
 	console.log(`Fleet: ${first.total.toLocaleString('en-GB')} modules visible to the admin`);
-	const lot = (await (await fetch(`${server.origin}/api/modules?pageSize=1`, { headers: { cookie: admin } })).json()).items[0].cellLots[0];
+	const lot = (await (await fetch(`${server.origin}/api/modules?pageSize=10`, { headers: { cookie: admin } })).json()).items[0].cellLots[0];
 	const cases = [
 		['admin, default (built, newest first)', '/api/modules?pageSize=50', admin],
 		['admin, sort serial asc', '/api/modules?pageSize=50&sort=serial&dir=asc', admin],

@@ -29,12 +29,33 @@ export const actorHandle: Handle = async ({ event, resolve }) => {
 	if (authz?.startsWith('Bearer ') && event.url.pathname.startsWith('/api/')) {
 		event.locals.token = await verifyToken(await getDb(), authz.slice(7).trim());
 	} else if (!event.url.pathname.startsWith('/auth/')) {
-		const session = await event.locals.auth();
-		const id = Number((session?.user as { id?: unknown } | undefined)?.id);
-		if (Number.isInteger(id) && id > 0) event.locals.user = await loadActor(id);
+		const id = await sessionUserId(event);
+		if (id) event.locals.user = await loadActor(id);
 	}
 	return resolve(event);
 };
+
+/**
+ * Decoding the session token (Auth.js decrypts a JWE and re-issues the cookie) costs a few
+ * milliseconds, as much as a fleet query. The user id of a token is remembered for a
+ * minute; the user row is still read on every request, so a deactivated account or a
+ * changed role takes effect at once.
+ */
+const SESSION_CACHE_MS = 60_000;
+const sessionCache = new Map<string, { userId: number; at: number }>();
+
+async function sessionUserId(event: Parameters<Handle>[0]['event']): Promise<number | null> {
+	const token = event.cookies.get('__Secure-authjs.session-token') ?? event.cookies.get('authjs.session-token');
+	if (!token) return null;
+	const hit = sessionCache.get(token);
+	if (hit && Date.now() - hit.at < SESSION_CACHE_MS) return hit.userId;
+	const session = await event.locals.auth();
+	const id = Number((session?.user as { id?: unknown } | undefined)?.id);
+	if (!Number.isInteger(id) || id <= 0) return null;
+	if (sessionCache.size > 5000) sessionCache.clear();
+	sessionCache.set(token, { userId: id, at: Date.now() });
+	return id;
+}
 
 export async function loadActor(userId: number): Promise<Actor | null> {
 	const db = await getDb();

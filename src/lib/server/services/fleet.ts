@@ -14,7 +14,7 @@ export const EXPORT_CAP = 200_000;
 const PREFS_KEY = 'fleet.columns';
 const DAY_MS = 86_400_000;
 /** Up to this many matches are read with their sort value and sorted in JavaScript (~1-5 µs a row). */
-const FEW = 1000;
+const FEW = 5000;
 
 /**
  * One filter. `test(t, hint)` writes it against a copy of `modules`; `hint` puts a unary
@@ -217,9 +217,15 @@ async function indexedPage(db: Db, conds: Condition[], query: FleetQuery) {
 	if (others.length > 0) {
 		// Typed serial text, a cell lot: often a few matches. Their ids come from indexes alone;
 		// if there are few, read their sort values and sort here.
-		const ids = (await db.select({ id: modules.id }).from(modules).where(counted(conds)).limit(FEW + 1)).map((r) => r.id);
+		const [found] = await db.select({ ids: sql<string>`json_group_array(id)` }).from(sql`(SELECT ${modules.id} AS id FROM ${modules} WHERE ${counted(conds)} LIMIT ${FEW + 1})`);
+		const ids = JSON.parse(found.ids) as number[];
 		if (ids.length <= FEW) {
-			const few = await db.select({ id: modules.id, v: sql<number | string | null>`${sortCol}` }).from(modules).where(sql`${modules.id} IN (SELECT value FROM json_each(${JSON.stringify(ids)}))`);
+			// One JSON row back instead of thousands: row materialisation is the cost here.
+			const [packed] = await db
+				.select({ rows: sql<string>`json_group_array(json_array(${modules.id}, ${sortCol}))` })
+				.from(modules)
+				.where(sql`${modules.id} IN (SELECT value FROM json_each(${JSON.stringify(ids)}))`);
+			const few = (JSON.parse(packed.rows) as [number, number | string | null][]).map(([id, v]) => ({ id, v }));
 			const sign = dir === 'asc' ? 1 : -1;
 			few.sort((a, b) => (a.v === b.v ? (a.id - b.id) * sign : a.v === null ? 1 : b.v === null ? -1 : (a.v < b.v ? -1 : 1) * sign));
 			return { total: few.length, ids: few.slice(offset, offset + pageSize).map((r) => r.id) };
