@@ -56,6 +56,9 @@ test('allocate 24 serials, print the A4 sheet, scan one label at the bench and r
 	await expect(anon.getByTestId('public-record')).toContainText('46.5 Ah');
 	await expect(anon.getByTestId('full-record')).toHaveCount(0);
 	await anon.screenshot({ path: 'test-results/public-record.png', fullPage: true });
+	const pub = await (await anon.request.get(`/api/public/modules/${serial}`)).json();
+	expect(pub).toMatchObject({ identifier: serial, model: { code: 'TC-HC-48', ratedCapacityAh: 46.5 }, status: 'original' });
+	expect(JSON.stringify(pub)).not.toMatch(/owner|address|site/i);
 	await anon.close();
 });
 
