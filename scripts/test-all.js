@@ -1,4 +1,4 @@
-// The test command: unit tests, then browser tests in Debian's Chromium.
+// The test command: type check (svelte-check), unit tests, then browser tests in Debian's Chromium.
 // Makes sure the browser is there first (installs it with apt where it may).
 import { spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
@@ -21,6 +21,8 @@ if (!existsSync(CHROMIUM)) {
 	}
 }
 
+const types = run('npm', ['run', 'check', '--silent']);
+if (types !== 0) process.exit(types);
 const unit = run('npx', ['vitest', 'run']);
 if (unit !== 0) process.exit(unit);
 process.exit(run('npx', ['playwright', 'test']));
