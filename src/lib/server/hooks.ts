@@ -1,10 +1,9 @@
 import type { Handle } from '@sveltejs/kit';
-import { eq } from 'drizzle-orm';
 import { getDb } from '$lib/server/db';
-import { organisations, users } from '$lib/server/db/schema';
 import { requestContext } from '$lib/server/request-context';
 import type { Actor } from '$lib/server/actor';
 import { verifyToken } from '$lib/server/services/tokens';
+import { findActor } from '$lib/server/services/actors';
 
 /** Makes the client's address visible to Auth.js's authorize (for rate limiting). */
 export const contextHandle: Handle = ({ event, resolve }) =>
@@ -58,15 +57,7 @@ async function sessionUserId(event: Parameters<Handle>[0]['event']): Promise<num
 }
 
 export async function loadActor(userId: number): Promise<Actor | null> {
-	const db = await getDb();
-	const [row] = await db
-		.select({ id: users.id, email: users.email, name: users.name, role: users.role, active: users.active, orgId: users.organisationId, orgKind: organisations.kind })
-		.from(users)
-		.innerJoin(organisations, eq(users.organisationId, organisations.id))
-		.where(eq(users.id, userId))
-		.limit(1);
-	if (!row || !row.active) return null;
-	return { userId: row.id, role: row.role, organisationId: row.orgId, dealerScoped: row.orgKind === 'dealer', label: row.email };
+	return findActor(await getDb(), { id: userId });
 }
 
 /** Refuses to start without AUTH_SECRET rather than answering every page with 500. */

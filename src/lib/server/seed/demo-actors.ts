@@ -1,17 +1,14 @@
 import { eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { moduleModels, organisations, users } from '$lib/server/db/schema';
+import { moduleModels } from '$lib/server/db/schema';
+import { findActor } from '$lib/server/services/actors';
 import type { Actor } from '$lib/server/actor';
 
 /** The Actor of a seeded user, as the request hooks would build it. */
 export async function actorForEmail(db: Db, email: string): Promise<Actor> {
-	const [row] = await db
-		.select({ id: users.id, role: users.role, orgId: users.organisationId, kind: organisations.kind })
-		.from(users)
-		.innerJoin(organisations, eq(users.organisationId, organisations.id))
-		.where(eq(users.email, email));
-	if (!row) throw new Error(`No seeded user ${email}`);
-	return { userId: row.id, role: row.role, organisationId: row.orgId, dealerScoped: row.kind === 'dealer', label: email };
+	const actor = await findActor(db, { email });
+	if (!actor) throw new Error(`No seeded user ${email}`);
+	return actor;
 }
 
 export async function getModelIdByCode(db: Db, code: string): Promise<number> {

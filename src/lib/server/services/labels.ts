@@ -27,9 +27,11 @@ export async function buildLabel(model: ModelRow, serial: string, baseUrl: strin
 	return { serial, payload, qrSvg, modelCode: model.code, modelName: model.name, rated: ratedLine(model) };
 }
 
-export async function labelsForAllocation(db: Db, allocationId: number, baseUrl: string) {
+/** The labels of an allocation, in serial order; `limit` renders only the first few (a preview). */
+export async function labelsForAllocation(db: Db, allocationId: number, baseUrl: string, limit?: number) {
 	const { allocation, model } = await getAllocation(db, allocationId);
-	const rows = await db.select({ serial: modules.serial }).from(modules).where(eq(modules.allocationId, allocationId)).orderBy(asc(modules.id));
+	const query = db.select({ serial: modules.serial }).from(modules).where(eq(modules.allocationId, allocationId)).orderBy(asc(modules.id));
+	const rows = limit ? await query.limit(limit) : await query;
 	const labels = await Promise.all(rows.map((r) => buildLabel(model, r.serial, baseUrl)));
 	return { allocation, model, labels };
 }
