@@ -14,7 +14,16 @@ export default defineConfig({
 		baseURL: BASE,
 		launchOptions: {
 			executablePath: process.env.CHROMIUM_PATH || '/usr/bin/chromium',
-			args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync']
+			args: [
+				'--headless',
+				'--no-sandbox',
+				'--disable-gpu',
+				'--disable-quic',
+				'--no-first-run',
+				'--disable-background-networking',
+				'--disable-component-update',
+				'--disable-sync'
+			]
 		},
 		trace: 'off',
 		screenshot: 'only-on-failure'

@@ -1,6 +1,7 @@
 import { test, expect, ROLES, signIn } from './roles';
 
-const navOf = (page: import('@playwright/test').Page) => page.getByRole('navigation', { name: 'Main' });
+const navOf = (page: import('@playwright/test').Page) =>
+	page.getByRole('navigation', { name: 'Main' });
 
 test('each role sees its own areas', async ({ as }) => {
 	const expected: Record<string, { has: string[]; lacks: string[] }> = {
@@ -13,8 +14,10 @@ test('each role sees its own areas', async ({ as }) => {
 		const page = await as(role as keyof typeof ROLES);
 		await page.goto('/');
 		await expect(page.getByTestId('home')).toBeVisible();
-		for (const label of has) await expect(navOf(page).getByRole('link', { name: label, exact: true })).toBeVisible();
-		for (const label of lacks) await expect(navOf(page).getByRole('link', { name: label, exact: true })).toHaveCount(0);
+		for (const label of has)
+			await expect(navOf(page).getByRole('link', { name: label, exact: true })).toBeVisible();
+		for (const label of lacks)
+			await expect(navOf(page).getByRole('link', { name: label, exact: true })).toHaveCount(0);
 	}
 });
 
@@ -50,7 +53,10 @@ test('sign-out ends the session', async ({ page }) => {
 	await expect(page).toHaveURL(/\/signin/);
 });
 
-test('an invitation arrives in the outbox and its link sets a password, once', async ({ as, page }) => {
+test('an invitation arrives in the outbox and its link sets a password, once', async ({
+	as,
+	page
+}) => {
 	const admin = await as('admin');
 	const email = `new.tech.${Date.now()}@saltmarsh.example`;
 	await admin.goto('/admin/users');

@@ -8,26 +8,42 @@ const LOG = [
 	'2026-11-20T00:00:00Z,36800,26.0'
 ].join('\r\n');
 
-test('a dealer files a claim with an inverter log, the officer asks for evidence, decides, and a replacement is scanned in', async ({ as }) => {
+test('a dealer files a claim with an inverter log, the officer asks for evidence, decides, and a replacement is scanned in', async ({
+	as
+}) => {
 	const dealer = await as('saltmarsh');
-	const mine = await (await dealer.request.get('/api/modules?state=commissioned&model=TC-HC-48&sort=serial&dir=asc&pageSize=10')).json();
+	const mine = await (
+		await dealer.request.get(
+			'/api/modules?state=commissioned&model=TC-HC-48&sort=serial&dir=asc&pageSize=10'
+		)
+	).json();
 	const serial: string = mine.items[0].serial;
 
 	await dealer.goto('/claims/new');
 	await expect(dealer.getByRole('main')).toContainText(/isolate/i);
 	await dealer.getByLabel(/Serials/).fill(serial);
 	await dealer.getByLabel('Fault, in a few words').fill('Capacity fade');
-	await dealer.getByLabel(/Inverter log/).setInputFiles({ name: 'cabin-inverter-log.csv', mimeType: 'text/csv', buffer: Buffer.from(LOG) });
+	await dealer
+		.getByLabel(/Inverter log/)
+		.setInputFiles({
+			name: 'cabin-inverter-log.csv',
+			mimeType: 'text/csv',
+			buffer: Buffer.from(LOG)
+		});
 	await dealer.getByRole('button', { name: 'Read the log' }).click();
 	await dealer.getByRole('button', { name: 'Read the log with these columns' }).click();
 	await expect(dealer.locator('input[name="throughputWh"]')).toHaveValue(/^36800000/);
 	await dealer.locator('input[name="measuredCapacityAh"]').fill('34,0');
 	await dealer.locator('input[name="measuredAtC"]').fill('22');
-	await dealer.locator('textarea[name="description"]').fill('The cabin bank no longer lasts the night; this module tested at 34.0 Ah.');
+	await dealer
+		.locator('textarea[name="description"]')
+		.fill('The cabin bank no longer lasts the night; this module tested at 34.0 Ah.');
 	await dealer.getByRole('button', { name: 'File the claim' }).click();
 	await expect(dealer).toHaveURL(/\/claims\/\d+\?filed/);
 	const claimUrl = new URL(dealer.url()).pathname;
-	const reference = (await dealer.getByRole('heading', { level: 1 }).textContent())!.match(/CL-\d{4}-\d{4}/)![0];
+	const reference = (await dealer.getByRole('heading', { level: 1 }).textContent())!.match(
+		/CL-\d{4}-\d{4}/
+	)![0];
 
 	const officer = await as('warranty');
 	await officer.goto(claimUrl);
@@ -37,7 +53,9 @@ test('a dealer files a claim with an inverter log, the officer asks for evidence
 	await officer.getByRole('button', { name: 'Move' }).click();
 	await expect(officer.getByLabel('Move to')).toBeVisible();
 	await officer.getByLabel('Move to').selectOption({ label: 'Waiting for evidence' });
-	await officer.getByLabel(/Comment for the filer/).fill('Please send the average cell temperature reading from the BMS.');
+	await officer
+		.getByLabel(/Comment for the filer/)
+		.fill('Please send the average cell temperature reading from the BMS.');
 	await officer.getByRole('button', { name: 'Move' }).click();
 	await expect(officer.getByRole('main')).toContainText('Waiting for evidence');
 
@@ -51,18 +69,26 @@ test('a dealer files a claim with an inverter log, the officer asks for evidence
 	await officer.goto(claimUrl);
 	await officer.getByText('Covered', { exact: true }).first().click();
 	const reason = officer.locator('textarea[name="reason"]');
-	await reason.fill('Capacity test and inverter log agree; retention is below the promise at this cycle count.');
+	await reason.fill(
+		'Capacity test and inverter log agree; retention is below the promise at this cycle count.'
+	);
 	await officer.getByRole('button', { name: 'Record the decision' }).click();
 	await expect(officer.getByRole('main')).toContainText(/Covered/);
 
-	const stock = await (await officer.request.get('/api/modules?state=in_stock&model=TC-HC-48&sort=serial&dir=desc&pageSize=10')).json();
+	const stock = await (
+		await officer.request.get(
+			'/api/modules?state=in_stock&model=TC-HC-48&sort=serial&dir=desc&pageSize=10'
+		)
+	).json();
 	const replacement: string = stock.items[0].serial;
 	await officer.getByLabel(/Replacement \(scan or type\)/).fill(replacement);
 	await officer.getByRole('button', { name: 'Record the replacement' }).click();
 	await expect(officer.getByRole('main')).toContainText('Replacement sent');
 
 	const admin = await as('admin');
-	const { items } = await (await admin.request.get('/api/outbox?to=dealer@saltmarsh.example')).json();
+	const { items } = await (
+		await admin.request.get('/api/outbox?to=dealer@saltmarsh.example')
+	).json();
 	const about = items.filter((m: { subject: string }) => m.subject.includes(reference));
 	expect(about.length).toBeGreaterThanOrEqual(5);
 	const failed = await (await officer.request.get(`/api/modules/${serial}`)).json();

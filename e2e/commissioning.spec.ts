@@ -10,10 +10,22 @@ function tinyJpegLikePng(): Buffer {
 	return PNG.sync.write(png);
 }
 
-test('Ridgeline technician on a phone: site, system with a corrected design, modules scanned in, checklist with a failing insulation corrected, photo, certificate to the dealer', async ({ browser, as }) => {
-	const ctx = await browser.newContext({ storageState: stateFile('ridgelineTech'), viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true });
+test('Ridgeline technician on a phone: site, system with a corrected design, modules scanned in, checklist with a failing insulation corrected, photo, certificate to the dealer', async ({
+	browser,
+	as
+}) => {
+	const ctx = await browser.newContext({
+		storageState: stateFile('ridgelineTech'),
+		viewport: { width: 390, height: 844 },
+		isMobile: true,
+		hasTouch: true
+	});
 	const page = await ctx.newPage();
-	const units = await (await page.request.get('/api/modules?model=TC-HC-48&state=shipped&sort=serial&dir=asc&pageSize=10')).json();
+	const units = await (
+		await page.request.get(
+			'/api/modules?model=TC-HC-48&state=shipped&sort=serial&dir=asc&pageSize=10'
+		)
+	).json();
 	const serials: string[] = units.items.slice(0, 2).map((i: { serial: string }) => i.serial);
 	expect(serials).toHaveLength(2);
 
@@ -57,16 +69,27 @@ test('Ridgeline technician on a phone: site, system with a corrected design, mod
 	await byName('interStringDiffV').fill('0,02');
 	await byName('insulationTestV').fill('500');
 	await byName('insulationMohm').fill('0,4');
-	await expect(page.getByText(/0\.4 MΩ at 500 V is below the 1(\.0)? MΩ minimum of IEC 60364-6/)).toBeVisible();
-	await page.screenshot({ path: 'test-results/phone-checklist-insulation-fail.png', fullPage: true });
+	await expect(
+		page.getByText(/0\.4 MΩ at 500 V is below the 1(\.0)? MΩ minimum of IEC 60364-6/)
+	).toBeVisible();
+	await page.screenshot({
+		path: 'test-results/phone-checklist-insulation-fail.png',
+		fullPage: true
+	});
 	await byName('insulationMohm').fill('150');
-	for (const legend of ['Polarity of every connection checked?', 'Every terminal torqued to the maker’s value?', 'Stop-charge signal proven to reach the inverter?'])
+	for (const legend of [
+		'Polarity of every connection checked?',
+		'Every terminal torqued to the maker’s value?',
+		'Stop-charge signal proven to reach the inverter?'
+	])
 		await page.getByRole('group', { name: legend }).getByText('Yes', { exact: true }).click();
 	await byName('deviceRatingA').fill('400');
 	await byName('deviceDcRatingV').fill('150');
 	await byName('ambientC').fill('16');
 
-	await page.locator('input[name="photo"]').setInputFiles({ name: 'rack.png', mimeType: 'image/png', buffer: tinyJpegLikePng() });
+	await page
+		.locator('input[name="photo"]')
+		.setInputFiles({ name: 'rack.png', mimeType: 'image/png', buffer: tinyJpegLikePng() });
 	await expect(page.locator('img[src^="/api/attachments/"]')).toHaveCount(1);
 
 	await byName('technicianName').fill('Joss Carrow');
@@ -75,10 +98,14 @@ test('Ridgeline technician on a phone: site, system with a corrected design, mod
 	await page.getByRole('button', { name: /Submit/ }).click();
 	await expect(page.getByText(/Every item passed\. Certificate PLC-\d{4}-\d{5}/)).toBeVisible();
 	await page.screenshot({ path: 'test-results/phone-commissioned.png', fullPage: true });
-	const cert = (await page.getByText(/Every item passed/).textContent())!.match(/PLC-\d{4}-\d{5}/)![0];
+	const cert = (await page.getByText(/Every item passed/).textContent())!.match(
+		/PLC-\d{4}-\d{5}/
+	)![0];
 
 	const admin = await as('admin');
-	const { items } = await (await admin.request.get('/api/outbox?to=dealer@ridgeline.example')).json();
+	const { items } = await (
+		await admin.request.get('/api/outbox?to=dealer@ridgeline.example')
+	).json();
 	expect(items.some((m: { subject: string }) => m.subject.includes(cert))).toBe(true);
 	const rec = await (await page.request.get(`/api/modules/${serials[0]}`)).json();
 	expect(rec.state).toBe('commissioned');

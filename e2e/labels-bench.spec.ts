@@ -1,6 +1,9 @@
 import { test, expect } from './roles';
 
-test('allocate 24 serials, print the A4 sheet, scan one label at the bench and register its build', async ({ as, browser }) => {
+test('allocate 24 serials, print the A4 sheet, scan one label at the bench and register its build', async ({
+	as,
+	browser
+}) => {
 	const page = await as('workshop');
 	await page.goto('/allocations');
 	await page.getByLabel('Model').selectOption({ label: 'TC-HC-48 — TC-HC 48 V module' });
@@ -57,7 +60,11 @@ test('allocate 24 serials, print the A4 sheet, scan one label at the bench and r
 	await expect(anon.getByTestId('full-record')).toHaveCount(0);
 	await anon.screenshot({ path: 'test-results/public-record.png', fullPage: true });
 	const pub = await (await anon.request.get(`/api/public/modules/${serial}`)).json();
-	expect(pub).toMatchObject({ identifier: serial, model: { code: 'TC-HC-48', ratedCapacityAh: 46.5 }, status: 'original' });
+	expect(pub).toMatchObject({
+		identifier: serial,
+		model: { code: 'TC-HC-48', ratedCapacityAh: 46.5 },
+		status: 'original'
+	});
 	expect(JSON.stringify(pub)).not.toMatch(/owner|address|site/i);
 	await anon.close();
 });
@@ -71,10 +78,14 @@ test('an unknown serial answers 404 with a way to search', async ({ page }) => {
 
 test('the module API hides other dealers’ modules and validates builds', async ({ as }) => {
 	const page = await as('workshop');
-	const bad = await page.request.post('/api/modules/PL48-26-000001X/build', { data: { cellLots: [], checks: [] } });
+	const bad = await page.request.post('/api/modules/PL48-26-000001X/build', {
+		data: { cellLots: [], checks: [] }
+	});
 	expect(bad.status()).toBe(400);
 	const body = await bad.json();
-	expect(body.issues.map((i: { path: string }) => i.path)).toEqual(expect.arrayContaining(['cellLots', 'checks']));
+	expect(body.issues.map((i: { path: string }) => i.path)).toEqual(
+		expect.arrayContaining(['cellLots', 'checks'])
+	);
 	const dealer = await as('ridgeline');
 	const hidden = await dealer.request.get('/api/modules/PL48-26-000001' + 'X');
 	expect(hidden.status()).toBe(404);

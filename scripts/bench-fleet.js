@@ -36,16 +36,27 @@ else {
 	server = await startBenchServer({ port: 4196, dbDir, seed: false });
 	server.stop();
 	await new Promise((r) => setTimeout(r, 500));
-	const s = spawnSync('npm', ['run', 'seed:large', '--silent'], { stdio: 'inherit', env: server.env });
+	const s = spawnSync('npm', ['run', 'seed:large', '--silent'], {
+		stdio: 'inherit',
+		env: server.env
+	});
 	if (s.status !== 0) process.exit(1);
 	server = await startBenchServer({ port: 4196, dbDir, seed: false, keep: true });
 }
 try {
 	const admin = await signInCookie(server.origin, 'admin@tidewater.example');
 	const dealer = await signInCookie(server.origin, 'dealer@saltmarsh.example');
-	const first = await (await fetch(`${server.origin}/api/modules?pageSize=10&sort=serial&dir=asc`, { headers: { cookie: admin } })).json();
+	const first = await (
+		await fetch(`${server.origin}/api/modules?pageSize=10&sort=serial&dir=asc`, {
+			headers: { cookie: admin }
+		})
+	).json();
 	console.log(`Fleet: ${first.total.toLocaleString('en-GB')} modules visible to the admin`);
-	const lot = (await (await fetch(`${server.origin}/api/modules?pageSize=10`, { headers: { cookie: admin } })).json()).items[0].cellLots[0];
+	const lot = (
+		await (
+			await fetch(`${server.origin}/api/modules?pageSize=10`, { headers: { cookie: admin } })
+		).json()
+	).items[0].cellLots[0];
 	const cases = [
 		['admin, default (built, newest first)', '/api/modules?pageSize=50', admin],
 		['admin, sort serial asc', '/api/modules?pageSize=50&sort=serial&dir=asc', admin],
@@ -57,7 +68,11 @@ try {
 		['admin, filter state=in_stock', '/api/modules?pageSize=50&state=in_stock', admin],
 		['admin, filter model=TC-HC-24', '/api/modules?pageSize=50&model=TC-HC-24', admin],
 		['admin, filter dealer=2', '/api/modules?pageSize=50&dealer=2', admin],
-		['admin, filter built in Jan 2026', '/api/modules?pageSize=50&builtFrom=2026-01-01&builtTo=2026-01-31', admin],
+		[
+			'admin, filter built in Jan 2026',
+			'/api/modules?pageSize=50&builtFrom=2026-01-01&builtTo=2026-01-31',
+			admin
+		],
 		[`admin, filter lot=${lot}`, `/api/modules?pageSize=50&lot=${encodeURIComponent(lot)}`, admin],
 		['admin, free text serial prefix', '/api/modules?pageSize=50&q=PL48-25-0012', admin],
 		['admin, page 400', '/api/modules?pageSize=50&page=400', admin],
@@ -69,12 +84,22 @@ try {
 	for (const [name, path, cookie] of cases) {
 		const r = await load(server.origin, path, cookie);
 		worst = Math.max(worst, r.p95);
-		console.log(`${name.padEnd(40)} p50 ${r.p50.toFixed(1).padStart(6)}  p95 ${r.p95.toFixed(1).padStart(6)}  max ${r.max.toFixed(1).padStart(6)}${r.failures ? `  FAILURES ${r.failures}` : ''}`);
+		console.log(
+			`${name.padEnd(40)} p50 ${r.p50.toFixed(1).padStart(6)}  p95 ${r.p95.toFixed(1).padStart(6)}  max ${r.max.toFixed(1).padStart(6)}${r.failures ? `  FAILURES ${r.failures}` : ''}`
+		);
 	}
 	const t = await load(server.origin, `/api/trace?lot=${encodeURIComponent(lot)}`, admin);
-	const tr = await (await fetch(`${server.origin}/api/trace?lot=${encodeURIComponent(lot)}`, { headers: { cookie: admin } })).json();
-	console.log(`${`trace by cell lot ${lot} (${tr.total} modules)`.padEnd(40)} p50 ${t.p50.toFixed(1).padStart(6)}  p95 ${t.p95.toFixed(1).padStart(6)}  max ${t.max.toFixed(1).padStart(6)}`);
-	console.log(`\nWorst fleet p95: ${worst.toFixed(1)} ms (target < 50 ms); trace p95 ${t.p95.toFixed(1)} ms (target < 200 ms)`);
+	const tr = await (
+		await fetch(`${server.origin}/api/trace?lot=${encodeURIComponent(lot)}`, {
+			headers: { cookie: admin }
+		})
+	).json();
+	console.log(
+		`${`trace by cell lot ${lot} (${tr.total} modules)`.padEnd(40)} p50 ${t.p50.toFixed(1).padStart(6)}  p95 ${t.p95.toFixed(1).padStart(6)}  max ${t.max.toFixed(1).padStart(6)}`
+	);
+	console.log(
+		`\nWorst fleet p95: ${worst.toFixed(1)} ms (target < 50 ms); trace p95 ${t.p95.toFixed(1)} ms (target < 200 ms)`
+	);
 } finally {
 	server.stop();
 }

@@ -5,7 +5,17 @@ const server = await startBenchServer({ port: 4198, dbDir: 'data/bench-labels' }
 try {
 	const cookie = await signInCookie(server.origin, 'workshop@tidewater.example');
 	const form = new URLSearchParams({ modelId: '3', count: '1000' });
-	const res = await fetch(`${server.origin}/allocations?/allocate`, { method: 'POST', redirect: 'manual', headers: { cookie, origin: server.origin, accept: 'text/html', 'content-type': 'application/x-www-form-urlencoded' }, body: form });
+	const res = await fetch(`${server.origin}/allocations?/allocate`, {
+		method: 'POST',
+		redirect: 'manual',
+		headers: {
+			cookie,
+			origin: server.origin,
+			accept: 'text/html',
+			'content-type': 'application/x-www-form-urlencoded'
+		},
+		body: form
+	});
 	const loc = res.headers.get('location');
 	if (!loc) throw new Error(`allocation failed: ${res.status} ${await res.text()}`);
 	const times = [];
@@ -20,7 +30,9 @@ try {
 		if (n !== 1000) throw new Error(`expected 1000 labels, got ${n}`);
 	}
 	times.sort((a, b) => a - b);
-	console.log(`A4 sheet of 1,000 labels (server render incl. 1,000 QR SVGs): median ${times[2].toFixed(0)} ms, min ${times[0].toFixed(0)} ms, max ${times[4].toFixed(0)} ms, ${(bytes / 1e6).toFixed(2)} MB HTML`);
+	console.log(
+		`A4 sheet of 1,000 labels (server render incl. 1,000 QR SVGs): median ${times[2].toFixed(0)} ms, min ${times[0].toFixed(0)} ms, max ${times[4].toFixed(0)} ms, ${(bytes / 1e6).toFixed(2)} MB HTML`
+	);
 } finally {
 	server.stop();
 }

@@ -43,8 +43,12 @@ if (!existsSync('build/handler.js') || newest('src') > statSync('build/handler.j
 }
 run('npm', ['run', 'db:seed', '--silent']);
 
-console.log(`\nPackledger is starting on ${origin}\nDemo sign-ins (password ${process.env.DEMO_PASSWORD ? 'from DEMO_PASSWORD' : '"packledger-demo"'}):`);
-for (const u of ['admin', 'workshop', 'tech', 'warranty'].map((r) => `${r}@tidewater.example`).concat(['dealer@saltmarsh.example', 'dealer@ridgeline.example', 'tech@ridgeline.example']))
+console.log(
+	`\nPackledger is starting on ${origin}\nDemo sign-ins (password ${process.env.DEMO_PASSWORD ? 'from DEMO_PASSWORD' : '"packledger-demo"'}):`
+);
+for (const u of ['admin', 'workshop', 'tech', 'warranty']
+	.map((r) => `${r}@tidewater.example`)
+	.concat(['dealer@saltmarsh.example', 'dealer@ridgeline.example', 'tech@ridgeline.example']))
 	console.log(`  ${u}`);
 const server = spawn('node', ['build'], { stdio: 'inherit', env });
 server.on('exit', (code) => process.exit(code ?? 0));

@@ -4,19 +4,27 @@ import { spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
 
 const CHROMIUM = process.env.CHROMIUM_PATH || '/usr/bin/chromium';
-const run = (cmd, args, opts = {}) => spawnSync(cmd, args, { stdio: 'inherit', ...opts }).status ?? 1;
+const run = (cmd, args, opts = {}) =>
+	spawnSync(cmd, args, { stdio: 'inherit', ...opts }).status ?? 1;
 
 if (!existsSync(CHROMIUM)) {
 	const isRoot = process.getuid?.() === 0;
 	const sudo = isRoot ? [] : spawnSync('sudo', ['-n', 'true']).status === 0 ? ['sudo', '-n'] : null;
 	if (!sudo) {
-		console.error(`Chromium is missing at ${CHROMIUM}. Install it with:  sudo apt-get install -y chromium\n(or set CHROMIUM_PATH to a Chromium binary), then run npm test again.`);
+		console.error(
+			`Chromium is missing at ${CHROMIUM}. Install it with:  sudo apt-get install -y chromium\n(or set CHROMIUM_PATH to a Chromium binary), then run npm test again.`
+		);
 		process.exit(1);
 	}
-	console.log('Installing Debian\'s chromium for the browser tests…');
+	console.log("Installing Debian's chromium for the browser tests…");
 	const [cmd, ...pre] = sudo.length ? sudo : ['env'];
-	if (run(cmd, [...pre, 'apt-get', 'update', '-qq']) !== 0 || run(cmd, [...pre, 'apt-get', 'install', '-y', '-qq', 'chromium']) !== 0) {
-		console.error('Installing chromium failed. Install it by hand (apt-get install -y chromium) and run npm test again.');
+	if (
+		run(cmd, [...pre, 'apt-get', 'update', '-qq']) !== 0 ||
+		run(cmd, [...pre, 'apt-get', 'install', '-y', '-qq', 'chromium']) !== 0
+	) {
+		console.error(
+			'Installing chromium failed. Install it by hand (apt-get install -y chromium) and run npm test again.'
+		);
 		process.exit(1);
 	}
 }

@@ -2,7 +2,13 @@
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, rmSync } from 'node:fs';
 
-export async function startBenchServer({ port = 4199, dbDir = 'data/bench', seed = true, keep = false, env: extra = {} } = {}) {
+export async function startBenchServer({
+	port = 4199,
+	dbDir = 'data/bench',
+	seed = true,
+	keep = false,
+	env: extra = {}
+} = {}) {
 	if (!existsSync('build/handler.js')) {
 		const b = spawnSync('npm', ['run', 'build', '--silent'], { stdio: 'inherit' });
 		if (b.status !== 0) throw new Error('build failed');
@@ -10,7 +16,17 @@ export async function startBenchServer({ port = 4199, dbDir = 'data/bench', seed
 	if (!keep) rmSync(dbDir, { recursive: true, force: true });
 	mkdirSync(dbDir, { recursive: true });
 	const origin = `http://localhost:${port}`;
-	const env = { ...process.env, PORT: String(port), ORIGIN: origin, PUBLIC_BASE_URL: origin, DATABASE_URL: `file:${dbDir}/bench.db`, AUTH_SECRET: 'bench-only-secret-0123456789', SMTP_URL: '', BODY_SIZE_LIMIT: '30M', ...extra };
+	const env = {
+		...process.env,
+		PORT: String(port),
+		ORIGIN: origin,
+		PUBLIC_BASE_URL: origin,
+		DATABASE_URL: `file:${dbDir}/bench.db`,
+		AUTH_SECRET: 'bench-only-secret-0123456789',
+		SMTP_URL: '',
+		BODY_SIZE_LIMIT: '30M',
+		...extra
+	};
 	if (seed) {
 		const s = spawnSync('npm', ['run', 'db:seed', '--silent'], { stdio: 'inherit', env });
 		if (s.status !== 0) throw new Error('seed failed');

@@ -78,7 +78,9 @@ describe('Insulation against IEC 60364-6:2016 Table 6.1', () => {
 	it('0.4 MΩ at 500 V fails the 1.0 MΩ minimum of a ≤ 500 V circuit', () => {
 		const i = item({ ...good, insulation: { testVoltageV: 500, measuredMohm: 0.4 } }, 'insulation');
 		expect(i.status).toBe('fail');
-		expect(i.reason).toContain('Insulation 0.4 MΩ at 500 V is below the 1.0 MΩ minimum of IEC 60364-6 Table 6.1');
+		expect(i.reason).toContain(
+			'Insulation 0.4 MΩ at 500 V is below the 1.0 MΩ minimum of IEC 60364-6 Table 6.1'
+		);
 	});
 
 	it('a test at 250 V is too low for a 51.7 V circuit not built as SELV/PELV (needs 500 V)', () => {
@@ -88,13 +90,20 @@ describe('Insulation against IEC 60364-6:2016 Table 6.1', () => {
 	});
 
 	it('SELV/PELV: 0.6 MΩ at 250 V meets the 0.5 MΩ minimum', () => {
-		const i = item({ ...good, insulation: { testVoltageV: 250, measuredMohm: 0.6 } }, 'insulation', { ...system, selvPelv: true });
+		const i = item(
+			{ ...good, insulation: { testVoltageV: 250, measuredMohm: 0.6 } },
+			'insulation',
+			{ ...system, selvPelv: true }
+		);
 		expect(i.status).toBe('pass');
 		expect(i.reason).toContain('0.5 MΩ');
 	});
 
 	it('a 600 V circuit needs a 1000 V test (above 500 V row)', () => {
-		const i = item({ ...good, insulation: { testVoltageV: 500, measuredMohm: 50 } }, 'insulation', { ...system, circuitNominalV: 600 });
+		const i = item({ ...good, insulation: { testVoltageV: 500, measuredMohm: 50 } }, 'insulation', {
+			...system,
+			circuitNominalV: 600
+		});
 		expect(i.status).toBe('fail');
 		expect(i.reason).toContain('1000 V');
 	});
@@ -108,19 +117,56 @@ describe('Insulation against IEC 60364-6:2016 Table 6.1', () => {
 
 describe('Module OCV spread (50 mV default, common practice)', () => {
 	it('fails a 60 mV spread', () => {
-		const i = item({ ...good, moduleOcvV: [[25.4, 25.46], [25.41, 25.42]] }, 'module_ocv_spread');
+		const i = item(
+			{
+				...good,
+				moduleOcvV: [
+					[25.4, 25.46],
+					[25.41, 25.42]
+				]
+			},
+			'module_ocv_spread'
+		);
 		expect(i.status).toBe('fail');
 		expect(i.reason).toContain('a spread of 60 mV, above the 50 mV limit (common practice)');
 	});
 
 	it('the limit is a parameter', () => {
-		const m = { ...good, moduleOcvV: [[25.4, 25.46], [25.41, 25.42]] };
+		const m = {
+			...good,
+			moduleOcvV: [
+				[25.4, 25.46],
+				[25.41, 25.42]
+			]
+		};
 		expect(item(m, 'module_ocv_spread', system, { maxModuleOcvSpreadV: 0.1 }).status).toBe('pass');
 	});
 
 	it('a partial set is not measured, unless what was measured already fails', () => {
-		expect(item({ ...good, moduleOcvV: [[25.4, null], [25.41, 25.42]] }, 'module_ocv_spread').status).toBe('not_measured');
-		expect(item({ ...good, moduleOcvV: [[25.4, null], [25.41, 25.6]] }, 'module_ocv_spread').status).toBe('fail');
+		expect(
+			item(
+				{
+					...good,
+					moduleOcvV: [
+						[25.4, null],
+						[25.41, 25.42]
+					]
+				},
+				'module_ocv_spread'
+			).status
+		).toBe('not_measured');
+		expect(
+			item(
+				{
+					...good,
+					moduleOcvV: [
+						[25.4, null],
+						[25.41, 25.6]
+					]
+				},
+				'module_ocv_spread'
+			).status
+		).toBe('fail');
 	});
 
 	it('a grid that does not match the system shape is not measured, with the reason', () => {
@@ -144,7 +190,9 @@ describe('String voltage against the sum of its modules (1 % or 0.5 V, common pr
 	});
 
 	it('a missing string reading is not measured', () => {
-		expect(item({ ...good, stringVoltageV: [50.84, null] }, 'string_voltage').status).toBe('not_measured');
+		expect(item({ ...good, stringVoltageV: [50.84, null] }, 'string_voltage').status).toBe(
+			'not_measured'
+		);
 	});
 });
 
@@ -170,22 +218,32 @@ describe('Difference between parallel strings (1.0 V default, common practice)',
 
 describe('Protective device (≥ 125 % continuous, from memory; DC rating ≥ string maximum)', () => {
 	it('fails 400 A against 465 A = 125 % of 372 A', () => {
-		const i = item({ ...good, protectiveDevice: { ratingA: 400, dcVoltageRatingV: 80 } }, 'protective_device');
+		const i = item(
+			{ ...good, protectiveDevice: { ratingA: 400, dcVoltageRatingV: 80 } },
+			'protective_device'
+		);
 		expect(i.status).toBe('fail');
 		expect(i.reason).toContain('rated 400.0 A, below 465.0 A');
 	});
 
 	it('fails a 48 V DC rating against the 60.5 V string maximum', () => {
-		const i = item({ ...good, protectiveDevice: { ratingA: 500, dcVoltageRatingV: 48 } }, 'protective_device');
+		const i = item(
+			{ ...good, protectiveDevice: { ratingA: 500, dcVoltageRatingV: 48 } },
+			'protective_device'
+		);
 		expect(i.status).toBe('fail');
 		expect(i.reason).toContain('DC voltage rating 48.0 V is below the string maximum 60.5 V');
 	});
 
 	it('uses the system current limit when given: 100 A → 125 A', () => {
-		const i = item({ ...good, protectiveDevice: { ratingA: 125, dcVoltageRatingV: 80 } }, 'protective_device', {
-			...system,
-			maxContinuousA: 100
-		});
+		const i = item(
+			{ ...good, protectiveDevice: { ratingA: 125, dcVoltageRatingV: 80 } },
+			'protective_device',
+			{
+				...system,
+				maxContinuousA: 100
+			}
+		);
 		expect(i.status).toBe('pass');
 	});
 });

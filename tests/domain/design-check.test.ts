@@ -1,9 +1,21 @@
 import { describe, expect, it } from 'vitest';
-import { checkDesign, type DesignModule, type DesignVariant, type InverterWindow } from '../../src/lib/domain/design-check';
+import {
+	checkDesign,
+	type DesignModule,
+	type DesignVariant,
+	type InverterWindow
+} from '../../src/lib/domain/design-check';
 import { designCheckInputSchema } from '../../src/lib/schemas/design-check';
 
 // Invented TC-HC range (demo data): ~2.35 V titanate-type cells, about 2.3 kWh usable each.
-const cell = { cellMinV: 1.8, cellNominalV: 2.35, cellMaxV: 2.75, usableWh: 2300, maxContinuousC: 2, burstC: 4 };
+const cell = {
+	cellMinV: 1.8,
+	cellNominalV: 2.35,
+	cellMaxV: 2.75,
+	usableWh: 2300,
+	maxContinuousC: 2,
+	burstC: 4
+};
 const HC12: DesignModule = { ...cell, cellsSeries: 6, ratedAh: 170 };
 const HC24: DesignModule = { ...cell, cellsSeries: 11, ratedAh: 93 };
 const HC48: DesignModule = { ...cell, cellsSeries: 22, ratedAh: 46.5 };
@@ -13,7 +25,14 @@ const variants: DesignVariant[] = [
 	{ code: 'TC-HC-48', module: HC48 }
 ];
 // An invented "48 V" off-grid inverter.
-const inverter48: InverterWindow = { minV: 36, maxV: 64, preferredMinV: 39, preferredMaxV: 62, maxChargeA: 100, maxDischargeA: 120 };
+const inverter48: InverterWindow = {
+	minV: 36,
+	maxV: 64,
+	preferredMinV: 39,
+	preferredMaxV: 62,
+	maxChargeA: 100,
+	maxDischargeA: 120
+};
 
 describe('checkDesign: string voltage, energy, current, power', () => {
 	it('flags an overshooting string: 4 × TC-HC-12 = 24 cells × 2.75 V = 66.0 V above a 64 V maximum', () => {
@@ -49,7 +68,9 @@ describe('checkDesign: string voltage, energy, current, power', () => {
 	it('flags an undershooting string: 3 × TC-HC-12 = 18 cells × 1.8 V = 32.4 V below 36 V', () => {
 		const r = checkDesign({ module: HC12, series: 3, parallel: 1, inverter: inverter48 });
 		expect(r.fitsWindow).toBe(false);
-		expect(r.problems[0]).toContain("String minimum 32.4 V is below the inverter's 36.0 V DC minimum");
+		expect(r.problems[0]).toContain(
+			"String minimum 32.4 V is below the inverter's 36.0 V DC minimum"
+		);
 	});
 
 	it('fitsPreferred equals fitsWindow when the inverter names no preferred range', () => {
@@ -60,7 +81,12 @@ describe('checkDesign: string voltage, energy, current, power', () => {
 	});
 
 	it('fits the window but not a preferred 40–62 V range: 39.6 V minimum', () => {
-		const r = checkDesign({ module: HC48, series: 1, parallel: 3, inverter: { ...inverter48, preferredMinV: 40 } });
+		const r = checkDesign({
+			module: HC48,
+			series: 1,
+			parallel: 3,
+			inverter: { ...inverter48, preferredMinV: 40 }
+		});
 		expect(r.fitsWindow).toBe(true);
 		expect(r.fitsPreferred).toBe(false);
 		expect(r.problems.join(' ')).toContain('not its preferred 40.0 V to 62.0 V');
@@ -70,7 +96,9 @@ describe('checkDesign: string voltage, energy, current, power', () => {
 		const r = checkDesign({ module: HC48, series: 1, parallel: 1, inverter: inverter48 });
 		expect(r.continuousCurrentA).toBe(93);
 		expect(r.problems).toHaveLength(2);
-		expect(r.problems[0]).toContain("Battery continuous current 93.0 A (1 × 2C × 46.5 Ah) is below the inverter's 120.0 A maximum discharge current");
+		expect(r.problems[0]).toContain(
+			"Battery continuous current 93.0 A (1 × 2C × 46.5 Ah) is below the inverter's 120.0 A maximum discharge current"
+		);
 		expect(r.problems[1]).toContain("below the inverter's 100.0 A maximum charge current");
 	});
 
@@ -82,28 +110,64 @@ describe('checkDesign: string voltage, energy, current, power', () => {
 	});
 
 	it('says when the usable energy falls short of the target', () => {
-		const r = checkDesign({ module: HC48, series: 1, parallel: 2, inverter: inverter48, targetEnergyKWh: 9 });
+		const r = checkDesign({
+			module: HC48,
+			series: 1,
+			parallel: 2,
+			inverter: inverter48,
+			targetEnergyKWh: 9
+		});
 		expect(r.problems.join(' ')).toContain('Usable energy 4.6 kWh is below the 9.0 kWh target');
 	});
 });
 
 describe('checkDesign: suggestions fit a target', () => {
 	it('48 V inverter, 9 kWh: only 22-cell strings fit 36–64 V, each with 4 modules = 9.2 kWh', () => {
-		const r = checkDesign({ module: HC12, series: 4, parallel: 2, inverter: inverter48, targetEnergyKWh: 9, variants });
+		const r = checkDesign({
+			module: HC12,
+			series: 4,
+			parallel: 2,
+			inverter: inverter48,
+			targetEnergyKWh: 9,
+			variants
+		});
 		expect(r.suggestions).toEqual([
-			{ code: 'TC-HC-24', series: 2, parallel: 2, energyKWh: 9.2, stringVoltage: { min: 39.6, nominal: 51.7, max: 60.5 }, fitsPreferred: true },
-			{ code: 'TC-HC-48', series: 1, parallel: 4, energyKWh: 9.2, stringVoltage: { min: 39.6, nominal: 51.7, max: 60.5 }, fitsPreferred: true }
+			{
+				code: 'TC-HC-24',
+				series: 2,
+				parallel: 2,
+				energyKWh: 9.2,
+				stringVoltage: { min: 39.6, nominal: 51.7, max: 60.5 },
+				fitsPreferred: true
+			},
+			{
+				code: 'TC-HC-48',
+				series: 1,
+				parallel: 4,
+				energyKWh: 9.2,
+				stringVoltage: { min: 39.6, nominal: 51.7, max: 60.5 },
+				fitsPreferred: true
+			}
 		]);
 	});
 
 	it('high-voltage inverter 120–450 V (preferred 200–420 V), 40 kWh: preferred fit first, then least surplus', () => {
 		const hv: InverterWindow = { minV: 120, maxV: 450, preferredMinV: 200, preferredMaxV: 420 };
-		const r = checkDesign({ module: HC48, series: 6, parallel: 3, inverter: hv, targetEnergyKWh: 40, variants });
+		const r = checkDesign({
+			module: HC48,
+			series: 6,
+			parallel: 3,
+			inverter: hv,
+			targetEnergyKWh: 40,
+			variants
+		});
 		// Worked by hand: 6 × TC-HC-48 (237.6–363 V) × 3 = 18 modules = 41.4 kWh is the closest preferred fit;
 		// 18 × TC-HC-12 × 1 = 41.4 kWh too, but its 194.4 V minimum misses the preferred 200 V.
 		// Then 19, 20, 21, 22 × TC-HC-12 (43.7, 46.0, 48.3, 50.6 kWh); 11 × TC-HC-24 × 2 = 50.6 kWh
 		// ties the last on surplus and modules and loses on variant order.
-		expect(r.suggestions.map((s) => [s.code, s.series, s.parallel, s.energyKWh, s.fitsPreferred])).toEqual([
+		expect(
+			r.suggestions.map((s) => [s.code, s.series, s.parallel, s.energyKWh, s.fitsPreferred])
+		).toEqual([
 			['TC-HC-48', 6, 3, 41.4, true],
 			['TC-HC-12', 19, 1, 43.7, true],
 			['TC-HC-12', 20, 1, 46, true],
@@ -119,18 +183,38 @@ describe('checkDesign: suggestions fit a target', () => {
 	});
 
 	it('returns no suggestions when no variant fits the window', () => {
-		const r = checkDesign({ module: HC12, series: 1, parallel: 1, inverter: { minV: 20, maxV: 21 }, variants });
+		const r = checkDesign({
+			module: HC12,
+			series: 1,
+			parallel: 1,
+			inverter: { minV: 20, maxV: 21 },
+			variants
+		});
 		expect(r.suggestions).toEqual([]);
 	});
 
 	it('is plain JSON', () => {
-		const r = checkDesign({ module: HC24, series: 2, parallel: 2, inverter: inverter48, targetEnergyKWh: 9, variants });
+		const r = checkDesign({
+			module: HC24,
+			series: 2,
+			parallel: 2,
+			inverter: inverter48,
+			targetEnergyKWh: 9,
+			variants
+		});
 		expect(JSON.parse(JSON.stringify(r))).toEqual(r);
 	});
 });
 
 describe('designCheckInputSchema', () => {
-	const valid = { module: HC24, series: 2, parallel: 2, inverter: inverter48, targetEnergyKWh: 9, variants };
+	const valid = {
+		module: HC24,
+		series: 2,
+		parallel: 2,
+		inverter: inverter48,
+		targetEnergyKWh: 9,
+		variants
+	};
 	const paths = (input: unknown) => {
 		const r = designCheckInputSchema.safeParse(input);
 		return r.success ? [] : r.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`);
@@ -145,11 +229,15 @@ describe('designCheckInputSchema', () => {
 			'series: Modules in series must be at least 1',
 			'parallel: Strings in parallel must be a whole number'
 		]);
-		expect(paths({ ...valid, parallel: 65 })).toEqual(['parallel: Strings in parallel must be at most 64']);
+		expect(paths({ ...valid, parallel: 65 })).toEqual([
+			'parallel: Strings in parallel must be at most 64'
+		]);
 	});
 
 	it('names an inverter window with minimum above maximum, and a preferred range outside the window', () => {
-		expect(paths({ ...valid, inverter: { minV: 64, maxV: 36 } })).toContain('inverter.minV: Inverter DC minimum must be below its maximum');
+		expect(paths({ ...valid, inverter: { minV: 64, maxV: 36 } })).toContain(
+			'inverter.minV: Inverter DC minimum must be below its maximum'
+		);
 		expect(paths({ ...valid, inverter: { ...inverter48, preferredMaxV: 70 } })).toEqual([
 			'inverter.preferredMaxV: Preferred maximum must lie within the inverter DC window'
 		]);
@@ -159,7 +247,11 @@ describe('designCheckInputSchema', () => {
 		expect(paths({ ...valid, module: { ...HC24, cellMinV: 2.4 } })).toEqual([
 			'module.cellMinV: Cell minimum voltage must be below the nominal voltage'
 		]);
-		expect(paths({ ...valid, module: { ...HC24, ratedAh: -1 } })).toEqual(['module.ratedAh: Rated capacity must be above zero']);
-		expect(paths({ ...valid, targetEnergyKWh: 0 })).toEqual(['targetEnergyKWh: Target energy must be above zero']);
+		expect(paths({ ...valid, module: { ...HC24, ratedAh: -1 } })).toEqual([
+			'module.ratedAh: Rated capacity must be above zero'
+		]);
+		expect(paths({ ...valid, targetEnergyKWh: 0 })).toEqual([
+			'targetEnergyKWh: Target energy must be above zero'
+		]);
 	});
 });

@@ -35,10 +35,9 @@ describe('Voltage drop (Cutnell & Johnson Table 20.1, REFERENCES §9)', () => {
 
 	it('uses a given resistivity instead of copper', () => {
 		// Aluminium, 2.82e-8 Ω·m (Cutnell & Johnson Table 20.1).
-		expect(voltageDropV({ currentA: 100, oneWayLengthM: 5, areaMm2: 35, resistivityOhmM: 2.82e-8 })).toBeCloseTo(
-			0.8057,
-			4
-		);
+		expect(
+			voltageDropV({ currentA: 100, oneWayLengthM: 5, areaMm2: 35, resistivityOhmM: 2.82e-8 })
+		).toBeCloseTo(0.8057, 4);
 	});
 
 	it('rejects a zero cross-section', () => {
@@ -48,19 +47,35 @@ describe('Voltage drop (Cutnell & Johnson Table 20.1, REFERENCES §9)', () => {
 
 describe('Insulation test voltage and minimum, IEC 60364-6:2016 Table 6.1 (REFERENCES §4)', () => {
 	it('SELV / PELV: 250 V DC, 0.5 MΩ', () => {
-		expect(insulationRequirement(48, { selvPelv: true })).toEqual({ testVoltageV: 250, minMohm: 0.5, band: 'selv_pelv' });
+		expect(insulationRequirement(48, { selvPelv: true })).toEqual({
+			testVoltageV: 250,
+			minMohm: 0.5,
+			band: 'selv_pelv'
+		});
 	});
 
 	it('the band follows the circuit type: a 48 V circuit not built as SELV/PELV is in the middle row', () => {
-		expect(insulationRequirement(48)).toEqual({ testVoltageV: 500, minMohm: 1.0, band: 'up_to_500v' });
+		expect(insulationRequirement(48)).toEqual({
+			testVoltageV: 500,
+			minMohm: 1.0,
+			band: 'up_to_500v'
+		});
 	});
 
 	it('500 V is in the middle row: 500 V DC, 1.0 MΩ', () => {
-		expect(insulationRequirement(500)).toEqual({ testVoltageV: 500, minMohm: 1.0, band: 'up_to_500v' });
+		expect(insulationRequirement(500)).toEqual({
+			testVoltageV: 500,
+			minMohm: 1.0,
+			band: 'up_to_500v'
+		});
 	});
 
 	it('501 V is in the last row: 1000 V DC, 1.0 MΩ', () => {
-		expect(insulationRequirement(501)).toEqual({ testVoltageV: 1000, minMohm: 1.0, band: 'above_500v' });
+		expect(insulationRequirement(501)).toEqual({
+			testVoltageV: 1000,
+			minMohm: 1.0,
+			band: 'above_500v'
+		});
 	});
 });
 

@@ -12,7 +12,8 @@ import {
 } from '../../src/lib/domain/factory-csv';
 
 const NOW = new Date('2026-03-12T12:00:00Z');
-const HEADER = 'serial,tested_at,capacity_ah,energy_wh,dcir_mohm,ocv_v,cell_spread_mv,insulation_mohm,ambient_c,rig,operator';
+const HEADER =
+	'serial,tested_at,capacity_ah,energy_wh,dcir_mohm,ocv_v,cell_spread_mv,insulation_mohm,ambient_c,rig,operator';
 const ROW = 'TW48-0001,2026-03-12T08:15:00Z,46.2,2365.4,2.1,53.1,12,550,21.5,RIG-2,jm';
 
 /** Lines joined by CRLF, the RFC 4180 record separator. */
@@ -52,13 +53,17 @@ function rowErrors(over: Record<string, string>, opts: { decimalComma?: boolean 
 
 describe('parseFactoryCsv — RFC 4180 records', () => {
 	it('RFC 4180 §2 example: "aaa","b""bb","ccc" gives the field b"bb', () => {
-		const p = parsedOk(csv(HEADER, 'TW48-0001,2026-03-12T08:15:00Z,46.2,,2.1,,12,550,,"b""bb","ccc"'));
+		const p = parsedOk(
+			csv(HEADER, 'TW48-0001,2026-03-12T08:15:00Z,46.2,,2.1,,12,550,,"b""bb","ccc"')
+		);
 		expect(p.rows[0].raw.rig).toBe('b"bb');
 		expect(p.rows[0].raw.operator).toBe('ccc');
 	});
 
 	it('RFC 4180 §2 example: a quoted field may hold CRLF; the next record is still the next spreadsheet row', () => {
-		const p = parsedOk(csv(HEADER, 'TW48-0001,2026-03-12T08:15:00Z,46.2,,2.1,,12,550,,RIG-2,"b\r\nbb"', ROW));
+		const p = parsedOk(
+			csv(HEADER, 'TW48-0001,2026-03-12T08:15:00Z,46.2,,2.1,,12,550,,RIG-2,"b\r\nbb"', ROW)
+		);
 		expect(p.rows.map((r) => r.row)).toEqual([2, 3]);
 		expect(p.rows[0].raw.operator).toBe('b\r\nbb');
 	});
@@ -75,11 +80,20 @@ describe('parseFactoryCsv — RFC 4180 records', () => {
 	});
 
 	it('reads `;` files with decimal commas, as European rigs write them', () => {
-		const p = parsedOk(csv(HEADER.replaceAll(',', ';'), 'TW48-0001;2026-03-12T08:15:00Z;45,2;;2,1;;12;550;-3,5;RIG-2;jm'));
+		const p = parsedOk(
+			csv(
+				HEADER.replaceAll(',', ';'),
+				'TW48-0001;2026-03-12T08:15:00Z;45,2;;2,1;;12;550;-3,5;RIG-2;jm'
+			)
+		);
 		expect(p.delimiter).toBe(';');
 		expect(p.decimalComma).toBe(true);
-		const v = validateRowValues(p.rows[0].raw, p.rows[0].row, NOW, { decimalComma: p.decimalComma });
-		expect(v.ok && [v.value.capacityAh, v.value.dcirMohm, v.value.ambientC]).toEqual([45.2, 2.1, -3.5]);
+		const v = validateRowValues(p.rows[0].raw, p.rows[0].row, NOW, {
+			decimalComma: p.decimalComma
+		});
+		expect(v.ok && [v.value.capacityAh, v.value.dcirMohm, v.value.ambientC]).toEqual([
+			45.2, 2.1, -3.5
+		]);
 	});
 
 	it('counts blank lines as spreadsheet rows but returns no row for them', () => {
@@ -88,11 +102,15 @@ describe('parseFactoryCsv — RFC 4180 records', () => {
 	});
 
 	it('tolerates trailing empty cells but reports a row split by an unquoted comma', () => {
-		const p = parsedOk(csv(HEADER, ROW + ',,', 'TW48-0002,2026-03-12T08:15:00Z,46,2,,2.1,,12,550,,RIG-2,jm'));
+		const p = parsedOk(
+			csv(HEADER, ROW + ',,', 'TW48-0002,2026-03-12T08:15:00Z,46,2,,2.1,,12,550,,RIG-2,jm')
+		);
 		expect(p.rows.map((r) => r.row)).toEqual([2]);
 		expect(p.rowErrors).toHaveLength(1);
 		expect(p.rowErrors[0].row).toBe(3);
-		expect(p.rowErrors[0].message).toMatch(/12 values but the header has 11 columns.*decimal comma/);
+		expect(p.rowErrors[0].message).toMatch(
+			/12 values but the header has 11 columns.*decimal comma/
+		);
 	});
 });
 
@@ -115,7 +133,12 @@ describe('header matching', () => {
 	});
 
 	it('maps a spreadsheet header row and lists the columns it ignores', () => {
-		const p = parsedOk(csv('Serial Number,Tested At,Capacity (Ah),DCIR [mOhm],Cell Spread (mV),Insulation [MOhm],Comment', 'TW48-0001,2026-03-12T08:15:00Z,46.2,2.1,12,550,ok'));
+		const p = parsedOk(
+			csv(
+				'Serial Number,Tested At,Capacity (Ah),DCIR [mOhm],Cell Spread (mV),Insulation [MOhm],Comment',
+				'TW48-0001,2026-03-12T08:15:00Z,46.2,2.1,12,550,ok'
+			)
+		);
 		expect(p.headerMap).toEqual({
 			serial: 'Serial Number',
 			tested_at: 'Tested At',
@@ -128,12 +151,18 @@ describe('header matching', () => {
 	});
 
 	it('refuses a unit suffix that contradicts the column: ohm for DCIR, milliohm for insulation', () => {
-		expect(parseError(csv(HEADER.replace('dcir_mohm', 'DCIR (Ohm)'), ROW))).toMatch(/"DCIR \(Ohm\)" is in Ohm, but dcir_mohm must be in mΩ/);
-		expect(parseError(csv(HEADER.replace('insulation_mohm', 'Insulation [mOhm]'), ROW))).toMatch(/insulation_mohm must be in MΩ/);
+		expect(parseError(csv(HEADER.replace('dcir_mohm', 'DCIR (Ohm)'), ROW))).toMatch(
+			/"DCIR \(Ohm\)" is in Ohm, but dcir_mohm must be in mΩ/
+		);
+		expect(parseError(csv(HEADER.replace('insulation_mohm', 'Insulation [mOhm]'), ROW))).toMatch(
+			/insulation_mohm must be in MΩ/
+		);
 	});
 
 	it('refuses two columns that mean the same thing', () => {
-		expect(parseError(csv(HEADER + ',DCIR [mOhm]', ROW + ',2.2'))).toBe('The columns "dcir_mohm" and "DCIR [mOhm]" both mean dcir_mohm; keep one of them.');
+		expect(parseError(csv(HEADER + ',DCIR [mOhm]', ROW + ',2.2'))).toBe(
+			'The columns "dcir_mohm" and "DCIR [mOhm]" both mean dcir_mohm; keep one of them.'
+		);
 	});
 });
 
@@ -148,14 +177,23 @@ describe('parseFactoryCsv — file-level errors', () => {
 	});
 
 	it('binary: NUL bytes (e.g. UTF-16), a zip/xlsx signature, or mostly unprintable characters', () => {
-		expect(parseError('s\u0000e\u0000r\u0000i\u0000a\u0000l\u0000')).toMatch(/^This does not look like a CSV text file.*UTF-16/);
-		expect(parseError('PK\u0003\u0004\u0014\u0000\u0006\u0000')).toMatch(/^This does not look like a CSV text file.*Excel workbook/);
-		const garbage = Array.from({ length: 400 }, (_, i) => String.fromCharCode((i * 37) % 32 === 9 ? 1 : (i * 37) % 32) + '\uFFFD').join('');
+		expect(parseError('s\u0000e\u0000r\u0000i\u0000a\u0000l\u0000')).toMatch(
+			/^This does not look like a CSV text file.*UTF-16/
+		);
+		expect(parseError('PK\u0003\u0004\u0014\u0000\u0006\u0000')).toMatch(
+			/^This does not look like a CSV text file.*Excel workbook/
+		);
+		const garbage = Array.from(
+			{ length: 400 },
+			(_, i) => String.fromCharCode((i * 37) % 32 === 9 ? 1 : (i * 37) % 32) + '\uFFFD'
+		).join('');
 		expect(parseError(garbage)).toMatch(/^This does not look like a CSV text file/);
 	});
 
 	it('a stray degree sign in the wrong encoding (one U+FFFD) is not "binary"', () => {
-		expect(parsedOk(csv(HEADER.replace('ambient_c', 'Ambient (\uFFFDC)'), ROW)).rows).toHaveLength(1);
+		expect(parsedOk(csv(HEADER.replace('ambient_c', 'Ambient (\uFFFDC)'), ROW)).rows).toHaveLength(
+			1
+		);
 	});
 
 	it('missing required columns are named, and the columns found are listed', () => {
@@ -167,20 +205,37 @@ describe('parseFactoryCsv — file-level errors', () => {
 
 	it('dcir_mohm may be replaced by all four pulse columns, not by some of them', () => {
 		const base = 'serial,tested_at,capacity_ah,cell_spread_mv,insulation_mohm';
-		expect(parsedOk(csv(`${base},pulse_u1_v,pulse_i1_a,pulse_u2_v,pulse_i2_a`, 'TW48-0001,2026-03-12T08:15:00Z,280,12,550,3.3,56,3.244,280')).ok).toBe(true);
-		expect(parseError(csv(`${base},pulse_u1_v,pulse_i1_a`, 'TW48-0001,2026-03-12T08:15:00Z,280,12,550,3.3,56'))).toMatch(
+		expect(
+			parsedOk(
+				csv(
+					`${base},pulse_u1_v,pulse_i1_a,pulse_u2_v,pulse_i2_a`,
+					'TW48-0001,2026-03-12T08:15:00Z,280,12,550,3.3,56,3.244,280'
+				)
+			).ok
+		).toBe(true);
+		expect(
+			parseError(
+				csv(`${base},pulse_u1_v,pulse_i1_a`, 'TW48-0001,2026-03-12T08:15:00Z,280,12,550,3.3,56')
+			)
+		).toMatch(
 			/Missing required column: dcir_mohm \(or all four of pulse_u1_v, pulse_i1_a, pulse_u2_v, pulse_i2_a\)/
 		);
 	});
 
 	it('a quote that is never closed ends the import with its row', () => {
-		expect(parseError(csv(HEADER, ROW, 'TW48-0002,"2026-03-12T08:15:00Z,46.2'))).toMatch(/^Row 3 has a double quote \(\"\) that is never closed/);
+		expect(parseError(csv(HEADER, ROW, 'TW48-0002,"2026-03-12T08:15:00Z,46.2'))).toMatch(
+			/^Row 3 has a double quote \(\"\) that is never closed/
+		);
 	});
 });
 
 describe('validateRowValues — a valid row', () => {
 	it('converts the values and keeps optional ones null when empty', () => {
-		const v = validateRowValues(raw({ energy_wh: '', ocv_v: '', ambient_c: '', operator: '' }), 2, NOW);
+		const v = validateRowValues(
+			raw({ energy_wh: '', ocv_v: '', ambient_c: '', operator: '' }),
+			2,
+			NOW
+		);
 		expect(v).toEqual({
 			ok: true,
 			value: {
@@ -202,25 +257,47 @@ describe('validateRowValues — a valid row', () => {
 	});
 
 	it('computes DCIR from the pulse columns when dcir_mohm is empty (REFERENCES §3: 0.250 mΩ)', () => {
-		const v = validateRowValues(raw({ dcir_mohm: '', pulse_u1_v: '3.300', pulse_i1_a: '56', pulse_u2_v: '3.244', pulse_i2_a: '280' }), 2, NOW);
+		const v = validateRowValues(
+			raw({
+				dcir_mohm: '',
+				pulse_u1_v: '3.300',
+				pulse_i1_a: '56',
+				pulse_u2_v: '3.244',
+				pulse_i2_a: '280'
+			}),
+			2,
+			NOW
+		);
 		expect(v.ok && [v.value.dcirMohm, v.value.dcirSource]).toEqual([0.25, 'two_pulse']);
 	});
 
 	it('zero cell spread and zero insulation are possible readings; ambient −40 and 85 °C are the bounds', () => {
-		expect(validateRowValues(raw({ cell_spread_mv: '0', insulation_mohm: '0', ambient_c: '-40' }), 2, NOW).ok).toBe(true);
+		expect(
+			validateRowValues(
+				raw({ cell_spread_mv: '0', insulation_mohm: '0', ambient_c: '-40' }),
+				2,
+				NOW
+			).ok
+		).toBe(true);
 		expect(validateRowValues(raw({ ambient_c: '85' }), 2, NOW).ok).toBe(true);
 	});
 
 	it('allows 5 minutes of clock skew between rig and server', () => {
 		expect(validateRowValues(raw({ tested_at: '2026-03-12T12:04:59Z' }), 2, NOW).ok).toBe(true);
-		expect(validateRowValues(raw({ tested_at: '2026-03-12T13:04:00+01:00' }), 2, NOW).ok).toBe(true);
+		expect(validateRowValues(raw({ tested_at: '2026-03-12T13:04:00+01:00' }), 2, NOW).ok).toBe(
+			true
+		);
 	});
 });
 
 describe('validateRowValues — each row error says what to fix', () => {
 	it('reports the row number given and the column', () => {
 		expect(rowErrors({ serial: '' })).toEqual([
-			{ row: 7, column: 'serial', message: 'Serial is empty; every row needs the serial number of the module tested.' }
+			{
+				row: 7,
+				column: 'serial',
+				message: 'Serial is empty; every row needs the serial number of the module tested.'
+			}
 		]);
 	});
 
@@ -230,7 +307,9 @@ describe('validateRowValues — each row error says what to fix', () => {
 		expect(e.message).toContain('2026-03-12T');
 		expect(e.message).toMatch(/not an ISO 8601 date; write the year first/);
 		// Unambiguous when the first number cannot be a month.
-		expect(rowErrors({ tested_at: '25.03.2026 08:15' })[0].message).toContain('e.g. 2026-03-25T08:15:00Z.');
+		expect(rowErrors({ tested_at: '25.03.2026 08:15' })[0].message).toContain(
+			'e.g. 2026-03-25T08:15:00Z.'
+		);
 	});
 
 	it.each([
@@ -263,7 +342,11 @@ describe('validateRowValues — each row error says what to fix', () => {
 		['cell_spread_mv', '-1', /must be at least 0 and at most 5000 mV/],
 		['cell_spread_mv', '', /Cell voltage spread is empty/],
 		['insulation_mohm', '1000001', /Insulation resistance 1000001 MΩ is out of range/],
-		['ambient_c', '-41', /Ambient temperature -41 °C is out of range: it must be at least -40 and at most 85 °C/]
+		[
+			'ambient_c',
+			'-41',
+			/Ambient temperature -41 °C is out of range: it must be at least -40 and at most 85 °C/
+		]
 	])('%s %j', (column, value, message) => {
 		const errs = rowErrors({ [column]: value });
 		expect(errs).toHaveLength(1);
@@ -272,20 +355,42 @@ describe('validateRowValues — each row error says what to fix', () => {
 	});
 
 	it('a decimal comma is read only when the file is `;`-separated', () => {
-		expect(validateRowValues(raw({ capacity_ah: '45,2' }), 2, NOW, { decimalComma: true }).ok).toBe(true);
-		expect(rowErrors({ capacity_ah: '1.234,5' }, { decimalComma: true })[0].message).toMatch(/e\.g\. 1234,5/);
+		expect(validateRowValues(raw({ capacity_ah: '45,2' }), 2, NOW, { decimalComma: true }).ok).toBe(
+			true
+		);
+		expect(rowErrors({ capacity_ah: '1.234,5' }, { decimalComma: true })[0].message).toMatch(
+			/e\.g\. 1234,5/
+		);
 	});
 
 	it('DCIR: empty with no pulse columns, incomplete pulse, or an impossible pulse', () => {
-		expect(rowErrors({ dcir_mohm: '' })[0].message).toMatch(/DC internal resistance is empty; enter it in mΩ, or fill the four pulse columns/);
+		expect(rowErrors({ dcir_mohm: '' })[0].message).toMatch(
+			/DC internal resistance is empty; enter it in mΩ, or fill the four pulse columns/
+		);
 		const partial = rowErrors({ dcir_mohm: '', pulse_u1_v: '3.3', pulse_i1_a: '56' });
 		expect(partial.map((e) => e.column)).toEqual(['pulse_u2_v', 'pulse_i2_a']);
-		const swapped = rowErrors({ dcir_mohm: '', pulse_u1_v: '3.3', pulse_i1_a: '280', pulse_u2_v: '3.244', pulse_i2_a: '56' });
-		expect(swapped).toEqual([{ row: 7, column: 'dcir_mohm', message: expect.stringMatching(/cannot be computed from the pulse columns: The second pulse current I2 \(56 A\) must be higher/) }]);
+		const swapped = rowErrors({
+			dcir_mohm: '',
+			pulse_u1_v: '3.3',
+			pulse_i1_a: '280',
+			pulse_u2_v: '3.244',
+			pulse_i2_a: '56'
+		});
+		expect(swapped).toEqual([
+			{
+				row: 7,
+				column: 'dcir_mohm',
+				message: expect.stringMatching(
+					/cannot be computed from the pulse columns: The second pulse current I2 \(56 A\) must be higher/
+				)
+			}
+		]);
 	});
 
 	it('reports every problem of a row at once', () => {
-		expect(rowErrors({ serial: '', capacity_ah: 'x', insulation_mohm: '' }).map((e) => e.column)).toEqual(['serial', 'capacity_ah', 'insulation_mohm']);
+		expect(
+			rowErrors({ serial: '', capacity_ah: 'x', insulation_mohm: '' }).map((e) => e.column)
+		).toEqual(['serial', 'capacity_ah', 'insulation_mohm']);
 	});
 });
 
@@ -308,37 +413,65 @@ describe('rowKey and duplicates', () => {
 	it('is the same for the same instant written with another offset, and differs by rig', () => {
 		expect(rowKey(base)).toBe(rowKey({ ...base, testedAt: new Date('2026-03-12T09:15:00+01:00') }));
 		expect(rowKey(base)).not.toBe(rowKey({ ...base, rig: 'RIG-3' }));
-		expect(rowKey({ ...base, serial: 'A|B', rig: 'C' })).not.toBe(rowKey({ ...base, serial: 'A', rig: 'B|C' }));
+		expect(rowKey({ ...base, serial: 'A|B', rig: 'C' })).not.toBe(
+			rowKey({ ...base, serial: 'A', rig: 'B|C' })
+		);
 	});
 
 	it('validateFactoryCsv reports a repeated test on the later row, under the header as written', () => {
-		const text = csv('Serial,Tested At,Capacity (Ah),DCIR (mOhm),Cell spread (mV),Insulation (MOhm),Rig', 'TW48-0001,2026-03-12T08:15:00Z,46.2,2.1,12,550,RIG-2', 'TW48-0002,2026-03-12T08:20:00Z,0,2.1,12,550,RIG-2', 'TW48-0001,2026-03-12T09:15:00+01:00,46.3,2.1,12,550,RIG-2');
+		const text = csv(
+			'Serial,Tested At,Capacity (Ah),DCIR (mOhm),Cell spread (mV),Insulation (MOhm),Rig',
+			'TW48-0001,2026-03-12T08:15:00Z,46.2,2.1,12,550,RIG-2',
+			'TW48-0002,2026-03-12T08:20:00Z,0,2.1,12,550,RIG-2',
+			'TW48-0001,2026-03-12T09:15:00+01:00,46.3,2.1,12,550,RIG-2'
+		);
 		const v = validateFactoryCsv(text, NOW);
 		if (!v.ok) throw new Error(v.error);
 		expect(v.rows.map((r) => r.row)).toEqual([2]);
 		expect(v.errors).toEqual([
-			{ row: 3, column: 'Capacity (Ah)', message: expect.stringMatching(/^Capacity 0 Ah is out of range/) },
-			{ row: 4, column: 'Serial', message: 'Same serial, test time and rig as row 2; remove the duplicate row.' }
+			{
+				row: 3,
+				column: 'Capacity (Ah)',
+				message: expect.stringMatching(/^Capacity 0 Ah is out of range/)
+			},
+			{
+				row: 4,
+				column: 'Serial',
+				message: 'Same serial, test time and rig as row 2; remove the duplicate row.'
+			}
 		]);
 	});
 });
 
 describe('error report CSV — OWASP CSV injection (from memory) and RFC 4180 writing', () => {
 	it('neutralises cells that a spreadsheet would run as a formula', () => {
-		expect(['=1+1', '+41', '-2', '@SUM(A1)', '\t=1', '\r=1'].map(neutraliseCell)).toEqual(["'=1+1", "'+41", "'-2", "'@SUM(A1)", "'\t=1", "'\r=1"]);
+		expect(['=1+1', '+41', '-2', '@SUM(A1)', '\t=1', '\r=1'].map(neutraliseCell)).toEqual([
+			"'=1+1",
+			"'+41",
+			"'-2",
+			"'@SUM(A1)",
+			"'\t=1",
+			"'\r=1"
+		]);
 		expect(neutraliseCell('Capacity 0 Ah')).toBe('Capacity 0 Ah');
 		expect(neutraliseCell('a=b')).toBe('a=b');
 	});
 
 	it('writes row,column,message with a BOM and CRLF, and reads back to the same errors', () => {
 		const errors = [
-			{ row: 2, column: '=HYPERLINK("http://x")', message: 'Capacity "45,2" has a decimal comma; write 45.2.' },
+			{
+				row: 2,
+				column: '=HYPERLINK("http://x")',
+				message: 'Capacity "45,2" has a decimal comma; write 45.2.'
+			},
 			{ row: 3, column: 'Rig', message: '-1 is not a rig\r\nsecond line' }
 		];
 		const out = toErrorReportCsv(errors);
 		expect(out.startsWith('\uFEFFrow,column,message\r\n')).toBe(true);
 		expect(out.endsWith('\r\n')).toBe(true);
-		expect(out).toContain('2,"\'=HYPERLINK(""http://x"")","Capacity ""45,2"" has a decimal comma; write 45.2."');
+		expect(out).toContain(
+			'2,"\'=HYPERLINK(""http://x"")","Capacity ""45,2"" has a decimal comma; write 45.2."'
+		);
 		const back = Papa.parse<string[]>(out.slice(1), { skipEmptyLines: true }).data;
 		expect(back).toEqual([
 			['row', 'column', 'message'],

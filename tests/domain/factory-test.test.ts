@@ -15,7 +15,9 @@ describe('dcirTwoPulse — IEC 61960-3 / IEC 62620 two-step pulse', () => {
 
 	it('refuses I2 not above I1, since the formula divides by I2 − I1', () => {
 		expect(() => dcirTwoPulse({ u1V: 3.3, i1A: 280, u2V: 3.244, i2A: 56 })).toThrow(RangeError);
-		expect(() => dcirTwoPulse({ u1V: 3.3, i1A: 56, u2V: 3.244, i2A: 56 })).toThrow(/higher than the first/);
+		expect(() => dcirTwoPulse({ u1V: 3.3, i1A: 56, u2V: 3.244, i2A: 56 })).toThrow(
+			/higher than the first/
+		);
 	});
 
 	it('refuses a voltage that rises under the higher current (swapped columns)', () => {
@@ -28,8 +30,19 @@ describe('dcirTwoPulse — IEC 61960-3 / IEC 62620 two-step pulse', () => {
 });
 
 describe('evaluateResult — factory test verdict against model limits', () => {
-	const limits: TestLimits = { minCapacityAh: 45, maxDcirMohm: 3, maxCellSpreadMv: 30, minInsulationMohm: 1 };
-	const good = { capacityAh: 46.2, dcirMohm: 2.1, cellSpreadMv: 12, insulationMohm: 550, serial: 'TW48-0001' };
+	const limits: TestLimits = {
+		minCapacityAh: 45,
+		maxDcirMohm: 3,
+		maxCellSpreadMv: 30,
+		minInsulationMohm: 1
+	};
+	const good = {
+		capacityAh: 46.2,
+		dcirMohm: 2.1,
+		cellSpreadMv: 12,
+		insulationMohm: 550,
+		serial: 'TW48-0001'
+	};
 
 	it('passes a result inside all limits and keeps extra fields out of the verdict', () => {
 		expect(evaluateResult(good, limits)).toEqual({ outcome: 'pass', failures: [] });
@@ -62,6 +75,9 @@ describe('evaluateResult — factory test verdict against model limits', () => {
 	it('fails a missing value instead of letting NaN slip through the comparisons', () => {
 		const v = evaluateResult({ ...good, insulationMohm: Number.NaN }, limits);
 		expect(v.outcome).toBe('fail');
-		expect(v.failures[0]).toMatchObject({ check: 'insulation', message: 'Insulation resistance is missing or not a number' });
+		expect(v.failures[0]).toMatchObject({
+			check: 'insulation',
+			message: 'Insulation resistance is missing or not a number'
+		});
 	});
 });

@@ -12,7 +12,12 @@ import {
 
 // GS1 character set 82 as listed in the GS1 General Specifications (REFERENCES.md §1).
 const CSET82 =
-	'!"%&\'()*+,-./' + '0123456789' + ':;<=>?' + 'ABCDEFGHIJKLMNOPQRSTUVWXYZ' + '_' + 'abcdefghijklmnopqrstuvwxyz';
+	'!"%&\'()*+,-./' +
+	'0123456789' +
+	':;<=>?' +
+	'ABCDEFGHIJKLMNOPQRSTUVWXYZ' +
+	'_' +
+	'abcdefghijklmnopqrstuvwxyz';
 
 describe('GS1 check digit (GS1 General Specifications)', () => {
 	it("GS1's own check-digit example: 629104150021 → 3", () => {
@@ -81,7 +86,8 @@ describe('AI 21 serial: GS1 character set 82, 1–20 characters (GS1 General Spe
 	});
 
 	it('rejects space, #, @ and é (the examples of REFERENCES §1)', () => {
-		for (const bad of ['AB 12', 'AB#12', 'AB@12', 'ABé12']) expect(isValidGs1Serial(bad)).toBe(false);
+		for (const bad of ['AB 12', 'AB#12', 'AB@12', 'ABé12'])
+			expect(isValidGs1Serial(bad)).toBe(false);
 	});
 
 	it('accepts 1 to 20 characters, rejects empty and 21', () => {
@@ -117,7 +123,9 @@ describe('Digital Link URI (GS1 Digital Link Standard: URI Syntax)', () => {
 
 	it('refuses to build with an invalid GTIN or serial', () => {
 		expect(() => buildDigitalLink('https://id.example', '09521234543214', '1')).toThrow(Gs1Error);
-		expect(() => buildDigitalLink('https://id.example', '09521234543213', 'AB 12')).toThrow(/character set 82/);
+		expect(() => buildDigitalLink('https://id.example', '09521234543213', 'AB 12')).toThrow(
+			/character set 82/
+		);
 		expect(() => buildDigitalLink('https://id.example', '09521234543213', '')).toThrow(Gs1Error);
 	});
 

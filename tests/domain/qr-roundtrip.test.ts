@@ -12,7 +12,12 @@ import { parseDigitalLink } from '../../src/lib/domain/gs1';
 import { extractSerialFromScan, formatSerial } from '../../src/lib/domain/serial';
 
 async function roundTrip(payload: string): Promise<string | undefined> {
-	const png = await QRCode.toBuffer(payload, { type: 'png', errorCorrectionLevel: 'M', margin: 4, scale: 6 });
+	const png = await QRCode.toBuffer(payload, {
+		type: 'png',
+		errorCorrectionLevel: 'M',
+		margin: 4,
+		scale: 6
+	});
 	const image = PNG.sync.read(png);
 	return jsQR(new Uint8ClampedArray(image.data), image.width, image.height)?.data;
 }

@@ -1,7 +1,16 @@
 import { describe as group, expect, it } from 'vitest';
 import * as ss from 'simple-statistics';
 import jStat from 'jstat';
-import { capability, describe, grubbs, grubbsCritical, histogram, MAX_BINS, quantileType7, tukeyFences } from '../../src/lib/domain/quality';
+import {
+	capability,
+	describe,
+	grubbs,
+	grubbsCritical,
+	histogram,
+	MAX_BINS,
+	quantileType7,
+	tukeyFences
+} from '../../src/lib/domain/quality';
 
 /** Plain-loop mean and sample standard deviation, independent of both libraries. */
 function handMeanSd(xs: number[]) {
@@ -74,7 +83,11 @@ group('capability — Cp/Cpk', () => {
 	});
 
 	it('is null with a reason when σ is 0 or unknown, no limit is set, or the limits are reversed', () => {
-		expect(capability({ mean: 16, sd: 0 }, { lsl: 8, usl: 20 })).toMatchObject({ cp: null, cpk: null, reason: expect.stringMatching(/standard deviation is zero/) });
+		expect(capability({ mean: 16, sd: 0 }, { lsl: 8, usl: 20 })).toMatchObject({
+			cp: null,
+			cpk: null,
+			reason: expect.stringMatching(/standard deviation is zero/)
+		});
 		expect(capability({ mean: 16, sd: null }, { lsl: 8 }).reason).toMatch(/unknown/);
 		expect(capability({ mean: 16, sd: 2 }, {}).reason).toMatch(/No specification limit/);
 		expect(capability({ mean: 16, sd: 2 }, { lsl: 20, usl: 8 }).reason).toMatch(/must be above/);
@@ -93,13 +106,17 @@ group('quantileType7 — Hyndman & Fan type 7 (R default)', () => {
 		for (let p = 0; p <= 1.0000001; p += 0.01) {
 			const q = Math.min(p, 1);
 			expect(quantileType7(sorted, q)).toBeCloseTo(rType7(sorted, q), 10);
-			expect(quantileType7([1, 2, 3, 4, 5, 6, 7, 8, 9, 10], q)).toBeCloseTo(rType7([1, 2, 3, 4, 5, 6, 7, 8, 9, 10], q), 10);
+			expect(quantileType7([1, 2, 3, 4, 5, 6, 7, 8, 9, 10], q)).toBeCloseTo(
+				rType7([1, 2, 3, 4, 5, 6, 7, 8, 9, 10], q),
+				10
+			);
 		}
 		expect(quantileType7([1, 2, 3, 4, 5, 6, 7, 8, 9, 10], 0.33)).toBeCloseTo(3.97, 10); // 1 + 9 × 0.33
 	});
 
-	it("simple-statistics 7.12.1 quantileSorted is type 7 too (checked in its source), and agrees", () => {
-		for (const p of [0, 0.1, 0.25, 0.5, 0.75, 0.9, 1]) expect(quantileType7(sorted, p)).toBeCloseTo(ss.quantileSorted(sorted, p), 10);
+	it('simple-statistics 7.12.1 quantileSorted is type 7 too (checked in its source), and agrees', () => {
+		for (const p of [0, 0.1, 0.25, 0.5, 0.75, 0.9, 1])
+			expect(quantileType7(sorted, p)).toBeCloseTo(ss.quantileSorted(sorted, p), 10);
 	});
 
 	it('jStat.quantiles matches only with alphap = betap = 1; its default (3/8, 3/8, type 9) gives another Q1', () => {
@@ -119,7 +136,7 @@ group('quantileType7 — Hyndman & Fan type 7 (R default)', () => {
 	});
 });
 
-group("tukeyFences — NIST/SEMATECH e-Handbook §7.1.6", () => {
+group('tukeyFences — NIST/SEMATECH e-Handbook §7.1.6', () => {
 	it('NIST §7.1.6 data, type-7 quartiles: IQR 9.2, inner fences 30.3 / 67.1, outer 16.5 / 80.9 [calc]', () => {
 		const f = tukeyFences(NIST_716);
 		expect(f.method).toBe('hyndman-fan-type-7');
@@ -143,7 +160,7 @@ group("tukeyFences — NIST/SEMATECH e-Handbook §7.1.6", () => {
 	});
 });
 
-group("grubbs — NIST/SEMATECH e-Handbook §1.3.5.17", () => {
+group('grubbs — NIST/SEMATECH e-Handbook §1.3.5.17', () => {
 	it('NIST §1.3.5.17.1 example: G = 2.4688, critical 2.1266 (α 0.05, N 8) → 245.57 is an outlier', () => {
 		const r = grubbs(NIST_GRUBBS);
 		if (!r.applicable) throw new Error(r.reason);
@@ -159,7 +176,10 @@ group("grubbs — NIST/SEMATECH e-Handbook §1.3.5.17", () => {
 		const n = 8;
 		const t = jStat.studentt.inv(1 - 0.05 / (2 * n), n - 2);
 		expect(jStat.studentt.cdf(t, n - 2)).toBeCloseTo(1 - 0.05 / 16, 9);
-		expect(grubbsCritical(n)).toBeCloseTo(((n - 1) / Math.sqrt(n)) * Math.sqrt((t * t) / (n - 2 + t * t)), 12);
+		expect(grubbsCritical(n)).toBeCloseTo(
+			((n - 1) / Math.sqrt(n)) * Math.sqrt((t * t) / (n - 2 + t * t)),
+			12
+		);
 	});
 
 	it('critical values agree with a published two-sided table at α 0.05 (third-party copy): N 10 → 2.2900, 20 → 2.7082, 100 → 3.3841', () => {
@@ -169,7 +189,10 @@ group("grubbs — NIST/SEMATECH e-Handbook §1.3.5.17", () => {
 	});
 
 	it('is not applicable for N ≤ 6 (NIST) or when all values are equal', () => {
-		expect(grubbs(NIST_GRUBBS.slice(0, 6))).toEqual({ applicable: false, reason: "Grubbs' test needs at least 7 values; there are 6." });
+		expect(grubbs(NIST_GRUBBS.slice(0, 6))).toEqual({
+			applicable: false,
+			reason: "Grubbs' test needs at least 7 values; there are 6."
+		});
 		expect(grubbs(NIST_GRUBBS.slice(1)).applicable).toBe(true);
 		expect(grubbs([5, 5, 5, 5, 5, 5, 5, 5])).toMatchObject({ applicable: false });
 	});

@@ -109,8 +109,12 @@ describe('formatSerial', () => {
 	it('writes PL{variant}-{YY}-{NNNNNN}{check}', () => {
 		expect(formatSerial({ variant: '48', year: 2026, number: 123 })).toBe('PL48-26-000123F');
 		expect(SERIAL_EXAMPLE).toBe('PL48-26-000123F');
-		expect(formatSerial({ variant: '12', year: 2009, number: 999_999 })).toMatch(/^PL12-09-999999[0-9A-Z]$/);
-		expect(formatSerial({ variant: 'A', year: 2000, number: 1 })).toMatch(/^PLA-00-000001[0-9A-Z]$/);
+		expect(formatSerial({ variant: '12', year: 2009, number: 999_999 })).toMatch(
+			/^PL12-09-999999[0-9A-Z]$/
+		);
+		expect(formatSerial({ variant: 'A', year: 2000, number: 1 })).toMatch(
+			/^PLA-00-000001[0-9A-Z]$/
+		);
 	});
 
 	it('refuses parts that cannot make a serial, with a message', () => {
@@ -126,7 +130,8 @@ describe('formatSerial', () => {
 			{ variant: '48', year: 2026, number: 1_000_000 },
 			{ variant: '48', year: 2026, number: 1.5 }
 		];
-		for (const parts of bad) expect(() => formatSerial(parts), JSON.stringify(parts)).toThrow(SerialError);
+		for (const parts of bad)
+			expect(() => formatSerial(parts), JSON.stringify(parts)).toThrow(SerialError);
 	});
 });
 
@@ -156,7 +161,12 @@ describe('serialRun', () => {
 describe('parseSerial', () => {
 	it('reads a serial in any case, with surrounding whitespace or without hyphens', () => {
 		const expected = { ok: true, serial: 'PL48-26-000123F', variant: '48', year2: 26, number: 123 };
-		for (const typed of ['PL48-26-000123F', '  pl48-26-000123f\n', 'PL4826000123F', 'pl48-26000123f']) {
+		for (const typed of [
+			'PL48-26-000123F',
+			'  pl48-26-000123f\n',
+			'PL4826000123F',
+			'pl48-26000123f'
+		]) {
 			expect(parseSerial(typed), typed).toEqual(expected);
 		}
 	});
@@ -166,10 +176,25 @@ describe('parseSerial', () => {
 			ok: false,
 			reason: 'check character does not match — probably mistyped'
 		});
-		expect(parseSerial('PL48-26-000132F')).toMatchObject({ ok: false, reason: /probably mistyped/ });
-		expect(parseSerial('PL84-26-000123F')).toMatchObject({ ok: false, reason: /probably mistyped/ });
-		for (const text of ['hello', 'PL48-26-00123F', 'PL48-26-0001234F', 'XX48-26-000123F', 'PL48-26-000123']) {
-			expect(parseSerial(text), text).toMatchObject({ ok: false, reason: /^not a Packledger serial/ });
+		expect(parseSerial('PL48-26-000132F')).toMatchObject({
+			ok: false,
+			reason: /probably mistyped/
+		});
+		expect(parseSerial('PL84-26-000123F')).toMatchObject({
+			ok: false,
+			reason: /probably mistyped/
+		});
+		for (const text of [
+			'hello',
+			'PL48-26-00123F',
+			'PL48-26-0001234F',
+			'XX48-26-000123F',
+			'PL48-26-000123'
+		]) {
+			expect(parseSerial(text), text).toMatchObject({
+				ok: false,
+				reason: /^not a Packledger serial/
+			});
 		}
 		expect(parseSerial('   ')).toMatchObject({ ok: false, reason: /nothing entered/ });
 	});
@@ -215,7 +240,9 @@ describe('serials as GS1 AI 21 serials (GS1 character set 82, ≤ 20 characters)
 
 	it('needs no percent-encoding in a Digital Link', () => {
 		for (const serial of SAMPLE) {
-			expect(buildDigitalLink('https://r.example', '09521234543213', serial).endsWith(`/21/${serial}`)).toBe(true);
+			expect(
+				buildDigitalLink('https://r.example', '09521234543213', serial).endsWith(`/21/${serial}`)
+			).toBe(true);
 		}
 	});
 });
@@ -224,7 +251,10 @@ describe('extractSerialFromScan', () => {
 	const base = 'https://register.tidewater.example/pl';
 
 	it('reads a bare serial', () => {
-		expect(extractSerialFromScan(' pl48-26-000123f ')).toEqual({ kind: 'serial', serial: 'PL48-26-000123F' });
+		expect(extractSerialFromScan(' pl48-26-000123f ')).toEqual({
+			kind: 'serial',
+			serial: 'PL48-26-000123F'
+		});
 	});
 
 	it('reads the module page URL, on any host without a base and under the base with one', () => {
@@ -236,7 +266,9 @@ describe('extractSerialFromScan', () => {
 			kind: 'serial',
 			serial: 'PL48-26-000123F'
 		});
-		expect(extractSerialFromScan(`${base}/m/PL48-26-000123F/`, base + '/')).toMatchObject({ kind: 'serial' });
+		expect(extractSerialFromScan(`${base}/m/PL48-26-000123F/`, base + '/')).toMatchObject({
+			kind: 'serial'
+		});
 	});
 
 	it('reads a GS1 Digital Link and returns the GTIN-14', () => {
@@ -245,20 +277,26 @@ describe('extractSerialFromScan', () => {
 			gtin: '09521234543213',
 			serial: 'PL48-26-000123F'
 		});
-		expect(extractSerialFromScan('https://id.gs1.org/01/9521234543213/21/PL48-26-000123F')).toEqual({
-			kind: 'digital-link',
-			gtin: '09521234543213',
-			serial: 'PL48-26-000123F'
-		});
+		expect(extractSerialFromScan('https://id.gs1.org/01/9521234543213/21/PL48-26-000123F')).toEqual(
+			{
+				kind: 'digital-link',
+				gtin: '09521234543213',
+				serial: 'PL48-26-000123F'
+			}
+		);
 	});
 
 	it('turns away URLs on another host or outside the base path when a base is given', () => {
 		const elsewhere = extractSerialFromScan('https://other.example/m/PL48-26-000123F', base);
 		expect(elsewhere).toMatchObject({ kind: 'unknown', reason: /^not a Packledger label/ });
-		expect(extractSerialFromScan('https://register.tidewater.example/m/PL48-26-000123F', base)).toMatchObject({
+		expect(
+			extractSerialFromScan('https://register.tidewater.example/m/PL48-26-000123F', base)
+		).toMatchObject({
 			kind: 'unknown'
 		});
-		expect(extractSerialFromScan('https://register.tidewater.example/plx/m/PL48-26-000123F', base)).toMatchObject({
+		expect(
+			extractSerialFromScan('https://register.tidewater.example/plx/m/PL48-26-000123F', base)
+		).toMatchObject({
 			kind: 'unknown'
 		});
 	});
@@ -277,7 +315,10 @@ describe('extractSerialFromScan', () => {
 			'mailto:someone@example.com'
 		];
 		for (const scan of others) {
-			expect(extractSerialFromScan(scan), scan).toMatchObject({ kind: 'unknown', reason: /^not a Packledger label/ });
+			expect(extractSerialFromScan(scan), scan).toMatchObject({
+				kind: 'unknown',
+				reason: /^not a Packledger label/
+			});
 		}
 		expect(extractSerialFromScan('')).toMatchObject({ kind: 'unknown' });
 	});

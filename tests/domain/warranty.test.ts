@@ -29,7 +29,8 @@ const terms: WarrantyTerms = {
 
 // Independent recomputation for the [calc] rows: same formula, written out here.
 const K = (c: number) => c + 273.15;
-const af = (ea: number, t1: number, t2: number) => Math.exp((ea / 8.314462618) * (1 / K(t1) - 1 / K(t2)));
+const af = (ea: number, t1: number, t2: number) =>
+	Math.exp((ea / 8.314462618) * (1 / K(t1) - 1 / K(t2)));
 
 // 16 × 3.2 V × 280 Ah = 14 336 Wh (REFERENCES §2).
 const usableWh = 16 * 3.2 * 280;
@@ -127,7 +128,9 @@ describe('deratedCycles (REFERENCES §5)', () => {
 	it('does not derate when the temperature is unknown, and says so', () => {
 		const d = deratedCycles(terms, null);
 		expect(d.cycles).toBe(20000);
-		expect(d.reason).toBe('No average cell temperature was given, so the 20 000 cycles rated at 25 °C are used without derating.');
+		expect(d.reason).toBe(
+			'No average cell temperature was given, so the 20 000 cycles rated at 25 °C are used without derating.'
+		);
 	});
 
 	it('extrapolates beyond the hot point and says so', () => {
@@ -178,11 +181,15 @@ describe('warranty term', () => {
 		expect(format(addYears(new Date(2024, 1, 29), 10), 'yyyy-MM-dd')).toBe('2034-02-28');
 		expect(warrantyTermEnd('2024-02-29', 10)).toBe('2034-02-28');
 		const leap = { ...terms, years: 10 };
-		const onLastDay = assessClaim(claim({ terms: leap, commissionedOn: '2024-02-29', claimedOn: '2034-02-28' }));
+		const onLastDay = assessClaim(
+			claim({ terms: leap, commissionedOn: '2024-02-29', claimedOn: '2034-02-28' })
+		);
 		expect(onLastDay.withinTerm).toBe(true);
 		expect(onLastDay.termEndsOn).toBe('2034-02-28');
 		expect(onLastDay.yearsElapsed).toBe(10);
-		const dayAfter = assessClaim(claim({ terms: leap, commissionedOn: '2024-02-29', claimedOn: '2034-03-01' }));
+		const dayAfter = assessClaim(
+			claim({ terms: leap, commissionedOn: '2024-02-29', claimedOn: '2034-03-01' })
+		);
 		expect(dayAfter.withinTerm).toBe(false);
 		expect(dayAfter.recommendation).toBe('decline');
 	});
@@ -222,12 +229,16 @@ describe('assessClaim', () => {
 		// 203.3 / 280 = 72.61 %; promised 100 − 20 × 9120/20000 = 90.88 %.
 		expect(a.retentionPct).toBe(72.61);
 		expect(a.promisedRetentionPct).toBe(90.88);
-		expect(a.reasons).toContain('Retention 72.6 % (203.3 Ah of 280.0 Ah) is below the 90.9 % promised at 9 120 equivalent full cycles.');
+		expect(a.reasons).toContain(
+			'Retention 72.6 % (203.3 Ah of 280.0 Ah) is below the 90.9 % promised at 9 120 equivalent full cycles.'
+		);
 		expect(a.reasons).toContain(
 			'Discharge throughput of 130 744 320 Wh over 14 336 Wh usable gives 9 120 equivalent full cycles (energy basis).'
 		);
 		expect(a.reasons).toContain('9 120 equivalent full cycles are within the 20 000 rated cycles.');
-		expect(a.reasons[0]).toBe('The claim of 2024-06-10 is 4.28 years into the 15-year term from commissioning on 2020-03-01, which runs to 2035-03-01.');
+		expect(a.reasons[0]).toBe(
+			'The claim of 2024-06-10 is 4.28 years into the 15-year term from commissioning on 2020-03-01, which runs to 2035-03-01.'
+		);
 	});
 
 	it('returns rounded numbers: 2 decimals for % and cycles, 3 for years', () => {
@@ -250,8 +261,12 @@ describe('assessClaim', () => {
 	it('declines past the derated cycles, even though the same cycles are within the rating at 25 °C', () => {
 		const hot = assessClaim(claim({ throughputWh: 9000 * usableWh, avgCellTempC: 40 }));
 		expect(hot.recommendation).toBe('decline');
-		expect(hot.reasons).toContain('9 000 equivalent full cycles exceed the 8 606 rated cycles, so the cycle warranty is used up.');
-		expect(assessClaim(claim({ throughputWh: 9000 * usableWh, avgCellTempC: 25 })).recommendation).toBe('cover');
+		expect(hot.reasons).toContain(
+			'9 000 equivalent full cycles exceed the 8 606 rated cycles, so the cycle warranty is used up.'
+		);
+		expect(
+			assessClaim(claim({ throughputWh: 9000 * usableWh, avgCellTempC: 25 })).recommendation
+		).toBe('cover');
 	});
 
 	it('exactly the rated cycles is still within them', () => {
@@ -273,7 +288,9 @@ describe('assessClaim', () => {
 		expect(a.withinTerm).toBeNull();
 		expect(a.yearsElapsed).toBeNull();
 		expect(a.termEndsOn).toBeNull();
-		expect(a.reasons[0]).toBe('No commissioning date is on record, so the warranty term cannot be checked: ask for the commissioning record.');
+		expect(a.reasons[0]).toBe(
+			'No commissioning date is on record, so the warranty term cannot be checked: ask for the commissioning record.'
+		);
 	});
 
 	it('asks for evidence when the measured capacity is missing', () => {
@@ -289,8 +306,12 @@ describe('assessClaim', () => {
 		expect(a.equivalentFullCycles).toBeNull();
 		expect(a.cycleBasis).toBeNull();
 		expect(a.promisedRetentionPct).toBeNull();
-		expect(a.reasons).toContain('Neither energy throughput nor a cycle count was given: ask for the inverter log or the BMS cycle counter.');
-		expect(a.reasons).toContain('Retention is 72.6 % (203.3 Ah of 280.0 Ah); without the cycles the promised retention cannot be set.');
+		expect(a.reasons).toContain(
+			'Neither energy throughput nor a cycle count was given: ask for the inverter log or the BMS cycle counter.'
+		);
+		expect(a.reasons).toContain(
+			'Retention is 72.6 % (203.3 Ah of 280.0 Ah); without the cycles the promised retention cannot be set.'
+		);
 	});
 
 	it('uses a cycle count when there is no throughput', () => {
@@ -298,7 +319,9 @@ describe('assessClaim', () => {
 		expect(a.cycleBasis).toBe('count');
 		expect(a.equivalentFullCycles).toBe(9120);
 		expect(a.recommendation).toBe('cover');
-		expect(a.reasons).toContain('No energy throughput was given, so the reported count of 9 120 cycles is taken as equivalent full cycles.');
+		expect(a.reasons).toContain(
+			'No energy throughput was given, so the reported count of 9 120 cycles is taken as equivalent full cycles.'
+		);
 	});
 
 	it('prefers throughput over a cycle count and mentions the count', () => {
@@ -306,37 +329,61 @@ describe('assessClaim', () => {
 		expect(a.cycleBasis).toBe('throughput');
 		expect(a.equivalentFullCycles).toBe(9120);
 		expect(a.recommendation).toBe('cover');
-		expect(a.reasons.some((r) => r.includes('The reported count of 25 000 cycles was not used: the throughput takes precedence.'))).toBe(true);
+		expect(
+			a.reasons.some((r) =>
+				r.includes(
+					'The reported count of 25 000 cycles was not used: the throughput takes precedence.'
+				)
+			)
+		).toBe(true);
 	});
 
 	it('says when no temperature was given and then does not derate', () => {
 		const a = assessClaim(claim({ avgCellTempC: undefined }));
 		expect(a.deratedRatedCycles).toBe(20000);
-		expect(a.reasons).toContain('No average cell temperature was given, so the 20 000 cycles rated at 25 °C are used without derating.');
+		expect(a.reasons).toContain(
+			'No average cell temperature was given, so the 20 000 cycles rated at 25 °C are used without derating.'
+		);
 	});
 
 	it('lists events outside limits and an unproven stop-charge signal without changing the recommendation', () => {
 		const base = assessClaim(claim());
 		expect(base.reasons.some((r) => r.includes('stop-charge'))).toBe(false);
 		for (const stopChargeProven of [false, undefined]) {
-			const a = assessClaim(claim({ stopChargeProven, eventsOutsideLimits: ['cell 3.0 V under-voltage on 2023-01-12', 'pack 62 °C on 2023-07-02'] }));
+			const a = assessClaim(
+				claim({
+					stopChargeProven,
+					eventsOutsideLimits: [
+						'cell 3.0 V under-voltage on 2023-01-12',
+						'pack 62 °C on 2023-07-02'
+					]
+				})
+			);
 			expect(a.recommendation).toBe(base.recommendation);
-			expect(a.reasons).toContain('The stop-charge signal was not proven at commissioning: weigh whether overcharge contributed.');
+			expect(a.reasons).toContain(
+				'The stop-charge signal was not proven at commissioning: weigh whether overcharge contributed.'
+			);
 			expect(a.reasons).toContain(
 				'2 events outside the operating limits were reported (cell 3.0 V under-voltage on 2023-01-12; pack 62 °C on 2023-07-02): weigh whether they contributed.'
 			);
 		}
 		const counted = assessClaim(claim({ eventsOutsideLimits: 1, measuredCapacityAh: 270 }));
 		expect(counted.recommendation).toBe('decline');
-		expect(counted.reasons).toContain('1 event outside the operating limits was reported: weigh whether it contributed.');
-		expect(assessClaim(claim({ eventsOutsideLimits: 0 })).reasons.some((r) => r.includes('event'))).toBe(false);
+		expect(counted.reasons).toContain(
+			'1 event outside the operating limits was reported: weigh whether it contributed.'
+		);
+		expect(
+			assessClaim(claim({ eventsOutsideLimits: 0 })).reasons.some((r) => r.includes('event'))
+		).toBe(false);
 	});
 
 	it('shows more decimals when rounding would make retention and promise read the same', () => {
 		// 259.1/280 = 92.536 %; promised at 7 460 EFC = 92.54 %: both "92.5" at one decimal.
 		const a = assessClaim(claim({ measuredCapacityAh: 259.1, throughputWh: 7460 * usableWh }));
 		expect(a.recommendation).toBe('cover');
-		expect(a.reasons).toContain('Retention 92.536 % (259.1 Ah of 280.0 Ah) is below the 92.540 % promised at 7 460 equivalent full cycles.');
+		expect(a.reasons).toContain(
+			'Retention 92.536 % (259.1 Ah of 280.0 Ah) is below the 92.540 % promised at 7 460 equivalent full cycles.'
+		);
 	});
 
 	it('throws on a claim dated before commissioning', () => {
@@ -357,13 +404,21 @@ describe('assessRequestSchema', () => {
 		stopChargeProven: false,
 		eventsOutsideLimits: ['pack 62 °C']
 	};
-	const messages = (r: { success: boolean; error?: { issues: { message: string }[] } }) => r.error?.issues.map((i) => i.message) ?? [];
+	const messages = (r: { success: boolean; error?: { issues: { message: string }[] } }) =>
+		r.error?.issues.map((i) => i.message) ?? [];
 
 	it('accepts a complete request, and one the domain then assesses', () => {
 		const r = assessRequestSchema.safeParse(body);
 		expect(r.success).toBe(true);
 		if (r.success) expect(assessClaim(r.data).recommendation).toBe('cover');
-		expect(assessRequestSchema.safeParse({ ...body, commissionedOn: null, measuredCapacityAh: undefined, throughputWh: undefined }).success).toBe(true);
+		expect(
+			assessRequestSchema.safeParse({
+				...body,
+				commissionedOn: null,
+				measuredCapacityAh: undefined,
+				throughputWh: undefined
+			}).success
+		).toBe(true);
 		expect(assessRequestSchema.safeParse({ ...body, eventsOutsideLimits: 3 }).success).toBe(true);
 	});
 
@@ -373,14 +428,20 @@ describe('assessRequestSchema', () => {
 		expect(messages(r)).toContain('Average cell temperature must be between -40 and 120 °C.');
 		expect(assessRequestSchema.safeParse({ ...body, avgCellTempC: -40 }).success).toBe(true);
 		expect(assessRequestSchema.safeParse({ ...body, avgCellTempC: 120 }).success).toBe(true);
-		expect(assessRequestSchema.safeParse({ ...body, terms: { ...terms, hotTempC: 121 } }).success).toBe(false);
+		expect(
+			assessRequestSchema.safeParse({ ...body, terms: { ...terms, hotTempC: 121 } }).success
+		).toBe(false);
 	});
 
 	it('rejects dates that are not real calendar days', () => {
 		const r = assessRequestSchema.safeParse({ ...body, claimedOn: '2023-02-29' });
 		expect(messages(r)).toContain('Claim date must be a real date written YYYY-MM-DD.');
-		expect(assessRequestSchema.safeParse({ ...body, commissionedOn: '2020-3-1' }).success).toBe(false);
-		expect(assessRequestSchema.safeParse({ ...body, commissionedOn: '2024-02-29' }).success).toBe(true);
+		expect(assessRequestSchema.safeParse({ ...body, commissionedOn: '2020-3-1' }).success).toBe(
+			false
+		);
+		expect(assessRequestSchema.safeParse({ ...body, commissionedOn: '2024-02-29' }).success).toBe(
+			true
+		);
 	});
 
 	it('rejects a claim before commissioning; the same day is fine', () => {
@@ -393,19 +454,31 @@ describe('assessRequestSchema', () => {
 	it('rejects non-positive capacities and negative measurements, accepts a measured 0 Ah', () => {
 		expect(assessRequestSchema.safeParse({ ...body, ratedCapacityAh: 0 }).success).toBe(false);
 		expect(assessRequestSchema.safeParse({ ...body, usableWh: -1 }).success).toBe(false);
-		expect(assessRequestSchema.safeParse({ ...body, measuredCapacityAh: -0.1 }).success).toBe(false);
+		expect(assessRequestSchema.safeParse({ ...body, measuredCapacityAh: -0.1 }).success).toBe(
+			false
+		);
 		expect(assessRequestSchema.safeParse({ ...body, throughputWh: -5 }).success).toBe(false);
 		expect(assessRequestSchema.safeParse({ ...body, measuredCapacityAh: 0 }).success).toBe(true);
 	});
 
 	it('checks the terms: end retention 1..100 %, hot point hotter and shorter-lived', () => {
-		expect(assessRequestSchema.safeParse({ ...body, terms: { ...terms, endRetentionPct: 0 } }).success).toBe(false);
-		expect(assessRequestSchema.safeParse({ ...body, terms: { ...terms, endRetentionPct: 101 } }).success).toBe(false);
-		expect(assessRequestSchema.safeParse({ ...body, terms: { ...terms, endRetentionPct: 100 } }).success).toBe(true);
-		expect(messages(assessRequestSchema.safeParse({ ...body, terms: { ...terms, hotTempC: 25 } }))).toContain(
-			'The hot temperature must be above the reference temperature.'
-		);
-		expect(messages(assessRequestSchema.safeParse({ ...body, terms: { ...terms, hotRatedCycles: 20000 } }))).toContain(
+		expect(
+			assessRequestSchema.safeParse({ ...body, terms: { ...terms, endRetentionPct: 0 } }).success
+		).toBe(false);
+		expect(
+			assessRequestSchema.safeParse({ ...body, terms: { ...terms, endRetentionPct: 101 } }).success
+		).toBe(false);
+		expect(
+			assessRequestSchema.safeParse({ ...body, terms: { ...terms, endRetentionPct: 100 } }).success
+		).toBe(true);
+		expect(
+			messages(assessRequestSchema.safeParse({ ...body, terms: { ...terms, hotTempC: 25 } }))
+		).toContain('The hot temperature must be above the reference temperature.');
+		expect(
+			messages(
+				assessRequestSchema.safeParse({ ...body, terms: { ...terms, hotRatedCycles: 20000 } })
+			)
+		).toContain(
 			'The hot rated cycles must be fewer than the rated cycles at the reference temperature.'
 		);
 	});
@@ -436,21 +509,31 @@ describe('claimEvidenceSchema', () => {
 	it('requires a fault description of 10 to 2000 characters', () => {
 		expect(claimEvidenceSchema.safeParse({ ...form, description: 'broken' }).success).toBe(false);
 		expect(claimEvidenceSchema.safeParse({ ...form, description: undefined }).success).toBe(false);
-		expect(claimEvidenceSchema.safeParse({ ...form, description: 'x'.repeat(2001) }).success).toBe(false);
+		expect(claimEvidenceSchema.safeParse({ ...form, description: 'x'.repeat(2001) }).success).toBe(
+			false
+		);
 	});
 
 	it('requires throughput or a cycle count', () => {
 		const r = claimEvidenceSchema.safeParse({ ...form, throughputWh: '', cycleCount: '' });
 		expect(r.success).toBe(false);
-		expect(r.error?.issues.map((i) => i.message)).toContain('Give the energy throughput (Wh) or the cycle count.');
-		expect(claimEvidenceSchema.safeParse({ ...form, throughputWh: '', cycleCount: '9120' }).success).toBe(true);
+		expect(r.error?.issues.map((i) => i.message)).toContain(
+			'Give the energy throughput (Wh) or the cycle count.'
+		);
+		expect(
+			claimEvidenceSchema.safeParse({ ...form, throughputWh: '', cycleCount: '9120' }).success
+		).toBe(true);
 	});
 
 	it('rejects 400 °C, non-numbers and a maximum below the average', () => {
-		expect(claimEvidenceSchema.safeParse({ ...form, maxCellTempC: '400' }).error?.issues.map((i) => i.message)).toContain(
-			'Maximum cell temperature must be between -40 and 120 °C.'
+		expect(
+			claimEvidenceSchema
+				.safeParse({ ...form, maxCellTempC: '400' })
+				.error?.issues.map((i) => i.message)
+		).toContain('Maximum cell temperature must be between -40 and 120 °C.');
+		expect(claimEvidenceSchema.safeParse({ ...form, measuredCapacityAh: 'lots' }).success).toBe(
+			false
 		);
-		expect(claimEvidenceSchema.safeParse({ ...form, measuredCapacityAh: 'lots' }).success).toBe(false);
 		expect(claimEvidenceSchema.safeParse({ ...form, maxCellTempC: '30' }).success).toBe(false);
 	});
 });

@@ -1,12 +1,38 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { and, count, eq, like } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { auditLog, claimEvents, claims, commissionings, logMappings, mailOutbox, moduleEvents, modules, organisations, sites, systemSlots, systems } from '$lib/server/db/schema';
+import {
+	auditLog,
+	claimEvents,
+	claims,
+	commissionings,
+	logMappings,
+	mailOutbox,
+	moduleEvents,
+	modules,
+	organisations,
+	sites,
+	systemSlots,
+	systems
+} from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { closeMailer } from '$lib/server/mail';
 import { UNKNOWN_SERIAL } from '$lib/server/services/modules';
-import { fileClaim, getClaim, listClaims, loadClaim, readInverterLog } from '$lib/server/services/claims';
-import { addEvidence, commentOnClaim, decideClaim, moveClaim, recordReturnInspection, replaceModule } from '$lib/server/services/claim-workflow';
+import {
+	fileClaim,
+	getClaim,
+	listClaims,
+	loadClaim,
+	readInverterLog
+} from '$lib/server/services/claims';
+import {
+	addEvidence,
+	commentOnClaim,
+	decideClaim,
+	moveClaim,
+	recordReturnInspection,
+	replaceModule
+} from '$lib/server/services/claim-workflow';
 import { assessmentFor } from '$lib/server/services/claim-assessment';
 import { assessClaim } from '$lib/domain/warranty';
 import { formatSerial } from '$lib/domain/serial';
@@ -16,7 +42,14 @@ import { assignToDealer, makeModules, modelId } from '../factories/modules';
 
 const NOW = new Date('2026-03-15T10:00:00Z');
 const DAY = 86_400_000;
-const TERMS = { years: 15, ratedCycles: 20000, endRetentionPct: 80, referenceTempC: 25, hotTempC: 55, hotRatedCycles: 4000 };
+const TERMS = {
+	years: 15,
+	ratedCycles: 20000,
+	endRetentionPct: 80,
+	referenceTempC: 25,
+	hotTempC: 55,
+	hotRatedCycles: 4000
+};
 
 let db: Db;
 let admin: Actor, workshop: Actor, warranty: Actor, tech: Actor, saltmarsh: Actor, ridgeline: Actor;
@@ -25,33 +58,74 @@ let certificate = 0;
 beforeAll(async () => {
 	db = await createSeededDb();
 	[admin, workshop, warranty, tech, saltmarsh, ridgeline] = await Promise.all(
-		['admin@tidewater.example', 'workshop@tidewater.example', 'warranty@tidewater.example', 'tech@tidewater.example', 'dealer@saltmarsh.example', 'dealer@ridgeline.example'].map((e) => actorFor(db, e))
+		[
+			'admin@tidewater.example',
+			'workshop@tidewater.example',
+			'warranty@tidewater.example',
+			'tech@tidewater.example',
+			'dealer@saltmarsh.example',
+			'dealer@ridgeline.example'
+		].map((e) => actorFor(db, e))
 	);
 });
 afterAll(async () => closeMailer(db));
 
 /** A commissioned system of `count` TC-HC-48 modules in one string, with its warranty snapshot and a passing commissioning. */
-async function commissionedSystem(opts: { dealer?: string; count?: number; startsOn?: string; terms?: object; stopCharge?: 'pass' | 'fail' } = {}) {
+async function commissionedSystem(
+	opts: {
+		dealer?: string;
+		count?: number;
+		startsOn?: string;
+		terms?: object;
+		stopCharge?: 'pass' | 'fail';
+	} = {}
+) {
 	const n = opts.count ?? 4;
 	const startsOn = opts.startsOn ?? '2022-03-01';
 	const serials = await makeModules(db, workshop, { count: n });
 	const dealerOrgId = await assignToDealer(db, serials, opts.dealer ?? 'Saltmarsh Solar');
 	const [site] = await db
 		.insert(sites)
-		.values({ dealerOrgId, name: 'Heron Point cabin', ownerName: 'A. Owner', ownerContact: 'owner@example.invalid', address: '1 Shore Lane, Port Halden', application: 'off_grid_home', createdBy: admin.userId! })
+		.values({
+			dealerOrgId,
+			name: 'Heron Point cabin',
+			ownerName: 'A. Owner',
+			ownerContact: 'owner@example.invalid',
+			address: '1 Shore Lane, Port Halden',
+			application: 'off_grid_home',
+			createdBy: admin.userId!
+		})
 		.returning();
 	const [system] = await db
 		.insert(systems)
-		.values({ siteId: site.id, name: 'House bank', modelId: await modelId(db, 'TC-HC-48'), series: n, parallel: 1, inverterMinV: 40 * n, inverterMaxV: 62 * n, status: 'commissioned' })
+		.values({
+			siteId: site.id,
+			name: 'House bank',
+			modelId: await modelId(db, 'TC-HC-48'),
+			series: n,
+			parallel: 1,
+			inverterMinV: 40 * n,
+			inverterMaxV: 62 * n,
+			status: 'commissioned'
+		})
 		.returning();
 	const endsOn = `${Number(startsOn.slice(0, 4)) + 15}${startsOn.slice(4)}`;
 	for (const [i, serial] of serials.entries()) {
 		const [m] = await db
 			.update(modules)
-			.set({ state: 'commissioned', systemId: system.id, commissionedAt: new Date(`${startsOn}T12:00:00Z`), warrantyStartsOn: startsOn, warrantyEndsOn: endsOn, warrantyTerms: JSON.stringify(opts.terms ?? TERMS) })
+			.set({
+				state: 'commissioned',
+				systemId: system.id,
+				commissionedAt: new Date(`${startsOn}T12:00:00Z`),
+				warrantyStartsOn: startsOn,
+				warrantyEndsOn: endsOn,
+				warrantyTerms: JSON.stringify(opts.terms ?? TERMS)
+			})
 			.where(eq(modules.serial, serial))
 			.returning();
-		await db.insert(systemSlots).values({ systemId: system.id, stringNo: 1, position: i + 1, moduleId: m.id });
+		await db
+			.insert(systemSlots)
+			.values({ systemId: system.id, stringNo: 1, position: i + 1, moduleId: m.id });
 	}
 	await db.insert(commissionings).values({
 		systemId: system.id,
@@ -61,7 +135,14 @@ async function commissionedSystem(opts: { dealer?: string; count?: number; start
 		technicianName: 'Ilse Fenwick',
 		licenceNumber: 'EL-1234',
 		measurements: '{}',
-		items: JSON.stringify([{ key: 'stop_charge', label: 'Stop-charge signal', status: opts.stopCharge ?? 'pass', reason: '' }]),
+		items: JSON.stringify([
+			{
+				key: 'stop_charge',
+				label: 'Stop-charge signal',
+				status: opts.stopCharge ?? 'pass',
+				reason: ''
+			}
+		]),
 		commissionedOn: startsOn
 	});
 	return { serials, systemId: system.id, dealerOrgId, endsOn, startsOn };
@@ -71,46 +152,94 @@ async function commissionedSystem(opts: { dealer?: string; count?: number; start
 async function spares(code = 'TC-HC-48', n = 1, shippedTo?: string) {
 	const serials = await makeModules(db, workshop, { code, count: n });
 	if (shippedTo) await assignToDealer(db, serials, shippedTo);
-	else for (const s of serials) await db.update(modules).set({ state: 'in_stock' }).where(eq(modules.serial, s));
+	else
+		for (const s of serials)
+			await db.update(modules).set({ state: 'in_stock' }).where(eq(modules.serial, s));
 	return serials;
 }
 
 /** 3 000 equivalent full cycles per module over 4 modules of 2 300 Wh, 40 Ah of 46.5 Ah left: below the promise, so cover. */
-const coverEvidence = { measuredCapacityAh: '40', measuredAtC: '25', throughputWh: String(4 * 2300 * 3000), avgCellTempC: '24', maxCellTempC: '31', description: 'Capacity dropped sharply over the winter.' };
+const coverEvidence = {
+	measuredCapacityAh: '40',
+	measuredAtC: '25',
+	throughputWh: String(4 * 2300 * 3000),
+	avgCellTempC: '24',
+	maxCellTempC: '31',
+	description: 'Capacity dropped sharply over the winter.'
+};
 
-const mailsAbout = async (reference: string) => (await db.select().from(mailOutbox).where(like(mailOutbox.subject, `Claim ${reference}%`))).map((m) => ({ to: m.toAddr, subject: m.subject }));
+const mailsAbout = async (reference: string) =>
+	(
+		await db
+			.select()
+			.from(mailOutbox)
+			.where(like(mailOutbox.subject, `Claim ${reference}%`))
+	).map((m) => ({ to: m.toAddr, subject: m.subject }));
 const counts = async () => ({
 	claims: (await db.select({ n: count() }).from(claims))[0].n,
 	events: (await db.select({ n: count() }).from(claimEvents))[0].n,
-	audit: (await db.select({ n: count() }).from(auditLog).where(like(auditLog.action, 'claim.%')))[0].n
+	audit: (await db.select({ n: count() }).from(auditLog).where(like(auditLog.action, 'claim.%')))[0]
+		.n
 });
-const stateOf = async (serial: string) => (await db.select().from(modules).where(eq(modules.serial, serial)))[0];
+const stateOf = async (serial: string) =>
+	(await db.select().from(modules).where(eq(modules.serial, serial)))[0];
 
 describe('filing a claim', () => {
 	it('lets a dealer claim its own commissioned modules: modules under claim, events, audit and an e-mail', async () => {
 		const sys = await commissionedSystem();
-		const { reference, id } = await fileClaim(db, saltmarsh, { serials: [sys.serials[0], ` ${sys.serials[1]} `], fault: 'Capacity fade', evidence: coverEvidence }, NOW);
+		const { reference, id } = await fileClaim(
+			db,
+			saltmarsh,
+			{
+				serials: [sys.serials[0], ` ${sys.serials[1]} `],
+				fault: 'Capacity fade',
+				evidence: coverEvidence
+			},
+			NOW
+		);
 		expect(reference).toMatch(/^CL-2026-\d{4}$/);
 		for (const s of sys.serials.slice(0, 2)) {
 			const m = await stateOf(s);
 			expect(m.state).toBe('claim_open');
-			const ev = await db.select().from(moduleEvents).where(and(eq(moduleEvents.moduleId, m.id), eq(moduleEvents.kind, 'claim_filed')));
+			const ev = await db
+				.select()
+				.from(moduleEvents)
+				.where(and(eq(moduleEvents.moduleId, m.id), eq(moduleEvents.kind, 'claim_filed')));
 			expect(ev[0].summary).toContain(reference);
 		}
 		expect((await stateOf(sys.serials[2])).state).toBe('commissioned');
 		const claim = await loadClaim(db, saltmarsh, id);
 		expect(claim.dealerOrgId).toBe(sys.dealerOrgId);
-		expect((await db.select().from(claimEvents).where(eq(claimEvents.claimId, id))).map((e) => e.toState)).toEqual(['filed']);
-		expect(await db.select().from(auditLog).where(and(eq(auditLog.action, 'claim.file'), eq(auditLog.entityId, reference)))).toHaveLength(1);
-		expect(await mailsAbout(reference)).toEqual([{ to: 'dealer@saltmarsh.example', subject: `Claim ${reference} received` }]);
+		expect(
+			(await db.select().from(claimEvents).where(eq(claimEvents.claimId, id))).map((e) => e.toState)
+		).toEqual(['filed']);
+		expect(
+			await db
+				.select()
+				.from(auditLog)
+				.where(and(eq(auditLog.action, 'claim.file'), eq(auditLog.entityId, reference)))
+		).toHaveLength(1);
+		expect(await mailsAbout(reference)).toEqual([
+			{ to: 'dealer@saltmarsh.example', subject: `Claim ${reference} received` }
+		]);
 	});
 
 	it('numbers claims CL-year-NNNN without repeats, even when filed at the same moment', async () => {
 		const a = await commissionedSystem();
 		const b = await commissionedSystem();
 		const [x, y] = await Promise.all([
-			fileClaim(db, saltmarsh, { serials: [a.serials[0]], fault: 'No output', evidence: coverEvidence }, NOW),
-			fileClaim(db, saltmarsh, { serials: [b.serials[0]], fault: 'No output', evidence: coverEvidence }, NOW)
+			fileClaim(
+				db,
+				saltmarsh,
+				{ serials: [a.serials[0]], fault: 'No output', evidence: coverEvidence },
+				NOW
+			),
+			fileClaim(
+				db,
+				saltmarsh,
+				{ serials: [b.serials[0]], fault: 'No output', evidence: coverEvidence },
+				NOW
+			)
 		]);
 		expect(x.reference).not.toBe(y.reference);
 		expect(Math.abs(Number(x.reference.slice(-4)) - Number(y.reference.slice(-4)))).toBe(1);
@@ -119,14 +248,27 @@ describe('filing a claim', () => {
 	it("answers another dealer's module exactly like an unknown serial, and stores nothing", async () => {
 		const sys = await commissionedSystem({ dealer: 'Saltmarsh Solar' });
 		const before = await counts();
-		const foreign = fileClaim(db, ridgeline, { serials: [sys.serials[0]], fault: 'Capacity fade', evidence: coverEvidence }, NOW);
+		const foreign = fileClaim(
+			db,
+			ridgeline,
+			{ serials: [sys.serials[0]], fault: 'Capacity fade', evidence: coverEvidence },
+			NOW
+		);
 		await expect(foreign).rejects.toThrow(UNKNOWN_SERIAL(sys.serials[0]));
 		await expect(foreign).rejects.toMatchObject({ status: 404 });
 		// A well-formed serial nobody has answers with the same words and status.
 		const unknown = formatSerial({ variant: '48', year: 2026, number: 999_999 });
-		const err = await fileClaim(db, ridgeline, { serials: [unknown], fault: 'Capacity fade', evidence: coverEvidence }, NOW).catch((e) => e);
+		const err = await fileClaim(
+			db,
+			ridgeline,
+			{ serials: [unknown], fault: 'Capacity fade', evidence: coverEvidence },
+			NOW
+		).catch((e) => e);
 		const foreignErr = await foreign.catch((e) => e);
-		expect([err.status, err.message.replace(unknown, 'S')]).toEqual([foreignErr.status, foreignErr.message.replace(sys.serials[0], 'S')]);
+		expect([err.status, err.message.replace(unknown, 'S')]).toEqual([
+			foreignErr.status,
+			foreignErr.message.replace(sys.serials[0], 'S')
+		]);
 		expect(await counts()).toEqual(before);
 		expect((await stateOf(sys.serials[0])).state).toBe('commissioned');
 	});
@@ -134,11 +276,29 @@ describe('filing a claim', () => {
 	it('refuses modules not in service, and modules already on a claim', async () => {
 		const [shipped] = await makeModules(db, workshop, { count: 1 });
 		await assignToDealer(db, [shipped], 'Saltmarsh Solar');
-		await expect(fileClaim(db, saltmarsh, { serials: [shipped], fault: 'Dead', evidence: coverEvidence }, NOW)).rejects.toThrow(/not in service/);
+		await expect(
+			fileClaim(db, saltmarsh, { serials: [shipped], fault: 'Dead', evidence: coverEvidence }, NOW)
+		).rejects.toThrow(/not in service/);
 		const sys = await commissionedSystem();
-		const first = await fileClaim(db, saltmarsh, { serials: [sys.serials[0]], fault: 'Dead module', evidence: coverEvidence }, NOW);
+		const first = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [sys.serials[0]], fault: 'Dead module', evidence: coverEvidence },
+			NOW
+		);
 		const before = await counts();
-		await expect(fileClaim(db, warranty, { serials: [sys.serials[1], sys.serials[0]], fault: 'Dead module', evidence: coverEvidence }, NOW)).rejects.toThrow(`already on claim ${first.reference}`);
+		await expect(
+			fileClaim(
+				db,
+				warranty,
+				{
+					serials: [sys.serials[1], sys.serials[0]],
+					fault: 'Dead module',
+					evidence: coverEvidence
+				},
+				NOW
+			)
+		).rejects.toThrow(`already on claim ${first.reference}`);
 		expect(await counts()).toEqual(before);
 		expect((await stateOf(sys.serials[1])).state).toBe('commissioned');
 	});
@@ -146,19 +306,50 @@ describe('filing a claim', () => {
 	it('refuses modules of two systems in one claim', async () => {
 		const a = await commissionedSystem();
 		const b = await commissionedSystem();
-		await expect(fileClaim(db, saltmarsh, { serials: [a.serials[0], b.serials[0]], fault: 'Fade', evidence: coverEvidence }, NOW)).rejects.toThrow(/different systems/);
+		await expect(
+			fileClaim(
+				db,
+				saltmarsh,
+				{ serials: [a.serials[0], b.serials[0]], fault: 'Fade', evidence: coverEvidence },
+				NOW
+			)
+		).rejects.toThrow(/different systems/);
 	});
 
 	it('refuses nonsense evidence with clear words and stores nothing', async () => {
 		const sys = await commissionedSystem();
 		const before = await counts();
-		const file = (evidence: object, extra: object = {}) => fileClaim(db, saltmarsh, { serials: [sys.serials[0]], fault: 'Fade', evidence: { ...coverEvidence, ...evidence }, ...extra }, NOW);
-		await expect(file({ measuredCapacityAh: '-5' })).rejects.toThrow('Measured capacity must not be negative.');
-		await expect(file({ avgCellTempC: '400' })).rejects.toThrow('Average cell temperature must be between -40 and 120 °C.');
-		await expect(file({ throughputWh: '', cycleCount: '' })).rejects.toThrow('Give the energy throughput (Wh) or the cycle count.');
+		const file = (evidence: object, extra: object = {}) =>
+			fileClaim(
+				db,
+				saltmarsh,
+				{
+					serials: [sys.serials[0]],
+					fault: 'Fade',
+					evidence: { ...coverEvidence, ...evidence },
+					...extra
+				},
+				NOW
+			);
+		await expect(file({ measuredCapacityAh: '-5' })).rejects.toThrow(
+			'Measured capacity must not be negative.'
+		);
+		await expect(file({ avgCellTempC: '400' })).rejects.toThrow(
+			'Average cell temperature must be between -40 and 120 °C.'
+		);
+		await expect(file({ throughputWh: '', cycleCount: '' })).rejects.toThrow(
+			'Give the energy throughput (Wh) or the cycle count.'
+		);
 		// 10 GWh over four 2.3 kWh modules in four years is ~745 cycles a day each.
-		await expect(file({ throughputWh: '10000000000' })).rejects.toThrow(/cannot do more than 36 a day/);
-		await expect(file({}, { log: { rows: 10, firstAt: '2026-01-01 00:00', lastAt: '2027-05-01 00:00', problems: [] } })).rejects.toThrow(/after today/);
+		await expect(file({ throughputWh: '10000000000' })).rejects.toThrow(
+			/cannot do more than 36 a day/
+		);
+		await expect(
+			file(
+				{},
+				{ log: { rows: 10, firstAt: '2026-01-01 00:00', lastAt: '2027-05-01 00:00', problems: [] } }
+			)
+		).rejects.toThrow(/after today/);
 		expect(await counts()).toEqual(before);
 		expect((await stateOf(sys.serials[0])).state).toBe('commissioned');
 	});
@@ -167,13 +358,41 @@ describe('filing a claim', () => {
 describe('assessment from the warranty snapshot', () => {
 	it('uses the terms and start date recorded at commissioning, and shares system throughput over the modules', async () => {
 		// Terms unlike the model's current ones prove the snapshot is read.
-		const snapshot = { years: 12, ratedCycles: 10000, endRetentionPct: 70, referenceTempC: 25, hotTempC: 55, hotRatedCycles: 2000 };
+		const snapshot = {
+			years: 12,
+			ratedCycles: 10000,
+			endRetentionPct: 70,
+			referenceTempC: 25,
+			hotTempC: 55,
+			hotRatedCycles: 2000
+		};
 		const sys = await commissionedSystem({ terms: snapshot, startsOn: '2023-06-10' });
-		const { id } = await fileClaim(db, saltmarsh, { serials: [sys.serials[2]], fault: 'Fade', evidence: coverEvidence }, NOW);
+		const { id } = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [sys.serials[2]], fault: 'Fade', evidence: coverEvidence },
+			NOW
+		);
 		const result = await assessmentFor(db, await loadClaim(db, warranty, id));
-		expect(result.input).toMatchObject({ terms: snapshot, commissionedOn: '2023-06-10', claimedOn: '2026-03-15', ratedCapacityAh: 46.5, usableWh: 2300, measuredCapacityAh: 40, throughputWh: 2300 * 3000, avgCellTempC: 24, stopChargeProven: true });
+		expect(result.input).toMatchObject({
+			terms: snapshot,
+			commissionedOn: '2023-06-10',
+			claimedOn: '2026-03-15',
+			ratedCapacityAh: 46.5,
+			usableWh: 2300,
+			measuredCapacityAh: 40,
+			throughputWh: 2300 * 3000,
+			avgCellTempC: 24,
+			stopChargeProven: true
+		});
 		const direct = assessClaim(result.input);
-		expect(result).toMatchObject({ recommendation: direct.recommendation, termEndsOn: '2035-06-10', equivalentFullCycles: 3000, promisedRetentionPct: direct.promisedRetentionPct, retentionPct: direct.retentionPct });
+		expect(result).toMatchObject({
+			recommendation: direct.recommendation,
+			termEndsOn: '2035-06-10',
+			equivalentFullCycles: 3000,
+			promisedRetentionPct: direct.promisedRetentionPct,
+			retentionPct: direct.retentionPct
+		});
 		expect(result.reasons).toEqual(expect.arrayContaining(direct.reasons));
 		expect(result.reasons.join(' ')).toMatch(/whole system's.*4 modules.*6 900 000 Wh/);
 		expect(result.recommendation).toBe('cover');
@@ -181,7 +400,17 @@ describe('assessment from the warranty snapshot', () => {
 
 	it('uses a per-module throughput as given, and reports an unproven stop-charge signal', async () => {
 		const sys = await commissionedSystem({ stopCharge: 'fail' });
-		const { id } = await fileClaim(db, saltmarsh, { serials: [sys.serials[0]], fault: 'Fade', evidence: { ...coverEvidence, throughputWh: '6900000' }, throughputScope: 'module' }, NOW);
+		const { id } = await fileClaim(
+			db,
+			saltmarsh,
+			{
+				serials: [sys.serials[0]],
+				fault: 'Fade',
+				evidence: { ...coverEvidence, throughputWh: '6900000' },
+				throughputScope: 'module'
+			},
+			NOW
+		);
 		const result = await assessmentFor(db, await loadClaim(db, warranty, id));
 		expect(result.input.throughputWh).toBe(6900000);
 		expect(result.input.stopChargeProven).toBe(false);
@@ -193,20 +422,49 @@ describe('assessment from the warranty snapshot', () => {
 describe('workflow', () => {
 	it('allows the listed moves only, by warranty staff only, with a timeline entry, audit and e-mail each time', async () => {
 		const sys = await commissionedSystem();
-		const { id, reference } = await fileClaim(db, saltmarsh, { serials: [sys.serials[0]], fault: 'Fade', evidence: coverEvidence }, NOW);
-		await expect(moveClaim(db, saltmarsh, id, { to: 'in_review' }, NOW)).rejects.toMatchObject({ status: 403 });
-		await expect(moveClaim(db, warranty, id, { to: 'closed' }, NOW)).rejects.toThrow('is Filed and cannot move to Closed. From Filed it can go to Under review.');
-		await expect(decideClaim(db, warranty, id, { decision: 'covered' }, NOW)).rejects.toThrow(/Move it to Under review first/);
+		const { id, reference } = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [sys.serials[0]], fault: 'Fade', evidence: coverEvidence },
+			NOW
+		);
+		await expect(moveClaim(db, saltmarsh, id, { to: 'in_review' }, NOW)).rejects.toMatchObject({
+			status: 403
+		});
+		await expect(moveClaim(db, warranty, id, { to: 'closed' }, NOW)).rejects.toThrow(
+			'is Filed and cannot move to Closed. From Filed it can go to Under review.'
+		);
+		await expect(decideClaim(db, warranty, id, { decision: 'covered' }, NOW)).rejects.toThrow(
+			/Move it to Under review first/
+		);
 		await moveClaim(db, warranty, id, { to: 'in_review', comment: 'Looking at it.' }, NOW);
-		await expect(moveClaim(db, warranty, id, { to: 'covered' }, NOW)).rejects.toThrow(/is a decision/);
-		await moveClaim(db, warranty, id, { to: 'awaiting_evidence', comment: 'Send a capacity test report, please.' }, NOW);
-		await expect(decideClaim(db, warranty, id, { decision: 'covered' }, NOW)).rejects.toThrow(/Waiting for evidence/);
+		await expect(moveClaim(db, warranty, id, { to: 'covered' }, NOW)).rejects.toThrow(
+			/is a decision/
+		);
+		await moveClaim(
+			db,
+			warranty,
+			id,
+			{ to: 'awaiting_evidence', comment: 'Send a capacity test report, please.' },
+			NOW
+		);
+		await expect(decideClaim(db, warranty, id, { decision: 'covered' }, NOW)).rejects.toThrow(
+			/Waiting for evidence/
+		);
 		// The dealer adds evidence: the claim goes back under review on its own.
-		await addEvidence(db, saltmarsh, id, { measuredCapacityAh: '39.5', comment: 'Report attached by post.' }, NOW);
+		await addEvidence(
+			db,
+			saltmarsh,
+			id,
+			{ measuredCapacityAh: '39.5', comment: 'Report attached by post.' },
+			NOW
+		);
 		const claim = await loadClaim(db, warranty, id);
 		expect(claim.state).toBe('in_review');
 		expect(JSON.parse(claim.evidence).measuredCapacityAh).toBe(39.5);
-		await expect(addEvidence(db, ridgeline, id, { measuredCapacityAh: '1' }, NOW)).rejects.toMatchObject({ status: 404 });
+		await expect(
+			addEvidence(db, ridgeline, id, { measuredCapacityAh: '1' }, NOW)
+		).rejects.toMatchObject({ status: 404 });
 		await commentOnClaim(db, saltmarsh, id, 'The owner asks how long this takes.', NOW);
 
 		const events = await db.select().from(claimEvents).where(eq(claimEvents.claimId, id));
@@ -217,48 +475,105 @@ describe('workflow', () => {
 			['awaiting_evidence', 'in_review'],
 			['in_review', 'in_review']
 		]);
-		expect(events[2]).toMatchObject({ actorLabel: 'warranty@tidewater.example', comment: 'Send a capacity test report, please.' });
-		expect((await mailsAbout(reference)).map((m) => m.subject)).toEqual([`Claim ${reference} received`, `Claim ${reference}: Under review`, `Claim ${reference}: Waiting for evidence`, `Claim ${reference}: Under review`]);
-		expect((await db.select().from(auditLog).where(eq(auditLog.entityId, reference))).map((a) => a.action)).toEqual(['claim.file', 'claim.move', 'claim.move', 'claim.evidence', 'claim.comment']);
+		expect(events[2]).toMatchObject({
+			actorLabel: 'warranty@tidewater.example',
+			comment: 'Send a capacity test report, please.'
+		});
+		expect((await mailsAbout(reference)).map((m) => m.subject)).toEqual([
+			`Claim ${reference} received`,
+			`Claim ${reference}: Under review`,
+			`Claim ${reference}: Waiting for evidence`,
+			`Claim ${reference}: Under review`
+		]);
+		expect(
+			(await db.select().from(auditLog).where(eq(auditLog.entityId, reference))).map(
+				(a) => a.action
+			)
+		).toEqual(['claim.file', 'claim.move', 'claim.move', 'claim.evidence', 'claim.comment']);
 	});
 
 	it('needs a written reason to decide against the recommendation, and stores the assessment with the decision', async () => {
 		const sys = await commissionedSystem();
-		const { id, reference } = await fileClaim(db, saltmarsh, { serials: [sys.serials[0], sys.serials[1]], fault: 'Fade', evidence: coverEvidence }, NOW);
+		const { id, reference } = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [sys.serials[0], sys.serials[1]], fault: 'Fade', evidence: coverEvidence },
+			NOW
+		);
 		await moveClaim(db, warranty, id, { to: 'in_review' }, NOW);
 		const before = await counts();
-		await expect(decideClaim(db, warranty, id, { decision: 'not_covered' }, NOW)).rejects.toThrow('The assessment recommends cover; say why you decide otherwise');
-		await expect(decideClaim(db, warranty, id, { decision: 'not_covered', reason: 'Looks odd.' }, NOW)).rejects.toMatchObject({ status: 400, issues: [{ path: 'reason' }] });
+		await expect(decideClaim(db, warranty, id, { decision: 'not_covered' }, NOW)).rejects.toThrow(
+			'The assessment recommends cover; say why you decide otherwise'
+		);
+		await expect(
+			decideClaim(db, warranty, id, { decision: 'not_covered', reason: 'Looks odd.' }, NOW)
+		).rejects.toMatchObject({ status: 400, issues: [{ path: 'reason' }] });
 		expect(await counts()).toEqual(before);
 		const reason = 'The photos show the case crushed by a forklift: mechanical damage is excluded.';
 		await decideClaim(db, warranty, id, { decision: 'not_covered', reason }, NOW);
 		const claim = await loadClaim(db, saltmarsh, id);
-		expect(claim).toMatchObject({ state: 'not_covered', decision: 'not_covered', decisionReason: reason, decidedBy: warranty.userId });
-		expect(JSON.parse(claim.assessment!)).toMatchObject({ recommendation: 'cover', equivalentFullCycles: 3000 });
+		expect(claim).toMatchObject({
+			state: 'not_covered',
+			decision: 'not_covered',
+			decisionReason: reason,
+			decidedBy: warranty.userId
+		});
+		expect(JSON.parse(claim.assessment!)).toMatchObject({
+			recommendation: 'cover',
+			equivalentFullCycles: 3000
+		});
 		// Not covered: the modules are back in service.
 		expect((await stateOf(sys.serials[0])).state).toBe('commissioned');
-		const mails = await db.select().from(mailOutbox).where(eq(mailOutbox.subject, `Claim ${reference}: Not covered`));
+		const mails = await db
+			.select()
+			.from(mailOutbox)
+			.where(eq(mailOutbox.subject, `Claim ${reference}: Not covered`));
 		expect(mails[0].text).toContain(reason);
 		await moveClaim(db, warranty, id, { to: 'closed' }, NOW);
-		await expect(moveClaim(db, warranty, id, { to: 'in_review' }, NOW)).rejects.toThrow(/It is closed/);
+		await expect(moveClaim(db, warranty, id, { to: 'in_review' }, NOW)).rejects.toThrow(
+			/It is closed/
+		);
 	});
 
 	it('needs a reason to decide without the evidence the assessment asks for', async () => {
 		const sys = await commissionedSystem();
 		const { measuredCapacityAh: _, ...noCapacity } = coverEvidence;
-		const { id } = await fileClaim(db, saltmarsh, { serials: [sys.serials[0]], fault: 'Fade', evidence: noCapacity }, NOW);
+		const { id } = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [sys.serials[0]], fault: 'Fade', evidence: noCapacity },
+			NOW
+		);
 		await moveClaim(db, warranty, id, { to: 'in_review' }, NOW);
-		await expect(decideClaim(db, warranty, id, { decision: 'covered' }, NOW)).rejects.toThrow('The assessment asks for more evidence; say why you decide without it');
-		await expect(decideClaim(db, warranty, id, { decision: 'not_covered' }, NOW)).rejects.toThrow(/asks for more evidence/);
-		await decideClaim(db, warranty, id, { decision: 'covered', reason: 'Owner is a long-standing customer; goodwill cover agreed.' }, NOW);
+		await expect(decideClaim(db, warranty, id, { decision: 'covered' }, NOW)).rejects.toThrow(
+			'The assessment asks for more evidence; say why you decide without it'
+		);
+		await expect(decideClaim(db, warranty, id, { decision: 'not_covered' }, NOW)).rejects.toThrow(
+			/asks for more evidence/
+		);
+		await decideClaim(
+			db,
+			warranty,
+			id,
+			{ decision: 'covered', reason: 'Owner is a long-standing customer; goodwill cover agreed.' },
+			NOW
+		);
 		expect((await loadClaim(db, warranty, id)).state).toBe('covered');
 	});
 
 	it('decides along the recommendation without a reason', async () => {
 		const sys = await commissionedSystem();
-		const { id } = await fileClaim(db, saltmarsh, { serials: [sys.serials[0]], fault: 'Fade', evidence: coverEvidence }, NOW);
+		const { id } = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [sys.serials[0]], fault: 'Fade', evidence: coverEvidence },
+			NOW
+		);
 		await moveClaim(db, admin, id, { to: 'in_review' }, NOW);
-		expect(await decideClaim(db, admin, id, { decision: 'covered' }, NOW)).toEqual({ state: 'covered', recommendation: 'cover' });
+		expect(await decideClaim(db, admin, id, { decision: 'covered' }, NOW)).toEqual({
+			state: 'covered',
+			recommendation: 'cover'
+		});
 	});
 });
 
@@ -266,77 +581,166 @@ describe('replacement', () => {
 	it('puts a same-model replacement in the failed slot with the rest of the original warranty; the failed module is returned', async () => {
 		const sys = await commissionedSystem({ startsOn: '2021-09-01' });
 		const failed = sys.serials[2];
-		const { id, reference } = await fileClaim(db, saltmarsh, { serials: [failed], fault: 'Fade', evidence: coverEvidence }, NOW);
+		const { id, reference } = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [failed], fault: 'Fade', evidence: coverEvidence },
+			NOW
+		);
 		await moveClaim(db, warranty, id, { to: 'in_review' }, NOW);
 		const [wrongModel] = await spares('TC-HC-24');
 		const [otherDealers] = await spares('TC-HC-48', 1, 'Ridgeline Off-Grid Supply');
 		const [good] = await spares('TC-HC-48');
-		await expect(replaceModule(db, warranty, id, failed, good, undefined, NOW)).rejects.toThrow(/covered claim/);
+		await expect(replaceModule(db, warranty, id, failed, good, undefined, NOW)).rejects.toThrow(
+			/covered claim/
+		);
 		await decideClaim(db, warranty, id, { decision: 'covered' }, NOW);
-		await expect(replaceModule(db, warranty, id, failed, wrongModel, undefined, NOW)).rejects.toThrow(/same model/);
-		await expect(replaceModule(db, warranty, id, failed, otherDealers, undefined, NOW)).rejects.toThrow(/in stock, or shipped to this claim's dealer/);
+		await expect(
+			replaceModule(db, warranty, id, failed, wrongModel, undefined, NOW)
+		).rejects.toThrow(/same model/);
+		await expect(
+			replaceModule(db, warranty, id, failed, otherDealers, undefined, NOW)
+		).rejects.toThrow(/in stock, or shipped to this claim's dealer/);
 
 		const original = await stateOf(failed);
 		const result = await replaceModule(db, warranty, id, failed, good, undefined, NOW);
 		expect(result).toEqual({ replacement: good, state: 'replacement_sent' });
 		const repl = await stateOf(good);
-		expect(repl).toMatchObject({ state: 'commissioned', systemId: sys.systemId, dealerOrgId: sys.dealerOrgId, warrantyStartsOn: '2021-09-01', warrantyEndsOn: original.warrantyEndsOn, warrantyTerms: original.warrantyTerms });
+		expect(repl).toMatchObject({
+			state: 'commissioned',
+			systemId: sys.systemId,
+			dealerOrgId: sys.dealerOrgId,
+			warrantyStartsOn: '2021-09-01',
+			warrantyEndsOn: original.warrantyEndsOn,
+			warrantyTerms: original.warrantyTerms
+		});
 		expect(repl.warrantyEndsOn).toBe('2036-09-01');
 		const [slot] = await db.select().from(systemSlots).where(eq(systemSlots.moduleId, repl.id));
 		expect(slot).toMatchObject({ systemId: sys.systemId, stringNo: 1, position: 3 });
-		expect(await db.select().from(systemSlots).where(eq(systemSlots.moduleId, original.id))).toHaveLength(0);
+		expect(
+			await db.select().from(systemSlots).where(eq(systemSlots.moduleId, original.id))
+		).toHaveLength(0);
 		expect(await stateOf(failed)).toMatchObject({ state: 'returned', systemId: null });
-		const kinds = async (moduleId: number) => (await db.select().from(moduleEvents).where(eq(moduleEvents.moduleId, moduleId))).map((e) => e.kind);
+		const kinds = async (moduleId: number) =>
+			(await db.select().from(moduleEvents).where(eq(moduleEvents.moduleId, moduleId))).map(
+				(e) => e.kind
+			);
 		expect(await kinds(original.id)).toEqual(expect.arrayContaining(['replaced', 'returned']));
 		expect(await kinds(repl.id)).toContain('replaced');
 		expect((await loadClaim(db, warranty, id)).state).toBe('replacement_sent');
-		expect((await mailsAbout(reference)).map((m) => m.subject)).toEqual([`Claim ${reference} received`, `Claim ${reference}: Under review`, `Claim ${reference}: Covered`, `Claim ${reference}: Replacement sent`]);
+		expect((await mailsAbout(reference)).map((m) => m.subject)).toEqual([
+			`Claim ${reference} received`,
+			`Claim ${reference}: Under review`,
+			`Claim ${reference}: Covered`,
+			`Claim ${reference}: Replacement sent`
+		]);
 
-		await recordReturnInspection(db, warranty, id, failed, { cause: 'cell_fade_premature', findings: 'Two cells at 78 % of rated capacity; others normal.' }, NOW);
+		await recordReturnInspection(
+			db,
+			warranty,
+			id,
+			failed,
+			{
+				cause: 'cell_fade_premature',
+				findings: 'Two cells at 78 % of rated capacity; others normal.'
+			},
+			NOW
+		);
 		const detail = await getClaim(db, warranty, id, NOW);
-		expect(detail.modules[0]).toMatchObject({ serial: failed, replacementSerial: good, returnCause: 'cell_fade_premature' });
+		expect(detail.modules[0]).toMatchObject({
+			serial: failed,
+			replacementSerial: good,
+			returnCause: 'cell_fade_premature'
+		});
 		await moveClaim(db, warranty, id, { to: 'closed' }, NOW);
 		expect((await loadClaim(db, warranty, id)).state).toBe('closed');
 	});
 
 	it('waits for every claimed module before replacement sent, and accepts a module already at the same dealer', async () => {
 		const sys = await commissionedSystem();
-		const { id } = await fileClaim(db, saltmarsh, { serials: [sys.serials[0], sys.serials[1]], fault: 'Fade', evidence: coverEvidence }, NOW);
+		const { id } = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [sys.serials[0], sys.serials[1]], fault: 'Fade', evidence: coverEvidence },
+			NOW
+		);
 		await moveClaim(db, warranty, id, { to: 'in_review' }, NOW);
 		await decideClaim(db, warranty, id, { decision: 'covered' }, NOW);
-		await expect(moveClaim(db, warranty, id, { to: 'replacement_sent' }, NOW)).rejects.toThrow(/Scan a replacement for/);
+		await expect(moveClaim(db, warranty, id, { to: 'replacement_sent' }, NOW)).rejects.toThrow(
+			/Scan a replacement for/
+		);
 		const [atDealer] = await spares('TC-HC-48', 1, 'Saltmarsh Solar');
 		const [inStock] = await spares('TC-HC-48');
-		expect((await replaceModule(db, warranty, id, sys.serials[0], atDealer, undefined, NOW)).state).toBe('covered');
-		expect((await replaceModule(db, warranty, id, sys.serials[1], inStock, undefined, NOW)).state).toBe('replacement_sent');
+		expect(
+			(await replaceModule(db, warranty, id, sys.serials[0], atDealer, undefined, NOW)).state
+		).toBe('covered');
+		expect(
+			(await replaceModule(db, warranty, id, sys.serials[1], inStock, undefined, NOW)).state
+		).toBe('replacement_sent');
 	});
 });
 
 describe('queue', () => {
-	it("shows a dealer only its own claims and flags claims past the response target", async () => {
+	it('shows a dealer only its own claims and flags claims past the response target', async () => {
 		const salt = await commissionedSystem({ dealer: 'Saltmarsh Solar' });
 		const ridge = await commissionedSystem({ dealer: 'Ridgeline Off-Grid Supply' });
-		const a = await fileClaim(db, saltmarsh, { serials: [salt.serials[0]], fault: 'Fade', evidence: coverEvidence }, NOW);
-		const b = await fileClaim(db, ridgeline, { serials: [ridge.serials[0], ridge.serials[1]], fault: 'Fade', evidence: coverEvidence }, NOW);
-		const [ridgelineOrg] = await db.select().from(organisations).where(eq(organisations.name, 'Ridgeline Off-Grid Supply'));
+		const a = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [salt.serials[0]], fault: 'Fade', evidence: coverEvidence },
+			NOW
+		);
+		const b = await fileClaim(
+			db,
+			ridgeline,
+			{ serials: [ridge.serials[0], ridge.serials[1]], fault: 'Fade', evidence: coverEvidence },
+			NOW
+		);
+		const [ridgelineOrg] = await db
+			.select()
+			.from(organisations)
+			.where(eq(organisations.name, 'Ridgeline Off-Grid Supply'));
 
 		const mine = await listClaims(db, ridgeline, { pageSize: 100 }, NOW);
 		expect(mine.items.map((i) => i.reference)).toEqual([b.reference]);
 		expect(mine.total).toBe(1);
 		// A dealer filter from a dealer does not widen the scope.
-		const [saltOrg] = await db.select().from(organisations).where(eq(organisations.name, 'Saltmarsh Solar'));
-		expect((await listClaims(db, ridgeline, { dealer: saltOrg.id }, NOW)).items.map((i) => i.reference)).toEqual([b.reference]);
+		const [saltOrg] = await db
+			.select()
+			.from(organisations)
+			.where(eq(organisations.name, 'Saltmarsh Solar'));
+		expect(
+			(await listClaims(db, ridgeline, { dealer: saltOrg.id }, NOW)).items.map((i) => i.reference)
+		).toEqual([b.reference]);
 		await expect(getClaim(db, saltmarsh, b.id, NOW)).rejects.toMatchObject({ status: 404 });
 
 		const staff = await listClaims(db, warranty, { dealer: ridgelineOrg.id, pageSize: 100 }, NOW);
 		expect(staff.items).toHaveLength(1);
-		expect(staff.items[0]).toMatchObject({ reference: b.reference, dealer: 'Ridgeline Off-Grid Supply', models: ['TC-HC-48'], serialCount: 2, ageDays: 0, overdue: false, state: 'filed' });
+		expect(staff.items[0]).toMatchObject({
+			reference: b.reference,
+			dealer: 'Ridgeline Off-Grid Supply',
+			models: ['TC-HC-48'],
+			serialCount: 2,
+			ageDays: 0,
+			overdue: false,
+			state: 'filed'
+		});
 		const later = new Date(NOW.getTime() + 11 * DAY);
 		const old = await listClaims(db, warranty, { minAgeDays: 11, pageSize: 100 }, later);
-		expect(old.items.map((i) => i.reference)).toEqual(expect.arrayContaining([a.reference, b.reference]));
-		expect(old.items.find((i) => i.reference === a.reference)).toMatchObject({ ageDays: 11, overdue: true });
+		expect(old.items.map((i) => i.reference)).toEqual(
+			expect.arrayContaining([a.reference, b.reference])
+		);
+		expect(old.items.find((i) => i.reference === a.reference)).toMatchObject({
+			ageDays: 11,
+			overdue: true
+		});
 		expect((await listClaims(db, warranty, { minAgeDays: 12 }, later)).total).toBe(0);
-		const page1 = await listClaims(db, warranty, { page: 1, pageSize: 2, sort: 'reference', dir: 'desc' }, NOW);
+		const page1 = await listClaims(
+			db,
+			warranty,
+			{ page: 1, pageSize: 2, sort: 'reference', dir: 'desc' },
+			NOW
+		);
 		expect(page1.items).toHaveLength(2);
 		expect(page1.items[0].reference > page1.items[1].reference).toBe(true);
 		expect(page1.total).toBeGreaterThan(2);
@@ -344,43 +748,95 @@ describe('queue', () => {
 });
 
 describe('inverter log', () => {
-	const csv = 'Timestamp,E_Discharge_Total(kWh),Battery Temp(°C)\n2025-01-01 00:00,100.0,22\n2025-06-01 00:00,4100.0,28\n2026-01-01 00:00,9000.5,24\n';
+	const csv =
+		'Timestamp,E_Discharge_Total(kWh),Battery Temp(°C)\n2025-01-01 00:00,100.0,22\n2025-06-01 00:00,4100.0,28\n2026-01-01 00:00,9000.5,24\n';
 	it('suggests a mapping, sums the throughput with the confirmed one and remembers it for the dealer', async () => {
 		const first = await readInverterLog(db, saltmarsh, null, csv, undefined, NOW);
 		expect(first.summary).toBeNull();
-		expect(first.suggested).toMatchObject({ timestampColumn: 'Timestamp', energyColumn: 'E_Discharge_Total(kWh)', energyUnit: 'kWh', energyKind: 'cumulative' });
-		const mapping = { timestampColumn: 'Timestamp', energyColumn: 'E_Discharge_Total(kWh)', energyUnit: 'kWh' as const, energyKind: 'cumulative' as const, tempColumn: 'Battery Temp(°C)' };
+		expect(first.suggested).toMatchObject({
+			timestampColumn: 'Timestamp',
+			energyColumn: 'E_Discharge_Total(kWh)',
+			energyUnit: 'kWh',
+			energyKind: 'cumulative'
+		});
+		const mapping = {
+			timestampColumn: 'Timestamp',
+			energyColumn: 'E_Discharge_Total(kWh)',
+			energyUnit: 'kWh' as const,
+			energyKind: 'cumulative' as const,
+			tempColumn: 'Battery Temp(°C)'
+		};
 		const read = await readInverterLog(db, saltmarsh, null, csv, mapping, NOW);
 		expect(read.evidence).toEqual({ throughputWh: 8900500, avgCellTempC: 24.67, maxCellTempC: 28 });
-		const [saved] = await db.select().from(logMappings).where(eq(logMappings.dealerOrgId, saltmarsh.organisationId!));
+		const [saved] = await db
+			.select()
+			.from(logMappings)
+			.where(eq(logMappings.dealerOrgId, saltmarsh.organisationId!));
 		expect(JSON.parse(saved.mapping)).toEqual(mapping);
 		// Next time, the same dealer's file is read with the remembered mapping; another dealer's is not.
-		expect((await readInverterLog(db, saltmarsh, null, csv, undefined, NOW)).usedRemembered).toBe(true);
-		expect((await readInverterLog(db, ridgeline, saltmarsh.organisationId, csv, undefined, NOW)).summary).toBeNull();
+		expect((await readInverterLog(db, saltmarsh, null, csv, undefined, NOW)).usedRemembered).toBe(
+			true
+		);
+		expect(
+			(await readInverterLog(db, ridgeline, saltmarsh.organisationId, csv, undefined, NOW)).summary
+		).toBeNull();
 	});
 });
 
 describe('POST /api/warranty/assess', () => {
 	const event = (user: Actor | null, body: unknown) => {
 		const url = new URL('http://localhost/api/warranty/assess');
-		return { url, locals: { user, token: null }, request: new Request(url, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(body) }) } as unknown as Parameters<typeof assessPost>[0];
+		return {
+			url,
+			locals: { user, token: null },
+			request: new Request(url, {
+				method: 'POST',
+				headers: { 'content-type': 'application/json' },
+				body: JSON.stringify(body)
+			})
+		} as unknown as Parameters<typeof assessPost>[0];
 	};
-	const input = { terms: TERMS, commissionedOn: '2022-03-01', claimedOn: '2026-03-15', ratedCapacityAh: 46.5, usableWh: 2300, measuredCapacityAh: 40, throughputWh: 6900000, avgCellTempC: 24, stopChargeProven: true };
+	const input = {
+		terms: TERMS,
+		commissionedOn: '2022-03-01',
+		claimedOn: '2026-03-15',
+		ratedCapacityAh: 46.5,
+		usableWh: 2300,
+		measuredCapacityAh: 40,
+		throughputWh: 6900000,
+		avgCellTempC: 24,
+		stopChargeProven: true
+	};
 
 	it('answers assessClaim exactly', async () => {
 		const res = await assessPost(event(saltmarsh, input));
 		expect(res.status).toBe(200);
 		const body = await res.json();
 		expect(body).toEqual(JSON.parse(JSON.stringify(assessClaim(input))));
-		expect(Object.keys(body)).toEqual(expect.arrayContaining(['recommendation', 'withinTerm', 'yearsElapsed', 'equivalentFullCycles', 'deratedRatedCycles', 'retentionPct', 'promisedRetentionPct', 'reasons']));
+		expect(Object.keys(body)).toEqual(
+			expect.arrayContaining([
+				'recommendation',
+				'withinTerm',
+				'yearsElapsed',
+				'equivalentFullCycles',
+				'deratedRatedCycles',
+				'retentionPct',
+				'promisedRetentionPct',
+				'reasons'
+			])
+		);
 	});
 
 	it('answers 400 with a message and the issues for bad input, and refuses the wrong roles', async () => {
-		const res = await assessPost(event(warranty, { ...input, measuredCapacityAh: -1, avgCellTempC: 400 }));
+		const res = await assessPost(
+			event(warranty, { ...input, measuredCapacityAh: -1, avgCellTempC: 400 })
+		);
 		expect(res.status).toBe(400);
 		const body = await res.json();
 		expect(body.message).toMatch(/Check the figures/);
-		expect(body.issues.map((i: { path: string }) => i.path)).toEqual(expect.arrayContaining(['measuredCapacityAh', 'avgCellTempC']));
+		expect(body.issues.map((i: { path: string }) => i.path)).toEqual(
+			expect.arrayContaining(['measuredCapacityAh', 'avgCellTempC'])
+		);
 		await expect(assessPost(event(workshop, input))).rejects.toMatchObject({ status: 403 });
 		await expect(assessPost(event(null, input))).rejects.toMatchObject({ status: 401 });
 	});

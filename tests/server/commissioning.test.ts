@@ -3,8 +3,24 @@ import { inflateSync } from 'node:zlib';
 import { eq, inArray } from 'drizzle-orm';
 import { PDFDocument } from 'pdf-lib';
 import type { Db } from '$lib/server/db';
-import { auditLog, commissionings, moduleEvents, modules, organisations, sites, systems, systemSlots, users } from '$lib/server/db/schema';
-import { certificateData, certificatePdf, evaluateDraft, loadSystemForCommissioning, submitCommissioning } from '$lib/server/services/commissioning';
+import {
+	auditLog,
+	commissionings,
+	moduleEvents,
+	modules,
+	organisations,
+	sites,
+	systems,
+	systemSlots,
+	users
+} from '$lib/server/db/schema';
+import {
+	certificateData,
+	certificatePdf,
+	evaluateDraft,
+	loadSystemForCommissioning,
+	submitCommissioning
+} from '$lib/server/services/commissioning';
 import { closeMailer, listOutbox } from '$lib/server/mail';
 import { commissioningSchema, draftMeasurementsSchema } from '$lib/schemas/commissioning';
 import type { Actor } from '$lib/server/actor';
@@ -27,26 +43,64 @@ beforeAll(async () => {
 afterAll(async () => closeMailer(db));
 
 /** A Saltmarsh Solar site with a TC-HC-48 system of `series` × `parallel` installed modules, rows inserted directly. */
-async function makeSystem(opts: { series?: number; parallel?: number; dealer?: string | null; leaveEmpty?: number } = {}) {
+async function makeSystem(
+	opts: { series?: number; parallel?: number; dealer?: string | null; leaveEmpty?: number } = {}
+) {
 	const series = opts.series ?? 2;
 	const parallel = opts.parallel ?? 1;
 	const serials = await makeModules(db, workshop, { code: 'TC-HC-48', count: series * parallel });
-	const [dealer] = opts.dealer === null ? [] : await db.select().from(organisations).where(eq(organisations.name, opts.dealer ?? 'Saltmarsh Solar'));
+	const [dealer] =
+		opts.dealer === null
+			? []
+			: await db
+					.select()
+					.from(organisations)
+					.where(eq(organisations.name, opts.dealer ?? 'Saltmarsh Solar'));
 	const [me] = await db.select().from(users).where(eq(users.email, 'tech@tidewater.example'));
 	const [site] = await db
 		.insert(sites)
-		.values({ dealerOrgId: dealer?.id ?? null, name: 'Heron Point cabin', ownerName: 'Wren Tamsin', ownerContact: 'wren@heron.example', address: '4 Heron Point Lane, Saltmarsh', application: 'off_grid_home', createdBy: me.id })
+		.values({
+			dealerOrgId: dealer?.id ?? null,
+			name: 'Heron Point cabin',
+			ownerName: 'Wren Tamsin',
+			ownerContact: 'wren@heron.example',
+			address: '4 Heron Point Lane, Saltmarsh',
+			application: 'off_grid_home',
+			createdBy: me.id
+		})
 		.returning();
-	const [modelRow] = await db.select({ id: modules.modelId }).from(modules).where(eq(modules.serial, serials[0]));
+	const [modelRow] = await db
+		.select({ id: modules.modelId })
+		.from(modules)
+		.where(eq(modules.serial, serials[0]));
 	const [system] = await db
 		.insert(systems)
-		.values({ siteId: site.id, name: 'Cabin bank', modelId: modelRow.id, series, parallel, inverterName: 'Invented 5 kW inverter', inverterMinV: 70, inverterMaxV: 130 })
+		.values({
+			siteId: site.id,
+			name: 'Cabin bank',
+			modelId: modelRow.id,
+			series,
+			parallel,
+			inverterName: 'Invented 5 kW inverter',
+			inverterMinV: 70,
+			inverterMaxV: 130
+		})
 		.returning();
 	const rows = await db.select().from(modules).where(inArray(modules.serial, serials));
 	const placed = rows.slice(0, rows.length - (opts.leaveEmpty ?? 0));
 	for (const [i, m] of placed.entries()) {
-		await db.insert(systemSlots).values({ systemId: system.id, stringNo: Math.floor(i / series) + 1, position: (i % series) + 1, moduleId: m.id });
-		await db.update(modules).set({ state: 'installed', systemId: system.id, dealerOrgId: dealer?.id ?? null }).where(eq(modules.id, m.id));
+		await db
+			.insert(systemSlots)
+			.values({
+				systemId: system.id,
+				stringNo: Math.floor(i / series) + 1,
+				position: (i % series) + 1,
+				moduleId: m.id
+			});
+		await db
+			.update(modules)
+			.set({ state: 'installed', systemId: system.id, dealerOrgId: dealer?.id ?? null })
+			.where(eq(modules.id, m.id));
 	}
 	return { system, site, serials };
 }
@@ -82,30 +136,46 @@ describe('commissioning input', () => {
 		const ok = form({ ambientC: '' });
 		expect(ok.moduleOcvV).toEqual([[50.6, 50.62]]);
 		expect(ok.ambientC).toBeNull();
-		expect(commissioningSchema.safeParse({ ...ok, licenceNumber: ' ', cautionsAcknowledged: 'yes' }).success).toBe(false);
-		const noCautions = commissioningSchema.safeParse({ technicianName: 'Ilse Fenwick', licenceNumber: 'EL-40917' });
+		expect(
+			commissioningSchema.safeParse({ ...ok, licenceNumber: ' ', cautionsAcknowledged: 'yes' })
+				.success
+		).toBe(false);
+		const noCautions = commissioningSchema.safeParse({
+			technicianName: 'Ilse Fenwick',
+			licenceNumber: 'EL-40917'
+		});
 		expect(noCautions.success).toBe(false);
 		expect(noCautions.error?.issues.map((i) => i.path.join('.'))).toContain('cautionsAcknowledged');
 		expect(commissioningSchema.safeParse({ ...ok, insulationMohm: 'lots' }).success).toBe(false);
 		// The preview reads what it can: an unreadable value counts as not measured.
-		expect(draftMeasurementsSchema.parse({ insulationMohm: 'lots', 'stringVoltageV.1': '101,2' })).toMatchObject({ insulationMohm: null, stringVoltageV: [101.2] });
+		expect(
+			draftMeasurementsSchema.parse({ insulationMohm: 'lots', 'stringVoltageV.1': '101,2' })
+		).toMatchObject({ insulationMohm: null, stringVoltageV: [101.2] });
 	});
 });
 
 describe('submitCommissioning', () => {
 	it('stores a failing insulation test as a fail and leaves the modules as they were', async () => {
 		const { system, serials } = await makeSystem();
-		const preview = evaluateDraft(await loadSystemForCommissioning(db, tech, system.id), form({ insulationMohm: '0,4' }));
+		const preview = evaluateDraft(
+			await loadSystemForCommissioning(db, tech, system.id),
+			form({ insulationMohm: '0,4' })
+		);
 		expect(preview.overall).toBe('fail');
 		const r = await submitCommissioning(db, tech, system.id, form({ insulationMohm: '0,4' }), DAY);
 		expect(r.overall).toBe('fail');
 		expect(r.certificateNo).toBeNull();
 		const insulation = r.items.find((i) => i.key === 'insulation')!;
 		expect(insulation.status).toBe('fail');
-		expect(insulation.reason).toMatch(/0\.4 MΩ at 500 V is below the 1\.0 MΩ minimum of IEC 60364-6 Table 6\.1/);
+		expect(insulation.reason).toMatch(
+			/0\.4 MΩ at 500 V is below the 1\.0 MΩ minimum of IEC 60364-6 Table 6\.1/
+		);
 		const [row] = await db.select().from(commissionings).where(eq(commissionings.id, r.id));
 		expect(row.overall).toBe('fail');
-		expect(JSON.parse(row.measurements).insulation).toEqual({ testVoltageV: 500, measuredMohm: 0.4 });
+		expect(JSON.parse(row.measurements).insulation).toEqual({
+			testVoltageV: 500,
+			measuredMohm: 0.4
+		});
 		const mods = await db.select().from(modules).where(inArray(modules.serial, serials));
 		expect(mods.every((m) => m.state === 'installed' && m.warrantyStartsOn === null)).toBe(true);
 		const [sys] = await db.select().from(systems).where(eq(systems.id, system.id));
@@ -130,9 +200,26 @@ describe('submitCommissioning', () => {
 			expect(m.commissionedAt?.toISOString()).toBe(DAY.toISOString());
 			// TC-HC-48 terms (invented demo): 15 years.
 			expect([m.warrantyStartsOn, m.warrantyEndsOn]).toEqual(['2026-12-01', '2041-12-01']);
-			expect(JSON.parse(m.warrantyTerms!)).toEqual({ years: 15, ratedCycles: 20000, endRetentionPct: 80, referenceTempC: 25, hotTempC: 55, hotRatedCycles: 4000, usableWh: 2300, ratedAh: 46.5 });
+			expect(JSON.parse(m.warrantyTerms!)).toEqual({
+				years: 15,
+				ratedCycles: 20000,
+				endRetentionPct: 80,
+				referenceTempC: 25,
+				hotTempC: 55,
+				hotRatedCycles: 4000,
+				usableWh: 2300,
+				ratedAh: 46.5
+			});
 		}
-		const events = await db.select().from(moduleEvents).where(inArray(moduleEvents.moduleId, mods.map((m) => m.id)));
+		const events = await db
+			.select()
+			.from(moduleEvents)
+			.where(
+				inArray(
+					moduleEvents.moduleId,
+					mods.map((m) => m.id)
+				)
+			);
 		expect(events.filter((e) => e.kind === 'commissioned')).toHaveLength(2);
 		const audit = await db.select().from(auditLog).where(inArray(auditLog.entityId, serials));
 		expect(audit.filter((a) => a.action === 'module.commission')).toHaveLength(2);
@@ -141,34 +228,54 @@ describe('submitCommissioning', () => {
 		const mail = outbox.find((m) => m.subject.includes(r.certificateNo!));
 		expect(mail?.toAddr).toBe('dealer@saltmarsh.example');
 
-		await expect(submitCommissioning(db, tech, system.id, form(), DAY)).rejects.toThrow(/already commissioned/);
-		const attempts = await db.select().from(commissionings).where(eq(commissionings.systemId, system.id));
+		await expect(submitCommissioning(db, tech, system.id, form(), DAY)).rejects.toThrow(
+			/already commissioned/
+		);
+		const attempts = await db
+			.select()
+			.from(commissionings)
+			.where(eq(commissionings.systemId, system.id));
 		expect(attempts.map((a) => a.overall)).toEqual(['fail', 'pass']);
 	});
 
 	it('gives unique, consecutive certificate numbers and mails the assembler for its own sites', async () => {
 		const a = await makeSystem({ dealer: null });
 		const b = await makeSystem({ dealer: null });
-		const [ra, rb] = await Promise.all([submitCommissioning(db, tech, a.system.id, form(), DAY), submitCommissioning(db, tech, b.system.id, form(), DAY)]);
-		const nums = [ra.certificateNo!, rb.certificateNo!].map((n) => Number(n.slice(-5))).sort((x, y) => x - y);
+		const [ra, rb] = await Promise.all([
+			submitCommissioning(db, tech, a.system.id, form(), DAY),
+			submitCommissioning(db, tech, b.system.id, form(), DAY)
+		]);
+		const nums = [ra.certificateNo!, rb.certificateNo!]
+			.map((n) => Number(n.slice(-5)))
+			.sort((x, y) => x - y);
 		expect(nums[1] - nums[0]).toBe(1);
 		expect(ra.mail?.to).toBe('office@tidewater.example');
 	});
 
 	it('refuses a system with an empty slot', async () => {
 		const { system } = await makeSystem({ leaveEmpty: 1 });
-		await expect(submitCommissioning(db, tech, system.id, form(), DAY)).rejects.toThrow(/no module recorded at string 1 position 2/);
+		await expect(submitCommissioning(db, tech, system.id, form(), DAY)).rejects.toThrow(
+			/no module recorded at string 1 position 2/
+		);
 	});
 });
 
 describe('dealer scope', () => {
 	it("lets a dealer's people reach only their own organisation's systems and certificates", async () => {
 		const { system } = await makeSystem();
-		await expect(loadSystemForCommissioning(db, saltmarshDealer, system.id)).resolves.toMatchObject({ system: { id: system.id } });
-		await expect(loadSystemForCommissioning(db, ridgelineTech, system.id)).rejects.toThrow(/not in the register/);
-		await expect(submitCommissioning(db, ridgelineTech, system.id, form(), DAY)).rejects.toThrow(/not in the register/);
+		await expect(loadSystemForCommissioning(db, saltmarshDealer, system.id)).resolves.toMatchObject(
+			{ system: { id: system.id } }
+		);
+		await expect(loadSystemForCommissioning(db, ridgelineTech, system.id)).rejects.toThrow(
+			/not in the register/
+		);
+		await expect(submitCommissioning(db, ridgelineTech, system.id, form(), DAY)).rejects.toThrow(
+			/not in the register/
+		);
 		const r = await submitCommissioning(db, tech, system.id, form(), DAY);
-		await expect(certificateData(db, saltmarshDealer, r.id)).resolves.toMatchObject({ certificateNo: r.certificateNo });
+		await expect(certificateData(db, saltmarshDealer, r.id)).resolves.toMatchObject({
+			certificateNo: r.certificateNo
+		});
 		await expect(certificateData(db, ridgelineTech, r.id)).rejects.toThrow(/not in the register/);
 	});
 });
@@ -180,7 +287,12 @@ describe('certificate PDF', () => {
 			db,
 			tech,
 			system.id,
-			form({ 'moduleOcvV.2.1': '50,61', 'moduleOcvV.2.2': '50,63', 'stringVoltageV.2': '101,24', deviceRatingA: '400' }),
+			form({
+				'moduleOcvV.2.1': '50,61',
+				'moduleOcvV.2.2': '50,63',
+				'stringVoltageV.2': '101,24',
+				deviceRatingA: '400'
+			}),
 			DAY
 		);
 		expect(r.overall).toBe('pass');
@@ -206,7 +318,9 @@ describe('certificate PDF', () => {
 		expect(text).toContain(hex('Commissioning certificate'));
 		for (const s of serials) expect(text).toContain(hex(s));
 		expect(text).toContain(hex('MOhm'));
-		expect(text).toContain(hex('Local electrical codes and installation standards take precedence'));
+		expect(text).toContain(
+			hex('Local electrical codes and installation standards take precedence')
+		);
 
 		const parsed = await PDFDocument.load(bytes);
 		expect(parsed.getTitle()).toContain(r.certificateNo!);

@@ -2,9 +2,30 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { eq, inArray } from 'drizzle-orm';
 import Papa from 'papaparse';
 import type { Db } from '$lib/server/db';
-import { factoryTests, imports, moduleModels, modules, organisations, sites, systems, users } from '$lib/server/db/schema';
-import { exportModules, getColumnPrefs, listModules, setColumnPrefs, type FleetItem } from '$lib/server/services/fleet';
-import { FLEET_SORTS, FLEET_STATES, fleetQuerySchema, parseFleetQuery, type FleetQuery } from '$lib/schemas/fleet';
+import {
+	factoryTests,
+	imports,
+	moduleModels,
+	modules,
+	organisations,
+	sites,
+	systems,
+	users
+} from '$lib/server/db/schema';
+import {
+	exportModules,
+	getColumnPrefs,
+	listModules,
+	setColumnPrefs,
+	type FleetItem
+} from '$lib/server/services/fleet';
+import {
+	FLEET_SORTS,
+	FLEET_STATES,
+	fleetQuerySchema,
+	parseFleetQuery,
+	type FleetQuery
+} from '$lib/schemas/fleet';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
 import { assignToDealer, makeModules } from '../factories/modules';
@@ -20,7 +41,8 @@ const s48: string[] = [];
 const s24: string[] = [];
 const s12: string[] = [];
 const day = (d: string) => new Date(`${d}T09:00:00Z`);
-const q = (raw: Record<string, unknown> = {}): FleetQuery => fleetQuerySchema.parse({ pageSize: 200, ...raw });
+const q = (raw: Record<string, unknown> = {}): FleetQuery =>
+	fleetQuerySchema.parse({ pageSize: 200, ...raw });
 const serials = (r: { items: FleetItem[] }) => r.items.map((i) => i.serial);
 
 beforeAll(async () => {
@@ -28,9 +50,30 @@ beforeAll(async () => {
 	const workshop = await actorFor(db, 'workshop@tidewater.example');
 	staff = await actorFor(db, 'admin@tidewater.example');
 	saltmarsh = await actorFor(db, 'dealer@saltmarsh.example');
-	s48.push(...(await makeModules(db, workshop, { code: 'TC-HC-48', count: 6, built: 5, lots: ['HCL-2611-A'] })));
-	s24.push(...(await makeModules(db, workshop, { code: 'TC-HC-24', count: 4, built: 4, lots: ['HCL-2611-B', 'HCL-2611-C'] })));
-	s12.push(...(await makeModules(db, workshop, { code: 'TC-HC-12', count: 3, built: 2, lots: ['HCL-2612-A'] })));
+	s48.push(
+		...(await makeModules(db, workshop, {
+			code: 'TC-HC-48',
+			count: 6,
+			built: 5,
+			lots: ['HCL-2611-A']
+		}))
+	);
+	s24.push(
+		...(await makeModules(db, workshop, {
+			code: 'TC-HC-24',
+			count: 4,
+			built: 4,
+			lots: ['HCL-2611-B', 'HCL-2611-C']
+		}))
+	);
+	s12.push(
+		...(await makeModules(db, workshop, {
+			code: 'TC-HC-12',
+			count: 3,
+			built: 2,
+			lots: ['HCL-2612-A']
+		}))
+	);
 	// Distinct build dates, some tests, a range of states.
 	const dates: [string, string, string | null][] = [
 		[s48[0], '2026-01-05', '2026-01-06'],
@@ -48,47 +91,129 @@ beforeAll(async () => {
 	for (const [s, built, tested] of dates) {
 		await db
 			.update(modules)
-			.set({ builtAt: day(built), testedAt: tested ? day(tested) : null, testOutcome: tested ? 'pass' : null, state: tested ? 'in_stock' : 'built' })
+			.set({
+				builtAt: day(built),
+				testedAt: tested ? day(tested) : null,
+				testOutcome: tested ? 'pass' : null,
+				state: tested ? 'in_stock' : 'built'
+			})
 			.where(eq(modules.serial, s));
 	}
-	await db.update(modules).set({ state: 'test_failed', testOutcome: 'fail' }).where(eq(modules.serial, s48[3]));
+	await db
+		.update(modules)
+		.set({ state: 'test_failed', testOutcome: 'fail' })
+		.where(eq(modules.serial, s48[3]));
 	saltmarshId = await assignToDealer(db, [s48[0], s48[1], s24[1]], 'Saltmarsh Solar');
 	ridgelineId = await assignToDealer(db, [s24[0], s24[2]], 'Ridgeline Off-Grid Supply');
 	await assignToDealer(db, [s12[0]], 'Northbank Electrical');
-	for (const [s, shipped] of [[s48[0], '2026-02-01'], [s48[1], '2026-02-15'], [s24[1], '2026-03-01'], [s24[0], '2026-01-25'], [s24[2], '2026-03-20'], [s12[0], '2026-02-05']]) {
-		await db.update(modules).set({ shippedAt: day(shipped) }).where(eq(modules.serial, s));
+	for (const [s, shipped] of [
+		[s48[0], '2026-02-01'],
+		[s48[1], '2026-02-15'],
+		[s24[1], '2026-03-01'],
+		[s24[0], '2026-01-25'],
+		[s24[2], '2026-03-20'],
+		[s12[0], '2026-02-05']
+	]) {
+		await db
+			.update(modules)
+			.set({ shippedAt: day(shipped) })
+			.where(eq(modules.serial, s));
 	}
 	// A Saltmarsh site whose name would run as a formula in a spreadsheet.
 	const [admin] = await db.select().from(users).where(eq(users.email, 'admin@tidewater.example'));
 	const [site] = await db
 		.insert(sites)
-		.values({ dealerOrgId: saltmarshId, name: '=HYPERLINK("http://evil.example","Boatshed")', ownerName: 'R. Quill', ownerContact: 'r@example.org', address: '1 Quay', application: 'backup', createdBy: admin.id })
+		.values({
+			dealerOrgId: saltmarshId,
+			name: '=HYPERLINK("http://evil.example","Boatshed")',
+			ownerName: 'R. Quill',
+			ownerContact: 'r@example.org',
+			address: '1 Quay',
+			application: 'backup',
+			createdBy: admin.id
+		})
 		.returning();
 	const [model48] = await db.select().from(moduleModels).where(eq(moduleModels.code, 'TC-HC-48'));
-	const [sys] = await db.insert(systems).values({ siteId: site.id, name: 'Shed bank', modelId: model48.id, series: 1, parallel: 2, inverterMinV: 40, inverterMaxV: 60 }).returning();
-	await db.update(modules).set({ systemId: sys.id, state: 'installed' }).where(eq(modules.serial, s48[0]));
+	const [sys] = await db
+		.insert(systems)
+		.values({
+			siteId: site.id,
+			name: 'Shed bank',
+			modelId: model48.id,
+			series: 1,
+			parallel: 2,
+			inverterMinV: 40,
+			inverterMaxV: 60
+		})
+		.returning();
+	await db
+		.update(modules)
+		.set({ systemId: sys.id, state: 'installed' })
+		.where(eq(modules.serial, s48[0]));
 	// An import that tested two of the 24 V modules.
 	const [imp] = await db
 		.insert(imports)
-		.values({ kind: 'factory_tests', sha256: 'f'.repeat(64), fileName: 'rig.csv', bytes: 10, uploaderLabel: 'test', status: 'committed', rowsTotal: 2, accepted: 2, rejected: 0, duplicates: 0, errors: '[]' })
+		.values({
+			kind: 'factory_tests',
+			sha256: 'f'.repeat(64),
+			fileName: 'rig.csv',
+			bytes: 10,
+			uploaderLabel: 'test',
+			status: 'committed',
+			rowsTotal: 2,
+			accepted: 2,
+			rejected: 0,
+			duplicates: 0,
+			errors: '[]'
+		})
 		.returning();
 	importId = imp.id;
-	const rows = await db.select().from(modules).where(inArray(modules.serial, [s24[0], s24[1]]));
+	const rows = await db
+		.select()
+		.from(modules)
+		.where(inArray(modules.serial, [s24[0], s24[1]]));
 	for (const m of rows) {
-		await db.insert(factoryTests).values({ moduleId: m.id, importId, rowKey: `${m.serial}-k`, testedAt: m.testedAt!, capacityAh: 92, dcirMohm: 3, dcirSource: 'measured', cellSpreadMv: 8, insulationMohm: 500, outcome: 'pass', failures: '[]' });
+		await db
+			.insert(factoryTests)
+			.values({
+				moduleId: m.id,
+				importId,
+				rowKey: `${m.serial}-k`,
+				testedAt: m.testedAt!,
+				capacityAh: 92,
+				dcirMohm: 3,
+				dcirSource: 'measured',
+				cellSpreadMv: 8,
+				insulationMohm: 500,
+				outcome: 'pass',
+				failures: '[]'
+			});
 	}
-	ids = new Map((await db.select({ id: modules.id, serial: modules.serial }).from(modules)).map((r) => [r.serial, r.id]));
+	ids = new Map(
+		(await db.select({ id: modules.id, serial: modules.serial }).from(modules)).map((r) => [
+			r.serial,
+			r.id
+		])
+	);
 });
 
 describe('the view in the URL', () => {
 	it('fills defaults, reads empty parameters as no filter, names each bad parameter', () => {
 		const ok = parseFleetQuery(new URLSearchParams('state=&q=&page=2'));
 		expect(ok.success && ok.data).toEqual({ page: 2, pageSize: 50, sort: 'builtAt', dir: 'desc' });
-		const bad = parseFleetQuery(new URLSearchParams('pageSize=5&sort=colour&state=lost&builtFrom=2026-02-30&dir=up&q=' + 'X'.repeat(41)));
+		const bad = parseFleetQuery(
+			new URLSearchParams(
+				'pageSize=5&sort=colour&state=lost&builtFrom=2026-02-30&dir=up&q=' + 'X'.repeat(41)
+			)
+		);
 		expect(bad.success).toBe(false);
 		const paths = bad.error!.issues.map((i) => i.path.join('.'));
-		expect(paths).toEqual(expect.arrayContaining(['pageSize', 'sort', 'state', 'builtFrom', 'dir', 'q']));
-		const reversed = parseFleetQuery(new URLSearchParams('builtFrom=2026-03-01&builtTo=2026-02-01'));
+		expect(paths).toEqual(
+			expect.arrayContaining(['pageSize', 'sort', 'state', 'builtFrom', 'dir', 'q'])
+		);
+		const reversed = parseFleetQuery(
+			new URLSearchParams('builtFrom=2026-03-01&builtTo=2026-02-01')
+		);
 		expect(reversed.error?.issues[0].path).toEqual(['builtTo']);
 	});
 });
@@ -124,13 +249,16 @@ describe('listModules', () => {
 	});
 
 	it('filters by state, model, dealer, build dates, cell lot and import', async () => {
-		const set = async (raw: Record<string, unknown>) => serials(await listModules(db, staff, q(raw))).sort();
+		const set = async (raw: Record<string, unknown>) =>
+			serials(await listModules(db, staff, q(raw))).sort();
 		expect(await set({ state: 'test_failed' })).toEqual([s48[3]]);
 		expect(await set({ state: 'allocated' })).toEqual([s48[5], s12[2]].sort());
 		expect(await set({ model: 'TC-HC-24' })).toEqual([...s24].sort());
 		expect(await set({ model: 'TC-HC-99' })).toEqual([]);
 		expect(await set({ dealer: ridgelineId })).toEqual([s24[0], s24[2]].sort());
-		expect(await set({ builtFrom: '2026-02-01', builtTo: '2026-02-28' })).toEqual([s48[2], s48[3], s24[1], s12[1]].sort());
+		expect(await set({ builtFrom: '2026-02-01', builtTo: '2026-02-28' })).toEqual(
+			[s48[2], s48[3], s24[1], s12[1]].sort()
+		);
 		expect(await set({ builtFrom: '2026-03-09' })).toEqual([s24[2], s24[3]].sort());
 		expect(await set({ builtTo: '2026-01-05' })).toEqual([s48[0]]);
 		expect(await set({ lot: 'HCL-2611-C' })).toEqual([...s24].sort());
@@ -140,7 +268,8 @@ describe('listModules', () => {
 	});
 
 	it('finds serials by their start (any case) or by text inside them', async () => {
-		const set = async (text: string) => serials(await listModules(db, staff, q({ q: text }))).sort();
+		const set = async (text: string) =>
+			serials(await listModules(db, staff, q({ q: text }))).sort();
 		expect(await set('PL24')).toEqual([...s24].sort());
 		expect(await set(' pl12- ')).toEqual([...s12].sort());
 		expect(await set(s48[2].toLowerCase())).toEqual([s48[2]]);
@@ -174,8 +303,12 @@ describe('listModules', () => {
 				});
 				const got = await listModules(db, staff, q({ sort, dir }));
 				expect(serials(got), `${sort} ${dir}`).toEqual(expected.map((i) => i.serial));
-				const paged = [1, 2].map((page) => listModules(db, staff, q({ sort, dir, pageSize: 10, page })));
-				expect((await Promise.all(paged)).flatMap(serials), `${sort} ${dir} paged`).toEqual(expected.map((i) => i.serial));
+				const paged = [1, 2].map((page) =>
+					listModules(db, staff, q({ sort, dir, pageSize: 10, page }))
+				);
+				expect((await Promise.all(paged)).flatMap(serials), `${sort} ${dir} paged`).toEqual(
+					expected.map((i) => i.serial)
+				);
 			}
 		}
 	});
@@ -184,21 +317,34 @@ describe('listModules', () => {
 describe('dealer scope', () => {
 	const mine = () => [s48[0], s48[1], s24[1]].sort();
 
-	it("shows a dealer only their own units, whatever filter or search is sent", async () => {
+	it('shows a dealer only their own units, whatever filter or search is sent', async () => {
 		const own = await listModules(db, saltmarsh, q());
 		expect(own.total).toBe(3);
 		expect(serials(own).sort()).toEqual(mine());
-		expect(await listModules(db, saltmarsh, q({ dealer: ridgelineId }))).toMatchObject({ total: 0, items: [] });
-		expect(await listModules(db, saltmarsh, q({ q: s24[0] }))).toMatchObject({ total: 0, items: [] });
+		expect(await listModules(db, saltmarsh, q({ dealer: ridgelineId }))).toMatchObject({
+			total: 0,
+			items: []
+		});
+		expect(await listModules(db, saltmarsh, q({ q: s24[0] }))).toMatchObject({
+			total: 0,
+			items: []
+		});
 		expect((await listModules(db, saltmarsh, q({ q: 'PL' }))).total).toBe(3);
-		expect(await listModules(db, saltmarsh, q({ lot: 'HCL-2611-C', dealer: ridgelineId }))).toMatchObject({ total: 0 });
+		expect(
+			await listModules(db, saltmarsh, q({ lot: 'HCL-2611-C', dealer: ridgelineId }))
+		).toMatchObject({ total: 0 });
 		expect(serials(await listModules(db, saltmarsh, q({ importId })))).toEqual([s24[1]]);
 		expect((await listModules(db, saltmarsh, q({ dealer: saltmarshId }))).total).toBe(3);
 	});
 
 	it('exports only their own units too', async () => {
 		const csvSerials = async (raw: Record<string, unknown>) =>
-			(Papa.parse<string[]>((await exportModules(db, saltmarsh, q(raw))).replace(/^\uFEFF/, ''), { skipEmptyLines: true }).data.slice(1)).map((r) => r[0]).sort();
+			Papa.parse<string[]>((await exportModules(db, saltmarsh, q(raw))).replace(/^\uFEFF/, ''), {
+				skipEmptyLines: true
+			})
+				.data.slice(1)
+				.map((r) => r[0])
+				.sort();
 		expect(await csvSerials({})).toEqual(mine());
 		expect(await csvSerials({ dealer: ridgelineId })).toEqual([]);
 		expect(await csvSerials({ q: s24[0] })).toEqual([]);
@@ -210,7 +356,19 @@ describe('exportModules', () => {
 		const csv = await exportModules(db, staff, q({ sort: 'serial', dir: 'asc' }));
 		expect(csv.startsWith('\uFEFF')).toBe(true);
 		const rows = Papa.parse<string[]>(csv.slice(1), { skipEmptyLines: true }).data;
-		expect(rows[0]).toEqual(['serial', 'model', 'state', 'state_label', 'dealer', 'built_at', 'tested_at', 'test_outcome', 'shipped_at', 'cell_lots', 'site']);
+		expect(rows[0]).toEqual([
+			'serial',
+			'model',
+			'state',
+			'state_label',
+			'dealer',
+			'built_at',
+			'tested_at',
+			'test_outcome',
+			'shipped_at',
+			'cell_lots',
+			'site'
+		]);
 		const listed = await listModules(db, staff, q({ sort: 'serial', dir: 'asc' }));
 		expect(rows.slice(1).map((r) => r[0])).toEqual(serials(listed));
 		const boatshed = rows.find((r) => r[0] === s48[0])!;
@@ -228,8 +386,16 @@ describe('exportModules', () => {
 			`'=HYPERLINK("http://evil.example","Boatshed")`
 		]);
 		expect(rows.slice(1).every((r) => !/^[=+\-@]/.test(r.join('')))).toBe(true);
-		const filtered = await exportModules(db, staff, q({ model: 'TC-HC-12', sort: 'builtAt', dir: 'asc' }));
-		expect(Papa.parse<string[]>(filtered.slice(1), { skipEmptyLines: true }).data.slice(1).map((r) => r[0])).toEqual([s12[0], s12[1], s12[2]]);
+		const filtered = await exportModules(
+			db,
+			staff,
+			q({ model: 'TC-HC-12', sort: 'builtAt', dir: 'asc' })
+		);
+		expect(
+			Papa.parse<string[]>(filtered.slice(1), { skipEmptyLines: true })
+				.data.slice(1)
+				.map((r) => r[0])
+		).toEqual([s12[0], s12[1], s12[2]]);
 	});
 });
 
@@ -240,7 +406,9 @@ describe('column preferences', () => {
 		expect(await setColumnPrefs(db, u.id, ['site', 'state'])).toEqual(['serial', 'state', 'site']);
 		expect(await getColumnPrefs(db, u.id)).toEqual(['serial', 'state', 'site']);
 		expect(await setColumnPrefs(db, u.id, ['cellLots'])).toEqual(['serial', 'cellLots']);
-		await expect(setColumnPrefs(db, u.id, ['ownerName'])).rejects.toThrow(/Unknown column ownerName/);
+		await expect(setColumnPrefs(db, u.id, ['ownerName'])).rejects.toThrow(
+			/Unknown column ownerName/
+		);
 		expect(await getColumnPrefs(db, u.id)).toEqual(['serial', 'cellLots']);
 	});
 });
@@ -252,7 +420,15 @@ describe('column preferences', () => {
  */
 describe('a larger register', () => {
 	let big: Db;
-	let rows: { id: number; serial: string; state: string; modelId: number; dealer: number | null; builtAt: number | null; shippedAt: number | null }[];
+	let rows: {
+		id: number;
+		serial: string;
+		state: string;
+		modelId: number;
+		dealer: number | null;
+		builtAt: number | null;
+		shippedAt: number | null;
+	}[];
 	let dealers: number[];
 	let bigDealer: Actor;
 	let codeOf: Map<number, string>;
@@ -273,7 +449,10 @@ describe('a larger register', () => {
 		rows = Array.from({ length: 8000 }, (_, i) => {
 			const state = states[Math.floor(rnd() * 4)];
 			const atDealer = state === 'shipped' || state === 'commissioned';
-			const builtAt = state === 'allocated' ? null : Date.UTC(2025, 0, 1) + i * 3_600_000 + Math.floor(rnd() * 3) * 60_000;
+			const builtAt =
+				state === 'allocated'
+					? null
+					: Date.UTC(2025, 0, 1) + i * 3_600_000 + Math.floor(rnd() * 3) * 60_000;
 			const variant = ['12', '24', '48'][i % 3];
 			return {
 				id: i + 1,
@@ -289,29 +468,66 @@ describe('a larger register', () => {
 			const chunk = rows.slice(i, i + 500);
 			await big.$client.execute({
 				sql: `INSERT INTO modules (id, serial, model_id, state, dealer_org_id, built_at, shipped_at) VALUES ${chunk.map(() => '(?,?,?,?,?,?,?)').join(',')}`,
-				args: chunk.flatMap((r) => [r.id, r.serial, r.modelId, r.state, r.dealer, r.builtAt, r.shippedAt])
+				args: chunk.flatMap((r) => [
+					r.id,
+					r.serial,
+					r.modelId,
+					r.state,
+					r.dealer,
+					r.builtAt,
+					r.shippedAt
+				])
 			});
 		}
 	});
 
 	it('gives the same pages as a plain sort of the matches', async () => {
-		const cases: [Actor | null, Record<string, unknown>, (r: (typeof rows)[number]) => boolean][] = [
-			[null, { state: 'in_stock' }, (r) => r.state === 'in_stock'],
-			[null, { state: 'allocated' }, (r) => r.state === 'allocated'],
-			[null, { state: 'allocated', sort: 'builtAt', dir: 'asc' }, (r) => r.state === 'allocated'],
-			[null, { dealer: dealers[0], sort: 'shippedAt', dir: 'asc' }, (r) => r.dealer === dealers[0]],
-			[null, { state: 'commissioned', sort: 'serial', dir: 'desc', page: 3 }, (r) => r.state === 'commissioned'],
-			[null, { q: 'PL48', sort: 'builtAt', dir: 'desc', page: 4 }, (r) => r.serial.startsWith('PL48')],
-			[null, { q: '1', sort: 'shippedAt', dir: 'desc' }, (r) => r.serial.includes('1')],
-			[null, { builtFrom: '2025-03-01', state: 'shipped', sort: 'builtAt', dir: 'asc' }, (r) => r.state === 'shipped' && r.builtAt! >= Date.UTC(2025, 2, 1)],
-			[null, { sort: 'state', dir: 'desc', page: 37 }, () => true],
-			[null, { sort: 'model', dir: 'asc', page: 54, pageSize: 100 }, () => true],
-			[null, { sort: 'dealer', dir: 'desc', page: 80 }, () => true],
-			[null, { sort: 'dealer', dir: 'asc', page: 40, state: 'commissioned' }, (r) => r.state === 'commissioned'],
-			[bigDealer, { sort: 'state', dir: 'asc', page: 12 }, (r) => r.dealer === bigDealer.organisationId],
-			[bigDealer, {}, (r) => r.dealer === bigDealer.organisationId],
-			[bigDealer, { sort: 'serial', dir: 'asc', page: 2 }, (r) => r.dealer === bigDealer.organisationId]
-		];
+		const cases: [Actor | null, Record<string, unknown>, (r: (typeof rows)[number]) => boolean][] =
+			[
+				[null, { state: 'in_stock' }, (r) => r.state === 'in_stock'],
+				[null, { state: 'allocated' }, (r) => r.state === 'allocated'],
+				[null, { state: 'allocated', sort: 'builtAt', dir: 'asc' }, (r) => r.state === 'allocated'],
+				[
+					null,
+					{ dealer: dealers[0], sort: 'shippedAt', dir: 'asc' },
+					(r) => r.dealer === dealers[0]
+				],
+				[
+					null,
+					{ state: 'commissioned', sort: 'serial', dir: 'desc', page: 3 },
+					(r) => r.state === 'commissioned'
+				],
+				[
+					null,
+					{ q: 'PL48', sort: 'builtAt', dir: 'desc', page: 4 },
+					(r) => r.serial.startsWith('PL48')
+				],
+				[null, { q: '1', sort: 'shippedAt', dir: 'desc' }, (r) => r.serial.includes('1')],
+				[
+					null,
+					{ builtFrom: '2025-03-01', state: 'shipped', sort: 'builtAt', dir: 'asc' },
+					(r) => r.state === 'shipped' && r.builtAt! >= Date.UTC(2025, 2, 1)
+				],
+				[null, { sort: 'state', dir: 'desc', page: 37 }, () => true],
+				[null, { sort: 'model', dir: 'asc', page: 54, pageSize: 100 }, () => true],
+				[null, { sort: 'dealer', dir: 'desc', page: 80 }, () => true],
+				[
+					null,
+					{ sort: 'dealer', dir: 'asc', page: 40, state: 'commissioned' },
+					(r) => r.state === 'commissioned'
+				],
+				[
+					bigDealer,
+					{ sort: 'state', dir: 'asc', page: 12 },
+					(r) => r.dealer === bigDealer.organisationId
+				],
+				[bigDealer, {}, (r) => r.dealer === bigDealer.organisationId],
+				[
+					bigDealer,
+					{ sort: 'serial', dir: 'asc', page: 2 },
+					(r) => r.dealer === bigDealer.organisationId
+				]
+			];
 		const sortKey: Record<string, (r: (typeof rows)[number]) => string | number | null> = {
 			serial: (r) => r.serial,
 			builtAt: (r) => r.builtAt,
@@ -334,7 +550,9 @@ describe('a larger register', () => {
 			const got = await listModules(big, actor ?? staff, query);
 			const from = (query.page - 1) * query.pageSize;
 			expect(got.total, JSON.stringify(raw)).toBe(expected.length);
-			expect(serials(got), JSON.stringify(raw)).toEqual(expected.slice(from, from + query.pageSize));
+			expect(serials(got), JSON.stringify(raw)).toEqual(
+				expected.slice(from, from + query.pageSize)
+			);
 		}
 	});
 });

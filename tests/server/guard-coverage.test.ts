@@ -13,7 +13,11 @@ const VERBS = new Set(['GET', 'POST', 'PUT', 'PATCH', 'DELETE', 'HEAD', 'OPTIONS
 
 function walk(dir: string): string[] {
 	return readdirSync(dir, { withFileTypes: true }).flatMap((e) =>
-		e.isDirectory() ? walk(join(dir, e.name)) : /^\+(page|layout)\.server\.ts$|^\+server\.ts$/.test(e.name) ? [join(dir, e.name)] : []
+		e.isDirectory()
+			? walk(join(dir, e.name))
+			: /^\+(page|layout)\.server\.ts$|^\+server\.ts$/.test(e.name)
+				? [join(dir, e.name)]
+				: []
 	);
 }
 
@@ -23,13 +27,24 @@ function handlers(file: string): [string, string][] {
 	const locals = new Map<string, ts.Node>();
 	src.forEachChild((n) => {
 		if (ts.isFunctionDeclaration(n) && n.name) locals.set(n.name.text, n);
-		if (ts.isVariableStatement(n)) for (const d of n.declarationList.declarations) if (ts.isIdentifier(d.name) && d.initializer) locals.set(d.name.text, d.initializer);
+		if (ts.isVariableStatement(n))
+			for (const d of n.declarationList.declarations)
+				if (ts.isIdentifier(d.name) && d.initializer) locals.set(d.name.text, d.initializer);
 	});
-	const body = (n: ts.Node): string => (ts.isIdentifier(n) && locals.has(n.text) ? body(locals.get(n.text)!) : n.getText(src));
+	const body = (n: ts.Node): string =>
+		ts.isIdentifier(n) && locals.has(n.text) ? body(locals.get(n.text)!) : n.getText(src);
 	const out: [string, string][] = [];
-	const exported = (n: ts.Node) => ts.canHaveModifiers(n) && ts.getModifiers(n)?.some((m) => m.kind === ts.SyntaxKind.ExportKeyword);
+	const exported = (n: ts.Node) =>
+		ts.canHaveModifiers(n) &&
+		ts.getModifiers(n)?.some((m) => m.kind === ts.SyntaxKind.ExportKeyword);
 	src.forEachChild((n) => {
-		if (ts.isFunctionDeclaration(n) && exported(n) && n.name && (n.name.text === 'load' || VERBS.has(n.name.text))) out.push([n.name.text, n.getText(src)]);
+		if (
+			ts.isFunctionDeclaration(n) &&
+			exported(n) &&
+			n.name &&
+			(n.name.text === 'load' || VERBS.has(n.name.text))
+		)
+			out.push([n.name.text, n.getText(src)]);
 		if (ts.isVariableStatement(n) && exported(n)) {
 			for (const d of n.declarationList.declarations) {
 				if (!ts.isIdentifier(d.name) || !d.initializer) continue;
@@ -38,11 +53,15 @@ function handlers(file: string): [string, string][] {
 				if (name === 'actions') {
 					let init: ts.Node = d.initializer;
 					while (ts.isSatisfiesExpression(init) || ts.isAsExpression(init)) init = init.expression;
-					if (!ts.isObjectLiteralExpression(init)) throw new Error(`${file}: actions must be an object literal`);
+					if (!ts.isObjectLiteralExpression(init))
+						throw new Error(`${file}: actions must be an object literal`);
 					for (const p of init.properties) {
-						if (ts.isPropertyAssignment(p)) out.push([`actions.${p.name.getText(src)}`, body(p.initializer)]);
-						else if (ts.isShorthandPropertyAssignment(p)) out.push([`actions.${p.name.text}`, body(p.name)]);
-						else if (ts.isMethodDeclaration(p)) out.push([`actions.${p.name.getText(src)}`, p.getText(src)]);
+						if (ts.isPropertyAssignment(p))
+							out.push([`actions.${p.name.getText(src)}`, body(p.initializer)]);
+						else if (ts.isShorthandPropertyAssignment(p))
+							out.push([`actions.${p.name.text}`, body(p.name)]);
+						else if (ts.isMethodDeclaration(p))
+							out.push([`actions.${p.name.getText(src)}`, p.getText(src)]);
 					}
 				}
 			}
@@ -56,12 +75,16 @@ describe('every route handler checks authorisation itself', () => {
 	it('finds route modules to check', () => expect(files.length).toBeGreaterThan(5));
 	for (const file of files) {
 		for (const [name, text] of handlers(file)) {
-			it(`${file} → ${name}`, () => expect(GUARDS.test(text), `${name} in ${file} calls no guard`).toBe(true));
+			it(`${file} → ${name}`, () =>
+				expect(GUARDS.test(text), `${name} in ${file} calls no guard`).toBe(true));
 		}
 	}
 	it('detects a handler without a guard (self-test)', () => {
 		const tmp = join(process.env.TMPDIR ?? '/tmp', `+page.server.ts`);
-		writeFileSync(tmp, 'export const load = async () => ({ secret: 1 });\nexport const actions = { x: async (e) => requireUser(e) };');
+		writeFileSync(
+			tmp,
+			'export const load = async () => ({ secret: 1 });\nexport const actions = { x: async (e) => requireUser(e) };'
+		);
 		const found = handlers(tmp);
 		expect(found.map(([n, t]) => [n, GUARDS.test(t)])).toEqual([
 			['load', false],

@@ -22,9 +22,15 @@ beforeAll(async () => {
 	unbuilt = serials[5];
 });
 
-const HEADER = 'serial,tested_at,capacity_ah,energy_wh,dcir_mohm,ocv_v,cell_spread_mv,insulation_mohm,ambient_c,rig,operator';
-const row = (serial: string, t: string, cap = 46.8, dcir = 5.1, spread = 8, ins = 500) => `${serial},${t},${cap},2390,${dcir},51.2,${spread},${ins},22.5,RIG-2,T.Vale`;
-const file = (lines: string[], name = 'rig.csv') => ({ name, content: [HEADER, ...lines].join('\r\n') + '\r\n', bytes: 0 });
+const HEADER =
+	'serial,tested_at,capacity_ah,energy_wh,dcir_mohm,ocv_v,cell_spread_mv,insulation_mohm,ambient_c,rig,operator';
+const row = (serial: string, t: string, cap = 46.8, dcir = 5.1, spread = 8, ins = 500) =>
+	`${serial},${t},${cap},2390,${dcir},51.2,${spread},${ins},22.5,RIG-2,T.Vale`;
+const file = (lines: string[], name = 'rig.csv') => ({
+	name,
+	content: [HEADER, ...lines].join('\r\n') + '\r\n',
+	bytes: 0
+});
 
 describe('factory test import', () => {
 	it('previews without storing, explains each rejected row, then commits all accepted rows', async () => {
@@ -37,7 +43,15 @@ describe('factory test import', () => {
 			row(built[3], '2026-11-20T08:20:00Z', -3)
 		]);
 		const preview = await previewImport(db, workshop, f, new Date('2026-11-21T00:00:00Z'));
-		expect(preview.import).toMatchObject({ status: 'previewed', rowsTotal: 6, accepted: 2, rejected: 4, duplicates: 0, passed: 1, failed: 1 });
+		expect(preview.import).toMatchObject({
+			status: 'previewed',
+			rowsTotal: 6,
+			accepted: 2,
+			rejected: 4,
+			duplicates: 0,
+			passed: 1,
+			failed: 1
+		});
 		const messages = preview.errors.map((e) => `${e.row}:${e.column}:${e.message}`);
 		expect(messages.find((m) => m.startsWith('4:'))).toMatch(/not built yet/);
 		expect(messages.find((m) => m.startsWith('5:'))).toMatch(/not a valid serial|Unknown serial/);
@@ -45,15 +59,30 @@ describe('factory test import', () => {
 		expect(messages.find((m) => m.startsWith('7:'))).toMatch(/capacity/i);
 		expect(await db.select().from(factoryTests)).toHaveLength(0);
 
-		const committed = await commitImport(db, workshop, preview.import.id, new Date('2026-11-21T00:01:00Z'));
+		const committed = await commitImport(
+			db,
+			workshop,
+			preview.import.id,
+			new Date('2026-11-21T00:01:00Z')
+		);
 		expect(committed.import.status).toBe('committed');
 		const stored = await db.select().from(factoryTests);
 		expect(stored).toHaveLength(2);
-		const states = Object.fromEntries((await db.select({ s: modules.serial, st: modules.state }).from(modules)).map((r) => [r.s, r.st]));
+		const states = Object.fromEntries(
+			(await db.select({ s: modules.serial, st: modules.state }).from(modules)).map((r) => [
+				r.s,
+				r.st
+			])
+		);
 		expect(states[built[0]]).toBe('in_stock');
 		expect(states[built[1]]).toBe('test_failed');
 		const ev = await db.select().from(moduleEvents).where(eq(moduleEvents.kind, 'tested'));
-		expect(ev.map((e) => e.summary)).toEqual(expect.arrayContaining(['Factory test passed on RIG-2', expect.stringMatching(/^Factory test failed: Capacity 44.* below the 45.* minimum/)]));
+		expect(ev.map((e) => e.summary)).toEqual(
+			expect.arrayContaining([
+				'Factory test passed on RIG-2',
+				expect.stringMatching(/^Factory test failed: Capacity 44.* below the 45.* minimum/)
+			])
+		);
 
 		// Committing again stores nothing twice.
 		const again = await commitImport(db, workshop, preview.import.id);
@@ -62,7 +91,10 @@ describe('factory test import', () => {
 	});
 
 	it('recognises the same file sent twice and a row already stored as a duplicate', async () => {
-		const f = file([row(built[0], '2026-11-20T08:00:00Z'), row(built[4], '2026-11-22T09:00:00Z')], 'second.csv');
+		const f = file(
+			[row(built[0], '2026-11-20T08:00:00Z'), row(built[4], '2026-11-22T09:00:00Z')],
+			'second.csv'
+		);
 		const p1 = await previewImport(db, workshop, f, new Date('2026-11-23T00:00:00Z'));
 		expect(p1.import).toMatchObject({ accepted: 1, duplicates: 1, rejected: 0 });
 		const p2 = await previewImport(db, workshop, f, new Date('2026-11-23T00:00:00Z'));
@@ -71,9 +103,19 @@ describe('factory test import', () => {
 	});
 
 	it('a later retest sets the state; an older result does not overwrite a newer one', async () => {
-		const later = await previewImport(db, workshop, file([row(built[1], '2026-11-24T10:00:00Z')], 'retest.csv'), new Date('2026-11-25T00:00:00Z'));
+		const later = await previewImport(
+			db,
+			workshop,
+			file([row(built[1], '2026-11-24T10:00:00Z')], 'retest.csv'),
+			new Date('2026-11-25T00:00:00Z')
+		);
 		await commitImport(db, workshop, later.import.id);
-		const older = await previewImport(db, workshop, file([row(built[1], '2026-11-19T10:00:00Z', 40)], 'old.csv'), new Date('2026-11-25T00:00:00Z'));
+		const older = await previewImport(
+			db,
+			workshop,
+			file([row(built[1], '2026-11-19T10:00:00Z', 40)], 'old.csv'),
+			new Date('2026-11-25T00:00:00Z')
+		);
 		await commitImport(db, workshop, older.import.id);
 		const [m] = await db.select().from(modules).where(eq(modules.serial, built[1]));
 		expect(m.state).toBe('in_stock');
@@ -83,10 +125,26 @@ describe('factory test import', () => {
 
 	it('refuses file-level problems with a clear message and stores nothing', async () => {
 		const before = (await db.select().from(factoryTests)).length;
-		await expect(previewImport(db, workshop, { name: 'e.csv', content: '', bytes: 0 })).rejects.toThrow(/empty/i);
-		await expect(previewImport(db, workshop, { name: 'h.csv', content: HEADER + '\n', bytes: 0 })).rejects.toThrow(/no data rows/i);
-		await expect(previewImport(db, workshop, { name: 'b.bin', content: '\u0000\u0001PK\u0003\u0004binary', bytes: 0 })).rejects.toThrow(/CSV/);
-		await expect(previewImport(db, workshop, { name: 'm.csv', content: 'serial,capacity_ah\nPL48-26-0000016,46\n', bytes: 0 })).rejects.toThrow(/tested_at/);
+		await expect(
+			previewImport(db, workshop, { name: 'e.csv', content: '', bytes: 0 })
+		).rejects.toThrow(/empty/i);
+		await expect(
+			previewImport(db, workshop, { name: 'h.csv', content: HEADER + '\n', bytes: 0 })
+		).rejects.toThrow(/no data rows/i);
+		await expect(
+			previewImport(db, workshop, {
+				name: 'b.bin',
+				content: '\u0000\u0001PK\u0003\u0004binary',
+				bytes: 0
+			})
+		).rejects.toThrow(/CSV/);
+		await expect(
+			previewImport(db, workshop, {
+				name: 'm.csv',
+				content: 'serial,capacity_ah\nPL48-26-0000016,46\n',
+				bytes: 0
+			})
+		).rejects.toThrow(/tested_at/);
 		expect((await db.select().from(factoryTests)).length).toBe(before);
 	});
 });

@@ -5,7 +5,15 @@ import { auditLog, moduleModels, modules } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import { modelInputSchema, type ModelInput } from '$lib/schemas/model';
-import { createModel, deleteModel, getModel, listModels, reinstateModel, retireModel, updateModel } from '$lib/server/services/models';
+import {
+	createModel,
+	deleteModel,
+	getModel,
+	listModels,
+	reinstateModel,
+	retireModel,
+	updateModel
+} from '$lib/server/services/models';
 import { actorFor, createSeededDb } from '../factories/db';
 
 /** A form submission as the browser sends it: every value a string. */
@@ -40,7 +48,8 @@ const FORM: Record<string, string> = {
 	hotRatedCycles: '4000'
 };
 
-const parse = (over: Record<string, string> = {}) => modelInputSchema.safeParse({ ...FORM, ...over });
+const parse = (over: Record<string, string> = {}) =>
+	modelInputSchema.safeParse({ ...FORM, ...over });
 const valid = (over: Record<string, string> = {}): ModelInput => {
 	const r = parse(over);
 	if (!r.success) throw new Error(JSON.stringify(r.error.issues));
@@ -65,7 +74,9 @@ describe('modelInputSchema', () => {
 	});
 
 	it('rejects a GTIN with a wrong check digit and names the digit it should be', () => {
-		expect(messageAt({ gtin: '4006381333932' }, 'gtin')).toMatch(/check digit should be 1; probably mistyped/);
+		expect(messageAt({ gtin: '4006381333932' }, 'gtin')).toMatch(
+			/check digit should be 1; probably mistyped/
+		);
 	});
 
 	it('attaches cross-field problems to the field to fix', () => {
@@ -89,17 +100,24 @@ describe('modelInputSchema', () => {
 		const paths = r.error!.issues.map((i) => i.path.join('.'));
 		expect(paths).toContain('ratedAh');
 		expect(paths).toContain('variant');
-		expect(r.error!.issues.find((i) => i.path[0] === 'ratedAh')!.message).toMatch(/Enter the rated capacity/);
+		expect(r.error!.issues.find((i) => i.path[0] === 'ratedAh')!.message).toMatch(
+			/Enter the rated capacity/
+		);
 	});
 });
 
 describe('module model service', () => {
 	let db: Db;
 	let admin: Actor;
-	const modelByCode = async (code: string) => (await db.select().from(moduleModels).where(eq(moduleModels.code, code)))[0];
+	const modelByCode = async (code: string) =>
+		(await db.select().from(moduleModels).where(eq(moduleModels.code, code)))[0];
 	const auditFor = (id: number) =>
-		db.select().from(auditLog).where(and(eq(auditLog.entity, 'module_model'), eq(auditLog.entityId, String(id))));
-	const addModule = (modelId: number, serial: string) => db.insert(modules).values({ modelId, serial });
+		db
+			.select()
+			.from(auditLog)
+			.where(and(eq(auditLog.entity, 'module_model'), eq(auditLog.entityId, String(id))));
+	const addModule = (modelId: number, serial: string) =>
+		db.insert(modules).values({ modelId, serial });
 
 	beforeEach(async () => {
 		db = await createSeededDb();
@@ -109,36 +127,64 @@ describe('module model service', () => {
 	it('creates a model and records it in the audit trail', async () => {
 		const id = await createModel(db, admin, valid({ gtin: '4006381333931' }));
 		const m = await getModel(db, id);
-		expect(m).toMatchObject({ code: 'TC-HC-36', gtin: '04006381333931', moduleCount: 0, retiredAt: null });
+		expect(m).toMatchObject({
+			code: 'TC-HC-36',
+			gtin: '04006381333931',
+			moduleCount: 0,
+			retiredAt: null
+		});
 		const [entry] = await auditFor(id);
 		expect(entry).toMatchObject({ action: 'model.create', actorLabel: 'admin@tidewater.example' });
 		expect(JSON.parse(entry.after!)).toMatchObject({ code: 'TC-HC-36' });
 	});
 
 	it('refuses a duplicate code, GTIN, or a variant an active model uses', async () => {
-		await expect(createModel(db, admin, valid({ code: 'TC-HC-48' }))).rejects.toThrow(ConflictError);
+		await expect(createModel(db, admin, valid({ code: 'TC-HC-48' }))).rejects.toThrow(
+			ConflictError
+		);
 		const seeded = await modelByCode('TC-HC-48');
-		await expect(createModel(db, admin, valid({ gtin: seeded.gtin! }))).rejects.toThrow(/already assigned to TC-HC-48/);
-		await expect(createModel(db, admin, valid({ variant: '48' }))).rejects.toThrow(/Variant 48 is already used by TC-HC-48/);
+		await expect(createModel(db, admin, valid({ gtin: seeded.gtin! }))).rejects.toThrow(
+			/already assigned to TC-HC-48/
+		);
+		await expect(createModel(db, admin, valid({ variant: '48' }))).rejects.toThrow(
+			/Variant 48 is already used by TC-HC-48/
+		);
 	});
 
 	it('allows the variant of a retired model, and then refuses to reinstate that model', async () => {
 		const old = await modelByCode('TC-HC-48');
 		await retireModel(db, admin, old.id);
 		await createModel(db, admin, valid({ code: 'TC-HC-48B', variant: '48' }));
-		await expect(reinstateModel(db, admin, old.id)).rejects.toThrow(/Variant 48 is already used by TC-HC-48B/);
+		await expect(reinstateModel(db, admin, old.id)).rejects.toThrow(
+			/Variant 48 is already used by TC-HC-48B/
+		);
 	});
 
 	it('locks code, variant and cells in series of a model in use, but lets the rest change', async () => {
 		const id = await createModel(db, admin, valid());
 		await addModule(id, 'PL36-26-0000010');
-		await expect(updateModel(db, admin, id, valid({ code: 'TC-HC-36X' }))).rejects.toThrow(InvalidInputError);
-		const err = await updateModel(db, admin, id, valid({ variant: '36A', cellsSeries: '17', usableWh: '2400' })).catch((e) => e);
+		await expect(updateModel(db, admin, id, valid({ code: 'TC-HC-36X' }))).rejects.toThrow(
+			InvalidInputError
+		);
+		const err = await updateModel(
+			db,
+			admin,
+			id,
+			valid({ variant: '36A', cellsSeries: '17', usableWh: '2400' })
+		).catch((e) => e);
 		expect(err).toBeInstanceOf(InvalidInputError);
 		expect(err.message).toMatch(/used by 1 module/);
-		expect(err.issues.map((i: { path: string }) => i.path).sort()).toEqual(['cellsSeries', 'variant']);
+		expect(err.issues.map((i: { path: string }) => i.path).sort()).toEqual([
+			'cellsSeries',
+			'variant'
+		]);
 
-		const result = await updateModel(db, admin, id, valid({ name: 'TC-HC 36 V module, rev. B', ratedCycles: '22000' }));
+		const result = await updateModel(
+			db,
+			admin,
+			id,
+			valid({ name: 'TC-HC 36 V module, rev. B', ratedCycles: '22000' })
+		);
 		expect(result.warrantyTermsChanged).toBe(true);
 		expect((await getModel(db, id)).name).toBe('TC-HC 36 V module, rev. B');
 		const entries = await auditFor(id);
@@ -164,7 +210,11 @@ describe('module model service', () => {
 
 		await reinstateModel(db, admin, id);
 		expect((await getModel(db, id)).retiredAt).toBeNull();
-		expect((await auditFor(id)).map((e) => e.action)).toEqual(['model.create', 'model.retire', 'model.reinstate']);
+		expect((await auditFor(id)).map((e) => e.action)).toEqual([
+			'model.create',
+			'model.retire',
+			'model.reinstate'
+		]);
 	});
 
 	it('counts modules per model in the list', async () => {
@@ -179,7 +229,9 @@ describe('module model service', () => {
 	it('refuses to delete a model in use and deletes an unused one', async () => {
 		const m48 = await modelByCode('TC-HC-48');
 		await addModule(m48.id, 'PL48-26-0000010');
-		await expect(deleteModel(db, admin, m48.id)).rejects.toThrow('TC-HC-48 is in use by 1 module — retire it instead.');
+		await expect(deleteModel(db, admin, m48.id)).rejects.toThrow(
+			'TC-HC-48 is in use by 1 module — retire it instead.'
+		);
 
 		const id = await createModel(db, admin, valid());
 		await deleteModel(db, admin, id);

@@ -3,7 +3,12 @@ import { eq } from 'drizzle-orm';
 import * as ss from 'simple-statistics';
 import type { Db } from '$lib/server/db';
 import { factoryTests, imports, modules } from '$lib/server/db/schema';
-import { isoWeekOf, isoWeekRange, qualityFilters, qualityReport } from '$lib/server/services/quality';
+import {
+	isoWeekOf,
+	isoWeekRange,
+	qualityFilters,
+	qualityReport
+} from '$lib/server/services/quality';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
 import { makeModules, modelId } from '../factories/modules';
@@ -23,12 +28,31 @@ const OUTLIER_INDEX = 9;
 async function addImport(fileName: string, rows: number, createdAt: Date) {
 	const [row] = await db
 		.insert(imports)
-		.values({ kind: 'factory_tests', sha256: fileName.padEnd(64, '0'), fileName, bytes: 100, uploaderLabel: 'workshop@tidewater.example', status: 'committed', rowsTotal: rows, accepted: rows, rejected: 0, duplicates: 0, errors: '[]', createdAt })
+		.values({
+			kind: 'factory_tests',
+			sha256: fileName.padEnd(64, '0'),
+			fileName,
+			bytes: 100,
+			uploaderLabel: 'workshop@tidewater.example',
+			status: 'committed',
+			rowsTotal: rows,
+			accepted: rows,
+			rejected: 0,
+			duplicates: 0,
+			errors: '[]',
+			createdAt
+		})
 		.returning({ id: imports.id });
 	return row.id;
 }
 
-async function addTest(serial: string, importId: number | null, at: string, capacityAh: number, n: number) {
+async function addTest(
+	serial: string,
+	importId: number | null,
+	at: string,
+	capacityAh: number,
+	n: number
+) {
 	const [mod] = await db.select({ id: modules.id }).from(modules).where(eq(modules.serial, serial));
 	const outcome = capacityAh >= 45 ? 'pass' : 'fail';
 	await db.insert(factoryTests).values({
@@ -43,7 +67,12 @@ async function addTest(serial: string, importId: number | null, at: string, capa
 		insulationMohm: 400 + n * 10,
 		rig: 'rig-2',
 		outcome,
-		failures: outcome === 'pass' ? '[]' : JSON.stringify([{ check: 'capacity', message: `Capacity ${capacityAh} Ah below the 45.0 Ah minimum` }])
+		failures:
+			outcome === 'pass'
+				? '[]'
+				: JSON.stringify([
+						{ check: 'capacity', message: `Capacity ${capacityAh} Ah below the 45.0 Ah minimum` }
+					])
 	});
 }
 
@@ -54,14 +83,32 @@ beforeAll(async () => {
 	serials = await makeModules(db, workshop, { code: 'TC-HC-48', count: 10, built: 10 });
 	// File A: Sunday 28 December 2025 (UTC), ISO week 2025-W52; the last one in at 23:30 UTC,
 	// already Monday in Central Europe but still week 52 in UTC.
-	fileA = await addImport('rig2-2025-12-28.csv', CAPACITY_A.length, new Date('2025-12-29T06:00:00Z'));
-	const timeA = (i: number) => (i === CAPACITY_A.length - 1 ? '2025-12-28T23:30:00Z' : `2025-12-28T${String(10 + i).padStart(2, '0')}:00:00Z`);
+	fileA = await addImport(
+		'rig2-2025-12-28.csv',
+		CAPACITY_A.length,
+		new Date('2025-12-29T06:00:00Z')
+	);
+	const timeA = (i: number) =>
+		i === CAPACITY_A.length - 1
+			? '2025-12-28T23:30:00Z'
+			: `2025-12-28T${String(10 + i).padStart(2, '0')}:00:00Z`;
 	for (const [i, cap] of CAPACITY_A.entries()) await addTest(serials[i], fileA, timeA(i), cap, i);
 	// File B: Monday 29 December 2025, ISO week 2026-W01 (1 January 2026 is a Thursday).
 	// Its last row retests the outlier's module, which then passes.
-	fileB = await addImport('rig2-2025-12-29.csv', CAPACITY_B.length, new Date('2025-12-30T06:00:00Z'));
+	fileB = await addImport(
+		'rig2-2025-12-29.csv',
+		CAPACITY_B.length,
+		new Date('2025-12-30T06:00:00Z')
+	);
 	const retested = [serials[5], serials[6], serials[7], serials[OUTLIER_INDEX]];
-	for (const [i, cap] of CAPACITY_B.entries()) await addTest(retested[i], fileB, `2025-12-29T${String(8 + i).padStart(2, '0')}:00:00Z`, cap, 20 + i);
+	for (const [i, cap] of CAPACITY_B.entries())
+		await addTest(
+			retested[i],
+			fileB,
+			`2025-12-29T${String(8 + i).padStart(2, '0')}:00:00Z`,
+			cap,
+			20 + i
+		);
 	// Another model's result must stay out of TC-HC-48's report.
 	const [other] = await makeModules(db, workshop, { code: 'TC-HC-24', count: 1, built: 1 });
 	await addTest(other, null, '2025-12-28T12:00:00Z', 92, 30);
@@ -73,7 +120,10 @@ describe('ISO weeks in UTC', () => {
 		expect(isoWeekOf(new Date('2025-12-29T00:00:00Z'))).toBe('2026-W01');
 		expect(isoWeekOf(new Date('2021-01-03T12:00:00Z'))).toBe('2020-W53');
 		expect(isoWeekOf(new Date('2024-12-30T00:00:00Z'))).toBe('2025-W01');
-		expect(isoWeekRange('2026-W01')).toEqual({ start: new Date('2025-12-29T00:00:00Z'), end: new Date('2026-01-05T00:00:00Z') });
+		expect(isoWeekRange('2026-W01')).toEqual({
+			start: new Date('2025-12-29T00:00:00Z'),
+			end: new Date('2026-01-05T00:00:00Z')
+		});
 	});
 
 	it('refuses a malformed week and week 53 of a 52-week year', () => {
@@ -108,7 +158,10 @@ describe('quality report', () => {
 		expect(cap.usl).toBeNull();
 		// One-sided: Cpk = Cpl = (μ − LSL) / 3s, NIST §6.1.6; no Cp without both limits.
 		expect(cap.capability.cp).toBeNull();
-		expect(cap.capability.cpk).toBeCloseTo((ss.mean(CAPACITY_A) - 45) / (3 * ss.sampleStandardDeviation(CAPACITY_A)), 10);
+		expect(cap.capability.cpk).toBeCloseTo(
+			(ss.mean(CAPACITY_A) - 45) / (3 * ss.sampleStandardDeviation(CAPACITY_A)),
+			10
+		);
 		expect([cap.pass, cap.fail]).toEqual([9, 1]);
 		expect(cap.histogram.counts.reduce((s, c) => s + c, 0)).toBe(10);
 		expect(cap.histogram.belowLsl).toBe(1);
@@ -119,10 +172,13 @@ describe('quality report', () => {
 	it('reports the low-capacity module as an outlier by both methods, with its serial', async () => {
 		const r = await qualityReport(db, { modelId: hc48, groupBy: 'import', importId: fileA });
 		const cap = r.groups[0].quantities.find((q) => q.key === 'capacity_ah')!;
-		expect(cap.tukey.extreme.map((o) => [o.serial, o.value])).toEqual([[serials[OUTLIER_INDEX], 40.1]]);
+		expect(cap.tukey.extreme.map((o) => [o.serial, o.value])).toEqual([
+			[serials[OUTLIER_INDEX], 40.1]
+		]);
 		expect(cap.tukey.extreme[0].testId).toBeTypeOf('number');
 		expect(cap.grubbs.applicable).toBe(true);
-		if (cap.grubbs.applicable) expect(cap.grubbs.outlier).toMatchObject({ serial: serials[OUTLIER_INDEX], value: 40.1 });
+		if (cap.grubbs.applicable)
+			expect(cap.grubbs.outlier).toMatchObject({ serial: serials[OUTLIER_INDEX], value: 40.1 });
 	});
 
 	it('says Grubbs is not applicable for a group of six or fewer results', async () => {
@@ -142,7 +198,9 @@ describe('quality report', () => {
 		]);
 		const one = await qualityReport(db, { modelId: hc48, groupBy: 'model', week: '2025-W52' });
 		expect(one.groups.map((g) => g.n)).toEqual([10]);
-		await expect(qualityReport(db, { modelId: hc48, groupBy: 'week', week: 'last week' })).rejects.toThrow(/ISO week/);
+		await expect(
+			qualityReport(db, { modelId: hc48, groupBy: 'week', week: 'last week' })
+		).rejects.toThrow(/ISO week/);
 	});
 
 	it('takes the model as a whole, or only each module’s latest result', async () => {
@@ -160,15 +218,24 @@ describe('quality report', () => {
 		const hc12 = await modelId(db, 'TC-HC-12');
 		const r = await qualityReport(db, { modelId: hc12, groupBy: 'import' });
 		expect(r.groups).toEqual([]);
-		await expect(qualityReport(db, { modelId: 99_999, groupBy: 'model' })).rejects.toThrow(/no module model/i);
+		await expect(qualityReport(db, { modelId: 99_999, groupBy: 'model' })).rejects.toThrow(
+			/no module model/i
+		);
 	});
 });
 
 describe('quality filters', () => {
 	it('lists models with result counts, committed rig files newest first and weeks with data', async () => {
 		const f = await qualityFilters(db, { modelId: hc48 });
-		expect(Object.fromEntries(f.models.map((m) => [m.code, m.tests]))).toMatchObject({ 'TC-HC-48': 14, 'TC-HC-24': 1, 'TC-HC-12': 0 });
-		expect(f.imports.map((i) => i.fileName)).toEqual(['rig2-2025-12-29.csv', 'rig2-2025-12-28.csv']);
+		expect(Object.fromEntries(f.models.map((m) => [m.code, m.tests]))).toMatchObject({
+			'TC-HC-48': 14,
+			'TC-HC-24': 1,
+			'TC-HC-12': 0
+		});
+		expect(f.imports.map((i) => i.fileName)).toEqual([
+			'rig2-2025-12-29.csv',
+			'rig2-2025-12-28.csv'
+		]);
 		expect(f.weeks).toEqual(['2026-W01', '2025-W52']);
 		expect(f.modelId).toBe(hc48);
 	});

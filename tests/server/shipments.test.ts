@@ -1,7 +1,15 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { and, eq, inArray } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { auditLog, mailOutbox, moduleEvents, moduleModels, modules, organisations, shipments } from '$lib/server/db/schema';
+import {
+	auditLog,
+	mailOutbox,
+	moduleEvents,
+	moduleModels,
+	modules,
+	organisations,
+	shipments
+} from '$lib/server/db/schema';
 import {
 	addRangeToShipment,
 	addToShipment,
@@ -30,7 +38,10 @@ const dealerId: Record<string, number> = {};
 
 /** Marks modules as passed their factory test, as a committed import would. */
 async function passTest(serials: string[]) {
-	await db.update(modules).set({ state: 'in_stock', testOutcome: 'pass', testedAt: new Date() }).where(inArray(modules.serial, serials));
+	await db
+		.update(modules)
+		.set({ state: 'in_stock', testOutcome: 'pass', testedAt: new Date() })
+		.where(inArray(modules.serial, serials));
 }
 
 /** Built modules that passed their test, ready to ship. */
@@ -40,7 +51,8 @@ async function stock(count = 3) {
 	return serials;
 }
 
-const draftTo = (dealer: string, now?: Date) => createShipment(db, workshop, { dealerOrgId: dealerId[dealer] }, now);
+const draftTo = (dealer: string, now?: Date) =>
+	createShipment(db, workshop, { dealerOrgId: dealerId[dealer] }, now);
 
 beforeAll(async () => {
 	db = await createSeededDb();
@@ -56,26 +68,45 @@ describe('shipment references', () => {
 		const a = await draftTo('Saltmarsh Solar', new Date('2027-03-01T10:00:00Z'));
 		const b = await draftTo('Northbank Electrical', new Date('2027-05-01T10:00:00Z'));
 		const c = await draftTo('Saltmarsh Solar', new Date('2028-01-02T10:00:00Z'));
-		expect([a.reference, b.reference, c.reference]).toEqual(['SH-2027-0001', 'SH-2027-0002', 'SH-2028-0001']);
+		expect([a.reference, b.reference, c.reference]).toEqual([
+			'SH-2027-0001',
+			'SH-2027-0002',
+			'SH-2028-0001'
+		]);
 		expect(a.status).toBe('draft');
 	});
 
 	it('stay unique and consecutive when many shipments are started at once', async () => {
 		const now = new Date('2031-06-01T08:00:00Z');
-		const made = await Promise.all(Array.from({ length: 12 }, (_, i) => createShipment(db, i % 2 ? admin : workshop, { dealerOrgId: dealerId['Saltmarsh Solar'] }, now)));
+		const made = await Promise.all(
+			Array.from({ length: 12 }, (_, i) =>
+				createShipment(
+					db,
+					i % 2 ? admin : workshop,
+					{ dealerOrgId: dealerId['Saltmarsh Solar'] },
+					now
+				)
+			)
+		);
 		const refs = made.map((s) => s.reference).sort();
-		expect(refs).toEqual(Array.from({ length: 12 }, (_, i) => `SH-2031-${String(i + 1).padStart(4, '0')}`));
+		expect(refs).toEqual(
+			Array.from({ length: 12 }, (_, i) => `SH-2031-${String(i + 1).padStart(4, '0')}`)
+		);
 	});
 
 	it('refuse a deactivated dealer and organisations that are not dealers', async () => {
 		await setDealerActive(db, admin, dealerId['Northbank Electrical'], false);
-		await expect(draftTo('Northbank Electrical')).rejects.toThrow(/Northbank Electrical is deactivated/);
+		await expect(draftTo('Northbank Electrical')).rejects.toThrow(
+			/Northbank Electrical is deactivated/
+		);
 		await setDealerActive(db, admin, dealerId['Northbank Electrical'], true);
 		await expect(draftTo('Tidewater Cellworks')).rejects.toThrow(/dealer does not exist/);
 	});
 
 	it('are not for dealers', async () => {
-		await expect(createShipment(db, dealerUser, { dealerOrgId: dealerId['Saltmarsh Solar'] })).rejects.toThrow(/workshop/);
+		await expect(
+			createShipment(db, dealerUser, { dealerOrgId: dealerId['Saltmarsh Solar'] })
+		).rejects.toThrow(/workshop/);
 	});
 });
 
@@ -83,19 +114,41 @@ describe('adding modules by scan', () => {
 	it('accepts a bare serial, the label URL and a Digital Link; the same serial twice changes nothing', async () => {
 		const [s1, s2, s3] = await stock(3);
 		const sh = await draftTo('Saltmarsh Solar');
-		expect(await addToShipment(db, workshop, sh.id, s1.toLowerCase(), BASE)).toMatchObject({ outcome: 'added', serial: s1, count: 1 });
-		expect(await addToShipment(db, workshop, sh.id, `${BASE}/m/${s2}`, BASE)).toMatchObject({ outcome: 'added', serial: s2, count: 2 });
+		expect(await addToShipment(db, workshop, sh.id, s1.toLowerCase(), BASE)).toMatchObject({
+			outcome: 'added',
+			serial: s1,
+			count: 1
+		});
+		expect(await addToShipment(db, workshop, sh.id, `${BASE}/m/${s2}`, BASE)).toMatchObject({
+			outcome: 'added',
+			serial: s2,
+			count: 2
+		});
 		const [model] = await db.select().from(moduleModels).where(eq(moduleModels.code, 'TC-HC-48'));
-		expect(await addToShipment(db, workshop, sh.id, buildDigitalLink(BASE, model.gtin!, s3), BASE)).toMatchObject({ outcome: 'added', serial: s3 });
+		expect(
+			await addToShipment(db, workshop, sh.id, buildDigitalLink(BASE, model.gtin!, s3), BASE)
+		).toMatchObject({ outcome: 'added', serial: s3 });
 		const again = await addToShipment(db, workshop, sh.id, s1, BASE);
 		expect(again.outcome).toBe('already');
-		expect(again.message).toMatch(new RegExp(`${s1} is already on ${sh.reference}; nothing changed`));
-		expect((await getShipment(db, workshop, sh.id)).items.map((i) => i.serial)).toEqual([s1, s2, s3]);
+		expect(again.message).toMatch(
+			new RegExp(`${s1} is already on ${sh.reference}; nothing changed`)
+		);
+		expect((await getShipment(db, workshop, sh.id)).items.map((i) => i.serial)).toEqual([
+			s1,
+			s2,
+			s3
+		]);
 	});
 
 	it('explains each refusal with the module’s current state', async () => {
-		const [built, failed, onDraft, shipped, labelled] = await makeModules(db, workshop, { count: 5, built: 4 });
-		await db.update(modules).set({ state: 'test_failed', testOutcome: 'fail' }).where(eq(modules.serial, failed));
+		const [built, failed, onDraft, shipped, labelled] = await makeModules(db, workshop, {
+			count: 5,
+			built: 4
+		});
+		await db
+			.update(modules)
+			.set({ state: 'test_failed', testOutcome: 'fail' })
+			.where(eq(modules.serial, failed));
 		await passTest([onDraft, shipped]);
 		const other = await draftTo('Saltmarsh Solar');
 		await addToShipment(db, workshop, other.id, onDraft, BASE);
@@ -105,11 +158,21 @@ describe('adding modules by scan', () => {
 
 		const sh = await draftTo('Northbank Electrical');
 		const add = (serial: string) => addToShipment(db, workshop, sh.id, serial, BASE);
-		await expect(add(labelled)).rejects.toThrow(`${labelled} has a label but is not built yet; only passed modules in stock can ship.`);
-		await expect(add(built)).rejects.toThrow(`${built} is built but not tested yet; only passed modules in stock can ship.`);
-		await expect(add(failed)).rejects.toThrow(`${failed} failed its factory test; only passed modules in stock can ship.`);
-		await expect(add(onDraft)).rejects.toThrow(`${onDraft} is already on draft ${other.reference}.`);
-		await expect(add(shipped)).rejects.toThrow(`${shipped} was shipped to Ridgeline Off-Grid Supply on 2026-03-04 (${toRidgeline.reference}).`);
+		await expect(add(labelled)).rejects.toThrow(
+			`${labelled} has a label but is not built yet; only passed modules in stock can ship.`
+		);
+		await expect(add(built)).rejects.toThrow(
+			`${built} is built but not tested yet; only passed modules in stock can ship.`
+		);
+		await expect(add(failed)).rejects.toThrow(
+			`${failed} failed its factory test; only passed modules in stock can ship.`
+		);
+		await expect(add(onDraft)).rejects.toThrow(
+			`${onDraft} is already on draft ${other.reference}.`
+		);
+		await expect(add(shipped)).rejects.toThrow(
+			`${shipped} was shipped to Ridgeline Off-Grid Supply on 2026-03-04 (${toRidgeline.reference}).`
+		);
 		const p = parseSerial(labelled) as { variant: string; number: number };
 		const unknown = serialRun(p.variant, new Date().getUTCFullYear(), 999_000, 1)[0];
 		await expect(add(unknown)).rejects.toThrow(/is in the register|No module/);
@@ -133,8 +196,14 @@ describe('adding a range', () => {
 		expect(r.already).toEqual([serials[0]]);
 		expect(r.refused).toEqual([
 			{ serial: serials[2], reason: `${serials[2]} is already on draft ${other.reference}` },
-			{ serial: serials[4], reason: `${serials[4]} is built but not tested yet; only passed modules in stock can ship` },
-			{ serial: serials[5], reason: `${serials[5]} has a label but is not built yet; only passed modules in stock can ship` }
+			{
+				serial: serials[4],
+				reason: `${serials[4]} is built but not tested yet; only passed modules in stock can ship`
+			},
+			{
+				serial: serials[5],
+				reason: `${serials[5]} has a label but is not built yet; only passed modules in stock can ship`
+			}
 		]);
 		expect(r.count).toBe(3);
 	});
@@ -142,15 +211,25 @@ describe('adding a range', () => {
 	it('accepts the ends in either order and refuses mixed variants, mixed years and more than 500', async () => {
 		const serials = await stock(2);
 		const sh = await draftTo('Saltmarsh Solar');
-		expect((await addRangeToShipment(db, workshop, sh.id, serials[1], serials[0])).added).toEqual(serials);
+		expect((await addRangeToShipment(db, workshop, sh.id, serials[1], serials[0])).added).toEqual(
+			serials
+		);
 		const [v12] = await makeModules(db, workshop, { code: 'TC-HC-12', count: 1 });
-		await expect(addRangeToShipment(db, workshop, sh.id, serials[0], v12)).rejects.toThrow(/one variant and year/);
+		await expect(addRangeToShipment(db, workshop, sh.id, serials[0], v12)).rejects.toThrow(
+			/one variant and year/
+		);
 		const p = parseSerial(serials[0]) as { variant: string; number: number; year2: number };
 		const nextYear = serialRun(p.variant, 2000 + p.year2 + 1, p.number, 1)[0];
-		await expect(addRangeToShipment(db, workshop, sh.id, serials[0], nextYear)).rejects.toThrow(/one variant and year/);
+		await expect(addRangeToShipment(db, workshop, sh.id, serials[0], nextYear)).rejects.toThrow(
+			/one variant and year/
+		);
 		const far = serialRun(p.variant, 2000 + p.year2, p.number + 500, 1)[0];
-		await expect(addRangeToShipment(db, workshop, sh.id, serials[0], far)).rejects.toThrow(/501 serials; add at most 500/);
-		await expect(addRangeToShipment(db, workshop, sh.id, 'PL48-26-12', serials[0])).rejects.toThrow(/first serial/);
+		await expect(addRangeToShipment(db, workshop, sh.id, serials[0], far)).rejects.toThrow(
+			/501 serials; add at most 500/
+		);
+		await expect(addRangeToShipment(db, workshop, sh.id, 'PL48-26-12', serials[0])).rejects.toThrow(
+			/first serial/
+		);
 	});
 });
 
@@ -170,16 +249,44 @@ describe('dispatch', () => {
 			expect(m.dealerOrgId).toBe(dealerId['Saltmarsh Solar']);
 			expect(m.shippedAt?.toISOString()).toBe(now.toISOString());
 		}
-		const events = await db.select().from(moduleEvents).where(and(inArray(moduleEvents.moduleId, rows.map((m) => m.id)), eq(moduleEvents.kind, 'shipped')));
+		const events = await db
+			.select()
+			.from(moduleEvents)
+			.where(
+				and(
+					inArray(
+						moduleEvents.moduleId,
+						rows.map((m) => m.id)
+					),
+					eq(moduleEvents.kind, 'shipped')
+				)
+			);
 		expect(events).toHaveLength(4);
-		expect(new Set(events.map((e) => e.summary))).toEqual(new Set([`Shipped to Saltmarsh Solar on ${sh.reference}`]));
+		expect(new Set(events.map((e) => e.summary))).toEqual(
+			new Set([`Shipped to Saltmarsh Solar on ${sh.reference}`])
+		);
 
 		const [after] = await db.select().from(shipments).where(eq(shipments.id, sh.id));
 		expect(after).toMatchObject({ status: 'dispatched', dispatchedBy: workshop.userId });
-		const audit = await db.select().from(auditLog).where(and(eq(auditLog.entity, 'shipment'), eq(auditLog.entityId, sh.reference)));
-		expect(audit.map((a) => a.action)).toEqual(expect.arrayContaining(['shipment.create', 'shipment.add', 'shipment.note', 'shipment.dispatch']));
+		const audit = await db
+			.select()
+			.from(auditLog)
+			.where(and(eq(auditLog.entity, 'shipment'), eq(auditLog.entityId, sh.reference)));
+		expect(audit.map((a) => a.action)).toEqual(
+			expect.arrayContaining([
+				'shipment.create',
+				'shipment.add',
+				'shipment.note',
+				'shipment.dispatch'
+			])
+		);
 
-		const mails = await db.select().from(mailOutbox).where(eq(mailOutbox.subject, `Shipment ${sh.reference} from Tidewater Cellworks: 4 modules`));
+		const mails = await db
+			.select()
+			.from(mailOutbox)
+			.where(
+				eq(mailOutbox.subject, `Shipment ${sh.reference} from Tidewater Cellworks: 4 modules`)
+			);
 		expect(mails).toHaveLength(1);
 		expect(mails[0].toAddr).toContain('dealer@saltmarsh.example');
 		for (const s of serials) expect(mails[0].text).toMatch(new RegExp(`${s}\\s+TC-HC-48`));
@@ -195,7 +302,10 @@ describe('dispatch', () => {
 		await addToShipment(db, workshop, sh.id, s, BASE);
 		const { mail } = await dispatchShipment(db, admin, sh.id);
 		expect(mail.to).toEqual(['dealer@ridgeline.example']);
-		const [m] = await db.select().from(mailOutbox).where(eq(mailOutbox.subject, `Shipment ${sh.reference} from Tidewater Cellworks: 1 module`));
+		const [m] = await db
+			.select()
+			.from(mailOutbox)
+			.where(eq(mailOutbox.subject, `Shipment ${sh.reference} from Tidewater Cellworks: 1 module`));
 		expect(m.toAddr).not.toContain('tech@ridgeline.example');
 	});
 
@@ -216,13 +326,17 @@ describe('dispatch', () => {
 
 	it('refuses an empty shipment and a deactivated dealer, changing nothing', async () => {
 		const empty = await draftTo('Northbank Electrical');
-		await expect(dispatchShipment(db, workshop, empty.id)).rejects.toThrow(/has no modules on it yet/);
+		await expect(dispatchShipment(db, workshop, empty.id)).rejects.toThrow(
+			/has no modules on it yet/
+		);
 
 		const [s] = await stock(1);
 		const sh = await draftTo('Northbank Electrical');
 		await addToShipment(db, workshop, sh.id, s, BASE);
 		await setDealerActive(db, admin, dealerId['Northbank Electrical'], false);
-		await expect(dispatchShipment(db, workshop, sh.id)).rejects.toThrow(/Northbank Electrical is deactivated and cannot receive shipments/);
+		await expect(dispatchShipment(db, workshop, sh.id)).rejects.toThrow(
+			/Northbank Electrical is deactivated and cannot receive shipments/
+		);
 		await setDealerActive(db, admin, dealerId['Northbank Electrical'], true);
 		const [m] = await db.select().from(modules).where(eq(modules.serial, s));
 		expect(m).toMatchObject({ state: 'in_stock', dealerOrgId: null });
@@ -233,11 +347,30 @@ describe('dispatch', () => {
 		const [ok, retested] = await stock(2);
 		const sh = await draftTo('Saltmarsh Solar');
 		await addRangeToShipment(db, workshop, sh.id, ok, retested);
-		await db.update(modules).set({ state: 'test_failed', testOutcome: 'fail' }).where(eq(modules.serial, retested));
-		await expect(dispatchShipment(db, workshop, sh.id)).rejects.toThrow(`${retested} failed its factory test`);
-		const rows = await db.select().from(modules).where(inArray(modules.serial, [ok, retested]));
+		await db
+			.update(modules)
+			.set({ state: 'test_failed', testOutcome: 'fail' })
+			.where(eq(modules.serial, retested));
+		await expect(dispatchShipment(db, workshop, sh.id)).rejects.toThrow(
+			`${retested} failed its factory test`
+		);
+		const rows = await db
+			.select()
+			.from(modules)
+			.where(inArray(modules.serial, [ok, retested]));
 		expect(rows.map((r) => r.state).sort()).toEqual(['in_stock', 'test_failed']);
-		const events = await db.select().from(moduleEvents).where(and(inArray(moduleEvents.moduleId, rows.map((r) => r.id)), eq(moduleEvents.kind, 'shipped')));
+		const events = await db
+			.select()
+			.from(moduleEvents)
+			.where(
+				and(
+					inArray(
+						moduleEvents.moduleId,
+						rows.map((r) => r.id)
+					),
+					eq(moduleEvents.kind, 'shipped')
+				)
+			);
 		expect(events).toHaveLength(0);
 	});
 });
@@ -248,7 +381,9 @@ describe('drafts', () => {
 		const sh = await draftTo('Saltmarsh Solar');
 		await addRangeToShipment(db, workshop, sh.id, a, b);
 		expect(await removeFromShipment(db, workshop, sh.id, a)).toEqual({ serial: a, count: 1 });
-		await expect(removeFromShipment(db, workshop, sh.id, a)).rejects.toThrow(`${a} is not on ${sh.reference}.`);
+		await expect(removeFromShipment(db, workshop, sh.id, a)).rejects.toThrow(
+			`${a} is not on ${sh.reference}.`
+		);
 		expect(await updateShipmentNote(db, workshop, sh.id, '  ')).toEqual({ note: null });
 		await deleteDraftShipment(db, workshop, sh.id);
 		await expect(getShipment(db, workshop, sh.id)).rejects.toThrow(/no shipment/);

@@ -5,9 +5,27 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { attachments, moduleModels, organisations, sites, systems, users } from '$lib/server/db/schema';
-import { createS3Store, deleteObject, getObject, putObject, type S3Module } from '$lib/server/storage';
-import { listAttachments, PHOTO_MAX_BYTES, readAttachment, savePhoto } from '$lib/server/services/attachments';
+import {
+	attachments,
+	moduleModels,
+	organisations,
+	sites,
+	systems,
+	users
+} from '$lib/server/db/schema';
+import {
+	createS3Store,
+	deleteObject,
+	getObject,
+	putObject,
+	type S3Module
+} from '$lib/server/storage';
+import {
+	listAttachments,
+	PHOTO_MAX_BYTES,
+	readAttachment,
+	savePhoto
+} from '$lib/server/services/attachments';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
 
@@ -27,14 +45,36 @@ beforeAll(async () => {
 	tech = await actorFor(db, 'tech@tidewater.example');
 	saltmarshDealer = await actorFor(db, 'dealer@saltmarsh.example');
 	ridgelineDealer = await actorFor(db, 'dealer@ridgeline.example');
-	const [org] = await db.select().from(organisations).where(eq(organisations.name, 'Saltmarsh Solar'));
+	const [org] = await db
+		.select()
+		.from(organisations)
+		.where(eq(organisations.name, 'Saltmarsh Solar'));
 	const [me] = await db.select().from(users).where(eq(users.email, 'tech@tidewater.example'));
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.code, 'TC-HC-48'));
 	const [site] = await db
 		.insert(sites)
-		.values({ dealerOrgId: org.id, name: 'Gull Rock workshop', ownerName: 'Odo Marram', ownerContact: '+00 555 0100', address: '2 Quay Road, Saltmarsh', application: 'workshop', createdBy: me.id })
+		.values({
+			dealerOrgId: org.id,
+			name: 'Gull Rock workshop',
+			ownerName: 'Odo Marram',
+			ownerContact: '+00 555 0100',
+			address: '2 Quay Road, Saltmarsh',
+			application: 'workshop',
+			createdBy: me.id
+		})
 		.returning();
-	[{ id: systemId }] = await db.insert(systems).values({ siteId: site.id, name: 'Workshop bank', modelId: model.id, series: 2, parallel: 1, inverterMinV: 70, inverterMaxV: 130 }).returning();
+	[{ id: systemId }] = await db
+		.insert(systems)
+		.values({
+			siteId: site.id,
+			name: 'Workshop bank',
+			modelId: model.id,
+			series: 2,
+			parallel: 1,
+			inverterMinV: 70,
+			inverterMaxV: 130
+		})
+		.returning();
 });
 afterAll(() => {
 	for (const [k, v] of Object.entries(saved)) {
@@ -44,11 +84,35 @@ afterAll(() => {
 });
 
 // Smallest files with real signatures (magic bytes) of each kind.
-const PNG = new Uint8Array([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 13, 0x49, 0x48, 0x44, 0x52, 1, 2, 3]);
+const PNG = new Uint8Array([
+	0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 13, 0x49, 0x48, 0x44, 0x52, 1, 2, 3
+]);
 const JPEG = new Uint8Array([0xff, 0xd8, 0xff, 0xe0, 0, 16, 0x4a, 0x46, 0x49, 0x46, 0, 1]);
-const WEBP = new Uint8Array([...Buffer.from('RIFF'), 30, 0, 0, 0, ...Buffer.from('WEBPVP8 '), 0, 0, 0, 0]);
+const WEBP = new Uint8Array([
+	...Buffer.from('RIFF'),
+	30,
+	0,
+	0,
+	0,
+	...Buffer.from('WEBPVP8 '),
+	0,
+	0,
+	0,
+	0
+]);
 // ISO base media file with brand 'heic' (what an iPhone writes by default).
-const HEIC = new Uint8Array([0, 0, 0, 24, ...Buffer.from('ftypheic'), 0, 0, 0, 0, ...Buffer.from('mif1heic')]);
+const HEIC = new Uint8Array([
+	0,
+	0,
+	0,
+	24,
+	...Buffer.from('ftypheic'),
+	0,
+	0,
+	0,
+	0,
+	...Buffer.from('mif1heic')
+]);
 const TEXT = new TextEncoder().encode('string voltages: 101.2 V, 101.3 V\n');
 
 describe('local storage', () => {
@@ -64,7 +128,17 @@ describe('local storage', () => {
 	});
 
 	it('refuses keys that are not generated keys', async () => {
-		for (const key of ['../etc/passwd', 'a/../../b', '/abs/path', 'Upper/Case', 'with.dot', 'a//b', 'trailing/', '', 'a b']) {
+		for (const key of [
+			'../etc/passwd',
+			'a/../../b',
+			'/abs/path',
+			'Upper/Case',
+			'with.dot',
+			'a//b',
+			'trailing/',
+			'',
+			'a b'
+		]) {
 			await expect(putObject(key, JPEG, 'image/jpeg'), key).rejects.toThrow(/Invalid storage key/);
 			await expect(getObject(key), key).rejects.toThrow(/Invalid storage key/);
 		}
@@ -84,12 +158,22 @@ describe('S3 store', () => {
 			S3Client: class {
 				async send(c: Cmd) {
 					const key = `${c.input.Bucket}/${c.input.Key}`;
-					if (c instanceof Put) objects.set(key, { Body: c.input.Body as Uint8Array, ContentType: c.input.ContentType as string });
+					if (c instanceof Put)
+						objects.set(key, {
+							Body: c.input.Body as Uint8Array,
+							ContentType: c.input.ContentType as string
+						});
 					if (c instanceof Del) objects.delete(key);
 					if (c instanceof Get) {
 						const o = objects.get(key);
-						if (!o) throw Object.assign(new Error('The specified key does not exist.'), { name: 'NoSuchKey' });
-						return { Body: { transformToByteArray: async () => o.Body }, ContentType: o.ContentType };
+						if (!o)
+							throw Object.assign(new Error('The specified key does not exist.'), {
+								name: 'NoSuchKey'
+							});
+						return {
+							Body: { transformToByteArray: async () => o.Body },
+							ContentType: o.ContentType
+						};
 					}
 					return {};
 				}
@@ -109,7 +193,9 @@ describe('S3 store', () => {
 	it('says clearly that the SDK is missing when S3_BUCKET is set', async () => {
 		process.env.S3_BUCKET = 'packledger-test';
 		try {
-			await expect(putObject('test/s3-1', PNG, 'image/png')).rejects.toThrow(/S3_BUCKET is set, but the package @aws-sdk\/client-s3 is not installed/);
+			await expect(putObject('test/s3-1', PNG, 'image/png')).rejects.toThrow(
+				/S3_BUCKET is set, but the package @aws-sdk\/client-s3 is not installed/
+			);
 		} finally {
 			delete process.env.S3_BUCKET;
 		}
@@ -120,7 +206,13 @@ describe('savePhoto', () => {
 	const owner = () => ({ ownerKind: 'system' as const, ownerId: systemId });
 
 	it('accepts a PNG renamed .jpg as a PNG, by its content', async () => {
-		const row = await savePhoto(db, tech, owner(), { name: 'IMG_2210.jpg', type: 'image/jpeg', bytes: PNG }, 'Battery rack, front');
+		const row = await savePhoto(
+			db,
+			tech,
+			owner(),
+			{ name: 'IMG_2210.jpg', type: 'image/jpeg', bytes: PNG },
+			'Battery rack, front'
+		);
 		expect(row.contentType).toBe('image/png');
 		expect(row.sha256).toBe(createHash('sha256').update(PNG).digest('hex'));
 		expect(row.storageKey).toMatch(/^attachments\/system\/\d+\/[0-9a-f-]+$/);
@@ -130,40 +222,70 @@ describe('savePhoto', () => {
 	});
 
 	it('accepts JPEG and WebP', async () => {
-		expect((await savePhoto(db, tech, owner(), { name: 'a.jpg', type: 'image/jpeg', bytes: JPEG })).contentType).toBe('image/jpeg');
-		expect((await savePhoto(db, tech, owner(), { name: 'b.webp', type: 'image/webp', bytes: WEBP })).contentType).toBe('image/webp');
+		expect(
+			(await savePhoto(db, tech, owner(), { name: 'a.jpg', type: 'image/jpeg', bytes: JPEG }))
+				.contentType
+		).toBe('image/jpeg');
+		expect(
+			(await savePhoto(db, tech, owner(), { name: 'b.webp', type: 'image/webp', bytes: WEBP }))
+				.contentType
+		).toBe('image/webp');
 	});
 
 	it('refuses a text file that says it is image/jpeg', async () => {
-		await expect(savePhoto(db, tech, owner(), { name: 'notes.jpg', type: 'image/jpeg', bytes: TEXT })).rejects.toThrow(/notes\.jpg is not a JPEG, PNG or WebP image/);
+		await expect(
+			savePhoto(db, tech, owner(), { name: 'notes.jpg', type: 'image/jpeg', bytes: TEXT })
+		).rejects.toThrow(/notes\.jpg is not a JPEG, PNG or WebP image/);
 	});
 
 	it('refuses HEIC with what to change on the phone', async () => {
-		await expect(savePhoto(db, tech, owner(), { name: 'IMG_2211.HEIC', type: 'image/heic', bytes: HEIC })).rejects.toThrow(
+		await expect(
+			savePhoto(db, tech, owner(), { name: 'IMG_2211.HEIC', type: 'image/heic', bytes: HEIC })
+		).rejects.toThrow(
 			"IMG_2211.HEIC is a HEIC image; set the phone camera to 'Most compatible' (JPEG) or send a JPEG/PNG/WebP"
 		);
 		// Even when the phone calls it a JPEG.
-		await expect(savePhoto(db, tech, owner(), { name: 'IMG_2212.jpg', type: 'image/jpeg', bytes: HEIC })).rejects.toThrow(/is a HEIC image/);
+		await expect(
+			savePhoto(db, tech, owner(), { name: 'IMG_2212.jpg', type: 'image/jpeg', bytes: HEIC })
+		).rejects.toThrow(/is a HEIC image/);
 	});
 
 	it('refuses more than 10 MB', async () => {
 		const big = new Uint8Array(PHOTO_MAX_BYTES + 1);
 		big.set(JPEG);
-		await expect(savePhoto(db, tech, owner(), { name: 'IMG_2213.jpg', type: 'image/jpeg', bytes: big })).rejects.toThrow(/IMG_2213\.jpg is 10\.1 MB, over the 10 MB limit/);
+		await expect(
+			savePhoto(db, tech, owner(), { name: 'IMG_2213.jpg', type: 'image/jpeg', bytes: big })
+		).rejects.toThrow(/IMG_2213\.jpg is 10\.1 MB, over the 10 MB limit/);
 	});
 
 	it('keeps nothing from a refused photo', async () => {
 		const before = (await db.select().from(attachments)).length;
-		await expect(savePhoto(db, tech, owner(), { name: 'x.jpg', type: 'image/jpeg', bytes: TEXT })).rejects.toThrow();
+		await expect(
+			savePhoto(db, tech, owner(), { name: 'x.jpg', type: 'image/jpeg', bytes: TEXT })
+		).rejects.toThrow();
 		expect((await db.select().from(attachments)).length).toBe(before);
 	});
 
 	it("answers another dealer's photo like a missing one", async () => {
-		const row = await savePhoto(db, tech, owner(), { name: 'c.jpg', type: 'image/jpeg', bytes: JPEG });
-		await expect(readAttachment(db, ridgelineDealer, row.id)).rejects.toThrow(`Attachment ${row.id} is not in the register.`);
-		await expect(readAttachment(db, ridgelineDealer, 999999)).rejects.toThrow('Attachment 999999 is not in the register.');
-		await expect(listAttachments(db, ridgelineDealer, owner())).rejects.toThrow(/not in the register/);
-		await expect(savePhoto(db, ridgelineDealer, owner(), { name: 'd.jpg', type: 'image/jpeg', bytes: JPEG })).rejects.toThrow(/not in the register/);
-		expect((await listAttachments(db, saltmarshDealer, owner())).map((a) => a.id)).toContain(row.id);
+		const row = await savePhoto(db, tech, owner(), {
+			name: 'c.jpg',
+			type: 'image/jpeg',
+			bytes: JPEG
+		});
+		await expect(readAttachment(db, ridgelineDealer, row.id)).rejects.toThrow(
+			`Attachment ${row.id} is not in the register.`
+		);
+		await expect(readAttachment(db, ridgelineDealer, 999999)).rejects.toThrow(
+			'Attachment 999999 is not in the register.'
+		);
+		await expect(listAttachments(db, ridgelineDealer, owner())).rejects.toThrow(
+			/not in the register/
+		);
+		await expect(
+			savePhoto(db, ridgelineDealer, owner(), { name: 'd.jpg', type: 'image/jpeg', bytes: JPEG })
+		).rejects.toThrow(/not in the register/);
+		expect((await listAttachments(db, saltmarshDealer, owner())).map((a) => a.id)).toContain(
+			row.id
+		);
 	});
 });

@@ -42,19 +42,37 @@ describe('traceability', () => {
 	});
 
 	it('sends each affected dealer one notice with only its own units, and records it on each module', async () => {
-		const sent = await sendServiceNotice(db, admin, { lot: 'HCL-2611-A' }, { subject: 'Re-torque terminal bolts', body: 'Please re-torque the terminal bolts of the listed modules at the next visit.' });
+		const sent = await sendServiceNotice(
+			db,
+			admin,
+			{ lot: 'HCL-2611-A' },
+			{
+				subject: 'Re-torque terminal bolts',
+				body: 'Please re-torque the terminal bolts of the listed modules at the next visit.'
+			}
+		);
 		expect(sent).toEqual({ dealers: 2, modules: 3 });
 		const mails = await db.select().from(mailOutbox);
 		const salt = mails.find((m) => m.toAddr.includes('saltmarsh'))!;
 		expect(salt.subject).toContain('Re-torque terminal bolts');
 		expect(salt.text).toContain(lotA[0]);
 		expect(salt.text).not.toContain(lotA[2]);
-		const events = await db.select().from(moduleEvents).where(eq(moduleEvents.kind, 'service_notice'));
+		const events = await db
+			.select()
+			.from(moduleEvents)
+			.where(eq(moduleEvents.kind, 'service_notice'));
 		expect(events).toHaveLength(3);
 	});
 
 	it('refuses a notice when nothing has left the workshop', async () => {
-		await expect(sendServiceNotice(db, admin, { lot: 'HCL-2611-B' }, { subject: 'Nothing', body: 'Nothing to tell anyone about really.' })).rejects.toThrow(/no dealer to notify/);
+		await expect(
+			sendServiceNotice(
+				db,
+				admin,
+				{ lot: 'HCL-2611-B' },
+				{ subject: 'Nothing', body: 'Nothing to tell anyone about really.' }
+			)
+		).rejects.toThrow(/no dealer to notify/);
 	});
 });
 

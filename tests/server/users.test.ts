@@ -2,8 +2,19 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { mailOutbox, users } from '$lib/server/db/schema';
-import { checkToken, inviteUser, redeemToken, requestPasswordReset } from '$lib/server/services/users';
-import { clearSignInFailures, MAX_FAILURES_PER_ACCOUNT, recordSignInFailure, resetRateLimits, signInBlockedFor } from '$lib/server/auth/rate-limit';
+import {
+	checkToken,
+	inviteUser,
+	redeemToken,
+	requestPasswordReset
+} from '$lib/server/services/users';
+import {
+	clearSignInFailures,
+	MAX_FAILURES_PER_ACCOUNT,
+	recordSignInFailure,
+	resetRateLimits,
+	signInBlockedFor
+} from '$lib/server/auth/rate-limit';
 import { verifyPassword } from '$lib/server/auth/password';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
@@ -24,25 +35,53 @@ const linkIn = async (to: string, path: string) => {
 
 describe('invitations and resets', () => {
 	it('invites by e-mail; the link sets a password once', async () => {
-		await inviteUser(db, admin, { email: 'wren@saltmarsh.example', name: 'Wren Tamsin', role: 'field_tech', organisationId: 2 }, BASE);
+		await inviteUser(
+			db,
+			admin,
+			{
+				email: 'wren@saltmarsh.example',
+				name: 'Wren Tamsin',
+				role: 'field_tech',
+				organisationId: 2
+			},
+			BASE
+		);
 		const token = await linkIn('wren@saltmarsh.example', 'welcome');
 		expect((await checkToken(db, token, 'invite')).email).toBe('wren@saltmarsh.example');
 		await redeemToken(db, token, 'invite', 'salt-and-tide-42');
 		const [u] = await db.select().from(users).where(eq(users.email, 'wren@saltmarsh.example'));
 		expect(await verifyPassword(u.passwordHash!, 'salt-and-tide-42')).toBe(true);
-		await expect(redeemToken(db, token, 'invite', 'another-password-1')).rejects.toThrow(/already been used/);
+		await expect(redeemToken(db, token, 'invite', 'another-password-1')).rejects.toThrow(
+			/already been used/
+		);
 	});
 
 	it('refuses a dealer role in the assembler and a duplicate address', async () => {
-		await expect(inviteUser(db, admin, { email: 'x@tidewater.example', name: 'X Y', role: 'dealer', organisationId: 1 }, BASE)).rejects.toThrow(/does not fit/);
-		await expect(inviteUser(db, admin, { email: 'wren@saltmarsh.example', name: 'Wren', role: 'field_tech', organisationId: 2 }, BASE)).rejects.toThrow(/already has an account/);
+		await expect(
+			inviteUser(
+				db,
+				admin,
+				{ email: 'x@tidewater.example', name: 'X Y', role: 'dealer', organisationId: 1 },
+				BASE
+			)
+		).rejects.toThrow(/does not fit/);
+		await expect(
+			inviteUser(
+				db,
+				admin,
+				{ email: 'wren@saltmarsh.example', name: 'Wren', role: 'field_tech', organisationId: 2 },
+				BASE
+			)
+		).rejects.toThrow(/already has an account/);
 	});
 
 	it('reset links expire after an hour and say nothing for unknown addresses', async () => {
 		const t0 = new Date('2026-12-01T10:00:00Z');
 		await requestPasswordReset(db, 'warranty@tidewater.example', BASE, t0);
 		const token = await linkIn('warranty@tidewater.example', 'reset');
-		await expect(checkToken(db, token, 'reset', new Date('2026-12-01T11:00:01Z'))).rejects.toThrow(/expired/);
+		await expect(checkToken(db, token, 'reset', new Date('2026-12-01T11:00:01Z'))).rejects.toThrow(
+			/expired/
+		);
 		await expect(checkToken(db, token, 'invite', t0)).rejects.toThrow(/not valid/);
 		const before = (await db.select().from(mailOutbox)).length;
 		await requestPasswordReset(db, 'nobody@nowhere.example', BASE, t0);
@@ -54,7 +93,8 @@ describe('sign-in rate limit', () => {
 	it('blocks an account after five failures in 15 minutes, and a success clears it', () => {
 		resetRateLimits();
 		const now = Date.parse('2026-12-01T10:00:00Z');
-		for (let i = 0; i < MAX_FAILURES_PER_ACCOUNT; i++) recordSignInFailure('a@x.example', '10.0.0.1', now + i * 1000);
+		for (let i = 0; i < MAX_FAILURES_PER_ACCOUNT; i++)
+			recordSignInFailure('a@x.example', '10.0.0.1', now + i * 1000);
 		expect(signInBlockedFor('a@x.example', '10.0.0.2', now + 6000)).toBeGreaterThan(0);
 		expect(signInBlockedFor('b@x.example', '10.0.0.2', now + 6000)).toBe(0);
 		expect(signInBlockedFor('a@x.example', '10.0.0.2', now + 16 * 60_000)).toBe(0);

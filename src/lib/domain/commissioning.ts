@@ -94,7 +94,11 @@ export interface CommissioningResult {
 }
 
 const num = (x: number, maxDigits = 2, minDigits = 1) =>
-	x.toLocaleString('en-US', { minimumFractionDigits: minDigits, maximumFractionDigits: maxDigits, useGrouping: false });
+	x.toLocaleString('en-US', {
+		minimumFractionDigits: minDigits,
+		maximumFractionDigits: maxDigits,
+		useGrouping: false
+	});
 const V = (x: number) => `${num(x, 2)} V`;
 const mV = (x: number) => `${Math.round(x * 1000)} mV`;
 const roundMv = (x: number) => Math.round(x * 1000) / 1000;
@@ -116,7 +120,8 @@ const missing = (reason: string): Outcome => ({ status: 'not_measured', reason }
 /** Module OCVs limited to the system's shape; null where the shape disagrees. */
 function moduleGrid({ system, m }: Ctx): (number | null)[][] | null {
 	const grid = m.moduleOcvV;
-	if (!grid || grid.length !== system.parallel || grid.some((row) => row.length !== system.series)) return null;
+	if (!grid || grid.length !== system.parallel || grid.some((row) => row.length !== system.series))
+		return null;
 	return grid.map((row) => row.map((v) => (isNum(v) ? v : null)));
 }
 
@@ -146,9 +151,13 @@ function checkModuleSpread(ctx: Ctx): Outcome {
 		);
 	}
 	if (values.length < expected) {
-		return missing(`${values.length} of ${expected} module voltages recorded; spread so far ${mV(spread)}.`);
+		return missing(
+			`${values.length} of ${expected} module voltages recorded; spread so far ${mV(spread)}.`
+		);
 	}
-	return pass(`All ${expected} module open-circuit voltages lie within ${mV(spread)} (${V(lo)} to ${V(hi)}), within ${limit}.`);
+	return pass(
+		`All ${expected} module open-circuit voltages lie within ${mV(spread)} (${V(lo)} to ${V(hi)}), within ${limit}.`
+	);
 }
 
 function checkStringVoltage(ctx: Ctx): Outcome {
@@ -166,7 +175,9 @@ function checkStringVoltage(ctx: Ctx): Outcome {
 			continue;
 		}
 		if (measured < stringMin || measured > stringMax) {
-			failures.push(`${label} reads ${V(measured)}, outside the model's ${V(stringMin)} to ${V(stringMax)}`);
+			failures.push(
+				`${label} reads ${V(measured)}, outside the model's ${V(stringMin)} to ${V(stringMax)}`
+			);
 			continue;
 		}
 		const row = grid?.[i];
@@ -206,7 +217,9 @@ function checkInterString(ctx: Ctx): Outcome {
 	} else {
 		const strings = (m.stringVoltageV ?? []).slice(0, system.parallel);
 		if (strings.length < system.parallel || !strings.every(isNum)) {
-			return missing('Difference between strings not recorded, and not every string voltage is known to derive it.');
+			return missing(
+				'Difference between strings not recorded, and not every string voltage is known to derive it.'
+			);
 		}
 		diff = Math.max(...strings) - Math.min(...strings);
 		source = 'from the string voltages';
@@ -261,18 +274,26 @@ function checkProtectiveDevice(ctx: Ctx): Outcome {
 	const { system, m, stringMax } = ctx;
 	const dev = m.protectiveDevice;
 	const continuousA =
-		system.maxContinuousA ?? currentForCRate(system.model.maxContinuousC, system.model.ratedAh) * system.parallel;
+		system.maxContinuousA ??
+		currentForCRate(system.model.maxContinuousC, system.model.ratedAh) * system.parallel;
 	const minA = minOvercurrentRatingA(continuousA);
-	const rule = '125 % of the continuous current (NEC 210.20 / 706.30 style, from memory; local codes decide)';
+	const rule =
+		'125 % of the continuous current (NEC 210.20 / 706.30 style, from memory; local codes decide)';
 	if (!dev || !isNum(dev.ratingA) || !isNum(dev.dcVoltageRatingV)) {
-		return missing(`Protective device not recorded; it needs at least ${num(minA, 1)} A and ${V(stringMax)} DC.`);
+		return missing(
+			`Protective device not recorded; it needs at least ${num(minA, 1)} A and ${V(stringMax)} DC.`
+		);
 	}
 	const faults: string[] = [];
 	if (dev.ratingA < minA - 1e-9) {
-		faults.push(`rated ${num(dev.ratingA, 1)} A, below ${num(minA, 1)} A = ${rule} of ${num(continuousA, 1)} A`);
+		faults.push(
+			`rated ${num(dev.ratingA, 1)} A, below ${num(minA, 1)} A = ${rule} of ${num(continuousA, 1)} A`
+		);
 	}
 	if (dev.dcVoltageRatingV < stringMax) {
-		faults.push(`DC voltage rating ${V(dev.dcVoltageRatingV)} is below the string maximum ${V(stringMax)}`);
+		faults.push(
+			`DC voltage rating ${V(dev.dcVoltageRatingV)} is below the string maximum ${V(stringMax)}`
+		);
 	}
 	if (faults.length > 0) return fail(`Protective device ${faults.join('; ')}.`);
 	return pass(
@@ -296,7 +317,8 @@ function checkAmbient(ctx: Ctx): Outcome {
 	const basis =
 		`${minC} to ${maxC} °C, the overlap of the model's charge (${md.chargeTempMinC} to ${md.chargeTempMaxC} °C) ` +
 		`and discharge (${md.dischargeTempMinC} to ${md.dischargeTempMaxC} °C) ranges`;
-	if (!isNum(m.ambientC)) return missing(`Ambient temperature not recorded; it must lie within ${basis}.`);
+	if (!isNum(m.ambientC))
+		return missing(`Ambient temperature not recorded; it must lie within ${basis}.`);
 	if (m.ambientC < minC || m.ambientC > maxC) {
 		return fail(`Ambient ${num(m.ambientC, 1)} °C is outside ${basis}.`);
 	}
@@ -306,13 +328,29 @@ function checkAmbient(ctx: Ctx): Outcome {
 const CHECKS: { key: CommissioningItemKey; label: string; run: (ctx: Ctx) => Outcome }[] = [
 	{ key: 'module_ocv_spread', label: 'Module open-circuit voltage spread', run: checkModuleSpread },
 	{ key: 'string_voltage', label: 'String voltage against its modules', run: checkStringVoltage },
-	{ key: 'inter_string_difference', label: 'Difference between parallel strings', run: checkInterString },
+	{
+		key: 'inter_string_difference',
+		label: 'Difference between parallel strings',
+		run: checkInterString
+	},
 	{ key: 'insulation', label: 'Insulation resistance', run: checkInsulation },
-	{ key: 'polarity', label: 'Polarity', run: (c) => checkConfirmation(c.m.polarityChecked, 'Polarity of every connection') },
-	{ key: 'torque', label: 'Terminal torque', run: (c) => checkConfirmation(c.m.torqueConfirmed, 'Terminal torque to the maker\u2019s value') },
+	{
+		key: 'polarity',
+		label: 'Polarity',
+		run: (c) => checkConfirmation(c.m.polarityChecked, 'Polarity of every connection')
+	},
+	{
+		key: 'torque',
+		label: 'Terminal torque',
+		run: (c) => checkConfirmation(c.m.torqueConfirmed, 'Terminal torque to the maker\u2019s value')
+	},
 	{ key: 'protective_device', label: 'Protective device', run: checkProtectiveDevice },
 	{ key: 'ambient_temperature', label: 'Ambient temperature', run: checkAmbient },
-	{ key: 'stop_charge', label: 'Stop-charge signal', run: (c) => checkConfirmation(c.m.stopChargeProven, 'Stop-charge signal reaching the inverter') }
+	{
+		key: 'stop_charge',
+		label: 'Stop-charge signal',
+		run: (c) => checkConfirmation(c.m.stopChargeProven, 'Stop-charge signal reaching the inverter')
+	}
 ];
 
 /**

@@ -9,7 +9,14 @@ import { currentForCRate, type ModelSpec } from './model';
 /** The module data the check needs; a subset of ModelSpec. */
 export type DesignModule = Pick<
 	ModelSpec,
-	'cellsSeries' | 'cellMinV' | 'cellNominalV' | 'cellMaxV' | 'ratedAh' | 'usableWh' | 'maxContinuousC' | 'burstC'
+	| 'cellsSeries'
+	| 'cellMinV'
+	| 'cellNominalV'
+	| 'cellMaxV'
+	| 'ratedAh'
+	| 'usableWh'
+	| 'maxContinuousC'
+	| 'burstC'
 >;
 
 export interface InverterWindow {
@@ -124,7 +131,10 @@ function fitsPreferredRange(v: StringVoltage, inv: InverterWindow): boolean {
  * Checks one design. Currents are multiples of I_t = C_n / 1 h (IEC 61434) per string,
  * times the parallel strings; powers are at nominal string voltage.
  */
-export function checkDesign(input: DesignCheckInput, options: DesignCheckOptions = {}): DesignCheckResult {
+export function checkDesign(
+	input: DesignCheckInput,
+	options: DesignCheckOptions = {}
+): DesignCheckResult {
 	const { module, series, parallel, inverter } = input;
 	const maxParallel = options.maxParallelStrings ?? DEFAULT_MAX_PARALLEL_STRINGS;
 

@@ -29,8 +29,20 @@ export const COLUMNS = [
 ] as const;
 export type FactoryColumn = (typeof COLUMNS)[number];
 
-export const REQUIRED_COLUMNS: readonly FactoryColumn[] = ['serial', 'tested_at', 'capacity_ah', 'dcir_mohm', 'cell_spread_mv', 'insulation_mohm'];
-export const PULSE_COLUMNS = ['pulse_u1_v', 'pulse_i1_a', 'pulse_u2_v', 'pulse_i2_a'] as const satisfies readonly FactoryColumn[];
+export const REQUIRED_COLUMNS: readonly FactoryColumn[] = [
+	'serial',
+	'tested_at',
+	'capacity_ah',
+	'dcir_mohm',
+	'cell_spread_mv',
+	'insulation_mohm'
+];
+export const PULSE_COLUMNS = [
+	'pulse_u1_v',
+	'pulse_i1_a',
+	'pulse_u2_v',
+	'pulse_i2_a'
+] as const satisfies readonly FactoryColumn[];
 
 /**
  * Other names rigs and spreadsheets use, after normalisation (lower case, spaces and
@@ -115,7 +127,9 @@ export function matchHeader(header: string): HeaderMatch {
 		.replace(/[\s\-./]+/g, '_')
 		.replace(/_+/g, '_')
 		.replace(/^_|_$/g, '');
-	const column = (COLUMNS as readonly string[]).includes(key) ? (key as FactoryColumn) : (ALIASES[key] ?? null);
+	const column = (COLUMNS as readonly string[]).includes(key)
+		? (key as FactoryColumn)
+		: (ALIASES[key] ?? null);
 	return { column, unit };
 }
 
@@ -220,7 +234,10 @@ export function parseFactoryCsv(text: string): ParseResult {
 			continue;
 		}
 		if (headerMap[column] !== undefined) {
-			return { ok: false, error: `The columns "${headerMap[column]}" and "${cell}" both mean ${column}; keep one of them.` };
+			return {
+				ok: false,
+				error: `The columns "${headerMap[column]}" and "${cell}" both mean ${column}; keep one of them.`
+			};
 		}
 		const expected = UNITS[column];
 		if (unit !== null && expected && !expected.ok.test(unit)) {
@@ -234,9 +251,13 @@ export function parseFactoryCsv(text: string): ParseResult {
 	}
 
 	const hasPulse = PULSE_COLUMNS.every((c) => headerMap[c] !== undefined);
-	const missing = REQUIRED_COLUMNS.filter((c) => headerMap[c] === undefined && !(c === 'dcir_mohm' && hasPulse));
+	const missing = REQUIRED_COLUMNS.filter(
+		(c) => headerMap[c] === undefined && !(c === 'dcir_mohm' && hasPulse)
+	);
 	if (missing.length > 0) {
-		const names = missing.map((c) => (c === 'dcir_mohm' ? `dcir_mohm (or all four of ${PULSE_COLUMNS.join(', ')})` : c));
+		const names = missing.map((c) =>
+			c === 'dcir_mohm' ? `dcir_mohm (or all four of ${PULSE_COLUMNS.join(', ')})` : c
+		);
 		const found = header.filter((h) => h !== '').map((h) => `"${h}"`);
 		return {
 			ok: false,
@@ -245,7 +266,9 @@ export function parseFactoryCsv(text: string): ParseResult {
 	}
 
 	const columnPositions = Object.entries(positions) as [FactoryColumn, number][];
-	const badQuotes = new Set(parsed.errors.filter((e) => e.code === 'InvalidQuotes').map((e) => e.row));
+	const badQuotes = new Set(
+		parsed.errors.filter((e) => e.code === 'InvalidQuotes').map((e) => e.row)
+	);
 	const rows: ParsedRow[] = [];
 	const rowErrors: RowError[] = [];
 	for (let i = headerIndex + 1; i < records.length; i++) {
@@ -253,13 +276,28 @@ export function parseFactoryCsv(text: string): ParseResult {
 		if (isBlankRecord(record)) continue;
 		const row = i + 1;
 		if (badQuotes.has(i)) {
-			rowErrors.push({ row, column: '', message: 'A quoted value has text after its closing quote; put the whole value in quotes and double any quote inside it ("").' });
+			rowErrors.push({
+				row,
+				column: '',
+				message:
+					'A quoted value has text after its closing quote; put the whole value in quotes and double any quote inside it ("").'
+			});
 			continue;
 		}
 		// Spreadsheets sometimes write trailing empty cells; only non-empty extras are a problem.
-		if (record.length > header.length && !record.slice(header.length).every((c) => c.trim() === '')) {
-			const hint = delimiter === ',' ? ' A decimal comma or an unquoted comma inside a value splits it in two; write numbers with a decimal point.' : ' A semicolon inside a value must be quoted.';
-			rowErrors.push({ row, column: '', message: `This row has ${record.length} values but the header has ${header.length} columns.${hint}` });
+		if (
+			record.length > header.length &&
+			!record.slice(header.length).every((c) => c.trim() === '')
+		) {
+			const hint =
+				delimiter === ','
+					? ' A decimal comma or an unquoted comma inside a value splits it in two; write numbers with a decimal point.'
+					: ' A semicolon inside a value must be quoted.';
+			rowErrors.push({
+				row,
+				column: '',
+				message: `This row has ${record.length} values but the header has ${header.length} columns.${hint}`
+			});
 			continue;
 		}
 		const raw: Partial<Record<FactoryColumn, string>> = {};
@@ -271,7 +309,15 @@ export function parseFactoryCsv(text: string): ParseResult {
 	if (rows.length === 0 && rowErrors.length === 0) {
 		return { ok: false, error: 'The file has a header but no data rows.' };
 	}
-	return { ok: true, delimiter, decimalComma: delimiter === ';', headerMap, ignoredColumns, rows, rowErrors };
+	return {
+		ok: true,
+		delimiter,
+		decimalComma: delimiter === ';',
+		headerMap,
+		ignoredColumns,
+		rows,
+		rowErrors
+	};
 }
 
 /** One validated test record, ready for the register to look its serial up. */
@@ -307,13 +353,34 @@ interface NumberRule {
  * Plausible physical bounds (common practice, not from a standard): wide enough for any
  * module Tidewater builds, narrow enough to catch a wrong unit or a misplaced decimal point.
  */
-const RULES: Record<Exclude<FactoryColumn, 'serial' | 'tested_at' | 'rig' | 'operator'>, NumberRule> = {
+const RULES: Record<
+	Exclude<FactoryColumn, 'serial' | 'tested_at' | 'rig' | 'operator'>,
+	NumberRule
+> = {
 	capacity_ah: { label: 'Capacity', unit: 'Ah', min: 0, minExclusive: true, max: 10_000 },
 	energy_wh: { label: 'Energy', unit: 'Wh', min: 0, minExclusive: true, max: 1_000_000 },
-	dcir_mohm: { label: 'DC internal resistance', unit: 'mΩ', min: 0, minExclusive: true, max: 10_000 },
+	dcir_mohm: {
+		label: 'DC internal resistance',
+		unit: 'mΩ',
+		min: 0,
+		minExclusive: true,
+		max: 10_000
+	},
 	ocv_v: { label: 'Open-circuit voltage', unit: 'V', min: 0, minExclusive: true, max: 1500 },
-	cell_spread_mv: { label: 'Cell voltage spread', unit: 'mV', min: 0, minExclusive: false, max: 5000 },
-	insulation_mohm: { label: 'Insulation resistance', unit: 'MΩ', min: 0, minExclusive: false, max: 1_000_000 },
+	cell_spread_mv: {
+		label: 'Cell voltage spread',
+		unit: 'mV',
+		min: 0,
+		minExclusive: false,
+		max: 5000
+	},
+	insulation_mohm: {
+		label: 'Insulation resistance',
+		unit: 'MΩ',
+		min: 0,
+		minExclusive: false,
+		max: 1_000_000
+	},
 	ambient_c: { label: 'Ambient temperature', unit: '°C', min: -40, minExclusive: false, max: 85 },
 	pulse_u1_v: { label: 'Pulse voltage U1', unit: 'V', min: 0, minExclusive: true, max: 1500 },
 	pulse_i1_a: { label: 'Pulse current I1', unit: 'A', min: 0, minExclusive: false, max: 100_000 },
@@ -327,20 +394,32 @@ const POINT_NUMBER = /^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$/;
 const COMMA_NUMBER = /^[+-]?(\d+(,\d*)?|,\d+)$/;
 
 /** Read a number cell: null when empty, else the number or a message saying what to fix. */
-function readNumber(text: string, rule: NumberRule, decimalComma: boolean): { value: number | null } | { message: string } {
+function readNumber(
+	text: string,
+	rule: NumberRule,
+	decimalComma: boolean
+): { value: number | null } | { message: string } {
 	const s = text.trim();
 	if (s === '') return { value: null };
 	let value: number;
 	if (POINT_NUMBER.test(s)) value = Number(s);
 	else if (decimalComma && COMMA_NUMBER.test(s)) value = Number(s.replace(',', '.'));
 	else if (/^[+-]?\d{1,3}([.,]\d{3})+([.,]\d+)?$/.test(s) && s.includes(',') && s.includes('.')) {
-		return { message: `${rule.label} "${s}" has a thousands separator; write the number without it, e.g. ${s.replace(/[.,](?=\d{3}(\D|$))/g, '')}.` };
+		return {
+			message: `${rule.label} "${s}" has a thousands separator; write the number without it, e.g. ${s.replace(/[.,](?=\d{3}(\D|$))/g, '')}.`
+		};
 	} else if (COMMA_NUMBER.test(s)) {
-		return { message: `${rule.label} "${s}" has a decimal comma; write ${s.replace(',', '.')} (a decimal comma is only read in files separated by semicolons).` };
+		return {
+			message: `${rule.label} "${s}" has a decimal comma; write ${s.replace(',', '.')} (a decimal comma is only read in files separated by semicolons).`
+		};
 	} else if (/^[+-]?[\d.,]+\s*[^\d\s.,]+$/.test(s)) {
-		return { message: `${rule.label} "${s}" has text after the number; write only the number, in ${rule.unit}.` };
+		return {
+			message: `${rule.label} "${s}" has text after the number; write only the number, in ${rule.unit}.`
+		};
 	} else {
-		return { message: `${rule.label} "${s}" is not a number; write the value in ${rule.unit} with digits and a decimal point.` };
+		return {
+			message: `${rule.label} "${s}" is not a number; write the value in ${rule.unit} with digits and a decimal point.`
+		};
 	}
 	const low = rule.minExclusive ? value <= rule.min : value < rule.min;
 	if (low || value > rule.max) {
@@ -357,32 +436,55 @@ export const CLOCK_SKEW_MS = 5 * 60 * 1000;
 /** Earlier times mean a rig whose clock was reset (often to 1970); common practice. */
 const EARLIEST_TEST = Date.UTC(2000, 0, 1);
 
-const ISO_DATE_TIME = /^(\d{4})-(\d{2})-(\d{2})(?:[Tt ](\d{2}):(\d{2})(?::(\d{2})(?:[.,](\d+))?)?)?\s*([Zz]|[+-]\d{2}(?::?\d{2})?)?$/;
+const ISO_DATE_TIME =
+	/^(\d{4})-(\d{2})-(\d{2})(?:[Tt ](\d{2}):(\d{2})(?::(\d{2})(?:[.,](\d+))?)?)?\s*([Zz]|[+-]\d{2}(?::?\d{2})?)?$/;
 
 /**
  * An ISO 8601 date-time with a UTC offset ("2026-03-12T08:15:00Z", "…+01:00"). A time
  * without an offset is refused rather than guessed: the instant decides duplicates and
  * the "not in the future" check, and a rig's local time shifts with daylight saving.
  */
-export function parseTestedAt(text: string): { ok: true; date: Date } | { ok: false; message: string } {
+export function parseTestedAt(
+	text: string
+): { ok: true; date: Date } | { ok: false; message: string } {
 	const s = text.trim();
-	if (s === '') return { ok: false, message: 'Tested at is empty; enter the date and time of the test in ISO 8601, e.g. 2026-03-12T08:15:00Z.' };
+	if (s === '')
+		return {
+			ok: false,
+			message:
+				'Tested at is empty; enter the date and time of the test in ISO 8601, e.g. 2026-03-12T08:15:00Z.'
+		};
 	const local = /^(\d{1,2})[./-](\d{1,2})[./-](\d{4})(.*)$/.exec(s);
 	if (local) {
 		const [a, b, y] = [Number(local[1]), Number(local[2]), local[3]];
-		const iso = (month: number, day: number) => `${y}-${String(month).padStart(2, '0')}-${String(day).padStart(2, '0')}T08:15:00Z`;
+		const iso = (month: number, day: number) =>
+			`${y}-${String(month).padStart(2, '0')}-${String(day).padStart(2, '0')}T08:15:00Z`;
 		let example: string;
 		if (a > 12) example = iso(b, a);
 		else if (b > 12) example = iso(a, b);
 		else example = `${iso(b, a)} (if ${a} is the day) or ${iso(a, b)} (if ${a} is the month)`;
-		return { ok: false, message: `Tested at "${s}" is not an ISO 8601 date; write the year first, with the time and UTC offset, e.g. ${example}.` };
+		return {
+			ok: false,
+			message: `Tested at "${s}" is not an ISO 8601 date; write the year first, with the time and UTC offset, e.g. ${example}.`
+		};
 	}
 	const m = ISO_DATE_TIME.exec(s);
-	if (!m) return { ok: false, message: `Tested at "${s}" is not an ISO 8601 date-time; write it like 2026-03-12T08:15:00Z.` };
+	if (!m)
+		return {
+			ok: false,
+			message: `Tested at "${s}" is not an ISO 8601 date-time; write it like 2026-03-12T08:15:00Z.`
+		};
 	const [, ys, mos, ds, hs, mis, ss, frac, offset] = m;
-	if (hs === undefined) return { ok: false, message: `Tested at "${s}" has a date but no time; add the time and UTC offset, e.g. ${ys}-${mos}-${ds}T08:15:00Z.` };
+	if (hs === undefined)
+		return {
+			ok: false,
+			message: `Tested at "${s}" has a date but no time; add the time and UTC offset, e.g. ${ys}-${mos}-${ds}T08:15:00Z.`
+		};
 	if (offset === undefined) {
-		return { ok: false, message: `Tested at "${s}" has no UTC offset, so the instant is ambiguous; add Z for UTC or the rig's offset, e.g. ${s.replace(' ', 'T')}+01:00.` };
+		return {
+			ok: false,
+			message: `Tested at "${s}" has no UTC offset, so the instant is ambiguous; add Z for UTC or the rig's offset, e.g. ${s.replace(' ', 'T')}+01:00.`
+		};
 	}
 	const [y, mo, d, h, mi, sec] = [ys, mos, ds, hs, mis, ss ?? '0'].map(Number);
 	const daysInMonth = new Date(Date.UTC(y, mo, 0)).getUTCDate();
@@ -391,11 +493,15 @@ export function parseTestedAt(text: string): { ok: true; date: Date } | { ok: fa
 		const digits = offset.slice(1).replace(':', '');
 		const oh = Number(digits.slice(0, 2));
 		const om = Number(digits.slice(2) || '0');
-		if (oh > 23 || om > 59) return { ok: false, message: `Tested at "${s}" has an impossible UTC offset ${offset}.` };
+		if (oh > 23 || om > 59)
+			return { ok: false, message: `Tested at "${s}" has an impossible UTC offset ${offset}.` };
 		offsetMin = (offset[0] === '-' ? -1 : 1) * (oh * 60 + om);
 	}
 	if (mo < 1 || mo > 12 || d < 1 || d > daysInMonth || h > 23 || mi > 59 || sec > 59) {
-		return { ok: false, message: `Tested at "${s}" is not a real date and time; check the month, day and hour.` };
+		return {
+			ok: false,
+			message: `Tested at "${s}" is not a real date and time; check the month, day and hour.`
+		};
 	}
 	const ms = frac ? Math.round(Number(`0.${frac}`) * 1000) : 0;
 	return { ok: true, date: new Date(Date.UTC(y, mo - 1, d, h, mi, sec, ms) - offsetMin * 60_000) };
@@ -413,7 +519,8 @@ export function validateRowValues(
 	options: { decimalComma?: boolean } = {}
 ): RowValidation {
 	const errors: RowError[] = [];
-	const fail = (column: string, message: string) => errors.push({ row: rowNumber, column, message });
+	const fail = (column: string, message: string) =>
+		errors.push({ row: rowNumber, column, message });
 	const cell = (c: FactoryColumn) => (raw[c] ?? '').trim();
 	const num = (c: NumberColumn, required: boolean): number | null => {
 		const r = readNumber(cell(c), RULES[c], options.decimalComma ?? false);
@@ -421,21 +528,30 @@ export function validateRowValues(
 			fail(c, r.message);
 			return null;
 		}
-		if (r.value === null && required) fail(c, `${RULES[c].label} is empty; enter the measured value in ${RULES[c].unit}.`);
+		if (r.value === null && required)
+			fail(c, `${RULES[c].label} is empty; enter the measured value in ${RULES[c].unit}.`);
 		return r.value;
 	};
 
 	const serial = cell('serial');
-	if (serial === '') fail('serial', 'Serial is empty; every row needs the serial number of the module tested.');
-	else if (/[\u0000-\u001f\u007f]/.test(serial)) fail('serial', `Serial "${serial}" contains control characters; retype it.`);
+	if (serial === '')
+		fail('serial', 'Serial is empty; every row needs the serial number of the module tested.');
+	else if (/[\u0000-\u001f\u007f]/.test(serial))
+		fail('serial', `Serial "${serial}" contains control characters; retype it.`);
 
 	let testedAt: Date | null = null;
 	const t = parseTestedAt(cell('tested_at'));
 	if (!t.ok) fail('tested_at', t.message);
 	else if (t.date.getTime() > now.getTime() + CLOCK_SKEW_MS) {
-		fail('tested_at', `Tested at ${t.date.toISOString()} is in the future (the import ran at ${now.toISOString()}); check the rig's clock and time zone.`);
+		fail(
+			'tested_at',
+			`Tested at ${t.date.toISOString()} is in the future (the import ran at ${now.toISOString()}); check the rig's clock and time zone.`
+		);
 	} else if (t.date.getTime() < EARLIEST_TEST) {
-		fail('tested_at', `Tested at ${t.date.toISOString()} is before the year 2000; the rig's clock was probably reset. Correct the date.`);
+		fail(
+			'tested_at',
+			`Tested at ${t.date.toISOString()} is before the year 2000; the rig's clock was probably reset. Correct the date.`
+		);
 	} else testedAt = t.date;
 
 	const capacityAh = num('capacity_ah', true);
@@ -458,28 +574,56 @@ export function validateRowValues(
 			try {
 				const r = dcirTwoPulse(pulse);
 				const checked = readNumber(String(r), RULES.dcir_mohm, false);
-				if ('message' in checked) fail('dcir_mohm', `Computed from the pulse columns: ${checked.message}`);
+				if ('message' in checked)
+					fail('dcir_mohm', `Computed from the pulse columns: ${checked.message}`);
 				else {
 					dcirMohm = r;
 					dcirSource = 'two_pulse';
 				}
 			} catch (e) {
 				if (!(e instanceof RangeError)) throw e;
-				fail('dcir_mohm', `DC internal resistance cannot be computed from the pulse columns: ${e.message}.`);
+				fail(
+					'dcir_mohm',
+					`DC internal resistance cannot be computed from the pulse columns: ${e.message}.`
+				);
 			}
 		}
 	} else {
-		fail('dcir_mohm', `DC internal resistance is empty; enter it in mΩ, or fill the four pulse columns (${PULSE_COLUMNS.join(', ')}).`);
+		fail(
+			'dcir_mohm',
+			`DC internal resistance is empty; enter it in mΩ, or fill the four pulse columns (${PULSE_COLUMNS.join(', ')}).`
+		);
 	}
 
 	const rig = cell('rig') || null;
 	const operator = cell('operator') || null;
-	if (errors.length > 0 || testedAt === null || capacityAh === null || dcirMohm === null || cellSpreadMv === null || insulationMohm === null) {
+	if (
+		errors.length > 0 ||
+		testedAt === null ||
+		capacityAh === null ||
+		dcirMohm === null ||
+		cellSpreadMv === null ||
+		insulationMohm === null
+	) {
 		return { ok: false, errors };
 	}
 	return {
 		ok: true,
-		value: { serial, testedAt, capacityAh, energyWh, dcirMohm, dcirSource, ocvV, cellSpreadMv, insulationMohm, ambientC, rig, operator, pulse }
+		value: {
+			serial,
+			testedAt,
+			capacityAh,
+			energyWh,
+			dcirMohm,
+			dcirSource,
+			ocvV,
+			cellSpreadMv,
+			insulationMohm,
+			ambientC,
+			rig,
+			operator,
+			pulse
+		}
 	};
 }
 
@@ -528,14 +672,24 @@ export function validateFactoryCsv(text: string, now: Date): FileValidation {
 		const key = rowKey(v.value);
 		const first = seen.get(key);
 		if (first !== undefined) {
-			errors.push({ row: p.row, column: shown('serial'), message: `Same serial, test time and rig as row ${first}; remove the duplicate row.` });
+			errors.push({
+				row: p.row,
+				column: shown('serial'),
+				message: `Same serial, test time and rig as row ${first}; remove the duplicate row.`
+			});
 			continue;
 		}
 		seen.set(key, p.row);
 		rows.push({ row: p.row, value: v.value });
 	}
 	errors.sort((a, b) => a.row - b.row);
-	return { ok: true, headerMap: parsed.headerMap, ignoredColumns: parsed.ignoredColumns, rows, errors };
+	return {
+		ok: true,
+		headerMap: parsed.headerMap,
+		ignoredColumns: parsed.ignoredColumns,
+		rows,
+		errors
+	};
 }
 
 /**
@@ -561,5 +715,5 @@ export function toErrorReportCsv(errors: RowError[], options: { bom?: boolean } 
 		{ newline: '\r\n' }
 	);
 	// Papa Parse ends the text with a line break only when there are no data rows.
-	return (options.bom ?? true ? '\uFEFF' : '') + csv.replace(/\r\n$/, '') + '\r\n';
+	return ((options.bom ?? true) ? '\uFEFF' : '') + csv.replace(/\r\n$/, '') + '\r\n';
 }

@@ -38,7 +38,9 @@ export function dcirTwoPulse({ u1V, i1A, u2V, i2A }: TwoPulseReading): number {
 		if (!Number.isFinite(v)) throw new RangeError(`${name} must be a number; got ${v}`);
 	}
 	if (!(i2A > i1A)) {
-		throw new RangeError(`The second pulse current I2 (${i2A} A) must be higher than the first, I1 (${i1A} A)`);
+		throw new RangeError(
+			`The second pulse current I2 (${i2A} A) must be higher than the first, I1 (${i1A} A)`
+		);
 	}
 	if (u2V > u1V) {
 		throw new RangeError(
@@ -86,10 +88,42 @@ interface CheckSpec {
 }
 
 const CHECKS: CheckSpec[] = [
-	{ check: 'capacity', label: 'Capacity', unit: 'Ah', kind: 'min', decimals: 1, value: (r) => r.capacityAh, limit: (l) => l.minCapacityAh },
-	{ check: 'dcir', label: 'DC internal resistance', unit: 'mΩ', kind: 'max', decimals: 1, value: (r) => r.dcirMohm, limit: (l) => l.maxDcirMohm },
-	{ check: 'cell_spread', label: 'Cell voltage spread', unit: 'mV', kind: 'max', decimals: 0, value: (r) => r.cellSpreadMv, limit: (l) => l.maxCellSpreadMv },
-	{ check: 'insulation', label: 'Insulation resistance', unit: 'MΩ', kind: 'min', decimals: 1, value: (r) => r.insulationMohm, limit: (l) => l.minInsulationMohm }
+	{
+		check: 'capacity',
+		label: 'Capacity',
+		unit: 'Ah',
+		kind: 'min',
+		decimals: 1,
+		value: (r) => r.capacityAh,
+		limit: (l) => l.minCapacityAh
+	},
+	{
+		check: 'dcir',
+		label: 'DC internal resistance',
+		unit: 'mΩ',
+		kind: 'max',
+		decimals: 1,
+		value: (r) => r.dcirMohm,
+		limit: (l) => l.maxDcirMohm
+	},
+	{
+		check: 'cell_spread',
+		label: 'Cell voltage spread',
+		unit: 'mV',
+		kind: 'max',
+		decimals: 0,
+		value: (r) => r.cellSpreadMv,
+		limit: (l) => l.maxCellSpreadMv
+	},
+	{
+		check: 'insulation',
+		label: 'Insulation resistance',
+		unit: 'MΩ',
+		kind: 'min',
+		decimals: 1,
+		value: (r) => r.insulationMohm,
+		limit: (l) => l.minInsulationMohm
+	}
 ];
 
 /**
@@ -114,13 +148,21 @@ function exactAt(x: number, d: number): boolean {
  * passes (minimums and maximums are inclusive). A value that is missing or not a
  * number fails, so a broken import can never pass a module.
  */
-export function evaluateResult<T extends MeasuredValues>(result: T, limits: TestLimits): TestVerdict {
+export function evaluateResult<T extends MeasuredValues>(
+	result: T,
+	limits: TestLimits
+): TestVerdict {
 	const failures: TestFailure[] = [];
 	for (const c of CHECKS) {
 		const value = c.value(result);
 		const limit = c.limit(limits);
 		if (!Number.isFinite(value)) {
-			failures.push({ check: c.check, value, limit, message: `${c.label} is missing or not a number` });
+			failures.push({
+				check: c.check,
+				value,
+				limit,
+				message: `${c.label} is missing or not a number`
+			});
 			continue;
 		}
 		const ok = c.kind === 'min' ? value >= limit : value <= limit;

@@ -108,7 +108,10 @@ export function buildDigitalLink(baseUrl: string, gtin: string, serial: string):
 const GTIN_CODES = new Set(['01', 'gtin']);
 const SERIAL_CODES = new Set(['21', 'ser']);
 /** Qualifiers the grammar allows between the GTIN and the serial, in this order: 22, then 10. */
-const QUALIFIER_ORDER: ReadonlyArray<ReadonlySet<string>> = [new Set(['22', 'cpv']), new Set(['10', 'lot'])];
+const QUALIFIER_ORDER: ReadonlyArray<ReadonlySet<string>> = [
+	new Set(['22', 'cpv']),
+	new Set(['10', 'lot'])
+];
 
 function decodeSegment(segment: string): string | null {
 	try {

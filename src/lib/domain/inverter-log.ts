@@ -64,7 +64,8 @@ function energyUnitOf(h: string): 'Wh' | 'kWh' | null {
 	return null;
 }
 
-const isDischarge = (n: string) => /dis ?ch(ar)?g|discharge|\bdchg\b|\bbat(tery)? out\b|\bexport/.test(n);
+const isDischarge = (n: string) =>
+	/dis ?ch(ar)?g|discharge|\bdchg\b|\bbat(tery)? out\b|\bexport/.test(n);
 const isCharge = (n: string) => !isDischarge(n) && /\bch(ar)?g|\bcharge|\bbat(tery)? in\b/.test(n);
 const isEnergy = (n: string) => /energy|kwh|\bwh\b|\be\b/.test(n) || /wh\b/.test(n);
 
@@ -88,7 +89,8 @@ export function detectColumns(headers: string[]): ColumnGuess {
 				const key = unit === 'kWh' ? 'dischargeEnergyKWh' : 'dischargeEnergyWh';
 				if (!guess.dischargeEnergyKWh && !guess.dischargeEnergyWh) {
 					guess[key] = h;
-					if (/\b(total|cumulative|lifetime|counter|acc|accumulated|today|daily|day)\b/.test(n)) guess.energyKind = 'cumulative';
+					if (/\b(total|cumulative|lifetime|counter|acc|accumulated|today|daily|day)\b/.test(n))
+						guess.energyKind = 'cumulative';
 					else if (/\b(interval|delta|period)\b/.test(n)) guess.energyKind = 'interval';
 				}
 				continue;
@@ -100,7 +102,12 @@ export function detectColumns(headers: string[]): ColumnGuess {
 			}
 		}
 		const compact = n.replace(/ /g, '');
-		if (/temp/.test(compact) && /cell|bat|module|bms|pack/.test(compact) && !/inverter|inv|ambient|heatsink|igbt|pcb|mosfet|\bmos\b/.test(n) && !/degf|fahrenheit/.test(compact)) {
+		if (
+			/temp/.test(compact) &&
+			/cell|bat|module|bms|pack/.test(compact) &&
+			!/inverter|inv|ambient|heatsink|igbt|pcb|mosfet|\bmos\b/.test(n) &&
+			!/degf|fahrenheit/.test(compact)
+		) {
 			if (/max|highest|peak/.test(compact)) guess.maxCellTempC ??= h;
 			else if (!/min|lowest/.test(compact)) guess.cellTempC ??= h;
 		}
@@ -120,7 +127,10 @@ function readNumber(raw: string | undefined): number | null {
 const ISO_LIKE = /^\d{4}-\d{2}-\d{2}([ T]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?$/;
 
 class ProblemList {
-	private kinds = new Map<string, { listed: string[]; more: number; tail: (n: number) => string }>();
+	private kinds = new Map<
+		string,
+		{ listed: string[]; more: number; tail: (n: number) => string }
+	>();
 	add(kind: string, text: string, tail: (n: number) => string) {
 		let k = this.kinds.get(kind);
 		if (!k) this.kinds.set(kind, (k = { listed: [], more: 0, tail }));
@@ -153,7 +163,10 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 	const headers = (table[0] ?? []).map((h) => h.trim());
 	const columnIndex = (name: string, role: string) => {
 		const i = headers.indexOf(name.trim());
-		if (i < 0) throw new InverterLogError(`The ${role} column "${name}" is not in the file. Columns found: ${headers.map((h) => `"${h}"`).join(', ')}.`);
+		if (i < 0)
+			throw new InverterLogError(
+				`The ${role} column "${name}" is not in the file. Columns found: ${headers.map((h) => `"${h}"`).join(', ')}.`
+			);
 		return i;
 	};
 	const tsCol = columnIndex(mapping.timestampColumn, 'timestamp');
@@ -163,7 +176,12 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 
 	const problems = new ProblemList();
 	for (const e of parsed.errors) {
-		if (e.code === 'UndetectableDelimiter' || e.code === 'TooFewFields' || e.code === 'TooManyFields') continue;
+		if (
+			e.code === 'UndetectableDelimiter' ||
+			e.code === 'TooFewFields' ||
+			e.code === 'TooManyFields'
+		)
+			continue;
 		const where = typeof e.row === 'number' ? `Row ${e.row + 1}` : 'The file';
 		problems.add('csv', `${where}: ${e.message}.`, (n) => `… and ${n} more CSV syntax problems.`);
 	}
@@ -187,13 +205,22 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 		const rowNo = i + 1;
 
 		const ts = (cells[tsCol] ?? '').trim();
-		if (ts === '') problems.add('ts', `Row ${rowNo}: no timestamp.`, (n) => `… and ${n} more rows without a timestamp.`);
+		if (ts === '')
+			problems.add(
+				'ts',
+				`Row ${rowNo}: no timestamp.`,
+				(n) => `… and ${n} more rows without a timestamp.`
+			);
 		else {
 			firstAt ??= ts;
 			lastAt = ts;
 			if (ISO_LIKE.test(ts)) {
 				if (previousIso !== null && ts.replace('T', ' ') < previousIso.replace('T', ' '))
-					problems.add('order', `Row ${rowNo}: ${ts} is earlier than the row before; cumulative throughput assumes the rows are in time order.`, (n) => `… and ${n} more rows out of time order.`);
+					problems.add(
+						'order',
+						`Row ${rowNo}: ${ts} is earlier than the row before; cumulative throughput assumes the rows are in time order.`,
+						(n) => `… and ${n} more rows out of time order.`
+					);
 				previousIso = ts;
 			}
 		}
@@ -204,11 +231,18 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 			const shown = (raw ?? '').trim();
 			problems.add(
 				'energy',
-				shown === '' ? `Row ${rowNo}: no energy value.` : `Row ${rowNo}: energy value "${shown}" is not a number.`,
+				shown === ''
+					? `Row ${rowNo}: no energy value.`
+					: `Row ${rowNo}: energy value "${shown}" is not a number.`,
 				(n) => `… and ${n} more rows with a missing or non-numeric energy value.`
 			);
 		} else if (mapping.energyKind === 'interval') {
-			if (value < 0) problems.add('negative', `Row ${rowNo}: negative interval energy ${raw?.trim()} ${mapping.energyUnit} was left out.`, (n) => `… and ${n} more negative interval values left out.`);
+			if (value < 0)
+				problems.add(
+					'negative',
+					`Row ${rowNo}: negative interval energy ${raw?.trim()} ${mapping.energyUnit} was left out.`,
+					(n) => `… and ${n} more negative interval values left out.`
+				);
 			else {
 				total += value * scale;
 				energyRows++;
@@ -233,7 +267,11 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 			const t = readNumber(rawT);
 			if (t === null) {
 				if ((rawT ?? '').trim() !== '')
-					problems.add('temp', `Row ${rowNo}: temperature "${rawT?.trim()}" is not a number.`, (n) => `… and ${n} more rows with a non-numeric temperature.`);
+					problems.add(
+						'temp',
+						`Row ${rowNo}: temperature "${rawT?.trim()}" is not a number.`,
+						(n) => `… and ${n} more rows with a non-numeric temperature.`
+					);
 			} else {
 				tempSum += t;
 				tempCount++;
@@ -243,12 +281,18 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 	}
 
 	if (rows === 0) throw new InverterLogError('The file has a header row but no data rows.');
-	if (mapping.energyKind === 'cumulative' && segmentStart !== null && last !== null) total += (last - segmentStart) * scale;
+	if (mapping.energyKind === 'cumulative' && segmentStart !== null && last !== null)
+		total += (last - segmentStart) * scale;
 
 	const out = problems.toArray();
-	if (mapping.energyKind === 'cumulative' && energyRows === 1) out.push('Only one energy reading: a cumulative counter needs two to show any throughput.');
-	if (energyRows === 0) out.push(`No row has a usable value in "${mapping.energyColumn}", so the throughput is unknown.`);
-	if (tCol !== null && tempCount === 0) out.push(`No row has a usable temperature in "${mapping.tempColumn}".`);
+	if (mapping.energyKind === 'cumulative' && energyRows === 1)
+		out.push('Only one energy reading: a cumulative counter needs two to show any throughput.');
+	if (energyRows === 0)
+		out.push(
+			`No row has a usable value in "${mapping.energyColumn}", so the throughput is unknown.`
+		);
+	if (tCol !== null && tempCount === 0)
+		out.push(`No row has a usable temperature in "${mapping.tempColumn}".`);
 
 	return {
 		rows,

@@ -13,7 +13,12 @@ declare module 'jstat' {
 	interface JStatStatic {
 		studentt: JStatStudentT;
 		/** Hyndman–Fan family in SciPy's (alphap, betap) form; the default 3/8, 3/8 is type 9, 1, 1 is type 7. */
-		quantiles(arr: readonly number[], quantiles: readonly number[], alphap?: number, betap?: number): number[];
+		quantiles(
+			arr: readonly number[],
+			quantiles: readonly number[],
+			alphap?: number,
+			betap?: number
+		): number[];
 		percentile(arr: readonly number[], k: number, exclusive?: boolean): number;
 		mean(arr: readonly number[]): number;
 		stdev(arr: readonly number[], flag?: boolean): number;

@@ -67,7 +67,18 @@ export function currentForCRate(cRate: number, ratedAh: number): number {
 }
 
 /** Derived figures of a model, computed once here instead of typed in twice. */
-export function deriveFigures(m: Pick<ModelSpec, 'cellsSeries' | 'cellMinV' | 'cellNominalV' | 'cellMaxV' | 'ratedAh' | 'maxContinuousC' | 'burstC'>): DerivedFigures {
+export function deriveFigures(
+	m: Pick<
+		ModelSpec,
+		| 'cellsSeries'
+		| 'cellMinV'
+		| 'cellNominalV'
+		| 'cellMaxV'
+		| 'ratedAh'
+		| 'maxContinuousC'
+		| 'burstC'
+	>
+): DerivedFigures {
 	const nominalV = m.cellsSeries * m.cellNominalV;
 	return {
 		nominalV: round(nominalV),

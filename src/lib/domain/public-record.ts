@@ -25,12 +25,21 @@ export interface PublicRecord {
 		originalPowerCapabilityW: { continuous: number; burst: number; burstSeconds: number };
 		temperatureRangeC: { charge: [number, number]; discharge: [number, number] };
 		massKg: number;
-		expectedLifetime: { equivalentFullCycles: number; atTemperatureC: number; endRetentionPct: number };
+		expectedLifetime: {
+			equivalentFullCycles: number;
+			atTemperatureC: number;
+			endRetentionPct: number;
+		};
 		commercialWarrantyYears: number;
 	};
 	buildMonth: string | null;
 	status: PassportStatus;
-	warranty: { state: 'not-started' | 'active' | 'ended'; startsOn: string | null; endsOn: string | null; note: string };
+	warranty: {
+		state: 'not-started' | 'active' | 'ended';
+		startsOn: string | null;
+		endsOn: string | null;
+		note: string;
+	};
 	contact: { name: string; email: string | null; kind: 'dealer' | 'assembler' };
 }
 
@@ -55,10 +64,23 @@ interface WarrantyTermsColumns {
 export function toPublicRecord(i: PublicRecordInput): PublicRecord {
 	const f = deriveFigures(i.model);
 	const warranty: PublicRecord['warranty'] = !i.warranty
-		? { state: 'not-started', startsOn: null, endsOn: null, note: 'The warranty starts when the system is commissioned.' }
+		? {
+				state: 'not-started',
+				startsOn: null,
+				endsOn: null,
+				note: 'The warranty starts when the system is commissioned.'
+			}
 		: i.today <= i.warranty.endsOn
-			? { state: 'active', ...i.warranty, note: `Under warranty until ${i.warranty.endsOn}, subject to its terms.` }
-			: { state: 'ended', ...i.warranty, note: `The warranty period ended on ${i.warranty.endsOn}.` };
+			? {
+					state: 'active',
+					...i.warranty,
+					note: `Under warranty until ${i.warranty.endsOn}, subject to its terms.`
+				}
+			: {
+					state: 'ended',
+					...i.warranty,
+					note: `The warranty period ended on ${i.warranty.endsOn}.`
+				};
 	return {
 		identifier: i.serial,
 		manufacturer: { name: i.assembler.name, contact: i.assembler.email },
@@ -76,15 +98,24 @@ export function toPublicRecord(i: PublicRecordInput): PublicRecord {
 				burst: Math.round(f.burstA * f.nominalV),
 				burstSeconds: i.model.burstSeconds
 			},
-			temperatureRangeC: { charge: [i.model.chargeTempMinC, i.model.chargeTempMaxC], discharge: [i.model.dischargeTempMinC, i.model.dischargeTempMaxC] },
+			temperatureRangeC: {
+				charge: [i.model.chargeTempMinC, i.model.chargeTempMaxC],
+				discharge: [i.model.dischargeTempMinC, i.model.dischargeTempMaxC]
+			},
 			massKg: i.model.massKg,
-			expectedLifetime: { equivalentFullCycles: i.model.ratedCycles, atTemperatureC: i.model.referenceTempC, endRetentionPct: i.model.endRetentionPct },
+			expectedLifetime: {
+				equivalentFullCycles: i.model.ratedCycles,
+				atTemperatureC: i.model.referenceTempC,
+				endRetentionPct: i.model.endRetentionPct
+			},
 			commercialWarrantyYears: i.model.warrantyYears
 		},
 		buildMonth: i.builtAt ? i.builtAt.toISOString().slice(0, 7) : null,
 		status: i.state === 'scrapped' ? 'waste' : 'original',
 		warranty,
-		contact: i.dealer ? { ...i.dealer, kind: 'dealer' } : { name: i.assembler.name, email: i.assembler.email, kind: 'assembler' }
+		contact: i.dealer
+			? { ...i.dealer, kind: 'dealer' }
+			: { name: i.assembler.name, email: i.assembler.email, kind: 'assembler' }
 	};
 }
 

@@ -3,13 +3,19 @@
  * test and histogram bins. Formulas from the NIST/SEMATECH e-Handbook of Statistical
  * Methods (section numbers beside each). Pure functions; drawing is elsewhere.
  */
-import { mean as ssMean, sampleStandardDeviation, min as ssMin, max as ssMax } from 'simple-statistics';
+import {
+	mean as ssMean,
+	sampleStandardDeviation,
+	min as ssMin,
+	max as ssMax
+} from 'simple-statistics';
 import jStat from 'jstat';
 
 function assertValues(values: readonly number[], what: string): void {
 	if (values.length === 0) throw new RangeError(`${what} needs at least one value`);
 	const bad = values.findIndex((v) => !Number.isFinite(v));
-	if (bad >= 0) throw new RangeError(`${what}: value at index ${bad} is not a finite number (${values[bad]})`);
+	if (bad >= 0)
+		throw new RangeError(`${what}: value at index ${bad} is not a finite number (${values[bad]})`);
 }
 
 export interface Description {
@@ -53,14 +59,26 @@ export interface Capability {
  * "performance" indices Pp/Ppk of the AIAG manuals (from memory); the workshop reads
  * them the same way.
  */
-export function capability({ mean, sd }: { mean: number; sd: number | null }, { lsl, usl }: { lsl?: number | null; usl?: number | null }): Capability {
-	const none = (reason: string): Capability => ({ cp: null, cpk: null, cpu: null, cpl: null, reason });
+export function capability(
+	{ mean, sd }: { mean: number; sd: number | null },
+	{ lsl, usl }: { lsl?: number | null; usl?: number | null }
+): Capability {
+	const none = (reason: string): Capability => ({
+		cp: null,
+		cpk: null,
+		cpu: null,
+		cpl: null,
+		reason
+	});
 	const hasL = lsl !== undefined && lsl !== null;
 	const hasU = usl !== undefined && usl !== null;
 	if (!hasL && !hasU) return none('No specification limit is set.');
-	if (hasL && hasU && !(usl > lsl)) return none(`The upper limit (${usl}) must be above the lower limit (${lsl}).`);
-	if (sd === null || !Number.isFinite(sd)) return none('The standard deviation is unknown (fewer than two values).');
-	if (sd <= 0) return none('The standard deviation is zero (all values equal), so capability is undefined.');
+	if (hasL && hasU && !(usl > lsl))
+		return none(`The upper limit (${usl}) must be above the lower limit (${lsl}).`);
+	if (sd === null || !Number.isFinite(sd))
+		return none('The standard deviation is unknown (fewer than two values).');
+	if (sd <= 0)
+		return none('The standard deviation is zero (all values equal), so capability is undefined.');
 	const cpu = hasU ? (usl - mean) / (3 * sd) : null;
 	const cpl = hasL ? (mean - lsl) / (3 * sd) : null;
 	const cp = hasL && hasU ? (usl - lsl) / (6 * sd) : null;
@@ -168,11 +186,19 @@ const GRUBBS_MIN_N = 7;
  * NIST warns that repetition changes the detection probabilities and points to the
  * generalised ESD test for several outliers (from memory).
  */
-export function grubbs(values: readonly number[], alpha = 0.05, options: { maxOutliers?: number } = {}): GrubbsResult {
+export function grubbs(
+	values: readonly number[],
+	alpha = 0.05,
+	options: { maxOutliers?: number } = {}
+): GrubbsResult {
 	assertValues(values, 'grubbs');
-	if (!(alpha > 0 && alpha < 1)) throw new RangeError(`alpha must be between 0 and 1; got ${alpha}`);
+	if (!(alpha > 0 && alpha < 1))
+		throw new RangeError(`alpha must be between 0 and 1; got ${alpha}`);
 	if (values.length < GRUBBS_MIN_N) {
-		return { applicable: false, reason: `Grubbs' test needs at least ${GRUBBS_MIN_N} values; there are ${values.length}.` };
+		return {
+			applicable: false,
+			reason: `Grubbs' test needs at least ${GRUBBS_MIN_N} values; there are ${values.length}.`
+		};
 	}
 	const maxOutliers = options.maxOutliers ?? 1;
 	let remaining = values.map((value, index) => ({ value, index }));
@@ -183,7 +209,8 @@ export function grubbs(values: readonly number[], alpha = 0.05, options: { maxOu
 		const mean = ssMean(xs);
 		const sd = sampleStandardDeviation(xs);
 		if (sd === 0) {
-			if (steps.length === 0) return { applicable: false, reason: 'All values are equal, so no value stands out.' };
+			if (steps.length === 0)
+				return { applicable: false, reason: 'All values are equal, so no value stands out.' };
 			break;
 		}
 		let k = 0;
@@ -233,13 +260,27 @@ export interface Histogram {
  * resists outliers; when IQR is 0 the count by Sturges (1926), k = ⌈log₂ n⌉ + 1. A
  * `bins` option fixes the count. Never more than MAX_BINS.
  */
-export function histogram(values: readonly number[], opts: { bins?: number; lsl?: number | null; usl?: number | null } = {}): Histogram {
+export function histogram(
+	values: readonly number[],
+	opts: { bins?: number; lsl?: number | null; usl?: number | null } = {}
+): Histogram {
 	const lsl = opts.lsl ?? null;
 	const usl = opts.usl ?? null;
 	const limits = [lsl, usl].filter((x): x is number => x !== null);
 	if (values.length === 0) {
-		const domain: [number, number] = limits.length ? [Math.min(...limits), Math.max(...limits)] : [0, 1];
-		return { rule: 'fixed', edges: [], counts: [], binWidth: 0, n: 0, belowLsl: lsl === null ? null : 0, aboveUsl: usl === null ? null : 0, domain };
+		const domain: [number, number] = limits.length
+			? [Math.min(...limits), Math.max(...limits)]
+			: [0, 1];
+		return {
+			rule: 'fixed',
+			edges: [],
+			counts: [],
+			binWidth: 0,
+			n: 0,
+			belowLsl: lsl === null ? null : 0,
+			aboveUsl: usl === null ? null : 0,
+			domain
+		};
 	}
 	assertValues(values, 'histogram');
 	const sorted = [...values].sort((a, b) => a - b);

@@ -42,7 +42,9 @@ export function iso7064Mod3736CheckChar(s: string): string {
 	for (const ch of s) {
 		const a = ALPHABET.indexOf(ch);
 		if (a < 0) {
-			throw new SerialError(`"${ch}" cannot be checked with ISO/IEC 7064 MOD 37,36; only 0-9 and A-Z can.`);
+			throw new SerialError(
+				`"${ch}" cannot be checked with ISO/IEC 7064 MOD 37,36; only 0-9 and A-Z can.`
+			);
 		}
 		const sum = (p + a) % M || M;
 		p = (2 * sum) % (M + 1);
@@ -65,10 +67,14 @@ export interface SerialParts {
 
 function checkParts({ variant, year, number }: SerialParts): void {
 	if (!/^[0-9A-Z]{1,4}$/.test(variant)) {
-		throw new SerialError(`Variant "${variant}" must be 1–4 upper-case letters or digits, e.g. "48".`);
+		throw new SerialError(
+			`Variant "${variant}" must be 1–4 upper-case letters or digits, e.g. "48".`
+		);
 	}
 	if (!Number.isInteger(year) || year < 2000 || year > 2099) {
-		throw new SerialError(`Build year ${year} must be a whole year from 2000 to 2099 (serials carry only its last two digits).`);
+		throw new SerialError(
+			`Build year ${year} must be a whole year from 2000 to 2099 (serials carry only its last two digits).`
+		);
 	}
 	if (!Number.isInteger(number) || number < 1 || number > MAX_NUMBER) {
 		throw new SerialError(`Running number ${number} must be a whole number from 1 to 999999.`);
@@ -88,7 +94,12 @@ export function formatSerial(parts: SerialParts): string {
 }
 
 /** Consecutive serials from firstNumber, for printing a batch of labels. */
-export function serialRun(variant: string, year: number, firstNumber: number, count: number): string[] {
+export function serialRun(
+	variant: string,
+	year: number,
+	firstNumber: number,
+	count: number
+): string[] {
 	if (!Number.isInteger(count) || count < 0) {
 		throw new SerialError(`A run needs a whole, non-negative count of serials, not ${count}.`);
 	}
@@ -100,7 +111,9 @@ export function serialRun(variant: string, year: number, firstNumber: number, co
 			`A run of ${count} from ${firstNumber} would end at ${last}; running numbers stop at 999999.`
 		);
 	}
-	return Array.from({ length: count }, (_, i) => formatSerial({ variant, year, number: firstNumber + i }));
+	return Array.from({ length: count }, (_, i) =>
+		formatSerial({ variant, year, number: firstNumber + i })
+	);
 }
 
 export type ParsedSerial =
@@ -125,7 +138,13 @@ export function parseSerial(text: string): ParsedSerial {
 	}
 	const number = Number(digits);
 	if (number === 0) return { ok: false, reason: 'running number 000000 is never issued' };
-	return { ok: true, serial: assemble(variant, year2, digits), variant, year2: Number(year2), number };
+	return {
+		ok: true,
+		serial: assemble(variant, year2, digits),
+		variant,
+		year2: Number(year2),
+		number
+	};
 }
 
 export type ScanResult =
@@ -178,7 +197,10 @@ export function extractSerialFromScan(scanText: string, baseUrl?: string): ScanR
 		}
 		const basePath = base.pathname.replace(/\/+$/, '');
 		if (url.host !== base.host || !(path === basePath || path.startsWith(basePath + '/'))) {
-			return { kind: 'unknown', reason: `${NOT_A_LABEL} (it points to ${url.host}${url.pathname})` };
+			return {
+				kind: 'unknown',
+				reason: `${NOT_A_LABEL} (it points to ${url.host}${url.pathname})`
+			};
 		}
 		path = path.slice(basePath.length);
 	}
@@ -186,7 +208,8 @@ export function extractSerialFromScan(scanText: string, baseUrl?: string): ScanR
 	const link = parseDigitalLink(text);
 	if (link) {
 		const p = parseSerial(link.serial);
-		if (!p.ok) return { kind: 'unknown', reason: `${NOT_A_LABEL} (serial "${link.serial}": ${p.reason})` };
+		if (!p.ok)
+			return { kind: 'unknown', reason: `${NOT_A_LABEL} (serial "${link.serial}": ${p.reason})` };
 		return { kind: 'digital-link', gtin: link.gtin, serial: p.serial };
 	}
 
@@ -196,7 +219,8 @@ export function extractSerialFromScan(scanText: string, baseUrl?: string): ScanR
 		const decoded = decodeOrNull(m[1]);
 		if (decoded === null) return { kind: 'unknown', reason: NOT_A_LABEL };
 		const p = parseSerial(decoded);
-		if (!p.ok) return { kind: 'unknown', reason: `${NOT_A_LABEL} (serial "${decoded}": ${p.reason})` };
+		if (!p.ok)
+			return { kind: 'unknown', reason: `${NOT_A_LABEL} (serial "${decoded}": ${p.reason})` };
 		return { kind: 'serial', serial: p.serial };
 	}
 	return { kind: 'unknown', reason: NOT_A_LABEL };

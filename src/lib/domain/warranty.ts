@@ -38,11 +38,20 @@ export function arrheniusFactor(eaJPerMol: number, t1C: number, t2C: number): nu
  * cycles(T) = refCycles × exp[(Ea/R)(1/T − 1/T_ref)] that passes exactly through the hot
  * point: Ea = R ln(refCycles / hotCycles) / (1/T_ref − 1/T_hot).
  */
-export function fitActivationEnergy(refTempC: number, refCycles: number, hotTempC: number, hotCycles: number): number {
+export function fitActivationEnergy(
+	refTempC: number,
+	refCycles: number,
+	hotTempC: number,
+	hotCycles: number
+): number {
 	if (!(refCycles > 0 && hotCycles > 0)) throw new RangeError('Rated cycles must be positive.');
-	if (!(hotTempC > refTempC)) throw new RangeError('The hot temperature must be above the reference temperature.');
-	if (!(hotCycles < refCycles)) throw new RangeError('The hot rated cycles must be fewer than the reference rated cycles.');
-	return (R_GAS * Math.log(refCycles / hotCycles)) / (1 / toKelvin(refTempC) - 1 / toKelvin(hotTempC));
+	if (!(hotTempC > refTempC))
+		throw new RangeError('The hot temperature must be above the reference temperature.');
+	if (!(hotCycles < refCycles))
+		throw new RangeError('The hot rated cycles must be fewer than the reference rated cycles.');
+	return (
+		(R_GAS * Math.log(refCycles / hotCycles)) / (1 / toKelvin(refTempC) - 1 / toKelvin(hotTempC))
+	);
 }
 
 export interface DeratedCycles {
@@ -64,7 +73,12 @@ export interface DeratedCycles {
  * owner. Above the hot point the fit is extrapolated, and the reason says so.
  */
 export function deratedCycles(terms: WarrantyTerms, avgCellTempC: number | null): DeratedCycles {
-	const ea = fitActivationEnergy(terms.referenceTempC, terms.ratedCycles, terms.hotTempC, terms.hotRatedCycles);
+	const ea = fitActivationEnergy(
+		terms.referenceTempC,
+		terms.ratedCycles,
+		terms.hotTempC,
+		terms.hotRatedCycles
+	);
 	const rated = `${fmt(terms.ratedCycles, 0)} cycles rated at ${fmtTemp(terms.referenceTempC)}`;
 	if (avgCellTempC === null || !Number.isFinite(avgCellTempC)) {
 		return {
@@ -110,7 +124,13 @@ export function deratedCycles(terms: WarrantyTerms, avgCellTempC: number | null)
  * Equivalent full cycles on the energy basis: throughput ÷ usable energy. This is the basis
  * Packledger assesses claims on. 1 433 600 Wh over 14 336 Wh = 100.0.
  */
-export function equivalentFullCycles({ throughputWh, usableWh }: { throughputWh: number; usableWh: number }): number {
+export function equivalentFullCycles({
+	throughputWh,
+	usableWh
+}: {
+	throughputWh: number;
+	usableWh: number;
+}): number {
 	if (!(usableWh > 0)) throw new RangeError('Usable energy must be positive.');
 	if (!(throughputWh >= 0)) throw new RangeError('Throughput must not be negative.');
 	return throughputWh / usableWh;
@@ -121,7 +141,11 @@ export function equivalentFullCycles({ throughputWh, usableWh }: { throughputWh:
  * Kept for comparing with BMS counters that use it; NOT the basis of claim assessment,
  * because the two bases differ (150 000 + 142 000 Ah over 280 Ah = 521.43).
  */
-export function equivalentFullCyclesChargeBasis(ahIn: number, ahOut: number, ratedAh: number): number {
+export function equivalentFullCyclesChargeBasis(
+	ahIn: number,
+	ahOut: number,
+	ratedAh: number
+): number {
 	if (!(ratedAh > 0)) throw new RangeError('Rated capacity must be positive.');
 	if (!(ahIn >= 0 && ahOut >= 0)) throw new RangeError('Charge throughput must not be negative.');
 	return (ahIn + ahOut) / (2 * ratedAh);
@@ -138,7 +162,11 @@ export function capacityRetentionPct(measuredAh: number, ratedAh: number): numbe
  * Retention the terms promise after `cycles`: linear from 100 % at 0 cycles to
  * endRetentionPct at the (derated) rated cycles, held at endRetentionPct beyond them.
  */
-export function promisedRetentionPct(endRetentionPct: number, cycles: number, deratedRatedCycles: number): number {
+export function promisedRetentionPct(
+	endRetentionPct: number,
+	cycles: number,
+	deratedRatedCycles: number
+): number {
 	if (!(deratedRatedCycles > 0)) throw new RangeError('Rated cycles must be positive.');
 	if (!(cycles >= 0)) throw new RangeError('Cycles must not be negative.');
 	const used = Math.min(cycles / deratedRatedCycles, 1);
@@ -151,7 +179,8 @@ export function promisedRetentionPct(endRetentionPct: number, cycles: number, de
 /** Reads a 'YYYY-MM-DD' calendar date; throws on anything else (e.g. 2023-02-30). */
 function parseDay(s: string, label: string): Date {
 	const d = /^\d{4}-\d{2}-\d{2}$/.test(s) ? parseISO(s) : new Date(NaN);
-	if (!isValid(d) || format(d, 'yyyy-MM-dd') !== s) throw new RangeError(`${label} must be a date as YYYY-MM-DD, got "${s}".`);
+	if (!isValid(d) || format(d, 'yyyy-MM-dd') !== s)
+		throw new RangeError(`${label} must be a date as YYYY-MM-DD, got "${s}".`);
 	return d;
 }
 
@@ -220,7 +249,8 @@ export interface ClaimAssessment {
 	reasons: string[];
 }
 
-const given = (x: number | null | undefined): x is number => typeof x === 'number' && Number.isFinite(x);
+const given = (x: number | null | undefined): x is number =>
+	typeof x === 'number' && Number.isFinite(x);
 
 /**
  * Recommends cover, decline or a request for evidence. Decisions use full precision;
@@ -249,7 +279,9 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 				: `The claim of ${input.claimedOn} is ${fmt(yearsElapsed, 2)} years after commissioning on ${input.commissionedOn}, past the ${fmt(terms.years, 0)}-year term that ended on ${termEndsOn}.`
 		);
 	} else {
-		reasons.push('No commissioning date is on record, so the warranty term cannot be checked: ask for the commissioning record.');
+		reasons.push(
+			'No commissioning date is on record, so the warranty term cannot be checked: ask for the commissioning record.'
+		);
 	}
 
 	// Cycles
@@ -266,9 +298,13 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 		if (input.cycles < 0) throw new RangeError('Cycles must not be negative.');
 		efc = input.cycles;
 		cycleBasis = 'count';
-		reasons.push(`No energy throughput was given, so the reported count of ${fmtCycles(efc)} cycles is taken as equivalent full cycles.`);
+		reasons.push(
+			`No energy throughput was given, so the reported count of ${fmtCycles(efc)} cycles is taken as equivalent full cycles.`
+		);
 	} else {
-		reasons.push('Neither energy throughput nor a cycle count was given: ask for the inverter log or the BMS cycle counter.');
+		reasons.push(
+			'Neither energy throughput nor a cycle count was given: ask for the inverter log or the BMS cycle counter.'
+		);
 	}
 
 	// Derating
@@ -285,7 +321,8 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 	}
 
 	// Retention
-	const promised = efc !== null ? promisedRetentionPct(terms.endRetentionPct, efc, derating.cycles) : null;
+	const promised =
+		efc !== null ? promisedRetentionPct(terms.endRetentionPct, efc, derating.cycles) : null;
 	let retention: number | null = null;
 	if (given(input.measuredCapacityAh)) {
 		retention = capacityRetentionPct(input.measuredCapacityAh, input.ratedCapacityAh);
@@ -299,7 +336,9 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 					: `Retention ${r} % ${of} is at or above the ${p} % promised ${at}: the module performs as warranted.`
 			);
 		} else {
-			reasons.push(`Retention is ${fmt(retention, 1)} % ${of}; without the cycles the promised retention cannot be set.`);
+			reasons.push(
+				`Retention is ${fmt(retention, 1)} % ${of}; without the cycles the promised retention cannot be set.`
+			);
 		}
 	} else {
 		reasons.push('No measured capacity was given: ask for a capacity test report.');
@@ -308,18 +347,25 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 	// For the officer to weigh; never decisive here.
 	const events = input.eventsOutsideLimits;
 	if (Array.isArray(events) && events.length > 0) {
-		reasons.push(`${events.length} ${events.length === 1 ? 'event' : 'events'} outside the operating limits ${events.length === 1 ? 'was' : 'were'} reported (${events.join('; ')}): weigh whether ${events.length === 1 ? 'it' : 'they'} contributed.`);
+		reasons.push(
+			`${events.length} ${events.length === 1 ? 'event' : 'events'} outside the operating limits ${events.length === 1 ? 'was' : 'were'} reported (${events.join('; ')}): weigh whether ${events.length === 1 ? 'it' : 'they'} contributed.`
+		);
 	} else if (typeof events === 'number' && events > 0) {
-		reasons.push(`${fmt(events, 0)} ${events === 1 ? 'event' : 'events'} outside the operating limits ${events === 1 ? 'was' : 'were'} reported: weigh whether ${events === 1 ? 'it' : 'they'} contributed.`);
+		reasons.push(
+			`${fmt(events, 0)} ${events === 1 ? 'event' : 'events'} outside the operating limits ${events === 1 ? 'was' : 'were'} reported: weigh whether ${events === 1 ? 'it' : 'they'} contributed.`
+		);
 	}
 	if (input.stopChargeProven !== true) {
-		reasons.push('The stop-charge signal was not proven at commissioning: weigh whether overcharge contributed.');
+		reasons.push(
+			'The stop-charge signal was not proven at commissioning: weigh whether overcharge contributed.'
+		);
 	}
 
 	const meetsPromise = retention !== null && promised !== null && retention >= promised;
 	let recommendation: ClaimRecommendation;
 	if (withinTerm === false || pastCycles || meetsPromise) recommendation = 'decline';
-	else if (withinTerm === null || efc === null || retention === null) recommendation = 'need-evidence';
+	else if (withinTerm === null || efc === null || retention === null)
+		recommendation = 'need-evidence';
 	else recommendation = 'cover';
 
 	return {

@@ -10,7 +10,11 @@ export const allocationSchema = z.object({
 });
 
 export const reprintSchema = z.object({
-	reason: z.string().trim().min(3, 'Say why the label is printed again (e.g. “damaged in assembly”).').max(200)
+	reason: z
+		.string()
+		.trim()
+		.min(3, 'Say why the label is printed again (e.g. “damaged in assembly”).')
+		.max(200)
 });
 
 export const LABEL_FORMATS = ['a4', 'roll'] as const;

@@ -8,10 +8,16 @@ export const signInSchema = z.object({
 
 export const passwordSchema = z
 	.object({
-		password: z.string().min(10, 'Use at least 10 characters.').max(200, 'Use at most 200 characters.'),
+		password: z
+			.string()
+			.min(10, 'Use at least 10 characters.')
+			.max(200, 'Use at most 200 characters.'),
 		confirm: z.string()
 	})
-	.refine((v) => v.password === v.confirm, { message: 'The two passwords differ.', path: ['confirm'] });
+	.refine((v) => v.password === v.confirm, {
+		message: 'The two passwords differ.',
+		path: ['confirm']
+	});
 
 export const forgotSchema = z.object({
 	email: z.string().trim().toLowerCase().email('Enter an e-mail address.')

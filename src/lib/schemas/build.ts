@@ -11,14 +11,23 @@ export const BUILD_CHECKS = [
 export type BuildCheckKey = (typeof BUILD_CHECKS)[number]['key'];
 
 const LOT = /^[A-Za-z0-9][A-Za-z0-9._/-]{1,39}$/;
-const asList = (v: unknown) => (typeof v === 'string' ? v.split(/[\s,;]+/) : Array.isArray(v) ? v : v == null ? [] : [v]);
+const asList = (v: unknown) =>
+	typeof v === 'string' ? v.split(/[\s,;]+/) : Array.isArray(v) ? v : v == null ? [] : [v];
 
 /** The build form and `POST /api/modules/{serial}/build` share this schema. */
 export const buildSchema = z.object({
 	cellLots: z.preprocess(
-		(v) => [...new Set(asList(v).map((s) => String(s).trim()).filter(Boolean))],
+		(v) => [
+			...new Set(
+				asList(v)
+					.map((s) => String(s).trim())
+					.filter(Boolean)
+			)
+		],
 		z
-			.array(z.string().regex(LOT, 'A cell lot code is 2–40 letters, digits or . _ / - (no spaces).'))
+			.array(
+				z.string().regex(LOT, 'A cell lot code is 2–40 letters, digits or . _ / - (no spaces).')
+			)
 			.min(1, 'Scan or type at least one cell lot code.')
 			.max(64, 'At most 64 cell lots per module.')
 	),

@@ -6,7 +6,15 @@
 import { z } from 'zod';
 import { claimEvidenceSchema } from './warranty-assess';
 
-export const CLAIM_STATE_NAMES = ['filed', 'in_review', 'awaiting_evidence', 'covered', 'not_covered', 'replacement_sent', 'closed'] as const;
+export const CLAIM_STATE_NAMES = [
+	'filed',
+	'in_review',
+	'awaiting_evidence',
+	'covered',
+	'not_covered',
+	'replacement_sent',
+	'closed'
+] as const;
 export type ClaimStateName = (typeof CLAIM_STATE_NAMES)[number];
 
 export const CLAIM_STATE_LABELS: Record<ClaimStateName, string> = {
@@ -35,7 +43,11 @@ export const CLAIM_MOVES: Record<ClaimStateName, ClaimStateName[]> = {
 };
 
 /** States in which the claim still waits for the assembler's decision: the response-time target applies. */
-export const AWAITING_DECISION: readonly ClaimStateName[] = ['filed', 'in_review', 'awaiting_evidence'];
+export const AWAITING_DECISION: readonly ClaimStateName[] = [
+	'filed',
+	'in_review',
+	'awaiting_evidence'
+];
 
 /** Target response time: a decision within 10 calendar days of filing (calendar, not working days, to keep it plain). */
 export const TARGET_RESPONSE_DAYS = 10;
@@ -60,7 +72,9 @@ const blankToUndefined = (v: unknown) => (typeof v === 'string' && v.trim() === 
 /** Serials as scanned or typed: one per line (commas and spaces also separate). */
 export const serialListSchema = z.preprocess(
 	(v) => {
-		const parts = (Array.isArray(v) ? v : [v]).flatMap((x) => (typeof x === 'string' ? x.split(/[\s,;]+/) : []));
+		const parts = (Array.isArray(v) ? v : [v]).flatMap((x) =>
+			typeof x === 'string' ? x.split(/[\s,;]+/) : []
+		);
 		return [...new Set(parts.map((s) => s.trim()).filter(Boolean))];
 	},
 	z
@@ -69,7 +83,9 @@ export const serialListSchema = z.preprocess(
 		.max(50, { error: 'One claim covers at most 50 modules; file separate claims for more.' })
 );
 
-export const throughputScopeSchema = z.enum(['system', 'module'], { error: 'Say whether the throughput is for the whole system or for one module.' });
+export const throughputScopeSchema = z.enum(['system', 'module'], {
+	error: 'Say whether the throughput is for the whole system or for one module.'
+});
 
 /** What an inverter log summary adds to the evidence (set by the log step of the form). */
 export const logSummarySchema = z.object({
@@ -100,7 +116,9 @@ export const fileClaimFormSchema = z
 			.string({ error: 'Name the fault.' })
 			.trim()
 			.min(3, { error: 'Name the fault in a few words (at least 3 characters).' })
-			.max(200, { error: 'Keep the fault name under 200 characters; the description takes the detail.' }),
+			.max(200, {
+				error: 'Keep the fault name under 200 characters; the description takes the detail.'
+			}),
 		throughputScope: z.preprocess(blankToUndefined, throughputScopeSchema.default('system')),
 		log: jsonField(logSummarySchema)
 	})
@@ -109,7 +127,10 @@ export type FileClaimForm = z.infer<typeof fileClaimFormSchema>;
 
 export const moveClaimSchema = z.object({
 	to: z.enum(CLAIM_STATE_NAMES, { error: 'Choose the state to move the claim to.' }),
-	comment: z.preprocess(blankToUndefined, z.string().trim().max(2000, { error: 'Keep the comment under 2000 characters.' }).optional())
+	comment: z.preprocess(
+		blankToUndefined,
+		z.string().trim().max(2000, { error: 'Keep the comment under 2000 characters.' }).optional()
+	)
 });
 export type MoveClaimInput = z.infer<typeof moveClaimSchema>;
 
@@ -123,7 +144,10 @@ export const commentSchema = z.object({
 
 export const decideClaimSchema = z.object({
 	decision: z.enum(['covered', 'not_covered'], { error: 'Choose covered or not covered.' }),
-	reason: z.preprocess(blankToUndefined, z.string().trim().max(4000, { error: 'Keep the reason under 4000 characters.' }).optional())
+	reason: z.preprocess(
+		blankToUndefined,
+		z.string().trim().max(4000, { error: 'Keep the reason under 4000 characters.' }).optional()
+	)
 });
 export type DecideClaimInput = z.infer<typeof decideClaimSchema>;
 
@@ -142,18 +166,33 @@ export const addEvidenceSchema = z.object({
 	description: z.unknown().optional(),
 	throughputScope: z.preprocess(blankToUndefined, throughputScopeSchema.optional()),
 	log: jsonField(logSummarySchema),
-	comment: z.preprocess(blankToUndefined, z.string().trim().max(2000, { error: 'Keep the note under 2000 characters.' }).optional())
+	comment: z.preprocess(
+		blankToUndefined,
+		z.string().trim().max(2000, { error: 'Keep the note under 2000 characters.' }).optional()
+	)
 });
 export type AddEvidenceInput = z.infer<typeof addEvidenceSchema>;
 
 export const replacementSchema = z.object({
-	failedSerial: z.string({ error: 'Choose the failed module.' }).trim().min(1, { error: 'Choose the failed module.' }),
-	replacementScan: z.string({ error: 'Scan or type the replacement module.' }).trim().min(1, { error: 'Scan or type the replacement module.' }).max(300)
+	failedSerial: z
+		.string({ error: 'Choose the failed module.' })
+		.trim()
+		.min(1, { error: 'Choose the failed module.' }),
+	replacementScan: z
+		.string({ error: 'Scan or type the replacement module.' })
+		.trim()
+		.min(1, { error: 'Scan or type the replacement module.' })
+		.max(300)
 });
 
 export const returnInspectionSchema = z.object({
-	serial: z.string({ error: 'Choose the returned module.' }).trim().min(1, { error: 'Choose the returned module.' }),
-	cause: z.enum(Object.keys(RETURN_CAUSES) as [ReturnCause, ...ReturnCause[]], { error: 'Choose the cause found.' }),
+	serial: z
+		.string({ error: 'Choose the returned module.' })
+		.trim()
+		.min(1, { error: 'Choose the returned module.' }),
+	cause: z.enum(Object.keys(RETURN_CAUSES) as [ReturnCause, ...ReturnCause[]], {
+		error: 'Choose the cause found.'
+	}),
 	findings: z
 		.string({ error: 'Write what the inspection found.' })
 		.trim()
@@ -167,22 +206,48 @@ export const MAX_LOG_BYTES = 20 * 1024 * 1024;
 
 /** How an inverter log's columns are read: the person confirms what detectColumns suggests. */
 export const logMappingSchema = z.object({
-	timestampColumn: z.string({ error: 'Choose the timestamp column.' }).trim().min(1, { error: 'Choose the timestamp column.' }),
-	energyColumn: z.string({ error: 'Choose the discharge energy column.' }).trim().min(1, { error: 'Choose the discharge energy column.' }),
+	timestampColumn: z
+		.string({ error: 'Choose the timestamp column.' })
+		.trim()
+		.min(1, { error: 'Choose the timestamp column.' }),
+	energyColumn: z
+		.string({ error: 'Choose the discharge energy column.' })
+		.trim()
+		.min(1, { error: 'Choose the discharge energy column.' }),
 	energyUnit: z.enum(['Wh', 'kWh'], { error: 'Choose Wh or kWh.' }),
-	energyKind: z.enum(['cumulative', 'interval'], { error: 'Say whether the energy is a running total or per interval.' }),
+	energyKind: z.enum(['cumulative', 'interval'], {
+		error: 'Say whether the energy is a running total or per interval.'
+	}),
 	tempColumn: z.preprocess(blankToUndefined, z.string().trim().optional())
 });
 
-export const CLAIM_SORTS = ['reference', 'state', 'dealer', 'models', 'serialCount', 'filedAt'] as const;
+export const CLAIM_SORTS = [
+	'reference',
+	'state',
+	'dealer',
+	'models',
+	'serialCount',
+	'filedAt'
+] as const;
 export type ClaimSort = (typeof CLAIM_SORTS)[number];
 
 const queryInt = (min: number, max: number, label: string) =>
-	z.preprocess(blankToUndefined, z.coerce.number({ error: `${label} must be a whole number.` }).int({ error: `${label} must be a whole number.` }).min(min).max(max).optional());
+	z.preprocess(
+		blankToUndefined,
+		z.coerce
+			.number({ error: `${label} must be a whole number.` })
+			.int({ error: `${label} must be a whole number.` })
+			.min(min)
+			.max(max)
+			.optional()
+	);
 
 /** The claims queue's query, from the URL (`/claims?…` and `/api/claims?…`). */
 export const claimQuerySchema = z.object({
-	state: z.preprocess(blankToUndefined, z.enum(CLAIM_STATE_NAMES, { error: 'Unknown claim state.' }).optional()),
+	state: z.preprocess(
+		blankToUndefined,
+		z.enum(CLAIM_STATE_NAMES, { error: 'Unknown claim state.' }).optional()
+	),
 	dealer: queryInt(1, Number.MAX_SAFE_INTEGER, 'Dealer'),
 	model: z.preprocess(blankToUndefined, z.string().trim().max(40).optional()),
 	minAgeDays: queryInt(0, 100_000, 'Minimum age'),

@@ -12,15 +12,34 @@ import type { CommissioningMeasurements } from '$lib/domain/commissioning';
 
 /** The cautions shown before any work on a battery (PRODUCT.md, Cautions), on the page and the certificate. */
 export const COMMISSIONING_CAUTIONS: { title: string; text: string }[] = [
-	{ title: 'Isolate and lock off', text: 'Open every battery and inverter isolator, lock and tag them off, and prove the circuit dead before you touch a conductor.' },
-	{ title: 'Insulated tools and suitable PPE', text: 'Use insulated tools, take off rings and watches, and wear eye protection and insulating gloves rated for the voltage.' },
-	{ title: 'DC arc and short-circuit hazard', text: 'A battery is always live: a short circuit delivers very high currents, and a DC arc does not go out by itself. Keep terminals covered until you connect them.' },
-	{ title: 'Polarity', text: 'Check the polarity of every connection before closing an isolator; reversed polarity can destroy the inverter and the protective devices.' },
-	{ title: 'Work by a licensed electrician', text: 'Installation and commissioning are done by a licensed electrician.' },
-	{ title: 'Local codes take precedence', text: 'Local electrical codes and installation standards take precedence over anything the application computes.' }
+	{
+		title: 'Isolate and lock off',
+		text: 'Open every battery and inverter isolator, lock and tag them off, and prove the circuit dead before you touch a conductor.'
+	},
+	{
+		title: 'Insulated tools and suitable PPE',
+		text: 'Use insulated tools, take off rings and watches, and wear eye protection and insulating gloves rated for the voltage.'
+	},
+	{
+		title: 'DC arc and short-circuit hazard',
+		text: 'A battery is always live: a short circuit delivers very high currents, and a DC arc does not go out by itself. Keep terminals covered until you connect them.'
+	},
+	{
+		title: 'Polarity',
+		text: 'Check the polarity of every connection before closing an isolator; reversed polarity can destroy the inverter and the protective devices.'
+	},
+	{
+		title: 'Work by a licensed electrician',
+		text: 'Installation and commissioning are done by a licensed electrician.'
+	},
+	{
+		title: 'Local codes take precedence',
+		text: 'Local electrical codes and installation standards take precedence over anything the application computes.'
+	}
 ];
 
-export const CODES_TAKE_PRECEDENCE = 'Local electrical codes and installation standards take precedence over anything the application computes.';
+export const CODES_TAKE_PRECEDENCE =
+	'Local electrical codes and installation standards take precedence over anything the application computes.';
 
 /** Form text to a number: blank → null, "0,4" → 0.4, anything else unreadable → 'invalid'. */
 export function readDecimal(v: unknown): number | null | 'invalid' {
@@ -58,8 +77,12 @@ export function nestForm(raw: unknown): unknown {
 	}
 	if (flat) {
 		const width = Math.max(0, ...grid.map((r) => r?.length ?? 0));
-		if (!Array.isArray(out.moduleOcvV)) out.moduleOcvV = Array.from(grid, (row) => Array.from({ length: width }, (_, i) => row?.[i] ?? null));
-		if (!Array.isArray(out.stringVoltageV)) out.stringVoltageV = Array.from(strings, (v) => v ?? null);
+		if (!Array.isArray(out.moduleOcvV))
+			out.moduleOcvV = Array.from(grid, (row) =>
+				Array.from({ length: width }, (_, i) => row?.[i] ?? null)
+			);
+		if (!Array.isArray(out.stringVoltageV))
+			out.stringVoltageV = Array.from(strings, (v) => v ?? null);
 	}
 	return out;
 }
@@ -72,7 +95,9 @@ function measured(label: string, unit: string, min: number, max: number) {
 			return n === 'invalid' ? v : n;
 		},
 		z
-			.number({ error: `${label} must be a number in ${unit}, e.g. 51,2; leave it blank if not measured.` })
+			.number({
+				error: `${label} must be a number in ${unit}, e.g. 51,2; leave it blank if not measured.`
+			})
 			.min(min, { error: range })
 			.max(max, { error: range })
 			.nullable()
@@ -81,18 +106,32 @@ function measured(label: string, unit: string, min: number, max: number) {
 
 function yesNo(label: string) {
 	return z.preprocess(
-		(v) => (v === 'yes' || v === true || v === 'true' ? true : v === 'no' || v === false || v === 'false' ? false : v === '' || v == null ? null : v),
+		(v) =>
+			v === 'yes' || v === true || v === 'true'
+				? true
+				: v === 'no' || v === false || v === 'false'
+					? false
+					: v === '' || v == null
+						? null
+						: v,
 		z.boolean({ error: `${label}: answer yes or no, or leave it open if not checked.` }).nullable()
 	);
 }
 
 /** The measured items; `lenient` turns unreadable values into "not measured" for the live preview. */
 function measurementFields(lenient: boolean) {
-	const m = (label: string, unit: string, min: number, max: number) => (lenient ? measured(label, unit, min, max).catch(null) : measured(label, unit, min, max));
+	const m = (label: string, unit: string, min: number, max: number) =>
+		lenient ? measured(label, unit, min, max).catch(null) : measured(label, unit, min, max);
 	const yn = (label: string) => (lenient ? yesNo(label).catch(null) : yesNo(label));
 	return {
-		moduleOcvV: z.array(z.array(m('Module open-circuit voltage', 'V', 0, 1000)).max(64)).max(64).default([]),
-		stringVoltageV: z.array(m('String voltage', 'V', 0, 2000)).max(64).default([]),
+		moduleOcvV: z
+			.array(z.array(m('Module open-circuit voltage', 'V', 0, 1000)).max(64))
+			.max(64)
+			.default([]),
+		stringVoltageV: z
+			.array(m('String voltage', 'V', 0, 2000))
+			.max(64)
+			.default([]),
 		interStringDiffV: m('Difference between strings', 'V', 0, 1000).default(null),
 		insulationTestV: m('Insulation test voltage', 'V', 0, 5000).default(null),
 		insulationMohm: m('Insulation resistance', 'MΩ', 0, 1_000_000).default(null),
@@ -115,7 +154,14 @@ export const measurementsSchema = z.preprocess(nestForm, measurementsObject);
 export const draftMeasurementsSchema = z.preprocess(nestForm, z.object(measurementFields(true)));
 
 const optionalText = (max: number, label: string) =>
-	z.preprocess((v) => (typeof v === 'string' && v.trim() === '' ? null : (v ?? null)), z.string().trim().max(max, { error: `Keep the ${label} under ${max} characters.` }).nullable());
+	z.preprocess(
+		(v) => (typeof v === 'string' && v.trim() === '' ? null : (v ?? null)),
+		z
+			.string()
+			.trim()
+			.max(max, { error: `Keep the ${label} under ${max} characters.` })
+			.nullable()
+	);
 
 /** The whole submission: measurements, who signs, handover, and the cautions acknowledged. */
 export const commissioningSchema = z.preprocess(
@@ -129,12 +175,17 @@ export const commissioningSchema = z.preprocess(
 		licenceNumber: z
 			.string({ error: 'Enter the electrical licence number.' })
 			.trim()
-			.min(2, { error: 'Enter the electrical licence number: a commissioning is signed by a licensed electrician.' })
+			.min(2, {
+				error:
+					'Enter the electrical licence number: a commissioning is signed by a licensed electrician.'
+			})
 			.max(60, { error: 'Keep the licence number under 60 characters.' }),
 		handoverName: optionalText(120, 'handover name'),
 		cautionsAcknowledged: z.preprocess(
 			(v) => v === true || v === 'yes' || v === 'on' || v === 'true',
-			z.literal(true, { error: 'Read the cautions and confirm “I have read the cautions” before submitting.' })
+			z.literal(true, {
+				error: 'Read the cautions and confirm “I have read the cautions” before submitting.'
+			})
 		)
 	})
 );
@@ -150,7 +201,9 @@ export function toMeasurements(input: MeasurementsInput): CommissioningMeasureme
 		polarityChecked: input.polarityChecked,
 		torqueConfirmed: input.torqueConfirmed,
 		protectiveDevice:
-			input.deviceRatingA !== null && input.deviceDcRatingV !== null ? { ratingA: input.deviceRatingA, dcVoltageRatingV: input.deviceDcRatingV } : null,
+			input.deviceRatingA !== null && input.deviceDcRatingV !== null
+				? { ratingA: input.deviceRatingA, dcVoltageRatingV: input.deviceDcRatingV }
+				: null,
 		ambientC: input.ambientC,
 		stopChargeProven: input.stopChargeProven
 	};

@@ -2,11 +2,18 @@ import { z } from 'zod';
 
 /** Blank text from a form means "none". */
 const optionalText = (max: number, message: string) =>
-	z.preprocess((v) => (typeof v === 'string' && v.trim() === '' ? undefined : v), z.string().trim().max(max, message).optional());
+	z.preprocess(
+		(v) => (typeof v === 'string' && v.trim() === '' ? undefined : v),
+		z.string().trim().max(max, message).optional()
+	);
 
 /** A dealer organisation as the admin enters it: the name is unique, the address receives shipment notices. */
 export const dealerSchema = z.object({
-	name: z.string().trim().min(2, 'Enter the dealer’s name.').max(120, 'Use at most 120 characters.'),
+	name: z
+		.string()
+		.trim()
+		.min(2, 'Enter the dealer’s name.')
+		.max(120, 'Use at most 120 characters.'),
 	contactEmail: z.string().trim().toLowerCase().email('Enter the address shipment notices go to.'),
 	region: optionalText(120, 'Use at most 120 characters for the region.')
 });

@@ -6,7 +6,9 @@ import { z } from 'zod';
 import type { DesignCheckInput, DesignModule, InverterWindow } from '$lib/domain/design-check';
 
 const positive = (label: string) =>
-	z.number({ error: `${label} must be a number` }).positive({ error: `${label} must be above zero` });
+	z
+		.number({ error: `${label} must be a number` })
+		.positive({ error: `${label} must be above zero` });
 
 const count = (label: string) =>
 	z
@@ -47,16 +49,25 @@ export const inverterWindowSchema = z
 		error: 'Inverter DC minimum must be below its maximum',
 		path: ['minV']
 	})
-	.refine((w) => w.preferredMinV === undefined || (w.preferredMinV >= w.minV && w.preferredMinV < w.maxV), {
-		error: 'Preferred minimum must lie within the inverter DC window',
-		path: ['preferredMinV']
-	})
-	.refine((w) => w.preferredMaxV === undefined || (w.preferredMaxV <= w.maxV && w.preferredMaxV > w.minV), {
-		error: 'Preferred maximum must lie within the inverter DC window',
-		path: ['preferredMaxV']
-	})
 	.refine(
-		(w) => w.preferredMinV === undefined || w.preferredMaxV === undefined || w.preferredMinV < w.preferredMaxV,
+		(w) => w.preferredMinV === undefined || (w.preferredMinV >= w.minV && w.preferredMinV < w.maxV),
+		{
+			error: 'Preferred minimum must lie within the inverter DC window',
+			path: ['preferredMinV']
+		}
+	)
+	.refine(
+		(w) => w.preferredMaxV === undefined || (w.preferredMaxV <= w.maxV && w.preferredMaxV > w.minV),
+		{
+			error: 'Preferred maximum must lie within the inverter DC window',
+			path: ['preferredMaxV']
+		}
+	)
+	.refine(
+		(w) =>
+			w.preferredMinV === undefined ||
+			w.preferredMaxV === undefined ||
+			w.preferredMinV < w.preferredMaxV,
 		{ error: 'Preferred minimum must be below the preferred maximum', path: ['preferredMinV'] }
 	) satisfies z.ZodType<InverterWindow>;
 

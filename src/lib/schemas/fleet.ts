@@ -22,7 +22,15 @@ const STATE_ORDER: Record<ModuleState, number> = {
 };
 export const FLEET_STATES = Object.keys(STATE_ORDER) as ModuleState[];
 
-export const FLEET_SORTS = ['serial', 'model', 'state', 'dealer', 'builtAt', 'testedAt', 'shippedAt'] as const;
+export const FLEET_SORTS = [
+	'serial',
+	'model',
+	'state',
+	'dealer',
+	'builtAt',
+	'testedAt',
+	'shippedAt'
+] as const;
 export type FleetSort = (typeof FLEET_SORTS)[number];
 
 /** Columns of the table and of the CSV export, with the words on screen. `serial` is always shown. */
@@ -41,28 +49,45 @@ export const FLEET_COLUMNS = [
 export type FleetColumn = (typeof FLEET_COLUMNS)[number]['id'];
 export const FLEET_COLUMN_IDS = FLEET_COLUMNS.map((c) => c.id) as [FleetColumn, ...FleetColumn[]];
 /** Shown until a person chooses: all but the cell lots, which make rows tall. */
-export const DEFAULT_FLEET_COLUMNS: FleetColumn[] = FLEET_COLUMN_IDS.filter((c) => c !== 'cellLots');
+export const DEFAULT_FLEET_COLUMNS: FleetColumn[] = FLEET_COLUMN_IDS.filter(
+	(c) => c !== 'cellLots'
+);
 
 export const FLEET_PAGE_SIZES = [25, 50, 100, 200] as const;
 
 const day = z
 	.string()
 	.regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date like 2026-03-31.')
-	.refine((s) => !Number.isNaN(Date.parse(`${s}T00:00:00Z`)) && new Date(`${s}T00:00:00Z`).toISOString().startsWith(s), 'This date does not exist; check the month and day.');
+	.refine(
+		(s) =>
+			!Number.isNaN(Date.parse(`${s}T00:00:00Z`)) &&
+			new Date(`${s}T00:00:00Z`).toISOString().startsWith(s),
+		'This date does not exist; check the month and day.'
+	);
 const id = (message: string) => z.coerce.number({ message }).int(message).positive(message);
 
 export const fleetQuerySchema = z
 	.object({
-		page: z.coerce.number({ message: 'The page is a number from 1 up.' }).int('The page is a whole number.').min(1, 'Pages start at 1.').default(1),
+		page: z.coerce
+			.number({ message: 'The page is a number from 1 up.' })
+			.int('The page is a whole number.')
+			.min(1, 'Pages start at 1.')
+			.default(1),
 		pageSize: z.coerce
 			.number({ message: 'Show 10 to 200 rows a page.' })
 			.int('Show 10 to 200 rows a page.')
 			.min(10, 'Show at least 10 rows a page.')
 			.max(200, 'Show at most 200 rows a page.')
 			.default(50),
-		sort: z.enum(FLEET_SORTS, { message: `Sort by one of: ${FLEET_SORTS.join(', ')}.` }).default('builtAt'),
+		sort: z
+			.enum(FLEET_SORTS, { message: `Sort by one of: ${FLEET_SORTS.join(', ')}.` })
+			.default('builtAt'),
 		dir: z.enum(['asc', 'desc'], { message: 'The direction is asc or desc.' }).default('desc'),
-		state: z.enum(FLEET_STATES as [ModuleState, ...ModuleState[]], { message: `The state is one of: ${FLEET_STATES.join(', ')}.` }).optional(),
+		state: z
+			.enum(FLEET_STATES as [ModuleState, ...ModuleState[]], {
+				message: `The state is one of: ${FLEET_STATES.join(', ')}.`
+			})
+			.optional(),
 		model: z.string().trim().min(1).max(40, 'A model code has at most 40 characters.').optional(),
 		dealer: id('Choose a dealer from the list.').optional(),
 		builtFrom: day.optional(),
@@ -71,7 +96,10 @@ export const fleetQuerySchema = z
 		importId: id('An import is known by its number, e.g. 12 (see Test imports).').optional(),
 		q: z.string().trim().max(40, 'Search with at most 40 characters of a serial.').optional()
 	})
-	.refine((v) => !v.builtFrom || !v.builtTo || v.builtFrom <= v.builtTo, { message: 'The “built to” date is before the “built from” date.', path: ['builtTo'] });
+	.refine((v) => !v.builtFrom || !v.builtTo || v.builtFrom <= v.builtTo, {
+		message: 'The “built to” date is before the “built from” date.',
+		path: ['builtTo']
+	});
 export type FleetQuery = z.infer<typeof fleetQuerySchema>;
 
 /** Reads the view from URL search parameters; an empty parameter (`?state=`) means "no filter". */
@@ -82,8 +110,15 @@ export function parseFleetQuery(params: URLSearchParams) {
 }
 
 /** The view as search parameters, leaving out defaults so shared links stay short. */
-export function fleetSearch(query: Partial<Record<keyof FleetQuery, string | number | undefined>>): URLSearchParams {
-	const defaults: Record<string, string> = { page: '1', pageSize: '50', sort: 'builtAt', dir: 'desc' };
+export function fleetSearch(
+	query: Partial<Record<keyof FleetQuery, string | number | undefined>>
+): URLSearchParams {
+	const defaults: Record<string, string> = {
+		page: '1',
+		pageSize: '50',
+		sort: 'builtAt',
+		dir: 'desc'
+	};
 	const out = new URLSearchParams();
 	for (const [k, v] of Object.entries(query)) {
 		if (v === undefined || v === '' || defaults[k] === String(v)) continue;
@@ -94,7 +129,10 @@ export function fleetSearch(query: Partial<Record<keyof FleetQuery, string | num
 
 export const fleetColumnsSchema = z.object({
 	columns: z
-		.array(z.enum(FLEET_COLUMN_IDS, { message: `A column is one of: ${FLEET_COLUMN_IDS.join(', ')}.` }), { message: 'Send the visible columns as a list.' })
+		.array(
+			z.enum(FLEET_COLUMN_IDS, { message: `A column is one of: ${FLEET_COLUMN_IDS.join(', ')}.` }),
+			{ message: 'Send the visible columns as a list.' }
+		)
 		.max(FLEET_COLUMN_IDS.length)
 });
 
@@ -105,5 +143,8 @@ export const stateRank = (s: ModuleState) => STATE_ORDER[s];
 export function fleetQueryProblem(error: z.ZodError) {
 	const issues = error.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
 	const named = issues.map((i) => `${i.path || 'address'}: ${i.message}`).join(' ');
-	return { message: `Some settings of this view are not valid. ${named} Change them, or open the fleet page without them.`, issues };
+	return {
+		message: `Some settings of this view are not valid. ${named} Change them, or open the fleet page without them.`,
+		issues
+	};
 }

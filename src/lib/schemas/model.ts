@@ -17,7 +17,10 @@ const fromText = (v: unknown) => {
 
 const numberIn = (label: string, unit: string) =>
 	z.number({
-		error: (iss) => (iss.input === undefined ? `Enter the ${label.toLowerCase()} (${unit}).` : `${label} must be a number in ${unit}.`)
+		error: (iss) =>
+			iss.input === undefined
+				? `Enter the ${label.toLowerCase()} (${unit}).`
+				: `${label} must be a number in ${unit}.`
 	});
 
 const positive = (label: string, unit: string, max: number) =>
@@ -53,7 +56,12 @@ const temperature = (label: string) => between(label, '°C', ...TEMP_C);
 
 /** Blank → null; otherwise any GTIN-8/12/13/14 with a valid check digit, stored as GTIN-14. */
 const gtinField = z.preprocess(
-	(v) => (typeof v === 'string' ? (v.replace(/[\s-]/g, '') === '' ? null : v.replace(/[\s-]/g, '')) : (v ?? null)),
+	(v) =>
+		typeof v === 'string'
+			? v.replace(/[\s-]/g, '') === ''
+				? null
+				: v.replace(/[\s-]/g, '')
+			: (v ?? null),
 	z
 		.string({ error: 'GTIN must be digits.' })
 		.transform((gtin, ctx) => {
@@ -75,7 +83,9 @@ const fields = z.object({
 		.string({ error: 'Enter the model code.' })
 		.trim()
 		.toUpperCase()
-		.regex(/^[A-Z0-9-]{2,20}$/, { error: 'Code must be 2–20 capital letters, digits or hyphens, e.g. TC-HC-48.' }),
+		.regex(/^[A-Z0-9-]{2,20}$/, {
+			error: 'Code must be 2–20 capital letters, digits or hyphens, e.g. TC-HC-48.'
+		}),
 	name: z
 		.string({ error: 'Enter the model name.' })
 		.trim()
@@ -85,7 +95,10 @@ const fields = z.object({
 		.string({ error: 'Enter the voltage variant.' })
 		.trim()
 		.toUpperCase()
-		.regex(/^[A-Z0-9]{1,4}$/, { error: 'Variant must be 1–4 capital letters or digits, e.g. 48: it is printed in every serial.' }),
+		.regex(/^[A-Z0-9]{1,4}$/, {
+			error:
+				'Variant must be 1–4 capital letters or digits, e.g. 48: it is printed in every serial.'
+		}),
 	gtin: gtinField,
 	massKg: positive('Mass', 'kg', 2000),
 	// Cells and ratings
@@ -126,7 +139,8 @@ const fmt = (x: number, digits = 0) => x.toLocaleString('en-GB', { maximumFracti
  * the values that did parse, so the person sees every problem after one submission.
  */
 function crossCheck(m: Partial<Fields>, ctx: z.RefinementCtx<Fields>) {
-	const issue = (path: keyof Fields, message: string) => ctx.addIssue({ code: 'custom', path: [path], message });
+	const issue = (path: keyof Fields, message: string) =>
+		ctx.addIssue({ code: 'custom', path: [path], message });
 	const { cellMinV, cellNominalV, cellMaxV, cellsSeries, ratedAh, usableWh } = m;
 
 	if (isNum(cellMinV) && isNum(cellNominalV) && !(cellMinV < cellNominalV))
@@ -147,17 +161,36 @@ function crossCheck(m: Partial<Fields>, ctx: z.RefinementCtx<Fields>) {
 		issue('burstC', `The burst C-rate cannot be below the continuous ${m.maxContinuousC} C.`);
 
 	if (isNum(m.chargeTempMinC) && isNum(m.chargeTempMaxC) && !(m.chargeTempMinC < m.chargeTempMaxC))
-		issue('chargeTempMaxC', `The highest charging temperature must be above the lowest (${m.chargeTempMinC} °C).`);
-	if (isNum(m.dischargeTempMinC) && isNum(m.dischargeTempMaxC) && !(m.dischargeTempMinC < m.dischargeTempMaxC))
-		issue('dischargeTempMaxC', `The highest discharging temperature must be above the lowest (${m.dischargeTempMinC} °C).`);
+		issue(
+			'chargeTempMaxC',
+			`The highest charging temperature must be above the lowest (${m.chargeTempMinC} °C).`
+		);
+	if (
+		isNum(m.dischargeTempMinC) &&
+		isNum(m.dischargeTempMaxC) &&
+		!(m.dischargeTempMinC < m.dischargeTempMaxC)
+	)
+		issue(
+			'dischargeTempMaxC',
+			`The highest discharging temperature must be above the lowest (${m.dischargeTempMinC} °C).`
+		);
 
 	if (isNum(m.minCapacityAh) && isNum(ratedAh) && m.minCapacityAh > ratedAh)
-		issue('minCapacityAh', `The minimum capacity at factory test cannot exceed the rated ${ratedAh} Ah, or every module would fail.`);
+		issue(
+			'minCapacityAh',
+			`The minimum capacity at factory test cannot exceed the rated ${ratedAh} Ah, or every module would fail.`
+		);
 
 	if (isNum(m.referenceTempC) && isNum(m.hotTempC) && !(m.hotTempC > m.referenceTempC))
-		issue('hotTempC', `The hot test temperature must be above the reference ${m.referenceTempC} °C.`);
+		issue(
+			'hotTempC',
+			`The hot test temperature must be above the reference ${m.referenceTempC} °C.`
+		);
 	if (isNum(m.ratedCycles) && isNum(m.hotRatedCycles) && !(m.hotRatedCycles < m.ratedCycles))
-		issue('hotRatedCycles', `Rated cycles when hot must be fewer than the ${fmt(m.ratedCycles)} cycles at the reference temperature: heat shortens cell life.`);
+		issue(
+			'hotRatedCycles',
+			`Rated cycles when hot must be fewer than the ${fmt(m.ratedCycles)} cycles at the reference temperature: heat shortens cell life.`
+		);
 }
 
 export const modelInputSchema = fields.superRefine(crossCheck, { when: () => true });

@@ -16,7 +16,11 @@ export const newShipmentSchema = z.object({
 
 /** One scan: a bare serial, the QR label's URL or a GS1 Digital Link. */
 export const shipmentScanSchema = z.object({
-	scan: z.string().trim().min(1, `Scan a label or type a serial (like ${SERIAL_EXAMPLE}).`).max(500, 'That scan is too long to be a module label.')
+	scan: z
+		.string()
+		.trim()
+		.min(1, `Scan a label or type a serial (like ${SERIAL_EXAMPLE}).`)
+		.max(500, 'That scan is too long to be a module label.')
 });
 
 export const shipmentRangeSchema = z.object({
@@ -31,7 +35,9 @@ export const shipmentRemoveSchema = z.object({
 export const shipmentNoteSchema = z.object({ note });
 
 export const shipmentDispatchSchema = z.object({
-	confirm: z.literal('yes', { message: 'Tick the box to confirm the modules are packed and leaving.' })
+	confirm: z.literal('yes', {
+		message: 'Tick the box to confirm the modules are packed and leaving.'
+	})
 });
 
 export const shipmentDeleteSchema = z.object({

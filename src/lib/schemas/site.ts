@@ -35,25 +35,42 @@ const text = (label: string, min: number, max: number, example?: string) =>
 	z
 		.string({ error: `Enter the ${label.toLowerCase()}.` })
 		.trim()
-		.min(min, { error: min <= 1 ? `Enter the ${label.toLowerCase()}.` : `${label} needs at least ${min} characters${example ? `, e.g. ${example}` : ''}.` })
+		.min(min, {
+			error:
+				min <= 1
+					? `Enter the ${label.toLowerCase()}.`
+					: `${label} needs at least ${min} characters${example ? `, e.g. ${example}` : ''}.`
+		})
 		.max(max, { error: `${label} must be at most ${max} characters.` });
 
 const numberIn = (label: string, unit: string) =>
-	z.number({ error: (iss) => (iss.input === undefined ? `Enter the ${label.toLowerCase()} (${unit}).` : `${label} must be a number in ${unit}.`) });
+	z.number({
+		error: (iss) =>
+			iss.input === undefined
+				? `Enter the ${label.toLowerCase()} (${unit}).`
+				: `${label} must be a number in ${unit}.`
+	});
 
 const amount = (label: string, unit: string, max: number) =>
 	numberIn(label, unit)
 		.positive({ error: `${label} must be above 0 ${unit}.` })
 		.max(max, { error: `${label} must be at most ${max} ${unit}; check the unit.` });
 
-const required = (label: string, unit: string, max: number) => z.preprocess(fromText, amount(label, unit, max));
-const optional = (label: string, unit: string, max: number) => z.preprocess(fromText, amount(label, unit, max).optional());
+const required = (label: string, unit: string, max: number) =>
+	z.preprocess(fromText, amount(label, unit, max));
+const optional = (label: string, unit: string, max: number) =>
+	z.preprocess(fromText, amount(label, unit, max).optional());
 
 const whole = (label: string, min: number, max: number) =>
 	z.preprocess(
 		fromText,
 		z
-			.number({ error: (iss) => (iss.input === undefined ? `Enter the number of ${label.toLowerCase()}.` : `${label} must be a whole number.`) })
+			.number({
+				error: (iss) =>
+					iss.input === undefined
+						? `Enter the number of ${label.toLowerCase()}.`
+						: `${label} must be a whole number.`
+			})
 			.int({ error: `${label} must be a whole number.` })
 			.min(min, { error: `${label}: ${min} to ${max}.` })
 			.max(max, { error: `${label}: ${min} to ${max}.` })
@@ -69,14 +86,20 @@ export const siteSchema = z.object({
 		.string({ error: 'Enter the owner’s phone number or e-mail address.' })
 		.trim()
 		.refine((v) => EMAIL.test(v) || (PHONE.test(v) && v.replace(/\D/g, '').length >= 6), {
-			error: 'Enter the owner’s phone number (digits, spaces, +) or e-mail address (name@example.org).'
+			error:
+				'Enter the owner’s phone number (digits, spaces, +) or e-mail address (name@example.org).'
 		}),
 	address: text('Address', 5, 300),
-	application: z.enum(SITE_APPLICATIONS as [SiteApplication, ...SiteApplication[]], { error: 'Choose what the battery is for.' }),
+	application: z.enum(SITE_APPLICATIONS as [SiteApplication, ...SiteApplication[]], {
+		error: 'Choose what the battery is for.'
+	}),
 	/** Assembler staff only (ignored for a dealer's people, whose own organisation is always used); blank = our own installation. */
 	dealerOrgId: z.preprocess(
 		(v) => (v === '' || v === 'none' || v == null ? null : fromText(v)),
-		z.int({ error: 'Choose one of the listed dealers, or none.' }).positive({ error: 'Choose one of the listed dealers, or none.' }).nullable()
+		z
+			.int({ error: 'Choose one of the listed dealers, or none.' })
+			.positive({ error: 'Choose one of the listed dealers, or none.' })
+			.nullable()
 	)
 });
 export type SiteInput = z.infer<typeof siteSchema>;
@@ -103,12 +126,20 @@ export const systemSchema = z
 		maxDischargeA: optional('Inverter maximum discharge current', 'A', 5000)
 	})
 	.superRefine((s, ctx) => {
-		const issue = (path: string, message: string) => ctx.addIssue({ code: 'custom', path: [path], message, input: s });
-		if (s.inverterMinV >= s.inverterMaxV) issue('inverterMinV', 'Inverter DC minimum must be below its maximum.');
+		const issue = (path: string, message: string) =>
+			ctx.addIssue({ code: 'custom', path: [path], message, input: s });
+		if (s.inverterMinV >= s.inverterMaxV)
+			issue('inverterMinV', 'Inverter DC minimum must be below its maximum.');
 		const inWindow = (v: number) => v >= s.inverterMinV && v <= s.inverterMaxV;
-		if (s.preferredMinV !== undefined && !inWindow(s.preferredMinV)) issue('preferredMinV', 'Preferred minimum must lie within the inverter’s DC window.');
-		if (s.preferredMaxV !== undefined && !inWindow(s.preferredMaxV)) issue('preferredMaxV', 'Preferred maximum must lie within the inverter’s DC window.');
-		if (s.preferredMinV !== undefined && s.preferredMaxV !== undefined && s.preferredMinV >= s.preferredMaxV)
+		if (s.preferredMinV !== undefined && !inWindow(s.preferredMinV))
+			issue('preferredMinV', 'Preferred minimum must lie within the inverter’s DC window.');
+		if (s.preferredMaxV !== undefined && !inWindow(s.preferredMaxV))
+			issue('preferredMaxV', 'Preferred maximum must lie within the inverter’s DC window.');
+		if (
+			s.preferredMinV !== undefined &&
+			s.preferredMaxV !== undefined &&
+			s.preferredMinV >= s.preferredMaxV
+		)
 			issue('preferredMinV', 'Preferred minimum must be below the preferred maximum.');
 	});
 export type SystemInput = z.infer<typeof systemSchema>;
@@ -159,18 +190,35 @@ export const designCheckRequestSchema = designCheckInputSchema
 	});
 export type DesignCheckRequest = z.infer<typeof designCheckRequestSchema>;
 
-const slotNumber = z.preprocess(fromText, z.int({ error: 'Slot numbers are whole numbers.' }).min(1, { error: 'Slot numbers start at 1.' }).optional());
+const slotNumber = z.preprocess(
+	fromText,
+	z
+		.int({ error: 'Slot numbers are whole numbers.' })
+		.min(1, { error: 'Slot numbers start at 1.' })
+		.optional()
+);
 
 /** The scan box of the system page: a scan (serial, label URL or GS1 Digital Link), and the chosen slot if any. */
 export const placeModuleSchema = z
 	.object({
-		scan: z.string({ error: 'Scan a module label or type its serial.' }).trim().min(1, { error: 'Scan a module label or type its serial.' }).max(300, { error: 'That scan is too long to be a module label.' }),
+		scan: z
+			.string({ error: 'Scan a module label or type its serial.' })
+			.trim()
+			.min(1, { error: 'Scan a module label or type its serial.' })
+			.max(300, { error: 'That scan is too long to be a module label.' }),
 		stringNo: slotNumber,
 		position: slotNumber
 	})
-	.transform(({ scan, stringNo, position }) => ({ scan, slot: stringNo !== undefined && position !== undefined ? { stringNo, position } : null }));
+	.transform(({ scan, stringNo, position }) => ({
+		scan,
+		slot: stringNo !== undefined && position !== undefined ? { stringNo, position } : null
+	}));
 
 /** Taking a module out of a system before commissioning. */
 export const removeModuleSchema = z.object({
-	serial: z.string({ error: 'Say which module to take out.' }).trim().min(1, { error: 'Say which module to take out.' }).max(40)
+	serial: z
+		.string({ error: 'Say which module to take out.' })
+		.trim()
+		.min(1, { error: 'Say which module to take out.' })
+		.max(40)
 });

@@ -1,6 +1,10 @@
 import { z } from 'zod';
 
 export const tokenSchema = z.object({
-	name: z.string().trim().min(3, 'Name the rig or machine the token is for (e.g. “Rig 2, line B”).').max(80)
+	name: z
+		.string()
+		.trim()
+		.min(3, 'Name the rig or machine the token is for (e.g. “Rig 2, line B”).')
+		.max(80)
 });
 export const revokeSchema = z.object({ id: z.coerce.number().int().positive() });

@@ -17,7 +17,9 @@ export function isCalendarDate(s: string): boolean {
 }
 
 const day = (label: string) =>
-	z.string({ error: `${label} is required.` }).refine(isCalendarDate, { error: `${label} must be a real date written YYYY-MM-DD.` });
+	z
+		.string({ error: `${label} is required.` })
+		.refine(isCalendarDate, { error: `${label} must be a real date written YYYY-MM-DD.` });
 
 const temperature = (label: string) =>
 	z
@@ -26,10 +28,14 @@ const temperature = (label: string) =>
 		.max(TEMP_MAX_C, { error: `${label} must be between ${TEMP_MIN_C} and ${TEMP_MAX_C} °C.` });
 
 const positive = (label: string, unit: string) =>
-	z.number({ error: `${label} must be a number in ${unit}.` }).positive({ error: `${label} must be above 0 ${unit}.` });
+	z
+		.number({ error: `${label} must be a number in ${unit}.` })
+		.positive({ error: `${label} must be above 0 ${unit}.` });
 
 const nonNegative = (label: string, unit: string) =>
-	z.number({ error: `${label} must be a number in ${unit}.` }).min(0, { error: `${label} must not be negative.` });
+	z
+		.number({ error: `${label} must be a number in ${unit}.` })
+		.min(0, { error: `${label} must not be negative.` });
 
 export const warrantyTermsSchema = z
 	.object({
@@ -71,10 +77,17 @@ export const assessRequestSchema = z
 			})
 			.nullish()
 	})
-	.refine((r) => !r.commissionedOn || !isCalendarDate(r.commissionedOn) || !isCalendarDate(r.claimedOn) || r.claimedOn >= r.commissionedOn, {
-		error: 'The claim date must not be before the commissioning date.',
-		path: ['claimedOn']
-	});
+	.refine(
+		(r) =>
+			!r.commissionedOn ||
+			!isCalendarDate(r.commissionedOn) ||
+			!isCalendarDate(r.claimedOn) ||
+			r.claimedOn >= r.commissionedOn,
+		{
+			error: 'The claim date must not be before the commissioning date.',
+			path: ['claimedOn']
+		}
+	);
 
 export type AssessRequest = z.infer<typeof assessRequestSchema>;
 
@@ -92,7 +105,10 @@ const formNumber = <T extends z.ZodType>(inner: T) =>
 	}, inner.optional());
 
 const formText = (max: number) =>
-	z.preprocess((v) => (typeof v === 'string' && v.trim() === '' ? undefined : v), z.string().trim().max(max).optional());
+	z.preprocess(
+		(v) => (typeof v === 'string' && v.trim() === '' ? undefined : v),
+		z.string().trim().max(max).optional()
+	);
 
 /** Evidence a dealer files with a claim. Throughput or a cycle count is required. */
 export const claimEvidenceSchema = z
@@ -100,7 +116,9 @@ export const claimEvidenceSchema = z
 		measuredCapacityAh: formNumber(nonNegative('Measured capacity', 'Ah')),
 		measuredAtC: formNumber(temperature('Test temperature')),
 		throughputWh: formNumber(nonNegative('Throughput', 'Wh')),
-		cycleCount: formNumber(nonNegative('Cycle count', 'cycles').int({ error: 'Cycle count must be a whole number.' })),
+		cycleCount: formNumber(
+			nonNegative('Cycle count', 'cycles').int({ error: 'Cycle count must be a whole number.' })
+		),
 		avgCellTempC: formNumber(temperature('Average cell temperature')),
 		maxCellTempC: formNumber(temperature('Maximum cell temperature')),
 		eventsOutsideLimits: formText(2000),
@@ -114,9 +132,15 @@ export const claimEvidenceSchema = z
 		error: 'Give the energy throughput (Wh) or the cycle count.',
 		path: ['throughputWh']
 	})
-	.refine((e) => e.avgCellTempC === undefined || e.maxCellTempC === undefined || e.maxCellTempC >= e.avgCellTempC, {
-		error: 'The maximum cell temperature cannot be below the average.',
-		path: ['maxCellTempC']
-	});
+	.refine(
+		(e) =>
+			e.avgCellTempC === undefined ||
+			e.maxCellTempC === undefined ||
+			e.maxCellTempC >= e.avgCellTempC,
+		{
+			error: 'The maximum cell temperature cannot be below the average.',
+			path: ['maxCellTempC']
+		}
+	);
 
 export type ClaimEvidence = z.infer<typeof claimEvidenceSchema>;

@@ -44,7 +44,8 @@ const SESSION_CACHE_MS = 60_000;
 const sessionCache = new Map<string, { userId: number; at: number }>();
 
 async function sessionUserId(event: Parameters<Handle>[0]['event']): Promise<number | null> {
-	const token = event.cookies.get('__Secure-authjs.session-token') ?? event.cookies.get('authjs.session-token');
+	const token =
+		event.cookies.get('__Secure-authjs.session-token') ?? event.cookies.get('authjs.session-token');
 	if (!token) return null;
 	const hit = sessionCache.get(token);
 	if (hit && Date.now() - hit.at < SESSION_CACHE_MS) return hit.userId;

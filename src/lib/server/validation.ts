@@ -1,7 +1,8 @@
 import type { z } from 'zod';
 
 export type Issue = { path: string; message: string };
-export type Parsed<T> = { ok: true; data: T } | { ok: false; issues: Issue[]; values: Record<string, string> };
+export type Parsed<T> =
+	{ ok: true; data: T } | { ok: false; issues: Issue[]; values: Record<string, string> };
 
 export function toIssues(error: z.ZodError): Issue[] {
 	return error.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
@@ -17,12 +18,19 @@ function echo(form: FormData): Record<string, string> {
 }
 
 /** Parses a submitted form with the input's one schema; repeated keys become arrays. */
-export async function parseForm<S extends z.ZodType>(schema: S, request: Request): Promise<Parsed<z.infer<S>>> {
+export async function parseForm<S extends z.ZodType>(
+	schema: S,
+	request: Request
+): Promise<Parsed<z.infer<S>>> {
 	let form: FormData;
 	try {
 		form = await request.formData();
 	} catch {
-		return { ok: false, issues: [{ path: '', message: 'The form could not be read. Reload the page and try again.' }], values: {} };
+		return {
+			ok: false,
+			issues: [{ path: '', message: 'The form could not be read. Reload the page and try again.' }],
+			values: {}
+		};
 	}
 	const raw: Record<string, unknown> = {};
 	for (const key of new Set(form.keys())) {
@@ -35,12 +43,19 @@ export async function parseForm<S extends z.ZodType>(schema: S, request: Request
 }
 
 /** Parses a JSON body with the input's one schema. */
-export async function parseJson<S extends z.ZodType>(schema: S, request: Request): Promise<Parsed<z.infer<S>>> {
+export async function parseJson<S extends z.ZodType>(
+	schema: S,
+	request: Request
+): Promise<Parsed<z.infer<S>>> {
 	let body: unknown;
 	try {
 		body = await request.json();
 	} catch {
-		return { ok: false, issues: [{ path: '', message: 'The request body is not valid JSON.' }], values: {} };
+		return {
+			ok: false,
+			issues: [{ path: '', message: 'The request body is not valid JSON.' }],
+			values: {}
+		};
 	}
 	const result = schema.safeParse(body);
 	if (result.success) return { ok: true, data: result.data };

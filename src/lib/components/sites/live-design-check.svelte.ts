@@ -38,7 +38,12 @@ export class LiveDesignCheck {
 		const controller = (this.#controller = new AbortController());
 		this.pending = true;
 		try {
-			const res = await fetch('/api/design-check', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(body), signal: controller.signal });
+			const res = await fetch('/api/design-check', {
+				method: 'POST',
+				headers: { 'content-type': 'application/json' },
+				body: JSON.stringify(body),
+				signal: controller.signal
+			});
 			const data = await res.json();
 			if (controller.signal.aborted) return;
 			if (res.ok) {
@@ -48,12 +53,15 @@ export class LiveDesignCheck {
 			} else {
 				this.result = null;
 				this.issues = data.issues ?? [];
-				this.message = data.issues?.length ? '' : (data.message ?? 'The design could not be checked.');
+				this.message = data.issues?.length
+					? ''
+					: (data.message ?? 'The design could not be checked.');
 			}
 		} catch (e) {
 			if (controller.signal.aborted) return;
 			this.result = null;
-			this.message = 'The design check could not be reached (no signal?). It runs again when you save.';
+			this.message =
+				'The design check could not be reached (no signal?). It runs again when you save.';
 			console.warn(e);
 		} finally {
 			if (this.#controller === controller) this.pending = false;

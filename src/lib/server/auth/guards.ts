@@ -13,8 +13,13 @@ export function requireUser(event: Event): Actor {
 	const user = event.locals.user;
 	if (user) return user;
 	const token = event.locals.token;
-	if (token) error('error' in token ? 401 : 403, 'error' in token ? token.error : 'This API token may only send factory test imports.');
-	if (isApi(event.url)) error(401, 'Sign in first: this request carries no valid session or token.');
+	if (token)
+		error(
+			'error' in token ? 401 : 403,
+			'error' in token ? token.error : 'This API token may only send factory test imports.'
+		);
+	if (isApi(event.url))
+		error(401, 'Sign in first: this request carries no valid session or token.');
 	redirect(303, `/signin?next=${encodeURIComponent(event.url.pathname + event.url.search)}`);
 }
 
@@ -23,7 +28,10 @@ export function requireRole(event: Event, ...roles: RoleName[]): Actor {
 	const user = requireUser(event);
 	if (!hasRole(user.role, roles)) {
 		const who = roles.map((r) => ROLE_LABELS[r]).join(', ');
-		error(403, `This area is for: ${who}. You are signed in as ${ROLE_LABELS[user.role as RoleName] ?? user.role}.`);
+		error(
+			403,
+			`This area is for: ${who}. You are signed in as ${ROLE_LABELS[user.role as RoleName] ?? user.role}.`
+		);
 	}
 	return user;
 }
@@ -37,11 +45,15 @@ export function allowAnonymous(event: Event): Actor | null {
  * For API routes that test rigs may call: a valid token with the scope, or a signed-in
  * user with one of the roles. A revoked or unknown token is refused with 401 and the reason.
  */
-export function requireApiActor(event: Event, opts: { roles: RoleName[]; tokenScope?: 'imports' }): Actor {
+export function requireApiActor(
+	event: Event,
+	opts: { roles: RoleName[]; tokenScope?: 'imports' }
+): Actor {
 	const token = event.locals.token;
 	if (token) {
 		if ('error' in token) error(401, token.error);
-		if (token.scope !== opts.tokenScope) error(403, 'This API token may only send factory test imports.');
+		if (token.scope !== opts.tokenScope)
+			error(403, 'This API token may only send factory test imports.');
 		return token.actor;
 	}
 	return requireRole(event, ...opts.roles);

@@ -23,14 +23,24 @@ async function authorize(credentials: Partial<Record<string, unknown>>) {
 	if (signInBlockedFor(email, address) > 0) throw new RateLimited();
 	const db = await getDb();
 	const [user] = await db.select().from(users).where(eq(users.email, email)).limit(1);
-	const ok = !!user && user.active && !!user.passwordHash && (await verifyPassword(user.passwordHash, password));
+	const ok =
+		!!user &&
+		user.active &&
+		!!user.passwordHash &&
+		(await verifyPassword(user.passwordHash, password));
 	if (!ok || !user) {
 		recordSignInFailure(email, address);
 		return null;
 	}
 	clearSignInFailures(email);
 	await db.update(users).set({ lastSignInAt: new Date() }).where(eq(users.id, user.id));
-	return { id: String(user.id), email: user.email, name: user.name, role: user.role, organisationId: user.organisationId };
+	return {
+		id: String(user.id),
+		email: user.email,
+		name: user.name,
+		role: user.role,
+		organisationId: user.organisationId
+	};
 }
 
 export const authConfig: SvelteKitAuthConfig = {
@@ -46,7 +56,10 @@ export const authConfig: SvelteKitAuthConfig = {
 	},
 	providers: [
 		Credentials({
-			credentials: { email: { label: 'E-mail', type: 'email' }, password: { label: 'Password', type: 'password' } },
+			credentials: {
+				email: { label: 'E-mail', type: 'email' },
+				password: { label: 'Password', type: 'password' }
+			},
 			authorize
 		})
 	],
@@ -78,8 +91,17 @@ export const { handle: authHandle, signIn, signOut } = SvelteKitAuth(authConfig)
  * with a cookie jar expect the standard endpoints, so these three are answered
  * here by Auth.js with its double-submit CSRF check switched back on.
  */
-const STANDARD = new Set(['GET /auth/csrf', 'POST /auth/callback/credentials', 'POST /auth/signout']);
+const STANDARD = new Set([
+	'GET /auth/csrf',
+	'POST /auth/callback/credentials',
+	'POST /auth/signout'
+]);
 export const standardAuthEndpoints: Handle = ({ event, resolve }) => {
 	if (!STANDARD.has(`${event.request.method} ${event.url.pathname}`)) return resolve(event);
-	return Auth(event.request, { ...authConfig, basePath: '/auth', secret: process.env.AUTH_SECRET, skipCSRFCheck: undefined });
+	return Auth(event.request, {
+		...authConfig,
+		basePath: '/auth',
+		secret: process.env.AUTH_SECRET,
+		skipCSRFCheck: undefined
+	});
 };

@@ -20,8 +20,10 @@ export function signInBlockedFor(email: string, address: string, now = Date.now(
 	const acc = recent(`acct:${email.toLowerCase()}`, now);
 	const addr = recent(`addr:${address}`, now);
 	const blocked: number[] = [];
-	if (acc.length >= MAX_FAILURES_PER_ACCOUNT) blocked.push(acc[acc.length - MAX_FAILURES_PER_ACCOUNT]);
-	if (addr.length >= MAX_FAILURES_PER_ADDRESS) blocked.push(addr[addr.length - MAX_FAILURES_PER_ADDRESS]);
+	if (acc.length >= MAX_FAILURES_PER_ACCOUNT)
+		blocked.push(acc[acc.length - MAX_FAILURES_PER_ACCOUNT]);
+	if (addr.length >= MAX_FAILURES_PER_ADDRESS)
+		blocked.push(addr[addr.length - MAX_FAILURES_PER_ADDRESS]);
 	if (!blocked.length) return 0;
 	const until = Math.max(...blocked) + WINDOW_MS;
 	return Math.max(1, Math.ceil((until - now) / 60000));

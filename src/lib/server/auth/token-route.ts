@@ -6,7 +6,10 @@ import { parseForm } from '$lib/server/validation';
 import { checkToken, redeemToken } from '$lib/server/services/users';
 
 /** Shared load and action of the two one-time-link pages (invitation and reset). */
-export async function loadToken(event: RequestEvent<{ token: string }>, purpose: 'invite' | 'reset') {
+export async function loadToken(
+	event: RequestEvent<{ token: string }>,
+	purpose: 'invite' | 'reset'
+) {
 	try {
 		const row = await checkToken(await getDb(), event.params.token, purpose);
 		return { email: row.email };
@@ -16,7 +19,10 @@ export async function loadToken(event: RequestEvent<{ token: string }>, purpose:
 	}
 }
 
-export async function spendToken(event: RequestEvent<{ token: string }>, purpose: 'invite' | 'reset') {
+export async function spendToken(
+	event: RequestEvent<{ token: string }>,
+	purpose: 'invite' | 'reset'
+) {
 	const parsed = await parseForm(passwordSchema, event.request);
 	if (!parsed.ok) return fail(400, { issues: parsed.issues });
 	try {

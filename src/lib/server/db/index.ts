@@ -5,7 +5,10 @@ let instance: Promise<Db> | undefined;
 /** The application's database, opened once from DATABASE_URL and migrated on first use. */
 export function getDb(): Promise<Db> {
 	instance ??= (async () => {
-		const db = await openDb(process.env.DATABASE_URL || DEFAULT_DATABASE_URL, process.env.DATABASE_AUTH_TOKEN);
+		const db = await openDb(
+			process.env.DATABASE_URL || DEFAULT_DATABASE_URL,
+			process.env.DATABASE_AUTH_TOKEN
+		);
 		await migrateDb(db);
 		return db;
 	})();

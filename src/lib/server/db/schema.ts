@@ -1,5 +1,13 @@
 import { sql } from 'drizzle-orm';
-import { index, integer, primaryKey, real, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
+import {
+	index,
+	integer,
+	primaryKey,
+	real,
+	sqliteTable,
+	text,
+	uniqueIndex
+} from 'drizzle-orm/sqlite-core';
 
 const createdAt = () =>
 	integer('created_at', { mode: 'timestamp_ms' })
@@ -171,7 +179,10 @@ export const moduleCellLots = sqliteTable(
 			.references(() => modules.id),
 		lotCode: text('lot_code').notNull()
 	},
-	(t) => [primaryKey({ columns: [t.moduleId, t.lotCode] }), index('cell_lots_lot_idx').on(t.lotCode)]
+	(t) => [
+		primaryKey({ columns: [t.moduleId, t.lotCode] }),
+		index('cell_lots_lot_idx').on(t.lotCode)
+	]
 );
 
 export const EVENT_KINDS = [
@@ -237,7 +248,6 @@ export const mailOutbox = sqliteTable('mail_outbox', {
 	text: text('text').notNull(),
 	transport: text('transport', { enum: ['fake', 'smtp'] }).notNull()
 });
-
 
 /** Tokens for machines (test rigs): shown once, stored as a SHA-256 hash, limited to a scope. */
 export const apiTokens = sqliteTable('api_tokens', {
@@ -315,7 +325,11 @@ export const factoryTests = sqliteTable(
 		/** Failed checks as JSON [{check, message}]; empty for a pass. */
 		failures: text('failures').notNull()
 	},
-	(t) => [index('factory_tests_module_idx').on(t.moduleId, t.testedAt), index('factory_tests_import_idx').on(t.importId), index('factory_tests_time_idx').on(t.testedAt)]
+	(t) => [
+		index('factory_tests_module_idx').on(t.moduleId, t.testedAt),
+		index('factory_tests_import_idx').on(t.importId),
+		index('factory_tests_time_idx').on(t.testedAt)
+	]
 );
 
 export const shipments = sqliteTable(
@@ -327,7 +341,9 @@ export const shipments = sqliteTable(
 		dealerOrgId: integer('dealer_org_id')
 			.notNull()
 			.references(() => organisations.id),
-		status: text('status', { enum: ['draft', 'dispatched'] }).notNull().default('draft'),
+		status: text('status', { enum: ['draft', 'dispatched'] })
+			.notNull()
+			.default('draft'),
 		note: text('note'),
 		createdBy: integer('created_by')
 			.notNull()
@@ -350,10 +366,20 @@ export const shipmentItems = sqliteTable(
 			.references(() => modules.id),
 		addedAt: createdAt()
 	},
-	(t) => [primaryKey({ columns: [t.shipmentId, t.moduleId] }), index('shipment_items_module_idx').on(t.moduleId)]
+	(t) => [
+		primaryKey({ columns: [t.shipmentId, t.moduleId] }),
+		index('shipment_items_module_idx').on(t.moduleId)
+	]
 );
 
-export const SITE_APPLICATIONS = ['off_grid_home', 'backup', 'ups', 'workshop', 'telecom', 'other'] as const;
+export const SITE_APPLICATIONS = [
+	'off_grid_home',
+	'backup',
+	'ups',
+	'workshop',
+	'telecom',
+	'other'
+] as const;
 
 /** A place where systems are installed. Owner name and contact are personal data: the site's dealer and the assembler's staff only. */
 export const sites = sqliteTable(
@@ -395,7 +421,9 @@ export const systems = sqliteTable(
 		preferredMaxV: real('preferred_max_v'),
 		maxChargeA: real('max_charge_a'),
 		maxDischargeA: real('max_discharge_a'),
-		status: text('status', { enum: ['planned', 'commissioned'] }).notNull().default('planned'),
+		status: text('status', { enum: ['planned', 'commissioned'] })
+			.notNull()
+			.default('planned'),
 		createdAt: createdAt()
 	},
 	(t) => [index('systems_site_idx').on(t.siteId)]
@@ -414,7 +442,10 @@ export const systemSlots = sqliteTable(
 			.notNull()
 			.references(() => modules.id)
 	},
-	(t) => [primaryKey({ columns: [t.systemId, t.stringNo, t.position] }), uniqueIndex('system_slots_module_idx').on(t.moduleId)]
+	(t) => [
+		primaryKey({ columns: [t.systemId, t.stringNo, t.position] }),
+		uniqueIndex('system_slots_module_idx').on(t.moduleId)
+	]
 );
 
 /** Small per-user settings, e.g. the fleet table's chosen columns. */
@@ -478,7 +509,15 @@ export const attachments = sqliteTable(
 	(t) => [index('attachments_owner_idx').on(t.ownerKind, t.ownerId)]
 );
 
-export const CLAIM_STATES = ['filed', 'in_review', 'awaiting_evidence', 'covered', 'not_covered', 'replacement_sent', 'closed'] as const;
+export const CLAIM_STATES = [
+	'filed',
+	'in_review',
+	'awaiting_evidence',
+	'covered',
+	'not_covered',
+	'replacement_sent',
+	'closed'
+] as const;
 export type ClaimState = (typeof CLAIM_STATES)[number];
 
 /** A warranty claim on one or more modules of a commissioned system. */
@@ -524,7 +563,10 @@ export const claimModules = sqliteTable(
 		returnFindings: text('return_findings'),
 		returnCause: text('return_cause')
 	},
-	(t) => [primaryKey({ columns: [t.claimId, t.moduleId] }), index('claim_modules_module_idx').on(t.moduleId)]
+	(t) => [
+		primaryKey({ columns: [t.claimId, t.moduleId] }),
+		index('claim_modules_module_idx').on(t.moduleId)
+	]
 );
 
 /** Every change of a claim's state: who, when, from what to what, and why. */

@@ -33,7 +33,12 @@ async function startMailer(db: Db): Promise<Mailer> {
 	const smtpUrl = process.env.SMTP_URL;
 	if (smtpUrl) {
 		const transport = nodemailer.createTransport(smtpUrl);
-		return { transport, kind: 'smtp', close: async () => transport.close(), settled: async () => {} };
+		return {
+			transport,
+			kind: 'smtp',
+			close: async () => transport.close(),
+			settled: async () => {}
+		};
 	}
 	const pending = new Set<Promise<void>>();
 	const server = new SMTPServer({
@@ -67,7 +72,12 @@ async function startMailer(db: Db): Promise<Mailer> {
 		});
 		server.on('error', reject);
 	});
-	const transport = nodemailer.createTransport({ host: '127.0.0.1', port, secure: false, ignoreTLS: true });
+	const transport = nodemailer.createTransport({
+		host: '127.0.0.1',
+		port,
+		secure: false,
+		ignoreTLS: true
+	});
 	return {
 		transport,
 		kind: 'fake',

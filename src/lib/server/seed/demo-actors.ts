@@ -12,7 +12,10 @@ export async function actorForEmail(db: Db, email: string): Promise<Actor> {
 }
 
 export async function getModelIdByCode(db: Db, code: string): Promise<number> {
-	const [m] = await db.select({ id: moduleModels.id }).from(moduleModels).where(eq(moduleModels.code, code));
+	const [m] = await db
+		.select({ id: moduleModels.id })
+		.from(moduleModels)
+		.where(eq(moduleModels.code, code));
 	if (!m) throw new Error(`No model ${code}`);
 	return m.id;
 }

@@ -32,7 +32,40 @@ const common = {
 };
 
 export const DEMO_MODELS = [
-	{ ...common, code: 'TC-HC-12', name: 'TC-HC 12 V module', variant: '12', cellsSeries: 6, ratedAh: 170, massKg: 24.5, gtin: null, minCapacityAh: 165, maxDcirMohm: 1.6 },
-	{ ...common, code: 'TC-HC-24', name: 'TC-HC 24 V module', variant: '24', cellsSeries: 11, ratedAh: 93, massKg: 25.0, gtin: gtin('0952123460001'), minCapacityAh: 90, maxDcirMohm: 3.2 },
-	{ ...common, code: 'TC-HC-48', name: 'TC-HC 48 V module', variant: '48', cellsSeries: 22, ratedAh: 46.5, massKg: 25.5, gtin: gtin('0952123460002'), minCapacityAh: 45, maxDcirMohm: 6.4 }
+	{
+		...common,
+		code: 'TC-HC-12',
+		name: 'TC-HC 12 V module',
+		variant: '12',
+		cellsSeries: 6,
+		ratedAh: 170,
+		massKg: 24.5,
+		gtin: null,
+		minCapacityAh: 165,
+		maxDcirMohm: 1.6
+	},
+	{
+		...common,
+		code: 'TC-HC-24',
+		name: 'TC-HC 24 V module',
+		variant: '24',
+		cellsSeries: 11,
+		ratedAh: 93,
+		massKg: 25.0,
+		gtin: gtin('0952123460001'),
+		minCapacityAh: 90,
+		maxDcirMohm: 3.2
+	},
+	{
+		...common,
+		code: 'TC-HC-48',
+		name: 'TC-HC 48 V module',
+		variant: '48',
+		cellsSeries: 22,
+		ratedAh: 46.5,
+		massKg: 25.5,
+		gtin: gtin('0952123460002'),
+		minCapacityAh: 45,
+		maxDcirMohm: 6.4
+	}
 ];

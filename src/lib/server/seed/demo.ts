@@ -5,21 +5,76 @@ import { hashPassword } from '$lib/server/auth/password';
 import { DEMO_MODELS } from './demo-models';
 
 export const DEMO_ORGS = [
-	{ kind: 'assembler' as const, name: 'Tidewater Cellworks', contactEmail: 'office@tidewater.example', region: 'Port Halden' },
-	{ kind: 'dealer' as const, name: 'Saltmarsh Solar', contactEmail: 'dealer@saltmarsh.example', region: 'Saltmarsh coast' },
-	{ kind: 'dealer' as const, name: 'Ridgeline Off-Grid Supply', contactEmail: 'dealer@ridgeline.example', region: 'Ridgeline hills' },
-	{ kind: 'dealer' as const, name: 'Northbank Electrical', contactEmail: 'dealer@northbank.example', region: 'Northbank' }
+	{
+		kind: 'assembler' as const,
+		name: 'Tidewater Cellworks',
+		contactEmail: 'office@tidewater.example',
+		region: 'Port Halden'
+	},
+	{
+		kind: 'dealer' as const,
+		name: 'Saltmarsh Solar',
+		contactEmail: 'dealer@saltmarsh.example',
+		region: 'Saltmarsh coast'
+	},
+	{
+		kind: 'dealer' as const,
+		name: 'Ridgeline Off-Grid Supply',
+		contactEmail: 'dealer@ridgeline.example',
+		region: 'Ridgeline hills'
+	},
+	{
+		kind: 'dealer' as const,
+		name: 'Northbank Electrical',
+		contactEmail: 'dealer@northbank.example',
+		region: 'Northbank'
+	}
 ];
 
 export const DEMO_USERS: { email: string; name: string; role: Role; org: string }[] = [
-	{ email: 'admin@tidewater.example', name: 'Maren Oakes', role: 'admin', org: 'Tidewater Cellworks' },
-	{ email: 'workshop@tidewater.example', name: 'Tobin Vale', role: 'workshop', org: 'Tidewater Cellworks' },
-	{ email: 'tech@tidewater.example', name: 'Ilse Fenwick', role: 'field_tech', org: 'Tidewater Cellworks' },
-	{ email: 'warranty@tidewater.example', name: 'Corin Ashby', role: 'warranty', org: 'Tidewater Cellworks' },
+	{
+		email: 'admin@tidewater.example',
+		name: 'Maren Oakes',
+		role: 'admin',
+		org: 'Tidewater Cellworks'
+	},
+	{
+		email: 'workshop@tidewater.example',
+		name: 'Tobin Vale',
+		role: 'workshop',
+		org: 'Tidewater Cellworks'
+	},
+	{
+		email: 'tech@tidewater.example',
+		name: 'Ilse Fenwick',
+		role: 'field_tech',
+		org: 'Tidewater Cellworks'
+	},
+	{
+		email: 'warranty@tidewater.example',
+		name: 'Corin Ashby',
+		role: 'warranty',
+		org: 'Tidewater Cellworks'
+	},
 	{ email: 'dealer@saltmarsh.example', name: 'Petra Lund', role: 'dealer', org: 'Saltmarsh Solar' },
-	{ email: 'dealer@ridgeline.example', name: 'Hal Brenner', role: 'dealer', org: 'Ridgeline Off-Grid Supply' },
-	{ email: 'tech@ridgeline.example', name: 'Joss Carrow', role: 'field_tech', org: 'Ridgeline Off-Grid Supply' },
-	{ email: 'dealer@northbank.example', name: 'Ada Rowntree', role: 'dealer', org: 'Northbank Electrical' }
+	{
+		email: 'dealer@ridgeline.example',
+		name: 'Hal Brenner',
+		role: 'dealer',
+		org: 'Ridgeline Off-Grid Supply'
+	},
+	{
+		email: 'tech@ridgeline.example',
+		name: 'Joss Carrow',
+		role: 'field_tech',
+		org: 'Ridgeline Off-Grid Supply'
+	},
+	{
+		email: 'dealer@northbank.example',
+		name: 'Ada Rowntree',
+		role: 'dealer',
+		org: 'Northbank Electrical'
+	}
 ];
 
 /** Fills the invented demo scenario. Safe to run twice: existing rows are left as they are. */
@@ -31,7 +86,13 @@ export async function seedDemo(db: Db, password = 'packledger-demo') {
 	for (const u of DEMO_USERS) {
 		await db
 			.insert(users)
-			.values({ email: u.email, name: u.name, role: u.role, organisationId: orgId(u.org), passwordHash })
+			.values({
+				email: u.email,
+				name: u.name,
+				role: u.role,
+				organisationId: orgId(u.org),
+				passwordHash
+			})
 			.onConflictDoNothing();
 	}
 	for (const m of DEMO_MODELS) await db.insert(moduleModels).values(m).onConflictDoNothing();

@@ -4,14 +4,30 @@ import { organisations, users } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 
 /** The Actor of an active user (by id or e-mail), with the organisation's kind deciding dealer scope; null if none. */
-export async function findActor(db: Db, by: { id: number } | { email: string }): Promise<Actor | null> {
+export async function findActor(
+	db: Db,
+	by: { id: number } | { email: string }
+): Promise<Actor | null> {
 	const where: SQL = 'id' in by ? eq(users.id, by.id) : eq(users.email, by.email);
 	const [row] = await db
-		.select({ id: users.id, email: users.email, role: users.role, active: users.active, orgId: users.organisationId, orgKind: organisations.kind })
+		.select({
+			id: users.id,
+			email: users.email,
+			role: users.role,
+			active: users.active,
+			orgId: users.organisationId,
+			orgKind: organisations.kind
+		})
 		.from(users)
 		.innerJoin(organisations, eq(users.organisationId, organisations.id))
 		.where(where)
 		.limit(1);
 	if (!row || !row.active) return null;
-	return { userId: row.id, role: row.role, organisationId: row.orgId, dealerScoped: row.orgKind === 'dealer', label: row.email };
+	return {
+		userId: row.id,
+		role: row.role,
+		organisationId: row.orgId,
+		dealerScoped: row.orgKind === 'dealer',
+		label: row.email
+	};
 }

@@ -18,11 +18,23 @@ export interface AttachmentOwner {
 
 export type PhotoType = 'image/jpeg' | 'image/png' | 'image/webp';
 
-const ascii = (b: Uint8Array, from: number, length: number) => String.fromCharCode(...b.subarray(from, from + length));
+const ascii = (b: Uint8Array, from: number, length: number) =>
+	String.fromCharCode(...b.subarray(from, from + length));
 const startsWith = (b: Uint8Array, sig: number[]) => sig.every((v, i) => b[i] === v);
 
 // ISO base media brands of HEIF/HEIC (still images from phones) and AVIF.
-const HEIF_BRANDS = new Set(['heic', 'heix', 'hevc', 'hevx', 'heim', 'heis', 'hevm', 'hevs', 'mif1', 'msf1']);
+const HEIF_BRANDS = new Set([
+	'heic',
+	'heix',
+	'hevc',
+	'hevx',
+	'heim',
+	'heis',
+	'hevm',
+	'hevs',
+	'mif1',
+	'msf1'
+]);
 
 /**
  * What the file's first bytes say it is (its "magic bytes"), whatever its name or
@@ -30,8 +42,10 @@ const HEIF_BRANDS = new Set(['heic', 'heix', 'hevc', 'hevx', 'heim', 'heis', 'he
  */
 export function sniffImage(bytes: Uint8Array): { accepted: PhotoType } | { other: string } | null {
 	if (startsWith(bytes, [0xff, 0xd8, 0xff])) return { accepted: 'image/jpeg' };
-	if (startsWith(bytes, [0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a])) return { accepted: 'image/png' };
-	if (bytes.length >= 12 && ascii(bytes, 0, 4) === 'RIFF' && ascii(bytes, 8, 4) === 'WEBP') return { accepted: 'image/webp' };
+	if (startsWith(bytes, [0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]))
+		return { accepted: 'image/png' };
+	if (bytes.length >= 12 && ascii(bytes, 0, 4) === 'RIFF' && ascii(bytes, 8, 4) === 'WEBP')
+		return { accepted: 'image/webp' };
 	if (bytes.length >= 12 && ascii(bytes, 4, 4) === 'ftyp') {
 		const brand = ascii(bytes, 8, 4);
 		if (HEIF_BRANDS.has(brand)) return { other: 'HEIC' };
@@ -41,7 +55,8 @@ export function sniffImage(bytes: Uint8Array): { accepted: PhotoType } | { other
 	if (ascii(bytes, 0, 4) === 'GIF8') return { other: 'GIF' };
 	if (ascii(bytes, 0, 5) === '%PDF-') return { other: 'PDF' };
 	if (ascii(bytes, 0, 2) === 'BM') return { other: 'BMP' };
-	if (startsWith(bytes, [0x49, 0x49, 0x2a, 0x00]) || startsWith(bytes, [0x4d, 0x4d, 0x00, 0x2a])) return { other: 'TIFF' };
+	if (startsWith(bytes, [0x49, 0x49, 0x2a, 0x00]) || startsWith(bytes, [0x4d, 0x4d, 0x00, 0x2a]))
+		return { other: 'TIFF' };
 	return null;
 }
 
@@ -52,42 +67,68 @@ const SEND = 'send a JPEG, PNG or WebP photo';
 /** Checks a photo's size and content; returns its real type or throws a message a technician can act on. */
 export function checkPhoto(file: { name: string; type: string; bytes: Uint8Array }): PhotoType {
 	const name = file.name || 'The photo';
-	if (file.bytes.byteLength === 0) throw new InvalidInputError(`${name} is empty; take the photo again.`);
+	if (file.bytes.byteLength === 0)
+		throw new InvalidInputError(`${name} is empty; take the photo again.`);
 	if (file.bytes.byteLength > PHOTO_MAX_BYTES) {
-		throw new InvalidInputError(`${name} is ${mb(file.bytes.byteLength)}, over the ${PHOTO_MAX_BYTES / 1024 / 1024} MB limit. Choose a smaller photo size in the camera settings, or ${SEND} of at most ${PHOTO_MAX_BYTES / 1024 / 1024} MB.`);
+		throw new InvalidInputError(
+			`${name} is ${mb(file.bytes.byteLength)}, over the ${PHOTO_MAX_BYTES / 1024 / 1024} MB limit. Choose a smaller photo size in the camera settings, or ${SEND} of at most ${PHOTO_MAX_BYTES / 1024 / 1024} MB.`
+		);
 	}
 	const kind = sniffImage(file.bytes);
 	if (kind && 'accepted' in kind) return kind.accepted;
 	if (kind?.other === 'HEIC') {
-		throw new InvalidInputError(`${name} is a HEIC image; set the phone camera to 'Most compatible' (JPEG) or send a JPEG/PNG/WebP.`);
+		throw new InvalidInputError(
+			`${name} is a HEIC image; set the phone camera to 'Most compatible' (JPEG) or send a JPEG/PNG/WebP.`
+		);
 	}
-	if (kind) throw new InvalidInputError(`${name} is a ${kind.other} file, not a photo Packledger keeps; ${SEND}.`);
+	if (kind)
+		throw new InvalidInputError(
+			`${name} is a ${kind.other} file, not a photo Packledger keeps; ${SEND}.`
+		);
 	const claimed = file.type ? `, although it is labelled ${file.type}` : '';
 	throw new InvalidInputError(`${name} is not a JPEG, PNG or WebP image${claimed}; ${SEND}.`);
 }
 
 /** The dealer organisation responsible for an owner record (null: the assembler's own site), or NotFound. */
-async function ownerSite(db: Db, owner: AttachmentOwner): Promise<{ systemId: number; dealerOrgId: number | null }> {
+async function ownerSite(
+	db: Db,
+	owner: AttachmentOwner
+): Promise<{ systemId: number; dealerOrgId: number | null }> {
 	let systemId = owner.ownerId;
 	if (owner.ownerKind === 'commissioning') {
-		const [c] = await db.select({ systemId: commissionings.systemId }).from(commissionings).where(eq(commissionings.id, owner.ownerId));
+		const [c] = await db
+			.select({ systemId: commissionings.systemId })
+			.from(commissionings)
+			.where(eq(commissionings.id, owner.ownerId));
 		if (!c) throw new NotFoundError();
 		systemId = c.systemId;
 	} else if (owner.ownerKind === 'claim') {
-		const [c] = await db.select({ systemId: claims.systemId }).from(claims).where(eq(claims.id, owner.ownerId));
+		const [c] = await db
+			.select({ systemId: claims.systemId })
+			.from(claims)
+			.where(eq(claims.id, owner.ownerId));
 		if (!c) throw new NotFoundError();
 		systemId = c.systemId;
 	} else if (owner.ownerKind !== 'system') {
 		throw new NotFoundError();
 	}
-	const [row] = await db.select({ dealerOrgId: sites.dealerOrgId }).from(systems).innerJoin(sites, eq(systems.siteId, sites.id)).where(eq(systems.id, systemId));
+	const [row] = await db
+		.select({ dealerOrgId: sites.dealerOrgId })
+		.from(systems)
+		.innerJoin(sites, eq(systems.siteId, sites.id))
+		.where(eq(systems.id, systemId));
 	if (!row) throw new NotFoundError();
 	return { systemId, dealerOrgId: row.dealerOrgId };
 }
 
 /** Throws NotFound unless the actor may see the owner: its site's dealer, or the assembler's staff. */
 async function assertOwnerVisible(db: Db, actor: Actor, owner: AttachmentOwner): Promise<void> {
-	const what = owner.ownerKind === 'commissioning' ? 'Commissioning' : owner.ownerKind === 'claim' ? 'Claim' : 'System';
+	const what =
+		owner.ownerKind === 'commissioning'
+			? 'Commissioning'
+			: owner.ownerKind === 'claim'
+				? 'Claim'
+				: 'System';
 	const notFound = () => new NotFoundError(`${what} ${owner.ownerId} is not in the register.`);
 	let site;
 	try {
@@ -113,19 +154,45 @@ export async function savePhoto(
 	caption?: string | null,
 	now = new Date()
 ) {
-	if (actor.userId === null) throw new InvalidInputError('Photos are uploaded by a signed-in person.');
+	if (actor.userId === null)
+		throw new InvalidInputError('Photos are uploaded by a signed-in person.');
 	await assertOwnerVisible(db, actor, owner);
 	const contentType = checkPhoto(file);
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
 	const storageKey = `attachments/${owner.ownerKind}/${owner.ownerId}/${randomUUID()}`;
-	const fileName = (file.name || 'photo').replace(/[\u0000-\u001f\u007f]/g, '').slice(0, 200) || 'photo';
+	const fileName =
+		(file.name || 'photo').replace(/[\u0000-\u001f\u007f]/g, '').slice(0, 200) || 'photo';
 	await putObject(storageKey, file.bytes, contentType);
 	try {
 		const [row] = await db
 			.insert(attachments)
-			.values({ ownerKind: owner.ownerKind, ownerId: owner.ownerId, storageKey, fileName, contentType, bytes: file.bytes.byteLength, sha256, caption: caption?.trim() || null, uploadedBy: actor.userId, createdAt: now })
+			.values({
+				ownerKind: owner.ownerKind,
+				ownerId: owner.ownerId,
+				storageKey,
+				fileName,
+				contentType,
+				bytes: file.bytes.byteLength,
+				sha256,
+				caption: caption?.trim() || null,
+				uploadedBy: actor.userId,
+				createdAt: now
+			})
 			.returning();
-		await recordAudit(db, actor, { action: 'attachment.add', entity: 'attachment', entityId: row.id, after: { ownerKind: row.ownerKind, ownerId: row.ownerId, fileName, contentType, bytes: row.bytes, sha256 }, at: now });
+		await recordAudit(db, actor, {
+			action: 'attachment.add',
+			entity: 'attachment',
+			entityId: row.id,
+			after: {
+				ownerKind: row.ownerKind,
+				ownerId: row.ownerId,
+				fileName,
+				contentType,
+				bytes: row.bytes,
+				sha256
+			},
+			at: now
+		});
 		return row;
 	} catch (e) {
 		// No row points at the stored file: remove it rather than leave an orphan.
@@ -138,7 +205,14 @@ export async function savePhoto(
 export async function listAttachments(db: Db, actor: Actor, owner: AttachmentOwner) {
 	await assertOwnerVisible(db, actor, owner);
 	return db
-		.select({ id: attachments.id, fileName: attachments.fileName, contentType: attachments.contentType, bytes: attachments.bytes, caption: attachments.caption, createdAt: attachments.createdAt })
+		.select({
+			id: attachments.id,
+			fileName: attachments.fileName,
+			contentType: attachments.contentType,
+			bytes: attachments.bytes,
+			caption: attachments.caption,
+			createdAt: attachments.createdAt
+		})
 		.from(attachments)
 		.where(and(eq(attachments.ownerKind, owner.ownerKind), eq(attachments.ownerId, owner.ownerId)))
 		.orderBy(asc(attachments.id));
@@ -151,12 +225,18 @@ export async function readAttachment(db: Db, actor: Actor, id: number) {
 	const [row] = await db.select().from(attachments).where(eq(attachments.id, id));
 	if (!row) throw notFound;
 	try {
-		await assertOwnerVisible(db, actor, { ownerKind: row.ownerKind as AttachmentOwnerKind, ownerId: row.ownerId });
+		await assertOwnerVisible(db, actor, {
+			ownerKind: row.ownerKind as AttachmentOwnerKind,
+			ownerId: row.ownerId
+		});
 	} catch (e) {
 		if (e instanceof NotFoundError) throw notFound;
 		throw e;
 	}
 	const object = await getObject(row.storageKey);
-	if (!object) throw new NotFoundError(`The file of attachment ${id} (${row.fileName}) is missing from storage; tell an administrator.`);
+	if (!object)
+		throw new NotFoundError(
+			`The file of attachment ${id} (${row.fileName}) is missing from storage; tell an administrator.`
+		);
 	return { attachment: row, bytes: object.bytes, contentType: row.contentType };
 }

@@ -9,7 +9,14 @@ type Conn = Db | Tx;
 export async function recordAudit(
 	conn: Conn,
 	actor: Actor,
-	entry: { action: string; entity: string; entityId: string | number; before?: unknown; after?: unknown; at?: Date }
+	entry: {
+		action: string;
+		entity: string;
+		entityId: string | number;
+		before?: unknown;
+		after?: unknown;
+		at?: Date;
+	}
 ): Promise<void> {
 	await conn.insert(auditLog).values({
 		at: entry.at ?? new Date(),

@@ -13,28 +13,66 @@ import { findModule } from './modules';
  * assembly checks, who and when. Only a module whose label is printed and not yet built,
  * of a model still in production, can be registered; nothing changes otherwise.
  */
-export async function registerBuild(db: Db, actor: Actor, serialText: string, input: BuildInput, now = new Date()) {
+export async function registerBuild(
+	db: Db,
+	actor: Actor,
+	serialText: string,
+	input: BuildInput,
+	now = new Date()
+) {
 	const mod = await findModule(db, actor, serialText);
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mod.modelId));
 	if (mod.state !== 'allocated') {
-		const [by] = mod.builtBy ? await db.select({ name: users.name }).from(users).where(eq(users.id, mod.builtBy)) : [];
-		const when = mod.builtAt ? ` on ${mod.builtAt.toISOString().slice(0, 16).replace('T', ' ')} UTC` : '';
-		throw new ConflictError(`${mod.serial} is already built${when}${by ? ` by ${by.name}` : ''}. Scan the next label.`);
+		const [by] = mod.builtBy
+			? await db.select({ name: users.name }).from(users).where(eq(users.id, mod.builtBy))
+			: [];
+		const when = mod.builtAt
+			? ` on ${mod.builtAt.toISOString().slice(0, 16).replace('T', ' ')} UTC`
+			: '';
+		throw new ConflictError(
+			`${mod.serial} is already built${when}${by ? ` by ${by.name}` : ''}. Scan the next label.`
+		);
 	}
-	if (model.retiredAt) throw new ConflictError(`${mod.serial} is a ${model.code}, which is retired. Ask an administrator before building it.`);
+	if (model.retiredAt)
+		throw new ConflictError(
+			`${mod.serial} is a ${model.code}, which is retired. Ask an administrator before building it.`
+		);
 
 	const checks = Object.fromEntries(input.checks.map((k) => [k, true]));
 	return writeTx(db, async (tx) => {
 		const updated = await tx
 			.update(modules)
-			.set({ state: 'built', builtAt: now, builtBy: actor.userId, cellLots: JSON.stringify(input.cellLots), buildChecks: JSON.stringify(checks), buildNotes: input.notes || null, updatedAt: now })
+			.set({
+				state: 'built',
+				builtAt: now,
+				builtBy: actor.userId,
+				cellLots: JSON.stringify(input.cellLots),
+				buildChecks: JSON.stringify(checks),
+				buildNotes: input.notes || null,
+				updatedAt: now
+			})
 			.where(and(eq(modules.id, mod.id), eq(modules.state, 'allocated')))
 			.returning({ state: modules.state });
 		// A second bench scanning the same label at the same moment loses here, with the same message.
 		if (!updated.length) throw new ConflictError(`${mod.serial} is already built.`);
-		await tx.insert(moduleCellLots).values(input.cellLots.map((lotCode) => ({ moduleId: mod.id, lotCode })));
-		await recordEvent(tx, actor, { moduleId: mod.id, kind: 'built', summary: `Built with cell lot${input.cellLots.length > 1 ? 's' : ''} ${input.cellLots.join(', ')}`, detail: { cellLots: input.cellLots, checks, notes: input.notes }, at: now });
-		await recordAudit(tx, actor, { action: 'module.build', entity: 'module', entityId: mod.serial, before: { state: mod.state }, after: { state: 'built', cellLots: input.cellLots, checks }, at: now });
+		await tx
+			.insert(moduleCellLots)
+			.values(input.cellLots.map((lotCode) => ({ moduleId: mod.id, lotCode })));
+		await recordEvent(tx, actor, {
+			moduleId: mod.id,
+			kind: 'built',
+			summary: `Built with cell lot${input.cellLots.length > 1 ? 's' : ''} ${input.cellLots.join(', ')}`,
+			detail: { cellLots: input.cellLots, checks, notes: input.notes },
+			at: now
+		});
+		await recordAudit(tx, actor, {
+			action: 'module.build',
+			entity: 'module',
+			entityId: mod.serial,
+			before: { state: mod.state },
+			after: { state: 'built', cellLots: input.cellLots, checks },
+			at: now
+		});
 		return { serial: mod.serial, state: 'built' as const };
 	});
 }
@@ -44,11 +82,23 @@ export async function benchTarget(db: Db, actor: Actor, serial: string) {
 	const mod = await findModule(db, actor, serial);
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mod.modelId));
 	if (mod.state !== 'allocated') {
-		const [by] = mod.builtBy ? await db.select({ name: users.name }).from(users).where(eq(users.id, mod.builtBy)) : [];
-		throw new ConflictError(`${mod.serial} is already built${mod.builtAt ? ` (${mod.builtAt.toISOString().slice(0, 10)}${by ? `, ${by.name}` : ''})` : ''}. Scan the next label.`);
+		const [by] = mod.builtBy
+			? await db.select({ name: users.name }).from(users).where(eq(users.id, mod.builtBy))
+			: [];
+		throw new ConflictError(
+			`${mod.serial} is already built${mod.builtAt ? ` (${mod.builtAt.toISOString().slice(0, 10)}${by ? `, ${by.name}` : ''})` : ''}. Scan the next label.`
+		);
 	}
-	if (model.retiredAt) throw new ConflictError(`${mod.serial} is a ${model.code}, which is retired. Ask an administrator before building it.`);
-	return { serial: mod.serial, modelCode: model.code, modelName: model.name, cellsSeries: model.cellsSeries };
+	if (model.retiredAt)
+		throw new ConflictError(
+			`${mod.serial} is a ${model.code}, which is retired. Ask an administrator before building it.`
+		);
+	return {
+		serial: mod.serial,
+		modelCode: model.code,
+		modelName: model.name,
+		cellsSeries: model.cellsSeries
+	};
 }
 
 /** The actor's latest builds, newest first, for the bench's running list. */

@@ -13,7 +13,11 @@ const WIN_ANSI_SWAPS: [RegExp, string][] = [
 	[/[\u00a0\u2009\u202f]/g, ' ']
 ];
 
-const STATUS_WORDS: Record<CommissioningItem['status'], string> = { pass: 'PASS', fail: 'FAIL', not_measured: 'NOT MEASURED' };
+const STATUS_WORDS: Record<CommissioningItem['status'], string> = {
+	pass: 'PASS',
+	fail: 'FAIL',
+	not_measured: 'NOT MEASURED'
+};
 
 /**
  * The commissioning certificate on A4, in a standard font (text outside WinAnsi is
@@ -29,7 +33,10 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 	const regular = await doc.embedFont(StandardFonts.Helvetica);
 	const bold = await doc.embedFont(StandardFonts.HelveticaBold);
 	const charset = new Set(regular.getCharacterSet());
-	const clean = (s: string) => [...WIN_ANSI_SWAPS.reduce((t, [re, to]) => t.replace(re, to), s)].map((ch) => (charset.has(ch.codePointAt(0)!) ? ch : '?')).join('');
+	const clean = (s: string) =>
+		[...WIN_ANSI_SWAPS.reduce((t, [re, to]) => t.replace(re, to), s)]
+			.map((ch) => (charset.has(ch.codePointAt(0)!) ? ch : '?'))
+			.join('');
 
 	const [W, H] = PageSizes.A4;
 	const LEFT = 50;
@@ -69,7 +76,16 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 			y = TOP;
 		}
 	};
-	const write = (text: string, o: { size?: number; font?: PDFFont; x?: number; width?: number; color?: ReturnType<typeof rgb> } = {}) => {
+	const write = (
+		text: string,
+		o: {
+			size?: number;
+			font?: PDFFont;
+			x?: number;
+			width?: number;
+			color?: ReturnType<typeof rgb>;
+		} = {}
+	) => {
 		const size = o.size ?? 10;
 		const x = LEFT + (o.x ?? 0);
 		for (const line of wrap(text, o.font ?? regular, size, o.width ?? WIDTH - (o.x ?? 0))) {
@@ -82,7 +98,12 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 		y -= 10;
 		ensure(40);
 		write(text, { size: 13, font: bold });
-		page.drawLine({ start: { x: LEFT, y: y + 2 }, end: { x: LEFT + WIDTH, y: y + 2 }, thickness: 0.75, color: soft });
+		page.drawLine({
+			start: { x: LEFT, y: y + 2 },
+			end: { x: LEFT + WIDTH, y: y + 2 },
+			thickness: 0.75,
+			color: soft
+		});
 		y -= 6;
 	};
 	/** A label and its value side by side; the value wraps in its own column. */
@@ -109,8 +130,14 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 	heading('System');
 	field('System', sys.name);
 	field('Module model', `${sys.modelCode} (${sys.modelName})`);
-	field('Arrangement', `${sys.series} in series x ${sys.parallel} in parallel (${sys.series * sys.parallel} modules)`);
-	field('String voltage', `${sys.minV} V minimum, ${sys.nominalV} V nominal, ${sys.maxV} V maximum`);
+	field(
+		'Arrangement',
+		`${sys.series} in series x ${sys.parallel} in parallel (${sys.series * sys.parallel} modules)`
+	);
+	field(
+		'String voltage',
+		`${sys.minV} V minimum, ${sys.nominalV} V nominal, ${sys.maxV} V maximum`
+	);
 	if (sys.inverterName) field('Inverter', sys.inverterName);
 
 	heading('Modules');
@@ -132,7 +159,10 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 	heading('Warranty');
 	field('Starts', data.warranty.startsOn);
 	field('Ends', data.warranty.endsOn);
-	write(`Each module listed above is warranted for ${data.warranty.years} years from commissioning, or its rated cycles, whichever comes first, on the terms recorded at commissioning.`, { size: 9, color: soft });
+	write(
+		`Each module listed above is warranted for ${data.warranty.years} years from commissioning, or its rated cycles, whichever comes first, on the terms recorded at commissioning.`,
+		{ size: 9, color: soft }
+	);
 
 	heading('Cautions');
 	for (const c of data.cautions) {
@@ -144,8 +174,16 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 	const pages = doc.getPages();
 	pages.forEach((p, i) => {
 		const note = wrap(data.codesNote, bold, 8, WIDTH);
-		note.forEach((line, j) => p.drawText(line, { x: LEFT, y: 40 - j * 10, size: 8, font: bold, color: ink }));
-		p.drawText(clean(`${data.certificateNo} · page ${i + 1} of ${pages.length}`), { x: LEFT, y: 40 - note.length * 10 - 2, size: 8, font: regular, color: soft });
+		note.forEach((line, j) =>
+			p.drawText(line, { x: LEFT, y: 40 - j * 10, size: 8, font: bold, color: ink })
+		);
+		p.drawText(clean(`${data.certificateNo} · page ${i + 1} of ${pages.length}`), {
+			x: LEFT,
+			y: 40 - note.length * 10 - 2,
+			size: 8,
+			font: regular,
+			color: soft
+		});
 	});
 	return doc.save({ useObjectStreams: false });
 }

@@ -1,6 +1,14 @@
 import { and, asc, count, desc, eq } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
-import { claimModules, claims, commissionings, moduleModels, modules, systemSlots, systems } from '$lib/server/db/schema';
+import {
+	claimModules,
+	claims,
+	commissionings,
+	moduleModels,
+	modules,
+	systemSlots,
+	systems
+} from '$lib/server/db/schema';
 import { assessClaim, type ClaimAssessment, type ClaimInput } from '$lib/domain/warranty';
 import type { WarrantyTerms } from '$lib/domain/model';
 import { warrantyTermsSchema, type ClaimEvidence } from '$lib/schemas/warranty-assess';
@@ -51,7 +59,10 @@ export function parseEvidence(json: string): StoredEvidence {
  * names (`years`) or the model's column names (`warrantyYears`); when it is missing or
  * unreadable, the model's current terms stand in and a reason says so.
  */
-export function termsOf(snapshot: string | null, model: ModelRow): { terms: WarrantyTerms; note: string | null } {
+export function termsOf(
+	snapshot: string | null,
+	model: ModelRow
+): { terms: WarrantyTerms; note: string | null } {
 	const current: WarrantyTerms = {
 		years: model.warrantyYears,
 		ratedCycles: model.ratedCycles,
@@ -60,7 +71,11 @@ export function termsOf(snapshot: string | null, model: ModelRow): { terms: Warr
 		hotTempC: model.hotTempC,
 		hotRatedCycles: model.hotRatedCycles
 	};
-	if (!snapshot) return { terms: current, note: `No warranty terms were recorded at commissioning, so the ${model.code}'s current terms are used.` };
+	if (!snapshot)
+		return {
+			terms: current,
+			note: `No warranty terms were recorded at commissioning, so the ${model.code}'s current terms are used.`
+		};
 	let raw: Record<string, unknown> = {};
 	try {
 		raw = JSON.parse(snapshot) ?? {};
@@ -69,23 +84,42 @@ export function termsOf(snapshot: string | null, model: ModelRow): { terms: Warr
 	}
 	const parsed = warrantyTermsSchema.safeParse({ ...raw, years: raw.years ?? raw.warrantyYears });
 	if (parsed.success) return { terms: parsed.data, note: null };
-	return { terms: current, note: `The warranty terms recorded at commissioning could not be read, so the ${model.code}'s current terms are used: check the module's record.` };
+	return {
+		terms: current,
+		note: `The warranty terms recorded at commissioning could not be read, so the ${model.code}'s current terms are used: check the module's record.`
+	};
 }
 
 /** Modules in a system: its slots, else the modules pointing at it, else series × parallel. */
 export async function modulesInSystem(conn: Conn, systemId: number): Promise<number> {
-	const [slots] = await conn.select({ n: count() }).from(systemSlots).where(eq(systemSlots.systemId, systemId));
+	const [slots] = await conn
+		.select({ n: count() })
+		.from(systemSlots)
+		.where(eq(systemSlots.systemId, systemId));
 	if (slots.n > 0) return slots.n;
-	const [mods] = await conn.select({ n: count() }).from(modules).where(eq(modules.systemId, systemId));
+	const [mods] = await conn
+		.select({ n: count() })
+		.from(modules)
+		.where(eq(modules.systemId, systemId));
 	if (mods.n > 0) return mods.n;
-	const [sys] = await conn.select({ series: systems.series, parallel: systems.parallel }).from(systems).where(eq(systems.id, systemId));
+	const [sys] = await conn
+		.select({ series: systems.series, parallel: systems.parallel })
+		.from(systems)
+		.where(eq(systems.id, systemId));
 	return Math.max(1, (sys?.series ?? 1) * (sys?.parallel ?? 1));
 }
 
 /** Whether the latest passing commissioning of the system proved the stop-charge signal. */
-export async function stopChargeProof(conn: Conn, systemId: number): Promise<ClaimAssessmentResult['stopCharge']> {
+export async function stopChargeProof(
+	conn: Conn,
+	systemId: number
+): Promise<ClaimAssessmentResult['stopCharge']> {
 	const [c] = await conn
-		.select({ items: commissionings.items, certificateNo: commissionings.certificateNo, commissionedOn: commissionings.commissionedOn })
+		.select({
+			items: commissionings.items,
+			certificateNo: commissionings.certificateNo,
+			commissionedOn: commissionings.commissionedOn
+		})
 		.from(commissionings)
 		.where(and(eq(commissionings.systemId, systemId), eq(commissionings.overall, 'pass')))
 		.orderBy(desc(commissionings.commissionedOn), desc(commissionings.id))
@@ -98,7 +132,11 @@ export async function stopChargeProof(conn: Conn, systemId: number): Promise<Cla
 		/* an unreadable record proves nothing */
 	}
 	const item = Array.isArray(items) ? items.find((i) => i?.key === 'stop_charge') : undefined;
-	return { proven: item?.status === 'pass', certificateNo: c.certificateNo, commissionedOn: c.commissionedOn };
+	return {
+		proven: item?.status === 'pass',
+		certificateNo: c.certificateNo,
+		commissionedOn: c.commissionedOn
+	};
 }
 
 /** Events outside the limits: the ones described, plus a logged maximum above the model's discharge limit. */
@@ -108,7 +146,9 @@ function eventsOf(evidence: StoredEvidence, model: ModelRow): string[] {
 		.map((s) => s.trim())
 		.filter(Boolean);
 	if (evidence.maxCellTempC !== undefined && evidence.maxCellTempC > model.dischargeTempMaxC) {
-		listed.push(`a maximum cell temperature of ${fmtNumber(evidence.maxCellTempC, 1)} °C, above the ${model.code}'s ${fmtNumber(model.dischargeTempMaxC, 1)} °C limit`);
+		listed.push(
+			`a maximum cell temperature of ${fmtNumber(evidence.maxCellTempC, 1)} °C, above the ${model.code}'s ${fmtNumber(model.dischargeTempMaxC, 1)} °C limit`
+		);
 	}
 	return listed;
 }
@@ -116,7 +156,9 @@ function eventsOf(evidence: StoredEvidence, model: ModelRow): string[] {
 /** Per-module throughput: the system's figure shared equally over its modules, or the module's own. */
 export function perModuleThroughput(evidence: StoredEvidence, moduleCount: number): number | null {
 	if (evidence.throughputWh === undefined) return null;
-	return evidence.throughputScope === 'system' ? evidence.throughputWh / Math.max(1, moduleCount) : evidence.throughputWh;
+	return evidence.throughputScope === 'system'
+		? evidence.throughputWh / Math.max(1, moduleCount)
+		: evidence.throughputWh;
 }
 
 function assessSafely(input: ClaimInput): ClaimAssessment {
@@ -169,7 +211,9 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 				`The throughput of ${fmtNumber(evidence.throughputWh)} Wh is the whole system's, as an inverter records it; shared equally over the system's ${moduleCount} ${moduleCount === 1 ? 'module' : 'modules'}, each module's part is ${fmtNumber(perModuleWh)} Wh, and its cycles are counted from that.`
 			);
 		} else {
-			preface.push(`The throughput of ${fmtNumber(evidence.throughputWh)} Wh was given for the module itself, so it is used as it stands.`);
+			preface.push(
+				`The throughput of ${fmtNumber(evidence.throughputWh)} Wh was given for the module itself, so it is used as it stands.`
+			);
 		}
 	}
 	if (stopCharge) {
@@ -182,12 +226,20 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 		preface.push('No passing commissioning of the system is on record.');
 	}
 
-	const assessed = rows.map(({ module, model }) => ({ module, model, ...assessModule(module, model, evidence, perModuleWh, stopCharge, claimedOn) }));
+	const assessed = rows.map(({ module, model }) => ({
+		module,
+		model,
+		...assessModule(module, model, evidence, perModuleWh, stopCharge, claimedOn)
+	}));
 	if (!assessed.length) throw new Error(`Claim ${claim.reference} has no modules.`);
 	const [first] = assessed;
 	const reasons = [...preface, ...(first.note ? [first.note] : []), ...first.assessment.reasons];
 	let recommendation = first.assessment.recommendation;
-	const differing = assessed.filter((a) => a.assessment.recommendation !== recommendation || a.assessment.termEndsOn !== first.assessment.termEndsOn);
+	const differing = assessed.filter(
+		(a) =>
+			a.assessment.recommendation !== recommendation ||
+			a.assessment.termEndsOn !== first.assessment.termEndsOn
+	);
 	if (differing.length) {
 		recommendation = 'need-evidence';
 		reasons.push(
@@ -206,12 +258,20 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 	};
 }
 
-function assessModule(module: ModuleRow, model: ModelRow, evidence: StoredEvidence, perModuleWh: number | null, stopCharge: ClaimAssessmentResult['stopCharge'], claimedOn: string) {
+function assessModule(
+	module: ModuleRow,
+	model: ModelRow,
+	evidence: StoredEvidence,
+	perModuleWh: number | null,
+	stopCharge: ClaimAssessmentResult['stopCharge'],
+	claimedOn: string
+) {
 	const { terms, note } = termsOf(module.warrantyTerms, model);
 	const events = eventsOf(evidence, model);
 	const input: ClaimInput = {
 		terms,
-		commissionedOn: module.warrantyStartsOn ?? (module.commissionedAt ? isoDay(module.commissionedAt) : null),
+		commissionedOn:
+			module.warrantyStartsOn ?? (module.commissionedAt ? isoDay(module.commissionedAt) : null),
 		claimedOn,
 		ratedCapacityAh: model.ratedAh,
 		measuredCapacityAh: evidence.measuredCapacityAh ?? null,
@@ -250,7 +310,11 @@ export function implausibleEvidence(
 			});
 		}
 	}
-	if (days !== null && evidence.cycleCount !== undefined && evidence.cycleCount / days > maxPerDay) {
+	if (
+		days !== null &&
+		evidence.cycleCount !== undefined &&
+		evidence.cycleCount / days > maxPerDay
+	) {
 		issues.push({
 			path: 'cycleCount',
 			message: `${fmtNumber(evidence.cycleCount)} cycles since ${ctx.startsOn} would be ${fmtNumber(evidence.cycleCount / days, 1)} a day; a ${ctx.model.code} cannot do more than ${fmtNumber(maxPerDay)} a day. Check the counter reading.`
@@ -258,7 +322,10 @@ export function implausibleEvidence(
 	}
 	const lastDay = evidence.log?.lastAt?.slice(0, 10);
 	if (lastDay && /^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > today) {
-		issues.push({ path: 'log', message: `The inverter log runs to ${evidence.log!.lastAt}, after today (${today}): check the inverter's clock or the file.` });
+		issues.push({
+			path: 'log',
+			message: `The inverter log runs to ${evidence.log!.lastAt}, after today (${today}): check the inverter's clock or the file.`
+		});
 	}
 	return issues;
 }

@@ -3,18 +3,52 @@ import { alias } from 'drizzle-orm/sqlite-core';
 import Papa from 'papaparse';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
-import { claimEvents, claimModules, claims, logMappings, moduleModels, modules, organisations, sites, systems, users } from '$lib/server/db/schema';
+import {
+	claimEvents,
+	claimModules,
+	claims,
+	logMappings,
+	moduleModels,
+	modules,
+	organisations,
+	sites,
+	systems,
+	users
+} from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
-import { ConflictError, ForbiddenError, InvalidInputError, NotFoundError } from '$lib/server/errors';
+import {
+	ConflictError,
+	ForbiddenError,
+	InvalidInputError,
+	NotFoundError
+} from '$lib/server/errors';
 import { sendMail } from '$lib/server/mail';
-import { detectColumns, InverterLogError, summariseLog, type LogMapping } from '$lib/domain/inverter-log';
+import {
+	detectColumns,
+	InverterLogError,
+	summariseLog,
+	type LogMapping
+} from '$lib/domain/inverter-log';
 import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
-import { AWAITING_DECISION, CLAIM_STATE_LABELS, TARGET_RESPONSE_DAYS, type ClaimQuery, type LogSummaryEvidence } from '$lib/schemas/claim';
+import {
+	AWAITING_DECISION,
+	CLAIM_STATE_LABELS,
+	TARGET_RESPONSE_DAYS,
+	type ClaimQuery,
+	type LogSummaryEvidence
+} from '$lib/schemas/claim';
 import { STATE_LABELS } from '$lib/module-states';
 import { toIssues } from '$lib/server/validation';
 import { recordAudit, recordEvent } from './audit';
 import { findModule, serialFromScan } from './modules';
-import { assessmentFor, implausibleEvidence, modulesInSystem, parseEvidence, type ClaimAssessmentResult, type StoredEvidence } from './claim-assessment';
+import {
+	assessmentFor,
+	implausibleEvidence,
+	modulesInSystem,
+	parseEvidence,
+	type ClaimAssessmentResult,
+	type StoredEvidence
+} from './claim-assessment';
 
 export { TARGET_RESPONSE_DAYS };
 type Conn = Db | Tx;
@@ -36,12 +70,22 @@ export async function loadClaim(conn: Conn, actor: Actor, claimId: number): Prom
 /** Warranty officers and administrators of the assembler move and decide claims; nobody else. */
 export function requireOfficer(actor: Actor): void {
 	if (actor.dealerScoped || (actor.role !== 'warranty' && actor.role !== 'admin'))
-		throw new ForbiddenError('Only a warranty officer or an administrator moves and decides claims.');
+		throw new ForbiddenError(
+			'Only a warranty officer or an administrator moves and decides claims.'
+		);
 }
 
 /** Tells the person who filed the claim what happened to it. */
-export async function mailFiler(db: Db, claim: ClaimRow, subject: string, body: string): Promise<void> {
-	const [filer] = await db.select({ email: users.email, name: users.name }).from(users).where(eq(users.id, claim.filedBy));
+export async function mailFiler(
+	db: Db,
+	claim: ClaimRow,
+	subject: string,
+	body: string
+): Promise<void> {
+	const [filer] = await db
+		.select({ email: users.email, name: users.name })
+		.from(users)
+		.where(eq(users.id, claim.filedBy));
 	if (!filer) return;
 	await sendMail(db, {
 		to: filer.email,
@@ -68,16 +112,23 @@ export interface FileClaimInput {
  * checked for form and for plausibility. Modules go to "Under claim"; the filer gets an e-mail.
  */
 export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now = new Date()) {
-	if (actor.userId === null || !FILERS.includes(actor.role)) throw new ForbiddenError('Claims are filed by dealers, technicians and warranty staff.');
+	if (actor.userId === null || !FILERS.includes(actor.role))
+		throw new ForbiddenError('Claims are filed by dealers, technicians and warranty staff.');
 	const fault = (input.fault ?? '').trim();
-	if (fault.length < 3 || fault.length > 200) throw new InvalidInputError('Name the fault in a few words (3 to 200 characters).', [{ path: 'fault', message: 'Name the fault in a few words (3 to 200 characters).' }]);
+	if (fault.length < 3 || fault.length > 200)
+		throw new InvalidInputError('Name the fault in a few words (3 to 200 characters).', [
+			{ path: 'fault', message: 'Name the fault in a few words (3 to 200 characters).' }
+		]);
 	const parsed = claimEvidenceSchema.safeParse(input.evidence);
 	if (!parsed.success) {
 		const issues = toIssues(parsed.error);
 		throw new InvalidInputError(`Check the evidence: ${issues[0].message}`, issues);
 	}
 	const texts = [...new Set(input.serials.map((s) => s.trim()).filter(Boolean))];
-	if (!texts.length) throw new InvalidInputError('Scan or type the serial of at least one module.', [{ path: 'serials', message: 'Scan or type the serial of at least one module.' }]);
+	if (!texts.length)
+		throw new InvalidInputError('Scan or type the serial of at least one module.', [
+			{ path: 'serials', message: 'Scan or type the serial of at least one module.' }
+		]);
 	if (texts.length > 50) throw new InvalidInputError('One claim covers at most 50 modules.');
 
 	const mods: (typeof modules.$inferSelect)[] = [];
@@ -90,22 +141,48 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		.from(claimModules)
 		.innerJoin(claims, eq(claimModules.claimId, claims.id))
 		.innerJoin(modules, eq(claimModules.moduleId, modules.id))
-		.where(and(inArray(claimModules.moduleId, mods.map((m) => m.id)), ne(claims.state, 'closed')));
+		.where(
+			and(
+				inArray(
+					claimModules.moduleId,
+					mods.map((m) => m.id)
+				),
+				ne(claims.state, 'closed')
+			)
+		);
 	if (open.length) {
 		const o = open[0];
-		throw new ConflictError(`${o.serial} is already on claim ${o.reference} (${CLAIM_STATE_LABELS[o.state]}); that claim must be closed before another is filed.`);
+		throw new ConflictError(
+			`${o.serial} is already on claim ${o.reference} (${CLAIM_STATE_LABELS[o.state]}); that claim must be closed before another is filed.`
+		);
 	}
 	for (const m of mods) {
-		if (m.state !== 'commissioned') throw new ConflictError(`${m.serial} is ${STATE_LABELS[m.state].toLowerCase()}, not in service: only modules of a commissioned system can be claimed.`);
+		if (m.state !== 'commissioned')
+			throw new ConflictError(
+				`${m.serial} is ${STATE_LABELS[m.state].toLowerCase()}, not in service: only modules of a commissioned system can be claimed.`
+			);
 	}
 	const systemId = mods[0].systemId;
-	if (systemId === null) throw new ConflictError(`${mods[0].serial} is not recorded in any system; a claim needs the system's commissioning record.`);
-	if (mods.some((m) => m.systemId !== systemId)) throw new ConflictError('These modules are in different systems: file one claim per system.');
+	if (systemId === null)
+		throw new ConflictError(
+			`${mods[0].serial} is not recorded in any system; a claim needs the system's commissioning record.`
+		);
+	if (mods.some((m) => m.systemId !== systemId))
+		throw new ConflictError('These modules are in different systems: file one claim per system.');
 
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mods[0].modelId));
 	const moduleCount = await modulesInSystem(db, systemId);
-	const evidence: StoredEvidence = { ...parsed.data, throughputScope: input.throughputScope ?? 'system', log: input.log ?? null };
-	const implausible = implausibleEvidence(evidence, { model, moduleCount, startsOn: mods[0].warrantyStartsOn, now });
+	const evidence: StoredEvidence = {
+		...parsed.data,
+		throughputScope: input.throughputScope ?? 'system',
+		log: input.log ?? null
+	};
+	const implausible = implausibleEvidence(evidence, {
+		model,
+		moduleCount,
+		startsOn: mods[0].warrantyStartsOn,
+		now
+	});
 	if (implausible.length) throw new InvalidInputError(implausible[0].message, implausible);
 
 	const claim = await writeTx(db, async (tx) => {
@@ -113,17 +190,61 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		const taken = await tx
 			.update(modules)
 			.set({ state: 'claim_open', updatedAt: now })
-			.where(and(inArray(modules.id, mods.map((m) => m.id)), eq(modules.state, 'commissioned')))
+			.where(
+				and(
+					inArray(
+						modules.id,
+						mods.map((m) => m.id)
+					),
+					eq(modules.state, 'commissioned')
+				)
+			)
 			.returning({ id: modules.id });
-		if (taken.length !== mods.length) throw new ConflictError('One of these modules changed while the claim was filed; reload and try again.');
+		if (taken.length !== mods.length)
+			throw new ConflictError(
+				'One of these modules changed while the claim was filed; reload and try again.'
+			);
 		const [row] = await tx
 			.insert(claims)
-			.values({ reference, systemId, dealerOrgId: mods[0].dealerOrgId, state: 'filed', fault, evidence: JSON.stringify(evidence), filedBy: actor.userId!, filedAt: now, updatedAt: now })
+			.values({
+				reference,
+				systemId,
+				dealerOrgId: mods[0].dealerOrgId,
+				state: 'filed',
+				fault,
+				evidence: JSON.stringify(evidence),
+				filedBy: actor.userId!,
+				filedAt: now,
+				updatedAt: now
+			})
 			.returning();
 		await tx.insert(claimModules).values(mods.map((m) => ({ claimId: row.id, moduleId: m.id })));
-		await tx.insert(claimEvents).values({ claimId: row.id, at: now, actorUserId: actor.userId, actorLabel: actor.label, fromState: null, toState: 'filed', comment: fault });
-		for (const m of mods) await recordEvent(tx, actor, { moduleId: m.id, kind: 'claim_filed', summary: `Claim ${reference} filed: ${fault}`, detail: { claim: reference }, at: now });
-		await recordAudit(tx, actor, { action: 'claim.file', entity: 'claim', entityId: reference, after: { serials: mods.map((m) => m.serial), fault, evidence }, at: now });
+		await tx
+			.insert(claimEvents)
+			.values({
+				claimId: row.id,
+				at: now,
+				actorUserId: actor.userId,
+				actorLabel: actor.label,
+				fromState: null,
+				toState: 'filed',
+				comment: fault
+			});
+		for (const m of mods)
+			await recordEvent(tx, actor, {
+				moduleId: m.id,
+				kind: 'claim_filed',
+				summary: `Claim ${reference} filed: ${fault}`,
+				detail: { claim: reference },
+				at: now
+			});
+		await recordAudit(tx, actor, {
+			action: 'claim.file',
+			entity: 'claim',
+			entityId: reference,
+			after: { serials: mods.map((m) => m.serial), fault, evidence },
+			at: now
+		});
 		return row;
 	});
 	const list = mods.map((m) => `  ${m.serial}`).join('\n');
@@ -150,7 +271,11 @@ async function nextReference(tx: Tx, now: Date): Promise<string> {
 }
 
 /** The dealer whose remembered log mapping applies when staff file for a module (null: the assembler's own). */
-export async function logDealerFor(db: Db, actor: Actor, scanText: string | null | undefined): Promise<number | null> {
+export async function logDealerFor(
+	db: Db,
+	actor: Actor,
+	scanText: string | null | undefined
+): Promise<number | null> {
 	const scope = dealerScopeOf(actor);
 	if (scope !== null || !scanText?.trim()) return scope;
 	try {
@@ -167,10 +292,22 @@ export async function logDealerFor(db: Db, actor: Actor, scanText: string | null
  * headers and a suggested mapping for the person to confirm. A confirmed mapping is
  * remembered for the dealer. A dealer's people always read with their own organisation's mapping.
  */
-export async function readInverterLog(db: Db, actor: Actor, dealerOrgId: number | null, csvText: string, mapping?: LogMapping, now = new Date()) {
+export async function readInverterLog(
+	db: Db,
+	actor: Actor,
+	dealerOrgId: number | null,
+	csvText: string,
+	mapping?: LogMapping,
+	now = new Date()
+) {
 	const org = dealerScopeOf(actor) ?? dealerOrgId;
-	const headers = ((Papa.parse<string[]>(csvText.replace(/^\uFEFF/, ''), { preview: 1 }).data[0] ?? []) as string[]).map((h) => h.trim()).filter(Boolean);
-	if (!headers.length) throw new InvalidInputError('The log has no header row: export it again with column names.');
+	const headers = (
+		(Papa.parse<string[]>(csvText.replace(/^\uFEFF/, ''), { preview: 1 }).data[0] ?? []) as string[]
+	)
+		.map((h) => h.trim())
+		.filter(Boolean);
+	if (!headers.length)
+		throw new InvalidInputError('The log has no header row: export it again with column names.');
 	const guess = detectColumns(headers);
 	const energy = guess.dischargeEnergyKWh ?? guess.dischargeEnergyWh;
 	const suggested: Partial<LogMapping> = {
@@ -180,11 +317,22 @@ export async function readInverterLog(db: Db, actor: Actor, dealerOrgId: number 
 		energyKind: guess.energyKind ?? 'cumulative',
 		tempColumn: guess.cellTempC
 	};
-	const [stored] = org === null ? [] : await db.select().from(logMappings).where(eq(logMappings.dealerOrgId, org));
+	const [stored] =
+		org === null ? [] : await db.select().from(logMappings).where(eq(logMappings.dealerOrgId, org));
 	const remembered = stored ? (JSON.parse(stored.mapping) as LogMapping) : null;
-	const fits = (m: LogMapping) => [m.timestampColumn, m.energyColumn, m.tempColumn].every((c) => !c || headers.includes(c));
+	const fits = (m: LogMapping) =>
+		[m.timestampColumn, m.energyColumn, m.tempColumn].every((c) => !c || headers.includes(c));
 	const use = mapping ?? (remembered && fits(remembered) ? remembered : null);
-	if (!use) return { headers, suggested, remembered, mapping: null, usedRemembered: false, summary: null, evidence: null };
+	if (!use)
+		return {
+			headers,
+			suggested,
+			remembered,
+			mapping: null,
+			usedRemembered: false,
+			summary: null,
+			evidence: null
+		};
 
 	let summary;
 	try {
@@ -194,12 +342,28 @@ export async function readInverterLog(db: Db, actor: Actor, dealerOrgId: number 
 		throw e;
 	}
 	const lastDay = summary.lastAt?.slice(0, 10) ?? '';
-	if (/^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > now.toISOString().slice(0, 10)) summary.problems.push(`The last row is dated ${summary.lastAt}, after today: check the inverter's clock.`);
+	if (/^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > now.toISOString().slice(0, 10))
+		summary.problems.push(
+			`The last row is dated ${summary.lastAt}, after today: check the inverter's clock.`
+		);
 	if (mapping && org !== null && JSON.stringify(mapping) !== stored?.mapping) {
 		await writeTx(db, async (tx) => {
 			const value = JSON.stringify(mapping);
-			await tx.insert(logMappings).values({ dealerOrgId: org, mapping: value, updatedAt: now }).onConflictDoUpdate({ target: logMappings.dealerOrgId, set: { mapping: value, updatedAt: now } });
-			await recordAudit(tx, actor, { action: 'log_mapping.save', entity: 'organisation', entityId: org, before: remembered ?? undefined, after: mapping, at: now });
+			await tx
+				.insert(logMappings)
+				.values({ dealerOrgId: org, mapping: value, updatedAt: now })
+				.onConflictDoUpdate({
+					target: logMappings.dealerOrgId,
+					set: { mapping: value, updatedAt: now }
+				});
+			await recordAudit(tx, actor, {
+				action: 'log_mapping.save',
+				entity: 'organisation',
+				entityId: org,
+				before: remembered ?? undefined,
+				after: mapping,
+				at: now
+			});
 		});
 	}
 	return {
@@ -209,11 +373,17 @@ export async function readInverterLog(db: Db, actor: Actor, dealerOrgId: number 
 		mapping: use,
 		usedRemembered: !mapping,
 		summary,
-		evidence: { throughputWh: summary.throughputWh, avgCellTempC: summary.avgTempC, maxCellTempC: summary.maxTempC }
+		evidence: {
+			throughputWh: summary.throughputWh,
+			avgCellTempC: summary.avgTempC,
+			maxCellTempC: summary.maxTempC
+		}
 	};
 }
 
-const modelsOf = sql<string | null>`(SELECT group_concat(DISTINCT mm.code) FROM claim_modules cm JOIN modules m ON m.id = cm.module_id JOIN module_models mm ON mm.id = m.model_id WHERE cm.claim_id = ${claims.id})`;
+const modelsOf = sql<
+	string | null
+>`(SELECT group_concat(DISTINCT mm.code) FROM claim_modules cm JOIN modules m ON m.id = cm.module_id JOIN module_models mm ON mm.id = m.model_id WHERE cm.claim_id = ${claims.id})`;
 const serialCountOf = sql<number>`(SELECT count(*) FROM claim_modules cm WHERE cm.claim_id = ${claims.id})`;
 
 /**
@@ -222,7 +392,12 @@ const serialCountOf = sql<number>`(SELECT count(*) FROM claim_modules cm WHERE c
  * (a dealer filter from them is ignored). Each item says whether it is past the
  * response-time target ({@link TARGET_RESPONSE_DAYS} calendar days to a decision).
  */
-export async function listClaims(db: Db, actor: Actor, q: Partial<ClaimQuery> = {}, now = new Date()) {
+export async function listClaims(
+	db: Db,
+	actor: Actor,
+	q: Partial<ClaimQuery> = {},
+	now = new Date()
+) {
 	const page = q.page ?? 1;
 	const pageSize = Math.min(q.pageSize ?? 25, 100);
 	const scope = dealerScopeOf(actor);
@@ -230,15 +405,35 @@ export async function listClaims(db: Db, actor: Actor, q: Partial<ClaimQuery> = 
 	if (scope !== null) where.push(eq(claims.dealerOrgId, scope));
 	else if (q.dealer) where.push(eq(claims.dealerOrgId, q.dealer));
 	if (q.state) where.push(eq(claims.state, q.state));
-	if (q.model) where.push(sql`EXISTS (SELECT 1 FROM claim_modules cm JOIN modules m ON m.id = cm.module_id JOIN module_models mm ON mm.id = m.model_id WHERE cm.claim_id = ${claims.id} AND mm.code = ${q.model})`);
-	if (q.minAgeDays) where.push(lte(claims.filedAt, new Date(now.getTime() - q.minAgeDays * DAY_MS)));
+	if (q.model)
+		where.push(
+			sql`EXISTS (SELECT 1 FROM claim_modules cm JOIN modules m ON m.id = cm.module_id JOIN module_models mm ON mm.id = m.model_id WHERE cm.claim_id = ${claims.id} AND mm.code = ${q.model})`
+		);
+	if (q.minAgeDays)
+		where.push(lte(claims.filedAt, new Date(now.getTime() - q.minAgeDays * DAY_MS)));
 	const cond = where.length ? and(...where) : undefined;
 
 	const dir = q.dir === 'desc' ? desc : asc;
-	const sortCol = { reference: claims.reference, state: claims.state, dealer: organisations.name, models: modelsOf, serialCount: serialCountOf, filedAt: claims.filedAt }[q.sort ?? 'filedAt'];
+	const sortCol = {
+		reference: claims.reference,
+		state: claims.state,
+		dealer: organisations.name,
+		models: modelsOf,
+		serialCount: serialCountOf,
+		filedAt: claims.filedAt
+	}[q.sort ?? 'filedAt'];
 	const [{ total }] = await db.select({ total: count() }).from(claims).where(cond);
 	const rows = await db
-		.select({ id: claims.id, reference: claims.reference, state: claims.state, fault: claims.fault, dealer: organisations.name, models: modelsOf, serialCount: serialCountOf, filedAt: claims.filedAt })
+		.select({
+			id: claims.id,
+			reference: claims.reference,
+			state: claims.state,
+			fault: claims.fault,
+			dealer: organisations.name,
+			models: modelsOf,
+			serialCount: serialCountOf,
+			filedAt: claims.filedAt
+		})
 		.from(claims)
 		.leftJoin(organisations, eq(claims.dealerOrgId, organisations.id))
 		.where(cond)
@@ -263,8 +458,16 @@ export async function listClaims(db: Db, actor: Actor, q: Partial<ClaimQuery> = 
 
 /** The choices of the queue's filters: dealers (staff only) and models. */
 export async function claimFilterOptions(db: Db, actor: Actor) {
-	const dealers = actor.dealerScoped ? [] : await db.select({ id: organisations.id, name: organisations.name }).from(organisations).where(eq(organisations.kind, 'dealer')).orderBy(asc(organisations.name));
-	const models = (await db.select({ code: moduleModels.code }).from(moduleModels).orderBy(asc(moduleModels.code))).map((m) => m.code);
+	const dealers = actor.dealerScoped
+		? []
+		: await db
+				.select({ id: organisations.id, name: organisations.name })
+				.from(organisations)
+				.where(eq(organisations.kind, 'dealer'))
+				.orderBy(asc(organisations.name));
+	const models = (
+		await db.select({ code: moduleModels.code }).from(moduleModels).orderBy(asc(moduleModels.code))
+	).map((m) => m.code);
 	return { dealers, models };
 }
 
@@ -272,13 +475,29 @@ export async function claimFilterOptions(db: Db, actor: Actor) {
 export async function getClaim(db: Db, actor: Actor, claimId: number, now = new Date()) {
 	const claim = await loadClaim(db, actor, claimId);
 	const [system] = await db
-		.select({ id: systems.id, name: systems.name, siteName: sites.name, series: systems.series, parallel: systems.parallel, inverterName: systems.inverterName, modelCode: moduleModels.code })
+		.select({
+			id: systems.id,
+			name: systems.name,
+			siteName: sites.name,
+			series: systems.series,
+			parallel: systems.parallel,
+			inverterName: systems.inverterName,
+			modelCode: moduleModels.code
+		})
 		.from(systems)
 		.innerJoin(sites, eq(systems.siteId, sites.id))
 		.innerJoin(moduleModels, eq(systems.modelId, moduleModels.id))
 		.where(eq(systems.id, claim.systemId));
-	const [dealer] = claim.dealerOrgId ? await db.select({ name: organisations.name }).from(organisations).where(eq(organisations.id, claim.dealerOrgId)) : [];
-	const people = await db.select({ id: users.id, name: users.name, email: users.email }).from(users).where(inArray(users.id, [claim.filedBy, claim.decidedBy ?? claim.filedBy]));
+	const [dealer] = claim.dealerOrgId
+		? await db
+				.select({ name: organisations.name })
+				.from(organisations)
+				.where(eq(organisations.id, claim.dealerOrgId))
+		: [];
+	const people = await db
+		.select({ id: users.id, name: users.name, email: users.email })
+		.from(users)
+		.where(inArray(users.id, [claim.filedBy, claim.decidedBy ?? claim.filedBy]));
 	const replacement = alias(modules, 'replacement');
 	const mods = await db
 		.select({
@@ -297,7 +516,11 @@ export async function getClaim(db: Db, actor: Actor, claimId: number, now = new 
 		.leftJoin(replacement, eq(claimModules.replacementModuleId, replacement.id))
 		.where(eq(claimModules.claimId, claim.id))
 		.orderBy(asc(modules.serial));
-	const events = await db.select().from(claimEvents).where(eq(claimEvents.claimId, claim.id)).orderBy(asc(claimEvents.at), asc(claimEvents.id));
+	const events = await db
+		.select()
+		.from(claimEvents)
+		.where(eq(claimEvents.claimId, claim.id))
+		.orderBy(asc(claimEvents.at), asc(claimEvents.id));
 	const ageMs = now.getTime() - claim.filedAt.getTime();
 	return {
 		claim: {
@@ -310,7 +533,9 @@ export async function getClaim(db: Db, actor: Actor, claimId: number, now = new 
 			decisionReason: claim.decisionReason,
 			decidedAt: claim.decidedAt,
 			decidedBy: people.find((p) => p.id === claim.decidedBy)?.name ?? null,
-			storedAssessment: claim.assessment ? (JSON.parse(claim.assessment) as ClaimAssessmentResult) : null,
+			storedAssessment: claim.assessment
+				? (JSON.parse(claim.assessment) as ClaimAssessmentResult)
+				: null,
 			filedAt: claim.filedAt,
 			filedBy: people.find((p) => p.id === claim.filedBy) ?? null,
 			dealer: dealer?.name ?? null,

@@ -1,15 +1,33 @@
 import { and, asc, desc, eq, inArray, like } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
-import { commissionings, moduleModels, modules, organisations, sites, systems, systemSlots } from '$lib/server/db/schema';
+import {
+	commissionings,
+	moduleModels,
+	modules,
+	organisations,
+	sites,
+	systems,
+	systemSlots
+} from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import { sendMail } from '$lib/server/mail';
-import { evaluateCommissioning, type CommissioningItem, type CommissioningSystem } from '$lib/domain/commissioning';
+import {
+	evaluateCommissioning,
+	type CommissioningItem,
+	type CommissioningSystem
+} from '$lib/domain/commissioning';
 import { currentForCRate } from '$lib/domain/model';
 import { warrantyTermEnd } from '$lib/domain/warranty';
 import { STATE_LABELS } from '$lib/module-states';
-import { CODES_TAKE_PRECEDENCE, COMMISSIONING_CAUTIONS, toMeasurements, type CommissioningInput, type MeasurementsInput } from '$lib/schemas/commissioning';
+import {
+	CODES_TAKE_PRECEDENCE,
+	COMMISSIONING_CAUTIONS,
+	toMeasurements,
+	type CommissioningInput,
+	type MeasurementsInput
+} from '$lib/schemas/commissioning';
 import { recordAudit, recordEvent } from './audit';
 import { certificatePdf } from './certificate-pdf';
 
@@ -20,7 +38,18 @@ export interface CertificateData {
 	certificateNo: string;
 	commissionedOn: string;
 	site: { name: string; address: string; dealerOrgId: number | null };
-	system: { id: number; name: string; modelCode: string; modelName: string; series: number; parallel: number; inverterName: string | null; minV: number; nominalV: number; maxV: number };
+	system: {
+		id: number;
+		name: string;
+		modelCode: string;
+		modelName: string;
+		series: number;
+		parallel: number;
+		inverterName: string | null;
+		minV: number;
+		nominalV: number;
+		maxV: number;
+	};
 	modules: { stringNo: number; position: number; serial: string }[];
 	items: CommissioningItem[];
 	technicianName: string;
@@ -51,7 +80,13 @@ export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId:
 	const { system, site, model } = row;
 
 	const slots = await db
-		.select({ stringNo: systemSlots.stringNo, position: systemSlots.position, id: modules.id, serial: modules.serial, state: modules.state })
+		.select({
+			stringNo: systemSlots.stringNo,
+			position: systemSlots.position,
+			id: modules.id,
+			serial: modules.serial,
+			state: modules.state
+		})
 		.from(systemSlots)
 		.innerJoin(modules, eq(systemSlots.moduleId, modules.id))
 		.where(eq(systemSlots.systemId, systemId))
@@ -59,11 +94,22 @@ export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId:
 	const strings = Array.from({ length: system.parallel }, (_, s) =>
 		Array.from({ length: system.series }, (_, p) => {
 			const slot = slots.find((x) => x.stringNo === s + 1 && x.position === p + 1);
-			return { stringNo: s + 1, position: p + 1, module: slot ? { id: slot.id, serial: slot.serial, state: slot.state } : null };
+			return {
+				stringNo: s + 1,
+				position: p + 1,
+				module: slot ? { id: slot.id, serial: slot.serial, state: slot.state } : null
+			};
 		})
 	);
 	const attempts = await db
-		.select({ id: commissionings.id, overall: commissionings.overall, certificateNo: commissionings.certificateNo, commissionedOn: commissionings.commissionedOn, technicianName: commissionings.technicianName, createdAt: commissionings.createdAt })
+		.select({
+			id: commissionings.id,
+			overall: commissionings.overall,
+			certificateNo: commissionings.certificateNo,
+			commissionedOn: commissionings.commissionedOn,
+			technicianName: commissionings.technicianName,
+			createdAt: commissionings.createdAt
+		})
 		.from(commissionings)
 		.where(eq(commissionings.systemId, systemId))
 		.orderBy(desc(commissionings.id));
@@ -91,11 +137,21 @@ export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId:
 	};
 	return {
 		system,
-		site: { id: site.id, name: site.name, address: site.address, ownerName: site.ownerName, dealerOrgId: site.dealerOrgId },
+		site: {
+			id: site.id,
+			name: site.name,
+			address: site.address,
+			ownerName: site.ownerName,
+			dealerOrgId: site.dealerOrgId
+		},
 		model,
 		strings,
 		emptySlots: strings.flat().filter((s) => !s.module),
-		voltages: { minV: roundMv(cells * model.cellMinV), nominalV: roundMv(cells * model.cellNominalV), maxV: roundMv(cells * model.cellMaxV) },
+		voltages: {
+			minV: roundMv(cells * model.cellMinV),
+			nominalV: roundMv(cells * model.cellNominalV),
+			maxV: roundMv(cells * model.cellMaxV)
+		},
 		evaluationSystem,
 		attempts
 	};
@@ -104,7 +160,10 @@ export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId:
 export type SystemForCommissioning = Awaited<ReturnType<typeof loadSystemForCommissioning>>;
 
 /** The checklist evaluated as entered, without storing anything (the page's preview runs the same function). */
-export function evaluateDraft(system: Pick<SystemForCommissioning, 'evaluationSystem'>, input: MeasurementsInput) {
+export function evaluateDraft(
+	system: Pick<SystemForCommissioning, 'evaluationSystem'>,
+	input: MeasurementsInput
+) {
 	return evaluateCommissioning(system.evaluationSystem, toMeasurements(input));
 }
 
@@ -140,18 +199,31 @@ export interface SubmitResult {
  * model's terms; the certificate then goes by e-mail to the site's dealer (or the
  * assembler's office for its own sites).
  */
-export async function submitCommissioning(db: Db, actor: Actor, systemId: number, input: CommissioningInput, now = new Date()): Promise<SubmitResult> {
-	if (actor.userId === null) throw new InvalidInputError('A commissioning is signed by a signed-in technician.');
+export async function submitCommissioning(
+	db: Db,
+	actor: Actor,
+	systemId: number,
+	input: CommissioningInput,
+	now = new Date()
+): Promise<SubmitResult> {
+	if (actor.userId === null)
+		throw new InvalidInputError('A commissioning is signed by a signed-in technician.');
 	const loaded = await loadSystemForCommissioning(db, actor, systemId);
 	const { system, model, site } = loaded;
 	const label = `${system.name} at ${site.name}`;
 	if (system.status === 'commissioned') {
 		const cert = loaded.attempts.find((a) => a.certificateNo);
-		throw new ConflictError(`${label} is already commissioned${cert ? ` (certificate ${cert.certificateNo} of ${cert.commissionedOn})` : ''}; it cannot be commissioned again.`);
+		throw new ConflictError(
+			`${label} is already commissioned${cert ? ` (certificate ${cert.certificateNo} of ${cert.commissionedOn})` : ''}; it cannot be commissioned again.`
+		);
 	}
 	if (loaded.emptySlots.length > 0) {
-		const where = loaded.emptySlots.map((s) => `string ${s.stringNo} position ${s.position}`).join(', ');
-		throw new ConflictError(`${label} has no module recorded at ${where}. Record every module of the system before commissioning it.`);
+		const where = loaded.emptySlots
+			.map((s) => `string ${s.stringNo} position ${s.position}`)
+			.join(', ');
+		throw new ConflictError(
+			`${label} has no module recorded at ${where}. Record every module of the system before commissioning it.`
+		);
 	}
 	const placed = loaded.strings.flat().map((s) => ({ ...s, module: s.module! }));
 	const notInstalled = placed.filter((s) => s.module.state !== 'installed');
@@ -179,8 +251,14 @@ export async function submitCommissioning(db: Db, actor: Actor, systemId: number
 
 	const saved = await writeTx(db, async (tx) => {
 		// A second phone submitting at the same moment finds the system already commissioned here.
-		const [current] = await tx.select({ status: systems.status }).from(systems).where(eq(systems.id, systemId));
-		if (current?.status === 'commissioned') throw new ConflictError(`${label} has just been commissioned by someone else; it cannot be commissioned again.`);
+		const [current] = await tx
+			.select({ status: systems.status })
+			.from(systems)
+			.where(eq(systems.id, systemId));
+		if (current?.status === 'commissioned')
+			throw new ConflictError(
+				`${label} has just been commissioned by someone else; it cannot be commissioned again.`
+			);
 		const certificateNo = passed ? await nextCertificateNo(tx, commissionedOn.slice(0, 4)) : null;
 		const [row] = await tx
 			.insert(commissionings)
@@ -192,31 +270,61 @@ export async function submitCommissioning(db: Db, actor: Actor, systemId: number
 				technicianName: input.technicianName,
 				licenceNumber: input.licenceNumber,
 				// The serial at each position is kept with the voltages measured there.
-				measurements: JSON.stringify({ ...measurements, serials: loaded.strings.map((row) => row.map((x) => x.module?.serial ?? null)) }),
+				measurements: JSON.stringify({
+					...measurements,
+					serials: loaded.strings.map((row) => row.map((x) => x.module?.serial ?? null))
+				}),
 				items: JSON.stringify(result.items),
 				handoverName: input.handoverName ?? null,
 				commissionedOn,
 				createdAt: now
 			})
 			.returning({ id: commissionings.id });
-		const failed = result.items.filter((i) => i.status !== 'pass').map((i) => ({ key: i.key, status: i.status }));
-		await recordAudit(tx, actor, { action: `commissioning.${result.overall}`, entity: 'system', entityId: systemId, after: { commissioningId: row.id, certificateNo, overall: result.overall, notPassed: failed }, at: now });
+		const failed = result.items
+			.filter((i) => i.status !== 'pass')
+			.map((i) => ({ key: i.key, status: i.status }));
+		await recordAudit(tx, actor, {
+			action: `commissioning.${result.overall}`,
+			entity: 'system',
+			entityId: systemId,
+			after: { commissioningId: row.id, certificateNo, overall: result.overall, notPassed: failed },
+			at: now
+		});
 		if (!passed) return { id: row.id, certificateNo };
 
 		await tx.update(systems).set({ status: 'commissioned' }).where(eq(systems.id, systemId));
 		const ids = placed.map((s) => s.module.id);
 		const updated = await tx
 			.update(modules)
-			.set({ state: 'commissioned', commissionedAt: now, warrantyStartsOn: commissionedOn, warrantyEndsOn, warrantyTerms: JSON.stringify(terms), updatedAt: now })
+			.set({
+				state: 'commissioned',
+				commissionedAt: now,
+				warrantyStartsOn: commissionedOn,
+				warrantyEndsOn,
+				warrantyTerms: JSON.stringify(terms),
+				updatedAt: now
+			})
 			.where(and(inArray(modules.id, ids), eq(modules.state, 'installed')))
 			.returning({ id: modules.id });
-		if (updated.length !== ids.length) throw new ConflictError('A module of this system changed state while it was being commissioned. Reload the page and submit again.');
+		if (updated.length !== ids.length)
+			throw new ConflictError(
+				'A module of this system changed state while it was being commissioned. Reload the page and submit again.'
+			);
 		for (const s of placed) {
 			await recordEvent(tx, actor, {
 				moduleId: s.module.id,
 				kind: 'commissioned',
 				summary: `Commissioned in ${label}, string ${s.stringNo} position ${s.position} (certificate ${certificateNo}); warranty ${commissionedOn} to ${warrantyEndsOn}`,
-				detail: { certificateNo, commissioningId: row.id, systemId, stringNo: s.stringNo, position: s.position, warrantyStartsOn: commissionedOn, warrantyEndsOn, terms },
+				detail: {
+					certificateNo,
+					commissioningId: row.id,
+					systemId,
+					stringNo: s.stringNo,
+					position: s.position,
+					warrantyStartsOn: commissionedOn,
+					warrantyEndsOn,
+					terms
+				},
 				at: now
 			});
 			await recordAudit(tx, actor, {
@@ -224,26 +332,55 @@ export async function submitCommissioning(db: Db, actor: Actor, systemId: number
 				entity: 'module',
 				entityId: s.module.serial,
 				before: { state: 'installed' },
-				after: { state: 'commissioned', certificateNo, warrantyStartsOn: commissionedOn, warrantyEndsOn, warrantyTerms: terms },
+				after: {
+					state: 'commissioned',
+					certificateNo,
+					warrantyStartsOn: commissionedOn,
+					warrantyEndsOn,
+					warrantyTerms: terms
+				},
 				at: now
 			});
 		}
 		return { id: row.id, certificateNo };
 	});
 
-	const base = { id: saved.id, overall: result.overall, certificateNo: saved.certificateNo, commissionedOn, items: result.items };
+	const base = {
+		id: saved.id,
+		overall: result.overall,
+		certificateNo: saved.certificateNo,
+		commissionedOn,
+		items: result.items
+	};
 	if (!saved.certificateNo) return { ...base, mail: null };
 	return { ...base, mail: await mailCertificate(db, actor, saved.id) };
 }
 
 /** Sends the certificate PDF to the site's dealer, or the assembler's office for its own sites. */
-async function mailCertificate(db: Db, actor: Actor, commissioningId: number): Promise<SubmitResult['mail']> {
+async function mailCertificate(
+	db: Db,
+	actor: Actor,
+	commissioningId: number
+): Promise<SubmitResult['mail']> {
 	const data = await certificateData(db, actor, commissioningId);
 	const [org] = data.site.dealerOrgId
-		? await db.select({ email: organisations.contactEmail }).from(organisations).where(eq(organisations.id, data.site.dealerOrgId))
-		: await db.select({ email: organisations.contactEmail }).from(organisations).where(eq(organisations.kind, 'assembler')).limit(1);
+		? await db
+				.select({ email: organisations.contactEmail })
+				.from(organisations)
+				.where(eq(organisations.id, data.site.dealerOrgId))
+		: await db
+				.select({ email: organisations.contactEmail })
+				.from(organisations)
+				.where(eq(organisations.kind, 'assembler'))
+				.limit(1);
 	const to = org?.email;
-	if (!to) return { to: '', sent: false, error: 'No contact e-mail address is on record for the site’s dealer; download the PDF and send it yourself.' };
+	if (!to)
+		return {
+			to: '',
+			sent: false,
+			error:
+				'No contact e-mail address is on record for the site’s dealer; download the PDF and send it yourself.'
+		};
 	const pdf = await certificatePdf(data);
 	try {
 		await sendMail(db, {
@@ -253,13 +390,23 @@ async function mailCertificate(db: Db, actor: Actor, commissioningId: number): P
 				`${data.system.name} at ${data.site.name} (${data.site.address}) was commissioned on ${data.commissionedOn} by ${data.technicianName} (licence ${data.licenceNumber}).\n\n` +
 				`${data.modules.length} modules of ${data.system.modelCode}, ${data.system.series} in series × ${data.system.parallel} in parallel. ` +
 				`Warranty from ${data.warranty.startsOn} to ${data.warranty.endsOn}.\n\nThe certificate ${data.certificateNo} is attached as a PDF.\n\n${data.codesNote}\n`,
-			attachments: [{ filename: `${data.certificateNo}.pdf`, content: Buffer.from(pdf), contentType: 'application/pdf' }]
+			attachments: [
+				{
+					filename: `${data.certificateNo}.pdf`,
+					content: Buffer.from(pdf),
+					contentType: 'application/pdf'
+				}
+			]
 		});
 		return { to, sent: true };
 	} catch (e) {
 		// The commissioning is stored either way; the page says the mail failed so someone sends the PDF by hand.
 		console.error(`Certificate ${data.certificateNo} could not be mailed to ${to}:`, e);
-		return { to, sent: false, error: `The mail server refused the message (${(e as Error).message}); download the PDF and send it yourself.` };
+		return {
+			to,
+			sent: false,
+			error: `The mail server refused the message (${(e as Error).message}); download the PDF and send it yourself.`
+		};
 	}
 }
 
@@ -267,7 +414,11 @@ async function mailCertificate(db: Db, actor: Actor, commissioningId: number): P
  * Everything printed on a commissioning certificate, for a passing commissioning the
  * actor may see (same scope as its system). A failed or incomplete attempt has no certificate.
  */
-export async function certificateData(db: Db, actor: Actor, commissioningId: number): Promise<CertificateData> {
+export async function certificateData(
+	db: Db,
+	actor: Actor,
+	commissioningId: number
+): Promise<CertificateData> {
 	const notFound = new NotFoundError(`Commissioning ${commissioningId} is not in the register.`);
 	if (!Number.isInteger(commissioningId) || commissioningId < 1) throw notFound;
 	const [c] = await db.select().from(commissionings).where(eq(commissionings.id, commissioningId));
@@ -279,28 +430,56 @@ export async function certificateData(db: Db, actor: Actor, commissioningId: num
 		if (e instanceof NotFoundError) throw notFound;
 		throw e;
 	}
-	if (!c.certificateNo) throw new NotFoundError(`Commissioning ${commissioningId} did not pass, so it has no certificate. Correct what failed and submit the checklist again.`);
+	if (!c.certificateNo)
+		throw new NotFoundError(
+			`Commissioning ${commissioningId} did not pass, so it has no certificate. Correct what failed and submit the checklist again.`
+		);
 	const { system, model, site, voltages } = loaded;
 	// The modules as they were at commissioning (stored with the measurements), not as the slots are today.
 	const stored = JSON.parse(c.measurements) as { serials?: (string | null)[][] };
-	const serials = stored.serials?.length ? stored.serials : loaded.strings.map((row) => row.map((s) => s.module?.serial ?? null));
+	const serials = stored.serials?.length
+		? stored.serials
+		: loaded.strings.map((row) => row.map((s) => s.module?.serial ?? null));
 	const [mod] = await db
 		.select({ startsOn: modules.warrantyStartsOn, endsOn: modules.warrantyEndsOn })
 		.from(modules)
-		.where(and(inArray(modules.serial, serials.flat().filter((x): x is string => !!x)), eq(modules.warrantyStartsOn, c.commissionedOn)))
+		.where(
+			and(
+				inArray(
+					modules.serial,
+					serials.flat().filter((x): x is string => !!x)
+				),
+				eq(modules.warrantyStartsOn, c.commissionedOn)
+			)
+		)
 		.limit(1);
 	return {
 		commissioningId: c.id,
 		certificateNo: c.certificateNo,
 		commissionedOn: c.commissionedOn,
 		site: { name: site.name, address: site.address, dealerOrgId: site.dealerOrgId },
-		system: { id: system.id, name: system.name, modelCode: model.code, modelName: model.name, series: system.series, parallel: system.parallel, inverterName: system.inverterName, ...voltages },
-		modules: serials.flatMap((row, s) => row.map((serial, p) => ({ stringNo: s + 1, position: p + 1, serial: serial ?? '-' }))),
+		system: {
+			id: system.id,
+			name: system.name,
+			modelCode: model.code,
+			modelName: model.name,
+			series: system.series,
+			parallel: system.parallel,
+			inverterName: system.inverterName,
+			...voltages
+		},
+		modules: serials.flatMap((row, s) =>
+			row.map((serial, p) => ({ stringNo: s + 1, position: p + 1, serial: serial ?? '-' }))
+		),
 		items: JSON.parse(c.items) as CommissioningItem[],
 		technicianName: c.technicianName,
 		licenceNumber: c.licenceNumber,
 		handoverName: c.handoverName,
-		warranty: { startsOn: mod?.startsOn ?? c.commissionedOn, endsOn: mod?.endsOn ?? warrantyTermEnd(c.commissionedOn, model.warrantyYears), years: model.warrantyYears },
+		warranty: {
+			startsOn: mod?.startsOn ?? c.commissionedOn,
+			endsOn: mod?.endsOn ?? warrantyTermEnd(c.commissionedOn, model.warrantyYears),
+			years: model.warrantyYears
+		},
 		cautions: COMMISSIONING_CAUTIONS,
 		codesNote: CODES_TAKE_PRECEDENCE
 	};

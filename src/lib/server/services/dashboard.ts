@@ -18,18 +18,33 @@ export async function dashboardFigures(db: Db, now = new Date()) {
 	const since = Date.parse(`${mondayOf(now, DASHBOARD_WEEKS - 1)}T00:00:00Z`);
 	const week = (col: string) => sql.raw(`date(${col} / 1000, 'unixepoch', '-6 days', 'weekday 1')`);
 	const [byState, byModel, builds, shipments] = await Promise.all([
-		db.all<{ state: string; n: number }>(sql`SELECT state, count(*) AS n FROM modules GROUP BY state`),
-		db.all<{ code: string; state: string; n: number }>(sql`SELECT m.code AS code, mo.state AS state, count(*) AS n FROM modules mo JOIN module_models m ON m.id = mo.model_id GROUP BY m.code, mo.state ORDER BY m.code`),
-		db.all<{ week: string; n: number }>(sql`SELECT ${week('built_at')} AS week, count(*) AS n FROM modules WHERE built_at >= ${since} GROUP BY week`),
-		db.all<{ week: string; n: number }>(sql`SELECT ${week('shipped_at')} AS week, count(*) AS n FROM modules WHERE shipped_at >= ${since} GROUP BY week`)
+		db.all<{ state: string; n: number }>(
+			sql`SELECT state, count(*) AS n FROM modules GROUP BY state`
+		),
+		db.all<{ code: string; state: string; n: number }>(
+			sql`SELECT m.code AS code, mo.state AS state, count(*) AS n FROM modules mo JOIN module_models m ON m.id = mo.model_id GROUP BY m.code, mo.state ORDER BY m.code`
+		),
+		db.all<{ week: string; n: number }>(
+			sql`SELECT ${week('built_at')} AS week, count(*) AS n FROM modules WHERE built_at >= ${since} GROUP BY week`
+		),
+		db.all<{ week: string; n: number }>(
+			sql`SELECT ${week('shipped_at')} AS week, count(*) AS n FROM modules WHERE shipped_at >= ${since} GROUP BY week`
+		)
 	]);
-	const weeks = Array.from({ length: DASHBOARD_WEEKS }, (_, i) => mondayOf(now, DASHBOARD_WEEKS - 1 - i));
-	const series = (rows: { week: string; n: number }[]) => weeks.map((w) => ({ week: w, n: rows.find((r) => r.week === w)?.n ?? 0 }));
+	const weeks = Array.from({ length: DASHBOARD_WEEKS }, (_, i) =>
+		mondayOf(now, DASHBOARD_WEEKS - 1 - i)
+	);
+	const series = (rows: { week: string; n: number }[]) =>
+		weeks.map((w) => ({ week: w, n: rows.find((r) => r.week === w)?.n ?? 0 }));
 	const models = new Map<string, Record<string, number>>();
 	for (const r of byModel) models.set(r.code, { ...(models.get(r.code) ?? {}), [r.state]: r.n });
 	return {
 		byState: Object.fromEntries(byState.map((r) => [r.state, r.n])) as Record<string, number>,
-		byModel: [...models].map(([code, states]) => ({ code, states, total: Object.values(states).reduce((a, b) => a + b, 0) })),
+		byModel: [...models].map(([code, states]) => ({
+			code,
+			states,
+			total: Object.values(states).reduce((a, b) => a + b, 0)
+		})),
 		builds: series(builds),
 		shipments: series(shipments)
 	};

@@ -9,7 +9,12 @@ import { recordAudit } from './audit';
 
 type Organisation = typeof organisations.$inferSelect;
 
-const snapshot = (o: Pick<Organisation, 'name' | 'contactEmail' | 'region' | 'active'>) => ({ name: o.name, contactEmail: o.contactEmail, region: o.region, active: o.active });
+const snapshot = (o: Pick<Organisation, 'name' | 'contactEmail' | 'region' | 'active'>) => ({
+	name: o.name,
+	contactEmail: o.contactEmail,
+	region: o.region,
+	active: o.active
+});
 
 /** Names are unique across all organisations, ignoring case and spacing differences at the ends. */
 async function assertNameFree(tx: Tx, name: string, exceptId?: number) {
@@ -17,28 +22,45 @@ async function assertNameFree(tx: Tx, name: string, exceptId?: number) {
 		.select({ id: organisations.id, name: organisations.name })
 		.from(organisations)
 		.where(sql`lower(${organisations.name}) = lower(${name})`);
-	if (clash && clash.id !== exceptId) throw new ConflictError(`An organisation called ${clash.name} already exists. Choose another name, or edit that one.`);
+	if (clash && clash.id !== exceptId)
+		throw new ConflictError(
+			`An organisation called ${clash.name} already exists. Choose another name, or edit that one.`
+		);
 }
 
 async function loadDealer(conn: Db | Tx, id: number): Promise<Organisation> {
-	const [org] = await conn.select().from(organisations).where(and(eq(organisations.id, id), eq(organisations.kind, 'dealer')));
+	const [org] = await conn
+		.select()
+		.from(organisations)
+		.where(and(eq(organisations.id, id), eq(organisations.kind, 'dealer')));
 	if (!org) throw new NotFoundError(`There is no dealer ${id}.`);
 	return org;
 }
 
 /** Every dealer with how many modules it has received (dispatched shipments) and how many people it has. */
 export async function listDealers(db: Db) {
-	const dealers = await db.select().from(organisations).where(eq(organisations.kind, 'dealer')).orderBy(asc(organisations.name));
+	const dealers = await db
+		.select()
+		.from(organisations)
+		.where(eq(organisations.kind, 'dealer'))
+		.orderBy(asc(organisations.name));
 	const shipped = await db
 		.select({ orgId: shipments.dealerOrgId, n: count() })
 		.from(shipmentItems)
 		.innerJoin(shipments, eq(shipmentItems.shipmentId, shipments.id))
 		.where(eq(shipments.status, 'dispatched'))
 		.groupBy(shipments.dealerOrgId);
-	const people = await db.select({ orgId: users.organisationId, n: count() }).from(users).groupBy(users.organisationId);
+	const people = await db
+		.select({ orgId: users.organisationId, n: count() })
+		.from(users)
+		.groupBy(users.organisationId);
 	const shippedBy = new Map(shipped.map((r) => [r.orgId, r.n]));
 	const peopleBy = new Map(people.map((r) => [r.orgId, r.n]));
-	return dealers.map((d) => ({ ...d, modulesShipped: shippedBy.get(d.id) ?? 0, userCount: peopleBy.get(d.id) ?? 0 }));
+	return dealers.map((d) => ({
+		...d,
+		modulesShipped: shippedBy.get(d.id) ?? 0,
+		userCount: peopleBy.get(d.id) ?? 0
+	}));
 }
 
 /** Active dealers only, for choosing who a new shipment goes to. */
@@ -54,7 +76,15 @@ export async function listActiveDealers(db: Db) {
 export async function getDealer(db: Db, id: number) {
 	const dealer = await loadDealer(db, id);
 	const people = await db
-		.select({ id: users.id, name: users.name, email: users.email, role: users.role, active: users.active, hasPassword: users.passwordHash, lastSignInAt: users.lastSignInAt })
+		.select({
+			id: users.id,
+			name: users.name,
+			email: users.email,
+			role: users.role,
+			active: users.active,
+			hasPassword: users.passwordHash,
+			lastSignInAt: users.lastSignInAt
+		})
 		.from(users)
 		.where(eq(users.organisationId, id))
 		.orderBy(asc(users.name));
@@ -63,7 +93,10 @@ export async function getDealer(db: Db, id: number) {
 		.from(shipmentItems)
 		.innerJoin(shipments, eq(shipmentItems.shipmentId, shipments.id))
 		.where(and(eq(shipments.dealerOrgId, id), eq(shipments.status, 'dispatched')));
-	const [drafts] = await db.select({ n: count() }).from(shipments).where(and(eq(shipments.dealerOrgId, id), eq(shipments.status, 'draft')));
+	const [drafts] = await db
+		.select({ n: count() })
+		.from(shipments)
+		.where(and(eq(shipments.dealerOrgId, id), eq(shipments.status, 'draft')));
 	return {
 		dealer,
 		users: people.map((u) => ({ ...u, hasPassword: !!u.hasPassword })),
@@ -76,18 +109,41 @@ export async function getDealer(db: Db, id: number) {
  * Adds a dealer organisation. Its people are invited separately (People page).
  * @returns the new dealer's id
  */
-export async function createDealer(db: Db, actor: Actor, input: DealerInput, now = new Date()): Promise<number> {
-	const values = { kind: 'dealer' as const, name: input.name, contactEmail: input.contactEmail, region: input.region ?? null, active: true };
+export async function createDealer(
+	db: Db,
+	actor: Actor,
+	input: DealerInput,
+	now = new Date()
+): Promise<number> {
+	const values = {
+		kind: 'dealer' as const,
+		name: input.name,
+		contactEmail: input.contactEmail,
+		region: input.region ?? null,
+		active: true
+	};
 	return writeTx(db, async (tx) => {
 		await assertNameFree(tx, input.name);
 		const [org] = await tx.insert(organisations).values(values).returning({ id: organisations.id });
-		await recordAudit(tx, actor, { action: 'dealer.create', entity: 'organisation', entityId: org.id, after: snapshot(values), at: now });
+		await recordAudit(tx, actor, {
+			action: 'dealer.create',
+			entity: 'organisation',
+			entityId: org.id,
+			after: snapshot(values),
+			at: now
+		});
 		return org.id;
 	});
 }
 
 /** Changes a dealer's name, contact address and region. Modules already shipped keep pointing at the same dealer. */
-export async function updateDealer(db: Db, actor: Actor, id: number, input: DealerInput, now = new Date()) {
+export async function updateDealer(
+	db: Db,
+	actor: Actor,
+	id: number,
+	input: DealerInput,
+	now = new Date()
+) {
 	return writeTx(db, async (tx) => {
 		const before = await loadDealer(tx, id);
 		await assertNameFree(tx, input.name, id);
@@ -96,7 +152,14 @@ export async function updateDealer(db: Db, actor: Actor, id: number, input: Deal
 			.set({ name: input.name, contactEmail: input.contactEmail, region: input.region ?? null })
 			.where(eq(organisations.id, id))
 			.returning();
-		await recordAudit(tx, actor, { action: 'dealer.update', entity: 'organisation', entityId: id, before: snapshot(before), after: snapshot(after), at: now });
+		await recordAudit(tx, actor, {
+			action: 'dealer.update',
+			entity: 'organisation',
+			entityId: id,
+			before: snapshot(before),
+			after: snapshot(after),
+			at: now
+		});
 		return after;
 	});
 }
@@ -105,12 +168,29 @@ export async function updateDealer(db: Db, actor: Actor, id: number, input: Deal
  * Deactivates or reactivates a dealer. A deactivated dealer receives no new shipments
  * (drafts to it cannot be dispatched); its modules and people stay on record.
  */
-export async function setDealerActive(db: Db, actor: Actor, id: number, active: boolean, now = new Date()) {
+export async function setDealerActive(
+	db: Db,
+	actor: Actor,
+	id: number,
+	active: boolean,
+	now = new Date()
+) {
 	return writeTx(db, async (tx) => {
 		const before = await loadDealer(tx, id);
 		if (before.active === active) return before;
-		const [after] = await tx.update(organisations).set({ active }).where(eq(organisations.id, id)).returning();
-		await recordAudit(tx, actor, { action: active ? 'dealer.activate' : 'dealer.deactivate', entity: 'organisation', entityId: id, before: { active: before.active }, after: { active }, at: now });
+		const [after] = await tx
+			.update(organisations)
+			.set({ active })
+			.where(eq(organisations.id, id))
+			.returning();
+		await recordAudit(tx, actor, {
+			action: active ? 'dealer.activate' : 'dealer.deactivate',
+			entity: 'organisation',
+			entityId: id,
+			before: { active: before.active },
+			after: { active },
+			at: now
+		});
 		return after;
 	});
 }

@@ -2,12 +2,27 @@ import { and, asc, count, desc, eq, inArray, sql, type SQL } from 'drizzle-orm';
 import { alias, type AnySQLiteColumn } from 'drizzle-orm/sqlite-core';
 import Papa from 'papaparse';
 import type { Db } from '$lib/server/db';
-import { moduleCellLots, moduleModels, modules, organisations, factoryTests, sites, systems, userPrefs } from '$lib/server/db/schema';
+import {
+	moduleCellLots,
+	moduleModels,
+	modules,
+	organisations,
+	factoryTests,
+	sites,
+	systems,
+	userPrefs
+} from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { InvalidInputError } from '$lib/server/errors';
 import { neutraliseCell } from '$lib/domain/factory-csv';
 import { STATE_LABELS } from '$lib/module-states';
-import { FLEET_COLUMN_IDS, FLEET_STATES, type FleetColumn, type FleetQuery, type FleetSort } from '$lib/schemas/fleet';
+import {
+	FLEET_COLUMN_IDS,
+	FLEET_STATES,
+	type FleetColumn,
+	type FleetQuery,
+	type FleetSort
+} from '$lib/schemas/fleet';
 
 /** Most rows one CSV export carries: the whole register at its design size. */
 export const EXPORT_CAP = 200_000;
@@ -24,8 +39,19 @@ const FEW = 5000;
  * `list`: ids from another table (cell lot, import), small and read through that table's
  * index; `bunched`: matches sit together in time, so walking a date index finds them late.
  */
-type Columns = Record<'id' | 'serial' | 'state' | 'modelId' | 'dealerOrgId' | 'builtAt', AnySQLiteColumn>;
-type Condition = { on: FleetSort | null; col: AnySQLiteColumn; rank: number; test: (t: Columns, hint: boolean) => SQL; list?: boolean; bunched?: boolean; scope?: boolean };
+type Columns = Record<
+	'id' | 'serial' | 'state' | 'modelId' | 'dealerOrgId' | 'builtAt',
+	AnySQLiteColumn
+>;
+type Condition = {
+	on: FleetSort | null;
+	col: AnySQLiteColumn;
+	rank: number;
+	test: (t: Columns, hint: boolean) => SQL;
+	list?: boolean;
+	bunched?: boolean;
+	scope?: boolean;
+};
 
 const x = alias(modules, 'x');
 const col = (c: AnySQLiteColumn, hint: boolean) => (hint ? sql`+${c}` : sql`${c}`);
@@ -35,13 +61,23 @@ const hinted = (c: Condition) => c.test(modules, true);
  * The condition as a set of ids read from its own covering index (`+id IN (SELECT x.id …)`):
  * testing a row against it reads no table row, which is what makes filters cheap to combine.
  */
-const asSet = (c: Condition) => (c.list ? hinted(c) : sql`+${modules.id} IN (SELECT ${x.id} FROM ${modules} AS ${x} WHERE ${c.test(x, false)})`);
+const asSet = (c: Condition) =>
+	c.list
+		? hinted(c)
+		: sql`+${modules.id} IN (SELECT ${x.id} FROM ${modules} AS ${x} WHERE ${c.test(x, false)})`;
 
 /** Serials are PL…; text starting so is read as the start of a serial, anything else as text inside one. */
-function serialSearch(text: string): { kind: 'prefix'; from: string; to: string } | { kind: 'contains'; text: string } | null {
+function serialSearch(
+	text: string
+): { kind: 'prefix'; from: string; to: string } | { kind: 'contains'; text: string } | null {
 	const q = text.replace(/\s+/g, '').toUpperCase();
 	if (q === '') return null;
-	if (/^PL[A-Z0-9-]*$/.test(q)) return { kind: 'prefix', from: q, to: q.slice(0, -1) + String.fromCharCode(q.charCodeAt(q.length - 1) + 1) };
+	if (/^PL[A-Z0-9-]*$/.test(q))
+		return {
+			kind: 'prefix',
+			from: q,
+			to: q.slice(0, -1) + String.fromCharCode(q.charCodeAt(q.length - 1) + 1)
+		};
 	return { kind: 'contains', text: q };
 }
 
@@ -54,37 +90,91 @@ const dayStart = (d: string) => Date.parse(`${d}T00:00:00Z`);
  */
 function conditions(query: FleetQuery, scope: number | null): Condition[] | null {
 	const out: Condition[] = [];
-	if (scope !== null) out.push({ on: null, col: modules.dealerOrgId, rank: 5, scope: true, test: (t, h) => sql`${col(t.dealerOrgId, h)} = ${scope}` });
+	if (scope !== null)
+		out.push({
+			on: null,
+			col: modules.dealerOrgId,
+			rank: 5,
+			scope: true,
+			test: (t, h) => sql`${col(t.dealerOrgId, h)} = ${scope}`
+		});
 	if (query.dealer !== undefined && scope !== null && query.dealer !== scope) return null;
-	if (query.dealer !== undefined && scope === null) out.push({ on: null, col: modules.dealerOrgId, rank: 4, test: (t, h) => sql`${col(t.dealerOrgId, h)} = ${query.dealer}` });
-	if (query.state) out.push({ on: null, col: modules.state, rank: 2, test: (t, h) => sql`${col(t.state, h)} = ${query.state}` });
+	if (query.dealer !== undefined && scope === null)
+		out.push({
+			on: null,
+			col: modules.dealerOrgId,
+			rank: 4,
+			test: (t, h) => sql`${col(t.dealerOrgId, h)} = ${query.dealer}`
+		});
+	if (query.state)
+		out.push({
+			on: null,
+			col: modules.state,
+			rank: 2,
+			test: (t, h) => sql`${col(t.state, h)} = ${query.state}`
+		});
 	if (query.model) {
 		const id = sql`(SELECT ${moduleModels.id} FROM ${moduleModels} WHERE ${moduleModels.code} = ${query.model})`;
-		out.push({ on: null, col: modules.modelId, rank: 3, test: (t, h) => sql`${col(t.modelId, h)} = ${id}` });
+		out.push({
+			on: null,
+			col: modules.modelId,
+			rank: 3,
+			test: (t, h) => sql`${col(t.modelId, h)} = ${id}`
+		});
 	}
 	const from = query.builtFrom ? dayStart(query.builtFrom) : null;
 	const to = query.builtTo ? dayStart(query.builtTo) + DAY_MS : null;
 	if (from !== null || to !== null) {
-		const range = (t: Columns, h: boolean) => and(from === null ? undefined : sql`${col(t.builtAt, h)} >= ${from}`, to === null ? undefined : sql`${col(t.builtAt, h)} < ${to}`)!;
+		const range = (t: Columns, h: boolean) =>
+			and(
+				from === null ? undefined : sql`${col(t.builtAt, h)} >= ${from}`,
+				to === null ? undefined : sql`${col(t.builtAt, h)} < ${to}`
+			)!;
 		out.push({ on: 'builtAt', col: modules.builtAt, rank: 1, test: range });
 	}
 	// IN (subquery) starts from the lot's or import's index; a correlated EXISTS visits every module (~180 ms).
 	if (query.lot) {
 		const ids = sql`(SELECT ${moduleCellLots.moduleId} FROM ${moduleCellLots} WHERE ${moduleCellLots.lotCode} = ${query.lot})`;
-		out.push({ on: null, col: modules.id, rank: 0, list: true, bunched: true, test: (t, h) => sql`${col(t.id, h)} IN ${ids}` });
+		out.push({
+			on: null,
+			col: modules.id,
+			rank: 0,
+			list: true,
+			bunched: true,
+			test: (t, h) => sql`${col(t.id, h)} IN ${ids}`
+		});
 	}
 	if (query.importId !== undefined) {
 		const ids = sql`(SELECT ${factoryTests.moduleId} FROM ${factoryTests} WHERE ${factoryTests.importId} = ${query.importId})`;
-		out.push({ on: null, col: modules.id, rank: 0, list: true, bunched: true, test: (t, h) => sql`${col(t.id, h)} IN ${ids}` });
+		out.push({
+			on: null,
+			col: modules.id,
+			rank: 0,
+			list: true,
+			bunched: true,
+			test: (t, h) => sql`${col(t.id, h)} IN ${ids}`
+		});
 	}
 	const search = serialSearch(query.q ?? '');
 	if (search?.kind === 'prefix') {
 		// A range on the unique serial index. Past the variant, a prefix names a build year.
-		const test = (t: Columns, h: boolean) => sql`${col(t.serial, h)} >= ${search.from} AND ${col(t.serial, h)} < ${search.to}`;
-		out.push({ on: 'serial', col: modules.serial, rank: 1, bunched: /^PL[0-9A-Z]{1,4}-\d/.test(search.from), test });
+		const test = (t: Columns, h: boolean) =>
+			sql`${col(t.serial, h)} >= ${search.from} AND ${col(t.serial, h)} < ${search.to}`;
+		out.push({
+			on: 'serial',
+			col: modules.serial,
+			rank: 1,
+			bunched: /^PL[0-9A-Z]{1,4}-\d/.test(search.from),
+			test
+		});
 	} else if (search?.kind === 'contains') {
 		// No index finds text inside a serial: instr reads the serial index alone (no table rows), 200,000 serials in ~13 ms.
-		out.push({ on: null, col: modules.serial, rank: 6, test: (t) => sql`instr(${t.serial}, ${search.text}) > 0` });
+		out.push({
+			on: null,
+			col: modules.serial,
+			rank: 6,
+			test: (t) => sql`instr(${t.serial}, ${search.text}) > 0`
+		});
 	}
 	return out;
 }
@@ -96,23 +186,47 @@ function conditions(query: FleetQuery, scope: number | null): Condition[] | null
  * filter uses the (dealer, state) index directly.
  */
 function counted(conds: Condition[]): SQL | undefined {
-	const pairIndex = conds.length === 2 && conds.some((c) => c.scope) && conds.some((c) => c.col === modules.state);
+	const pairIndex =
+		conds.length === 2 && conds.some((c) => c.scope) && conds.some((c) => c.col === modules.state);
 	if (conds.length <= 1 || pairIndex || conds.some((c) => c.list)) return and(...conds.map(plain));
 	const [first, ...rest] = [...conds].sort((a, b) => a.rank - b.rank);
 	return and(plain(first), ...rest.map(asSet));
 }
 
 /** Sorts backed by an index of their own. */
-const SORT_COLUMNS: Partial<Record<FleetSort, AnySQLiteColumn>> = { serial: modules.serial, builtAt: modules.builtAt, testedAt: modules.testedAt, shippedAt: modules.shippedAt };
+const SORT_COLUMNS: Partial<Record<FleetSort, AnySQLiteColumn>> = {
+	serial: modules.serial,
+	builtAt: modules.builtAt,
+	testedAt: modules.testedAt,
+	shippedAt: modules.shippedAt
+};
 
 /**
  * Sorts by a short list: the column and each value's place. States go in the order of a
  * module's life, models by code, dealers by name; "no dealer" comes last both ways.
  */
-async function ranking(db: Db, sort: FleetSort): Promise<{ col: AnySQLiteColumn; keys: (string | number)[] } | null> {
+async function ranking(
+	db: Db,
+	sort: FleetSort
+): Promise<{ col: AnySQLiteColumn; keys: (string | number)[] } | null> {
 	if (sort === 'state') return { col: modules.state, keys: FLEET_STATES };
-	if (sort === 'model') return { col: modules.modelId, keys: (await db.select({ id: moduleModels.id }).from(moduleModels).orderBy(asc(moduleModels.code))).map((m) => m.id) };
-	if (sort === 'dealer') return { col: modules.dealerOrgId, keys: (await db.select({ id: organisations.id }).from(organisations).orderBy(asc(organisations.name), asc(organisations.id))).map((o) => o.id) };
+	if (sort === 'model')
+		return {
+			col: modules.modelId,
+			keys: (
+				await db.select({ id: moduleModels.id }).from(moduleModels).orderBy(asc(moduleModels.code))
+			).map((m) => m.id)
+		};
+	if (sort === 'dealer')
+		return {
+			col: modules.dealerOrgId,
+			keys: (
+				await db
+					.select({ id: organisations.id })
+					.from(organisations)
+					.orderBy(asc(organisations.name), asc(organisations.id))
+			).map((o) => o.id)
+		};
 	return null;
 }
 
@@ -124,10 +238,16 @@ async function sortOrder(db: Db, sort: FleetSort, dir: 'asc' | 'desc'): Promise<
 	const d = dir === 'asc' ? sql`ASC` : sql`DESC`;
 	const ranked = await ranking(db, sort);
 	if (ranked) {
-		const place = sql`CASE ${ranked.col} ${sql.join(ranked.keys.map((k, i) => sql`WHEN ${k} THEN ${i}`), sql` `)} ELSE ${dir === 'asc' ? ranked.keys.length : -1} END`;
+		const place = sql`CASE ${ranked.col} ${sql.join(
+			ranked.keys.map((k, i) => sql`WHEN ${k} THEN ${i}`),
+			sql` `
+		)} ELSE ${dir === 'asc' ? ranked.keys.length : -1} END`;
 		return [sql`${place} ${d}`, sql`${modules.id} ${d}`];
 	}
-	return [sql`${SORT_COLUMNS[sort]} ${d}${sort !== 'serial' && dir === 'asc' ? sql` NULLS LAST` : sql``}`, sql`${modules.id} ${d}`];
+	return [
+		sql`${SORT_COLUMNS[sort]} ${d}${sort !== 'serial' && dir === 'asc' ? sql` NULLS LAST` : sql``}`,
+		sql`${modules.id} ${d}`
+	];
 }
 
 /**
@@ -137,13 +257,29 @@ async function sortOrder(db: Db, sort: FleetSort, dir: 'asc' | 'desc'): Promise<
  * grouped column (or the dealer's, with the (dealer, state) index) narrow that walk; the
  * others are id sets.
  */
-async function groupedPage(db: Db, conds: Condition[], ranked: { col: AnySQLiteColumn; keys: (string | number)[] }, query: FleetQuery) {
+async function groupedPage(
+	db: Db,
+	conds: Condition[],
+	ranked: { col: AnySQLiteColumn; keys: (string | number)[] },
+	query: FleetQuery
+) {
 	const { page, pageSize, dir } = query;
-	const narrows = (c: Condition) => c.col === ranked.col || (ranked.col === modules.state && c.col === modules.dealerOrgId);
+	const narrows = (c: Condition) =>
+		c.col === ranked.col || (ranked.col === modules.state && c.col === modules.dealerOrgId);
 	const where = and(...conds.map((c) => (narrows(c) ? plain(c) : asSet(c))));
-	const groups = await db.select({ key: sql<string | number | null>`${ranked.col}`, n: count() }).from(modules).where(where).groupBy(ranked.col);
+	const groups = await db
+		.select({ key: sql<string | number | null>`${ranked.col}`, n: count() })
+		.from(modules)
+		.where(where)
+		.groupBy(ranked.col);
 	const place = (k: string | number | null) => (k === null ? Infinity : ranked.keys.indexOf(k));
-	groups.sort((a, b) => (place(a.key) === Infinity ? 1 : place(b.key) === Infinity ? -1 : (place(a.key) - place(b.key)) * (dir === 'asc' ? 1 : -1)));
+	groups.sort((a, b) =>
+		place(a.key) === Infinity
+			? 1
+			: place(b.key) === Infinity
+				? -1
+				: (place(a.key) - place(b.key)) * (dir === 'asc' ? 1 : -1)
+	);
 	const ids: number[] = [];
 	let skip = (page - 1) * pageSize;
 	for (const g of groups) {
@@ -153,7 +289,13 @@ async function groupedPage(db: Db, conds: Condition[], ranked: { col: AnySQLiteC
 			continue;
 		}
 		const inGroup = g.key === null ? sql`${ranked.col} IS NULL` : sql`${ranked.col} = ${g.key}`;
-		const rows = await db.select({ id: modules.id }).from(modules).where(and(where, inGroup)).orderBy(dir === 'asc' ? asc(modules.id) : desc(modules.id)).limit(pageSize - ids.length).offset(skip);
+		const rows = await db
+			.select({ id: modules.id })
+			.from(modules)
+			.where(and(where, inGroup))
+			.orderBy(dir === 'asc' ? asc(modules.id) : desc(modules.id))
+			.limit(pageSize - ids.length)
+			.offset(skip);
 		ids.push(...rows.map((r) => r.id));
 		skip = 0;
 	}
@@ -161,8 +303,17 @@ async function groupedPage(db: Db, conds: Condition[], ranked: { col: AnySQLiteC
 }
 
 const ITEM = {
-	id: modules.id, serial: modules.serial, state: modules.state, model: sql<string>`${moduleModels.code}`.as('model'), dealer: sql<string | null>`${organisations.name}`.as('dealer'),
-	builtAt: modules.builtAt, testedAt: modules.testedAt, testOutcome: modules.testOutcome, shippedAt: modules.shippedAt, cellLots: modules.cellLots, site: sql<string | null>`${sites.name}`.as('site')
+	id: modules.id,
+	serial: modules.serial,
+	state: modules.state,
+	model: sql<string>`${moduleModels.code}`.as('model'),
+	dealer: sql<string | null>`${organisations.name}`.as('dealer'),
+	builtAt: modules.builtAt,
+	testedAt: modules.testedAt,
+	testOutcome: modules.testOutcome,
+	shippedAt: modules.shippedAt,
+	cellLots: modules.cellLots,
+	site: sql<string | null>`${sites.name}`.as('site')
 };
 
 /** Module rows with their model, dealer and site names: joined for the rows returned only. */
@@ -201,7 +352,9 @@ export async function listModules(db: Db, actor: Actor, query: FleetQuery) {
 	const conds = conditions(query, dealerScopeOf(actor));
 	if (!conds) return { items: [] as FleetItem[], total: 0, page, pageSize };
 	const ranked = await ranking(db, sort);
-	const { total, ids } = ranked ? await groupedPage(db, conds, ranked, query) : await indexedPage(db, conds, query);
+	const { total, ids } = ranked
+		? await groupedPage(db, conds, ranked, query)
+		: await indexedPage(db, conds, query);
 	const rows = ids.length ? await selectItems(db).where(inArray(modules.id, ids)) : [];
 	const byId = new Map(rows.map((r) => [r.id, r]));
 	return { items: ids.map((id) => toItem(byId.get(id)!)), total, page, pageSize };
@@ -217,7 +370,11 @@ async function indexedPage(db: Db, conds: Condition[], query: FleetQuery) {
 	if (others.length > 0) {
 		// Typed serial text, a cell lot: often a few matches. Their ids come from indexes alone;
 		// if there are few, read their sort values and sort here.
-		const [found] = await db.select({ ids: sql<string>`json_group_array(id)` }).from(sql`(SELECT ${modules.id} AS id FROM ${modules} WHERE ${counted(conds)} LIMIT ${FEW + 1})`);
+		const [found] = await db
+			.select({ ids: sql<string>`json_group_array(id)` })
+			.from(
+				sql`(SELECT ${modules.id} AS id FROM ${modules} WHERE ${counted(conds)} LIMIT ${FEW + 1})`
+			);
 		const ids = JSON.parse(found.ids) as number[];
 		if (ids.length <= FEW) {
 			// One JSON row back instead of thousands: row materialisation is the cost here.
@@ -225,9 +382,19 @@ async function indexedPage(db: Db, conds: Condition[], query: FleetQuery) {
 				.select({ rows: sql<string>`json_group_array(json_array(${modules.id}, ${sortCol}))` })
 				.from(modules)
 				.where(sql`${modules.id} IN (SELECT value FROM json_each(${JSON.stringify(ids)}))`);
-			const few = (JSON.parse(packed.rows) as [number, number | string | null][]).map(([id, v]) => ({ id, v }));
+			const few = (JSON.parse(packed.rows) as [number, number | string | null][]).map(
+				([id, v]) => ({ id, v })
+			);
 			const sign = dir === 'asc' ? 1 : -1;
-			few.sort((a, b) => (a.v === b.v ? (a.id - b.id) * sign : a.v === null ? 1 : b.v === null ? -1 : (a.v < b.v ? -1 : 1) * sign));
+			few.sort((a, b) =>
+				a.v === b.v
+					? (a.id - b.id) * sign
+					: a.v === null
+						? 1
+						: b.v === null
+							? -1
+							: (a.v < b.v ? -1 : 1) * sign
+			);
 			return { total: few.length, ids: few.slice(offset, offset + pageSize).map((r) => r.id) };
 		}
 	}
@@ -238,13 +405,32 @@ async function indexedPage(db: Db, conds: Condition[], query: FleetQuery) {
 	if (total === 0 || offset >= total) return { total, ids: [] };
 
 	const order = await sortOrder(db, sort, dir);
-	const pageIds = async (where: SQL | undefined) => (await db.select({ id: modules.id }).from(modules).where(where).orderBy(...order).limit(pageSize).offset(offset)).map((r) => r.id);
+	const pageIds = async (where: SQL | undefined) =>
+		(
+			await db
+				.select({ id: modules.id })
+				.from(modules)
+				.where(where)
+				.orderBy(...order)
+				.limit(pageSize)
+				.offset(offset)
+		).map((r) => r.id);
 	if (others.length === 0) return { total, ids: await pageIds(and(...own)) };
 
 	const spread = Math.ceil(((offset + pageSize) * Math.max(size ?? total, total)) / total);
 	if (spread <= 250 && !others.some((c) => c.bunched)) {
-		const [edge] = await db.select({ v: sql<number | string | null>`${sortCol}` }).from(modules).where(and(...own)).orderBy(...order).limit(1).offset(4 * spread);
-		const bound = !edge ? undefined : dir === 'desc' ? sql`${sortCol} >= ${edge.v}` : sql`${sortCol} <= ${edge.v}`;
+		const [edge] = await db
+			.select({ v: sql<number | string | null>`${sortCol}` })
+			.from(modules)
+			.where(and(...own))
+			.orderBy(...order)
+			.limit(1)
+			.offset(4 * spread);
+		const bound = !edge
+			? undefined
+			: dir === 'desc'
+				? sql`${sortCol} >= ${edge.v}`
+				: sql`${sortCol} <= ${edge.v}`;
 		if (!edge || edge.v !== null) {
 			const walked = await pageIds(and(...own, ...others.map(hinted), bound));
 			if (walked.length === Math.min(pageSize, total - offset)) return { total, ids: walked };
@@ -271,14 +457,50 @@ export async function exportModules(db: Db, actor: Actor, query: FleetQuery): Pr
 		.limit(EXPORT_CAP)
 		.as('v');
 	const [{ json }] = await db
-		.select({ json: sql<string>`json_group_array(json_array(${v.serial}, ${v.model}, ${v.state}, ${v.dealer}, ${v.builtAt}, ${v.testedAt}, ${v.testOutcome}, ${v.shippedAt}, ${v.cellLots}, ${v.site}))` })
+		.select({
+			json: sql<string>`json_group_array(json_array(${v.serial}, ${v.model}, ${v.state}, ${v.dealer}, ${v.builtAt}, ${v.testedAt}, ${v.testOutcome}, ${v.shippedAt}, ${v.cellLots}, ${v.site}))`
+		})
 		.from(v);
-	type Row = [string, string, string, string | null, number | null, number | null, string | null, number | null, string | null, string | null];
-	const fields = ['serial', 'model', 'state', 'state_label', 'dealer', 'built_at', 'tested_at', 'test_outcome', 'shipped_at', 'cell_lots', 'site'];
-	const data = (JSON.parse(json) as Row[]).map(([serial, model, state, dealer, built, tested, outcome, shipped, lots, site]) =>
-		[serial, model, state, STATE_LABELS[state] ?? state, dealer ?? '', iso(built), iso(tested), outcome ?? '', iso(shipped), lots ? (JSON.parse(lots) as string[]).join(' ') : '', site ?? ''].map(
-			neutraliseCell
-		)
+	type Row = [
+		string,
+		string,
+		string,
+		string | null,
+		number | null,
+		number | null,
+		string | null,
+		number | null,
+		string | null,
+		string | null
+	];
+	const fields = [
+		'serial',
+		'model',
+		'state',
+		'state_label',
+		'dealer',
+		'built_at',
+		'tested_at',
+		'test_outcome',
+		'shipped_at',
+		'cell_lots',
+		'site'
+	];
+	const data = (JSON.parse(json) as Row[]).map(
+		([serial, model, state, dealer, built, tested, outcome, shipped, lots, site]) =>
+			[
+				serial,
+				model,
+				state,
+				STATE_LABELS[state] ?? state,
+				dealer ?? '',
+				iso(built),
+				iso(tested),
+				outcome ?? '',
+				iso(shipped),
+				lots ? (JSON.parse(lots) as string[]).join(' ') : '',
+				site ?? ''
+			].map(neutraliseCell)
 	);
 	const csv = Papa.unparse({ fields, data }, { newline: '\r\n' });
 	// Papa Parse ends the text with a line break only when there are no data rows.
@@ -287,17 +509,28 @@ export async function exportModules(db: Db, actor: Actor, query: FleetQuery): Pr
 
 /** The filter choices for the fleet page: models, and dealers for the assembler's staff only. */
 export async function fleetFilterOptions(db: Db, actor: Actor) {
-	const models = await db.select({ code: moduleModels.code, name: moduleModels.name }).from(moduleModels).orderBy(asc(moduleModels.code));
+	const models = await db
+		.select({ code: moduleModels.code, name: moduleModels.name })
+		.from(moduleModels)
+		.orderBy(asc(moduleModels.code));
 	if (dealerScopeOf(actor) !== null) return { models, dealers: null };
-	const dealers = await db.select({ id: organisations.id, name: organisations.name }).from(organisations).where(eq(organisations.kind, 'dealer')).orderBy(asc(organisations.name));
+	const dealers = await db
+		.select({ id: organisations.id, name: organisations.name })
+		.from(organisations)
+		.where(eq(organisations.kind, 'dealer'))
+		.orderBy(asc(organisations.name));
 	return { models, dealers };
 }
 
-const known = (ids: unknown): FleetColumn[] => (Array.isArray(ids) ? FLEET_COLUMN_IDS.filter((c) => ids.includes(c)) : []);
+const known = (ids: unknown): FleetColumn[] =>
+	Array.isArray(ids) ? FLEET_COLUMN_IDS.filter((c) => ids.includes(c)) : [];
 
 /** The columns a person chose to see in the fleet table, or null when they never chose. */
 export async function getColumnPrefs(db: Db, userId: number): Promise<FleetColumn[] | null> {
-	const [row] = await db.select({ value: userPrefs.value }).from(userPrefs).where(and(eq(userPrefs.userId, userId), eq(userPrefs.key, PREFS_KEY)));
+	const [row] = await db
+		.select({ value: userPrefs.value })
+		.from(userPrefs)
+		.where(and(eq(userPrefs.userId, userId), eq(userPrefs.key, PREFS_KEY)));
 	return row ? known(JSON.parse(row.value)) : null;
 }
 
@@ -305,10 +538,20 @@ export async function getColumnPrefs(db: Db, userId: number): Promise<FleetColum
  * Keeps a person's visible columns (serial is always shown). A display preference,
  * not register data, so it is not written to the audit trail.
  */
-export async function setColumnPrefs(db: Db, userId: number, columns: string[]): Promise<FleetColumn[]> {
+export async function setColumnPrefs(
+	db: Db,
+	userId: number,
+	columns: string[]
+): Promise<FleetColumn[]> {
 	const unknown = columns.filter((c) => !(FLEET_COLUMN_IDS as string[]).includes(c));
 	if (unknown.length) {
-		throw new InvalidInputError(`Unknown column ${unknown.join(', ')}.`, unknown.map((c) => ({ path: 'columns', message: `“${c}” is not a column; choose from ${FLEET_COLUMN_IDS.join(', ')}.` })));
+		throw new InvalidInputError(
+			`Unknown column ${unknown.join(', ')}.`,
+			unknown.map((c) => ({
+				path: 'columns',
+				message: `“${c}” is not a column; choose from ${FLEET_COLUMN_IDS.join(', ')}.`
+			}))
+		);
 	}
 	const chosen = known(['serial', ...columns]);
 	const value = JSON.stringify(chosen);

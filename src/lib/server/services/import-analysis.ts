@@ -1,6 +1,11 @@
 import type { Db } from '$lib/server/db';
 import { moduleModels } from '$lib/server/db/schema';
-import { validateFactoryCsv, rowKey, type FactoryTestRow, type RowError } from '$lib/domain/factory-csv';
+import {
+	validateFactoryCsv,
+	rowKey,
+	type FactoryTestRow,
+	type RowError
+} from '$lib/domain/factory-csv';
 import { evaluateResult, type TestFailure } from '$lib/domain/factory-test';
 import { parseSerial } from '$lib/domain/serial';
 import { STATE_LABELS } from '$lib/module-states';
@@ -45,7 +50,9 @@ export async function analyseFactoryFile(db: Db, content: string, now: Date): Pr
 		args: [JSON.stringify(serials)]
 	});
 	const bySerial = new Map(
-		(JSON.parse(found.rows[0].rows as string) as [number, string, string, number][]).map(([id, serial, state, modelId]) => [serial, { id, state, modelId }])
+		(JSON.parse(found.rows[0].rows as string) as [number, string, string, number][]).map(
+			([id, serial, state, modelId]) => [serial, { id, state, modelId }]
+		)
 	);
 	const models = new Map((await db.select().from(moduleModels)).map((m) => [m.id, m]));
 
@@ -55,21 +62,42 @@ export async function analyseFactoryFile(db: Db, content: string, now: Date): Pr
 		const mod = bySerial.get(serial);
 		if (!mod) {
 			const p = parseSerial(serial);
-			errors.push({ row, column: serialColumn, message: p.ok ? `Unknown serial ${serial}: no such module in the register.` : `“${value.serial}” is not a valid serial: ${p.reason}.` });
+			errors.push({
+				row,
+				column: serialColumn,
+				message: p.ok
+					? `Unknown serial ${serial}: no such module in the register.`
+					: `“${value.serial}” is not a valid serial: ${p.reason}.`
+			});
 			continue;
 		}
 		if (mod.state === 'allocated') {
-			errors.push({ row, column: serialColumn, message: `${serial} is not built yet: register its build at the bench first.` });
+			errors.push({
+				row,
+				column: serialColumn,
+				message: `${serial} is not built yet: register its build at the bench first.`
+			});
 			continue;
 		}
 		if (!TESTABLE_STATES.has(mod.state)) {
-			errors.push({ row, column: serialColumn, message: `${serial} has left the workshop (${STATE_LABELS[mod.state]}); factory results can only be added before shipping.` });
+			errors.push({
+				row,
+				column: serialColumn,
+				message: `${serial} has left the workshop (${STATE_LABELS[mod.state]}); factory results can only be added before shipping.`
+			});
 			continue;
 		}
 		const model = models.get(mod.modelId)!;
 		const verdict = evaluateResult(value, model);
 		value.serial = serial;
-		candidates.push({ row, moduleId: mod.id, key: rowKey(value), value, outcome: verdict.outcome, failures: verdict.failures.map(({ check, message }) => ({ check, message })) });
+		candidates.push({
+			row,
+			moduleId: mod.id,
+			key: rowKey(value),
+			value,
+			outcome: verdict.outcome,
+			failures: verdict.failures.map(({ check, message }) => ({ check, message }))
+		});
 	}
 
 	const storedRows = await db.$client.execute({
@@ -78,7 +106,14 @@ export async function analyseFactoryFile(db: Db, content: string, now: Date): Pr
 	});
 	const stored = new Set(JSON.parse(storedRows.rows[0].keys as string) as string[]);
 	const accepted = candidates.filter((c) => !stored.has(c.key));
-	const duplicates = candidates.filter((c) => stored.has(c.key)).map((c) => ({ row: c.row, serial: c.value.serial }));
+	const duplicates = candidates
+		.filter((c) => stored.has(c.key))
+		.map((c) => ({ row: c.row, serial: c.value.serial }));
 	errors.sort((a, b) => a.row - b.row);
-	return { rowsTotal: file.rows.length + new Set(file.errors.map((e) => e.row)).size, accepted, errors, duplicates };
+	return {
+		rowsTotal: file.rows.length + new Set(file.errors.map((e) => e.row)).size,
+		accepted,
+		errors,
+		duplicates
+	};
 }

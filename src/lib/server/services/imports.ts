@@ -18,7 +18,15 @@ type ImportRow = typeof imports.$inferSelect;
 export interface ImportResult {
 	import: Omit<ImportRow, 'errors'>;
 	errors: RowError[];
-	preview: { row: number; serial: string; testedAt: string; capacityAh: number; dcirMohm: number; outcome: 'pass' | 'fail'; failures: string[] }[];
+	preview: {
+		row: number;
+		serial: string;
+		testedAt: string;
+		capacityAh: number;
+		dcirMohm: number;
+		outcome: 'pass' | 'fail';
+		failures: string[];
+	}[];
 	alreadySent: boolean;
 }
 
@@ -27,7 +35,13 @@ type PreviewRow = ImportResult['preview'][number];
 /** What a commit needs, compact: the accepted rows already as insert-ready JSON, counts, errors. */
 interface CommitPlan {
 	chunks: string[];
-	counts: { accepted: number; rejected: number; duplicates: number; passed: number; failed: number };
+	counts: {
+		accepted: number;
+		rejected: number;
+		duplicates: number;
+		passed: number;
+		failed: number;
+	};
 	errors: RowError[];
 	preview: PreviewRow[];
 }
@@ -86,9 +100,17 @@ const previewOf = (accepted: AcceptedRow[]): PreviewRow[] =>
  * Step one: validates a rig file and keeps it with its counts, storing no results.
  * A file already sent (same SHA-256) returns the earlier import instead of a new one.
  */
-export async function previewImport(db: Db, actor: Actor, file: { name: string; content: string; bytes: number }, now = new Date()): Promise<ImportResult> {
+export async function previewImport(
+	db: Db,
+	actor: Actor,
+	file: { name: string; content: string; bytes: number },
+	now = new Date()
+): Promise<ImportResult> {
 	const sha256 = createHash('sha256').update(file.content).digest('hex');
-	const [earlier] = await db.select().from(imports).where(and(eq(imports.kind, 'factory_tests'), eq(imports.sha256, sha256)));
+	const [earlier] = await db
+		.select()
+		.from(imports)
+		.where(and(eq(imports.kind, 'factory_tests'), eq(imports.sha256, sha256)));
 	if (earlier) return summary(earlier, { alreadySent: true });
 
 	const analysis = await analyseFactoryFile(db, file.content, now);
@@ -125,8 +147,11 @@ export async function previewImport(db: Db, actor: Actor, file: { name: string; 
 	return summary(row, { preview: plan.preview });
 }
 
-const TEST_COLUMNS = 'module_id, import_id, row_key, tested_at, capacity_ah, energy_wh, dcir_mohm, dcir_source, ocv_v, cell_spread_mv, insulation_mohm, ambient_c, rig, operator, outcome, failures';
-const JSON_FIELDS = TEST_COLUMNS.split(',').map((_, i) => `value ->> ${i}`).join(', ');
+const TEST_COLUMNS =
+	'module_id, import_id, row_key, tested_at, capacity_ah, energy_wh, dcir_mohm, dcir_source, ocv_v, cell_spread_mv, insulation_mohm, ambient_c, rig, operator, outcome, failures';
+const JSON_FIELDS = TEST_COLUMNS.split(',')
+	.map((_, i) => `value ->> ${i}`)
+	.join(', ');
 
 /**
  * The accepted rows as JSON arrays of 20,000 rows each, for SQLite's json_each to unpack:
@@ -138,7 +163,24 @@ function insertChunks(importId: number, rows: AcceptedRow[]): string[] {
 	for (let i = 0; i < rows.length; i += ROWS_PER_INSERT) {
 		const chunk = rows.slice(i, i + ROWS_PER_INSERT).map((r) => {
 			const v = r.value;
-			return [r.moduleId, importId, r.key, v.testedAt.getTime(), v.capacityAh, v.energyWh, v.dcirMohm, v.dcirSource, v.ocvV, v.cellSpreadMv, v.insulationMohm, v.ambientC, v.rig, v.operator, r.outcome, JSON.stringify(r.failures)];
+			return [
+				r.moduleId,
+				importId,
+				r.key,
+				v.testedAt.getTime(),
+				v.capacityAh,
+				v.energyWh,
+				v.dcirMohm,
+				v.dcirSource,
+				v.ocvV,
+				v.cellSpreadMv,
+				v.insulationMohm,
+				v.ambientC,
+				v.rig,
+				v.operator,
+				r.outcome,
+				JSON.stringify(r.failures)
+			];
 		});
 		out.push(JSON.stringify(chunk));
 	}
@@ -149,16 +191,34 @@ function insertChunks(importId: number, rows: AcceptedRow[]): string[] {
  * Step two: stores every accepted row of a previewed import, or none (one transaction).
  * The latest result of each module sets its state: pass → in stock, fail → failed test.
  */
-export async function commitImport(db: Db, actor: Actor, importId: number, now = new Date()): Promise<ImportResult> {
+export async function commitImport(
+	db: Db,
+	actor: Actor,
+	importId: number,
+	now = new Date()
+): Promise<ImportResult> {
 	// The whole commit holds the write lock, so two commits of one import cannot both store.
 	return withWriteLock(db, async () => {
 		const [row] = await db.select().from(imports).where(eq(imports.id, importId));
 		if (!row) throw new NotFoundError(`Import ${importId} does not exist.`);
 		if (row.status === 'committed') return summary(row, { alreadySent: true });
-		const plan = recall(importId) ?? planFrom(importId, await analyseFactoryFile(db, (await db.select().from(importFiles).where(eq(importFiles.importId, importId)))[0].content, now));
+		const plan =
+			recall(importId) ??
+			planFrom(
+				importId,
+				await analyseFactoryFile(
+					db,
+					(await db.select().from(importFiles).where(eq(importFiles.importId, importId)))[0]
+						.content,
+					now
+				)
+			);
 		const { counts } = plan;
 		const statements: InStatement[] = [
-			...plan.chunks.map((json) => ({ sql: `INSERT OR IGNORE INTO factory_tests (${TEST_COLUMNS}) SELECT ${JSON_FIELDS} FROM json_each(?)`, args: [json] })),
+			...plan.chunks.map((json) => ({
+				sql: `INSERT OR IGNORE INTO factory_tests (${TEST_COLUMNS}) SELECT ${JSON_FIELDS} FROM json_each(?)`,
+				args: [json]
+			})),
 			{
 				sql: `INSERT INTO module_events (module_id, kind, at, actor_user_id, actor_label, summary, detail)
 				      SELECT module_id, 'tested', tested_at, ?, ?,
@@ -179,11 +239,27 @@ export async function commitImport(db: Db, actor: Actor, importId: number, now =
 			},
 			{
 				sql: `UPDATE imports SET status = 'committed', committed_at = ?, accepted = ?, rejected = ?, duplicates = ?, passed = ?, failed = ?, errors = ? WHERE id = ?`,
-				args: [now.getTime(), counts.accepted, counts.rejected, counts.duplicates, counts.passed, counts.failed, JSON.stringify(plan.errors), importId]
+				args: [
+					now.getTime(),
+					counts.accepted,
+					counts.rejected,
+					counts.duplicates,
+					counts.passed,
+					counts.failed,
+					JSON.stringify(plan.errors),
+					importId
+				]
 			},
 			{
 				sql: `INSERT INTO audit_log (at, actor_user_id, actor_label, action, entity, entity_id, before, after) VALUES (?, ?, ?, 'import.commit', 'import', ?, ?, ?)`,
-				args: [now.getTime(), actor.userId, actor.label, String(importId), JSON.stringify({ status: 'previewed' }), JSON.stringify({ status: 'committed', fileName: row.fileName, ...counts })]
+				args: [
+					now.getTime(),
+					actor.userId,
+					actor.label,
+					String(importId),
+					JSON.stringify({ status: 'previewed' }),
+					JSON.stringify({ status: 'committed', fileName: row.fileName, ...counts })
+				]
 			}
 		];
 		// One batch is one transaction: all accepted rows, their events and state changes, or nothing.
@@ -195,7 +271,20 @@ export async function commitImport(db: Db, actor: Actor, importId: number, now =
 
 export async function listImports(db: Db, limit = 50) {
 	return db
-		.select({ id: imports.id, fileName: imports.fileName, uploaderLabel: imports.uploaderLabel, createdAt: imports.createdAt, status: imports.status, rowsTotal: imports.rowsTotal, accepted: imports.accepted, rejected: imports.rejected, duplicates: imports.duplicates, passed: imports.passed, failed: imports.failed, committedAt: imports.committedAt })
+		.select({
+			id: imports.id,
+			fileName: imports.fileName,
+			uploaderLabel: imports.uploaderLabel,
+			createdAt: imports.createdAt,
+			status: imports.status,
+			rowsTotal: imports.rowsTotal,
+			accepted: imports.accepted,
+			rejected: imports.rejected,
+			duplicates: imports.duplicates,
+			passed: imports.passed,
+			failed: imports.failed,
+			committedAt: imports.committedAt
+		})
 		.from(imports)
 		.orderBy(desc(imports.id))
 		.limit(limit);
@@ -210,7 +299,17 @@ export async function getImport(db: Db, id: number) {
 /** The results an import stored, with their module serials (first `limit`). */
 export async function importResults(db: Db, id: number, limit = 500) {
 	return db
-		.select({ id: factoryTests.id, serial: modules.serial, testedAt: factoryTests.testedAt, capacityAh: factoryTests.capacityAh, dcirMohm: factoryTests.dcirMohm, cellSpreadMv: factoryTests.cellSpreadMv, insulationMohm: factoryTests.insulationMohm, outcome: factoryTests.outcome, failures: factoryTests.failures })
+		.select({
+			id: factoryTests.id,
+			serial: modules.serial,
+			testedAt: factoryTests.testedAt,
+			capacityAh: factoryTests.capacityAh,
+			dcirMohm: factoryTests.dcirMohm,
+			cellSpreadMv: factoryTests.cellSpreadMv,
+			insulationMohm: factoryTests.insulationMohm,
+			outcome: factoryTests.outcome,
+			failures: factoryTests.failures
+		})
 		.from(factoryTests)
 		.innerJoin(modules, eq(factoryTests.moduleId, modules.id))
 		.where(eq(factoryTests.importId, id))

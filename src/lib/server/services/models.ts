@@ -16,10 +16,18 @@ const ENTITY = 'module_model';
 const LOCKED_WHEN_IN_USE = {
 	code: 'Code cannot change: modules already carry it on their labels and records.',
 	variant: 'Variant cannot change: it is printed in the serials of modules already allocated.',
-	cellsSeries: 'Cells in series cannot change: modules already built with this model have that many cells.'
+	cellsSeries:
+		'Cells in series cannot change: modules already built with this model have that many cells.'
 } as const satisfies Partial<Record<keyof ModelInput, string>>;
 
-const WARRANTY_FIELDS = ['warrantyYears', 'ratedCycles', 'referenceTempC', 'endRetentionPct', 'hotTempC', 'hotRatedCycles'] as const;
+const WARRANTY_FIELDS = [
+	'warrantyYears',
+	'ratedCycles',
+	'referenceTempC',
+	'endRetentionPct',
+	'hotTempC',
+	'hotRatedCycles'
+] as const;
 
 const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? one : many}`;
 
@@ -35,16 +43,30 @@ async function load(conn: Conn, id: number): Promise<ModuleModel> {
 }
 
 /** Refuses a code or GTIN another model has, or a variant another active model has. */
-async function assertUnique(conn: Conn, input: Pick<ModelInput, 'code' | 'gtin' | 'variant'>, selfId: number | null, active: boolean) {
+async function assertUnique(
+	conn: Conn,
+	input: Pick<ModelInput, 'code' | 'gtin' | 'variant'>,
+	selfId: number | null,
+	active: boolean
+) {
 	const notSelf = selfId === null ? undefined : ne(moduleModels.id, selfId);
-	const [sameCode] = await conn.select({ id: moduleModels.id }).from(moduleModels).where(and(eq(moduleModels.code, input.code), notSelf));
-	if (sameCode) throw new ConflictError(`Another model already has the code ${input.code}. Choose a different code.`);
+	const [sameCode] = await conn
+		.select({ id: moduleModels.id })
+		.from(moduleModels)
+		.where(and(eq(moduleModels.code, input.code), notSelf));
+	if (sameCode)
+		throw new ConflictError(
+			`Another model already has the code ${input.code}. Choose a different code.`
+		);
 	if (input.gtin) {
 		const [sameGtin] = await conn
 			.select({ code: moduleModels.code })
 			.from(moduleModels)
 			.where(and(eq(moduleModels.gtin, input.gtin), notSelf));
-		if (sameGtin) throw new ConflictError(`GTIN ${input.gtin} is already assigned to ${sameGtin.code}; each model needs its own GTIN.`);
+		if (sameGtin)
+			throw new ConflictError(
+				`GTIN ${input.gtin} is already assigned to ${sameGtin.code}; each model needs its own GTIN.`
+			);
 	}
 	if (active) {
 		const [sameVariant] = await conn
@@ -81,11 +103,22 @@ export async function getModel(db: Db, id: number): Promise<ModuleModel & { modu
  * model already uses the variant (serials carry the variant, not the model).
  * @returns the new model's id
  */
-export async function createModel(db: Db, actor: Actor, input: ModelInput, now = new Date()): Promise<number> {
+export async function createModel(
+	db: Db,
+	actor: Actor,
+	input: ModelInput,
+	now = new Date()
+): Promise<number> {
 	return writeTx(db, async (tx) => {
 		await assertUnique(tx, input, null, true);
 		const [row] = await tx.insert(moduleModels).values(input).returning();
-		await recordAudit(tx, actor, { action: 'model.create', entity: ENTITY, entityId: row.id, after: row, at: now });
+		await recordAudit(tx, actor, {
+			action: 'model.create',
+			entity: ENTITY,
+			entityId: row.id,
+			after: row,
+			at: now
+		});
 		return row.id;
 	});
 }
@@ -106,7 +139,9 @@ export async function updateModel(
 		const before = await load(tx, id);
 		const inUse = await moduleCount(tx, id);
 		if (inUse > 0) {
-			const locked = (Object.keys(LOCKED_WHEN_IN_USE) as (keyof typeof LOCKED_WHEN_IN_USE)[]).filter((k) => input[k] !== before[k]);
+			const locked = (
+				Object.keys(LOCKED_WHEN_IN_USE) as (keyof typeof LOCKED_WHEN_IN_USE)[]
+			).filter((k) => input[k] !== before[k]);
 			if (locked.length)
 				throw new InvalidInputError(
 					`${before.code} is used by ${plural(inUse, 'module')}, so its code, variant and cells in series are fixed. Create a new model for a different design.`,
@@ -114,43 +149,105 @@ export async function updateModel(
 				);
 		}
 		await assertUnique(tx, input, id, before.retiredAt === null);
-		const [after] = await tx.update(moduleModels).set(input).where(eq(moduleModels.id, id)).returning();
-		await recordAudit(tx, actor, { action: 'model.update', entity: ENTITY, entityId: id, before, after, at: now });
+		const [after] = await tx
+			.update(moduleModels)
+			.set(input)
+			.where(eq(moduleModels.id, id))
+			.returning();
+		await recordAudit(tx, actor, {
+			action: 'model.update',
+			entity: ENTITY,
+			entityId: id,
+			before,
+			after,
+			at: now
+		});
 		return { warrantyTermsChanged: WARRANTY_FIELDS.some((k) => before[k] !== after[k]) };
 	});
 }
 
 /** Retires a model: its modules stay on record, but no new serials can be allocated for it. */
-export async function retireModel(db: Db, actor: Actor, id: number, now = new Date()): Promise<void> {
+export async function retireModel(
+	db: Db,
+	actor: Actor,
+	id: number,
+	now = new Date()
+): Promise<void> {
 	await writeTx(db, async (tx) => {
 		const before = await load(tx, id);
 		if (before.retiredAt) throw new ConflictError(`${before.code} is already retired.`);
-		const [after] = await tx.update(moduleModels).set({ retiredAt: now }).where(eq(moduleModels.id, id)).returning();
-		await recordAudit(tx, actor, { action: 'model.retire', entity: ENTITY, entityId: id, before, after, at: now });
+		const [after] = await tx
+			.update(moduleModels)
+			.set({ retiredAt: now })
+			.where(eq(moduleModels.id, id))
+			.returning();
+		await recordAudit(tx, actor, {
+			action: 'model.retire',
+			entity: ENTITY,
+			entityId: id,
+			before,
+			after,
+			at: now
+		});
 	});
 }
 
 /** Puts a retired model back in use, unless another active model has taken its variant meanwhile. */
-export async function reinstateModel(db: Db, actor: Actor, id: number, now = new Date()): Promise<void> {
+export async function reinstateModel(
+	db: Db,
+	actor: Actor,
+	id: number,
+	now = new Date()
+): Promise<void> {
 	await writeTx(db, async (tx) => {
 		const before = await load(tx, id);
 		if (!before.retiredAt) throw new ConflictError(`${before.code} is not retired.`);
 		await assertUnique(tx, before, id, true);
-		const [after] = await tx.update(moduleModels).set({ retiredAt: null }).where(eq(moduleModels.id, id)).returning();
-		await recordAudit(tx, actor, { action: 'model.reinstate', entity: ENTITY, entityId: id, before, after, at: now });
+		const [after] = await tx
+			.update(moduleModels)
+			.set({ retiredAt: null })
+			.where(eq(moduleModels.id, id))
+			.returning();
+		await recordAudit(tx, actor, {
+			action: 'model.reinstate',
+			entity: ENTITY,
+			entityId: id,
+			before,
+			after,
+			at: now
+		});
 	});
 }
 
 /** Deletes a model nobody has used yet (a typo, a draft). Otherwise ConflictError: retire it. */
-export async function deleteModel(db: Db, actor: Actor, id: number, now = new Date()): Promise<void> {
+export async function deleteModel(
+	db: Db,
+	actor: Actor,
+	id: number,
+	now = new Date()
+): Promise<void> {
 	await writeTx(db, async (tx) => {
 		const before = await load(tx, id);
 		const inUse = await moduleCount(tx, id);
-		if (inUse > 0) throw new ConflictError(`${before.code} is in use by ${plural(inUse, 'module')} — retire it instead.`);
-		const [alloc] = await tx.select({ n: count() }).from(allocations).where(eq(allocations.modelId, id));
+		if (inUse > 0)
+			throw new ConflictError(
+				`${before.code} is in use by ${plural(inUse, 'module')} — retire it instead.`
+			);
+		const [alloc] = await tx
+			.select({ n: count() })
+			.from(allocations)
+			.where(eq(allocations.modelId, id));
 		if (alloc && alloc.n > 0)
-			throw new ConflictError(`${before.code} has ${plural(alloc.n, 'serial allocation')} on record — retire it instead.`);
+			throw new ConflictError(
+				`${before.code} has ${plural(alloc.n, 'serial allocation')} on record — retire it instead.`
+			);
 		await tx.delete(moduleModels).where(eq(moduleModels.id, id));
-		await recordAudit(tx, actor, { action: 'model.delete', entity: ENTITY, entityId: id, before, at: now });
+		await recordAudit(tx, actor, {
+			action: 'model.delete',
+			entity: ENTITY,
+			entityId: id,
+			before,
+			at: now
+		});
 	});
 }

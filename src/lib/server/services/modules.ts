@@ -1,6 +1,16 @@
 import { and, asc, desc, eq, like, or } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { claimModules, claims, moduleEvents, moduleModels, modules, organisations, sites, systems, users } from '$lib/server/db/schema';
+import {
+	claimModules,
+	claims,
+	moduleEvents,
+	moduleModels,
+	modules,
+	organisations,
+	sites,
+	systems,
+	users
+} from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
 import { extractSerialFromScan, parseSerial } from '$lib/domain/serial';
@@ -16,21 +26,37 @@ export const UNKNOWN_SERIAL = (serial: string) =>
  */
 export async function findModule(db: Db, actor: Actor | null, serialText: string) {
 	const parsed = parseSerial(serialText);
-	if (!parsed.ok) throw new NotFoundError(`“${serialText.slice(0, 40)}” is not a module serial: ${parsed.reason}.`);
+	if (!parsed.ok)
+		throw new NotFoundError(
+			`“${serialText.slice(0, 40)}” is not a module serial: ${parsed.reason}.`
+		);
 	const [row] = await db.select().from(modules).where(eq(modules.serial, parsed.serial));
 	const scope = actor ? dealerScopeOf(actor) : null;
-	if (!row || (scope !== null && row.dealerOrgId !== scope)) throw new NotFoundError(UNKNOWN_SERIAL(parsed.serial));
+	if (!row || (scope !== null && row.dealerOrgId !== scope))
+		throw new NotFoundError(UNKNOWN_SERIAL(parsed.serial));
 	return row;
 }
 
 /** The serial a scan points at: a bare serial, our /m/ URL, or a GS1 Digital Link whose GTIN matches the module's model. */
-export async function serialFromScan(db: Db, actor: Actor, scanText: string, baseUrl?: string): Promise<string> {
+export async function serialFromScan(
+	db: Db,
+	actor: Actor,
+	scanText: string,
+	baseUrl?: string
+): Promise<string> {
 	const scan = extractSerialFromScan(scanText, baseUrl);
-	if (scan.kind === 'unknown') throw new NotFoundError(`This scan is not a Packledger label: ${scan.reason}.`);
+	if (scan.kind === 'unknown')
+		throw new NotFoundError(`This scan is not a Packledger label: ${scan.reason}.`);
 	const mod = await findModule(db, actor, scan.serial);
 	if (scan.kind === 'digital-link') {
-		const [model] = await db.select({ gtin: moduleModels.gtin, code: moduleModels.code }).from(moduleModels).where(eq(moduleModels.id, mod.modelId));
-		if (model.gtin !== scan.gtin) throw new NotFoundError(`The label's GTIN ${scan.gtin} does not belong to ${mod.serial} (a ${model.code}). The label may be from another module.`);
+		const [model] = await db
+			.select({ gtin: moduleModels.gtin, code: moduleModels.code })
+			.from(moduleModels)
+			.where(eq(moduleModels.id, mod.modelId));
+		if (model.gtin !== scan.gtin)
+			throw new NotFoundError(
+				`The label's GTIN ${scan.gtin} does not belong to ${mod.serial} (a ${model.code}). The label may be from another module.`
+			);
 	}
 	return mod.serial;
 }
@@ -39,14 +65,23 @@ export async function serialFromScan(db: Db, actor: Actor, scanText: string, bas
 export async function getPublicRecord(db: Db, serialText: string, today: string) {
 	const mod = await findModule(db, null, serialText);
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mod.modelId));
-	const [assembler] = await db.select().from(organisations).where(eq(organisations.kind, 'assembler')).limit(1);
-	const [dealer] = mod.dealerOrgId ? await db.select().from(organisations).where(eq(organisations.id, mod.dealerOrgId)) : [];
+	const [assembler] = await db
+		.select()
+		.from(organisations)
+		.where(eq(organisations.kind, 'assembler'))
+		.limit(1);
+	const [dealer] = mod.dealerOrgId
+		? await db.select().from(organisations).where(eq(organisations.id, mod.dealerOrgId))
+		: [];
 	return toPublicRecord({
 		serial: mod.serial,
 		model,
 		builtAt: mod.builtAt,
 		state: mod.state,
-		warranty: mod.warrantyStartsOn && mod.warrantyEndsOn ? { startsOn: mod.warrantyStartsOn, endsOn: mod.warrantyEndsOn } : null,
+		warranty:
+			mod.warrantyStartsOn && mod.warrantyEndsOn
+				? { startsOn: mod.warrantyStartsOn, endsOn: mod.warrantyEndsOn }
+				: null,
 		assembler: { name: assembler?.name ?? 'The assembler', email: assembler?.contactEmail ?? null },
 		dealer: dealer ? { name: dealer.name, email: dealer.contactEmail } : null,
 		today
@@ -57,20 +92,51 @@ export async function getPublicRecord(db: Db, serialText: string, today: string)
 export async function getModuleRecord(db: Db, actor: Actor, serialText: string) {
 	const mod = await findModule(db, actor, serialText);
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mod.modelId));
-	const [builder] = mod.builtBy ? await db.select({ name: users.name, email: users.email }).from(users).where(eq(users.id, mod.builtBy)) : [];
-	const [dealer] = mod.dealerOrgId ? await db.select({ id: organisations.id, name: organisations.name, email: organisations.contactEmail }).from(organisations).where(eq(organisations.id, mod.dealerOrgId)) : [];
-	const events = await db.select().from(moduleEvents).where(eq(moduleEvents.moduleId, mod.id)).orderBy(desc(moduleEvents.at), desc(moduleEvents.id));
+	const [builder] = mod.builtBy
+		? await db
+				.select({ name: users.name, email: users.email })
+				.from(users)
+				.where(eq(users.id, mod.builtBy))
+		: [];
+	const [dealer] = mod.dealerOrgId
+		? await db
+				.select({
+					id: organisations.id,
+					name: organisations.name,
+					email: organisations.contactEmail
+				})
+				.from(organisations)
+				.where(eq(organisations.id, mod.dealerOrgId))
+		: [];
+	const events = await db
+		.select()
+		.from(moduleEvents)
+		.where(eq(moduleEvents.moduleId, mod.id))
+		.orderBy(desc(moduleEvents.at), desc(moduleEvents.id));
 	const [placement] = mod.systemId
-		? await db.select({ systemId: systems.id, system: systems.name, siteId: sites.id, site: sites.name }).from(systems).innerJoin(sites, eq(systems.siteId, sites.id)).where(eq(systems.id, mod.systemId))
+		? await db
+				.select({ systemId: systems.id, system: systems.name, siteId: sites.id, site: sites.name })
+				.from(systems)
+				.innerJoin(sites, eq(systems.siteId, sites.id))
+				.where(eq(systems.id, mod.systemId))
 		: [];
 	const moduleClaims = await db
-		.select({ id: claims.id, reference: claims.reference, state: claims.state, filedAt: claims.filedAt })
+		.select({
+			id: claims.id,
+			reference: claims.reference,
+			state: claims.state,
+			filedAt: claims.filedAt
+		})
 		.from(claimModules)
 		.innerJoin(claims, eq(claimModules.claimId, claims.id))
 		.where(eq(claimModules.moduleId, mod.id))
 		.orderBy(desc(claims.filedAt));
 	return {
-		module: { ...mod, cellLots: mod.cellLots ? (JSON.parse(mod.cellLots) as string[]) : [], buildChecks: mod.buildChecks ? (JSON.parse(mod.buildChecks) as Record<string, boolean>) : {} },
+		module: {
+			...mod,
+			cellLots: mod.cellLots ? (JSON.parse(mod.cellLots) as string[]) : [],
+			buildChecks: mod.buildChecks ? (JSON.parse(mod.buildChecks) as Record<string, boolean>) : {}
+		},
 		model,
 		builder: builder ?? null,
 		dealer: dealer ?? null,
@@ -82,10 +148,16 @@ export async function getModuleRecord(db: Db, actor: Actor, serialText: string) 
 
 /** Serial search for the lookup page (prefix or contained text), scoped for dealers. */
 export async function searchModules(db: Db, actor: Actor, text: string, limit = 25) {
-	const q = text.trim().toUpperCase().replace(/[^A-Z0-9-]/g, '');
+	const q = text
+		.trim()
+		.toUpperCase()
+		.replace(/[^A-Z0-9-]/g, '');
 	if (q.length < 2) return [];
 	const scope = dealerScopeOf(actor);
-	const where = and(or(like(modules.serial, `${q}%`), like(modules.serial, `%${q}%`)), scope === null ? undefined : eq(modules.dealerOrgId, scope));
+	const where = and(
+		or(like(modules.serial, `${q}%`), like(modules.serial, `%${q}%`)),
+		scope === null ? undefined : eq(modules.dealerOrgId, scope)
+	);
 	return db
 		.select({ serial: modules.serial, state: modules.state, modelCode: moduleModels.code })
 		.from(modules)

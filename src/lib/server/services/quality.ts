@@ -2,7 +2,16 @@ import { and, asc, count, desc, eq, gte, lt, sql } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { factoryTests, imports, moduleModels, modules } from '$lib/server/db/schema';
 import { InvalidInputError, NotFoundError } from '$lib/server/errors';
-import { capability, describe, grubbs, histogram, tukeyFences, type Capability, type Description, type Histogram } from '$lib/domain/quality';
+import {
+	capability,
+	describe,
+	grubbs,
+	histogram,
+	tukeyFences,
+	type Capability,
+	type Description,
+	type Histogram
+} from '$lib/domain/quality';
 
 export const QUALITY_GROUP_BY = ['import', 'week', 'model'] as const;
 export type QualityGroupBy = (typeof QUALITY_GROUP_BY)[number];
@@ -11,7 +20,8 @@ export type QuantityKey = 'capacity_ah' | 'dcir_mohm' | 'cell_spread_mv' | 'insu
 /** Significance level of Grubbs' test on this page (NIST §1.3.5.17 uses 0.05 in its example). */
 export const GRUBBS_ALPHA = 0.05;
 /** How the page names its methods, so the numbers can be reproduced elsewhere. */
-export const QUALITY_METHODS = 'Tukey fences, Hyndman–Fan type 7 quantiles; Grubbs two-sided α = 0.05, n > 6';
+export const QUALITY_METHODS =
+	'Tukey fences, Hyndman–Fan type 7 quantiles; Grubbs two-sided α = 0.05, n > 6';
 
 type Row = {
 	testId: number;
@@ -26,14 +36,35 @@ type Row = {
 	cell_spread_mv: number;
 	insulation_mohm: number;
 };
-type Limits = { minCapacityAh: number; maxDcirMohm: number; maxCellSpreadMv: number; minInsulationMohm: number };
+type Limits = {
+	minCapacityAh: number;
+	maxDcirMohm: number;
+	maxCellSpreadMv: number;
+	minInsulationMohm: number;
+};
 
 /** The four measured quantities, with the model limit each is held to (all inclusive, as in evaluateResult). */
-const QUANTITIES: { key: QuantityKey; label: string; unit: string; lsl?: (l: Limits) => number; usl?: (l: Limits) => number }[] = [
+const QUANTITIES: {
+	key: QuantityKey;
+	label: string;
+	unit: string;
+	lsl?: (l: Limits) => number;
+	usl?: (l: Limits) => number;
+}[] = [
 	{ key: 'capacity_ah', label: 'Capacity', unit: 'Ah', lsl: (l) => l.minCapacityAh },
 	{ key: 'dcir_mohm', label: 'DC internal resistance', unit: 'mΩ', usl: (l) => l.maxDcirMohm },
-	{ key: 'cell_spread_mv', label: 'Cell voltage spread', unit: 'mV', usl: (l) => l.maxCellSpreadMv },
-	{ key: 'insulation_mohm', label: 'Insulation resistance', unit: 'MΩ', lsl: (l) => l.minInsulationMohm }
+	{
+		key: 'cell_spread_mv',
+		label: 'Cell voltage spread',
+		unit: 'mV',
+		usl: (l) => l.maxCellSpreadMv
+	},
+	{
+		key: 'insulation_mohm',
+		label: 'Insulation resistance',
+		unit: 'MΩ',
+		lsl: (l) => l.minInsulationMohm
+	}
 ];
 
 export interface QualityOutlier {
@@ -55,7 +86,9 @@ export interface QuantityReport {
 	pass: number;
 	fail: number;
 	tukey: { q1: number; q3: number; iqr: number; mild: QualityOutlier[]; extreme: QualityOutlier[] };
-	grubbs: { applicable: true; g: number; critical: number; outlier: QualityOutlier | null } | { applicable: false; reason: string };
+	grubbs:
+		| { applicable: true; g: number; critical: number; outlier: QualityOutlier | null }
+		| { applicable: false; reason: string };
 	histogram: Histogram;
 }
 
@@ -94,7 +127,9 @@ function week1Monday(year: number): number {
 /** ISO 8601 week of an instant, in UTC: the week belongs to the year of its Thursday. */
 export function isoWeekOf(at: Date | number): string {
 	const d = new Date(at);
-	const thursday = Date.UTC(d.getUTCFullYear(), d.getUTCMonth(), d.getUTCDate()) + (3 - ((d.getUTCDay() + 6) % 7)) * DAY;
+	const thursday =
+		Date.UTC(d.getUTCFullYear(), d.getUTCMonth(), d.getUTCDate()) +
+		(3 - ((d.getUTCDay() + 6) % 7)) * DAY;
 	const year = new Date(thursday).getUTCFullYear();
 	const week = 1 + Math.floor((thursday - week1Monday(year)) / (7 * DAY));
 	return `${year}-W${String(week).padStart(2, '0')}`;
@@ -105,16 +140,28 @@ export function isoWeekRange(week: string): { start: Date; end: Date } {
 	const m = /^(\d{4})-W(\d{2})$/.exec(week);
 	const start = m ? week1Monday(Number(m[1])) + (Number(m[2]) - 1) * 7 * DAY : NaN;
 	if (!m || Number(m[2]) < 1 || isoWeekOf(start) !== week)
-		throw new InvalidInputError(`“${week.slice(0, 20)}” is not an ISO week. Write it as year, W and week number, e.g. 2026-W07.`, [{ path: 'week', message: 'Use the form 2026-W07.' }]);
+		throw new InvalidInputError(
+			`“${week.slice(0, 20)}” is not an ISO week. Write it as year, W and week number, e.g. 2026-W07.`,
+			[{ path: 'week', message: 'Use the form 2026-W07.' }]
+		);
 	return { start: new Date(start), end: new Date(start + 7 * DAY) };
 }
 
-function quantityReport(q: (typeof QUANTITIES)[number], rows: Row[], limits: Limits): QuantityReport {
+function quantityReport(
+	q: (typeof QUANTITIES)[number],
+	rows: Row[],
+	limits: Limits
+): QuantityReport {
 	const values = rows.map((r) => r[q.key]);
 	const lsl = q.lsl?.(limits) ?? null;
 	const usl = q.usl?.(limits) ?? null;
 	const summary = describe(values);
-	const at = (i: number): QualityOutlier => ({ testId: rows[i].testId, serial: rows[i].serial, value: values[i], testedAt: rows[i].testedAt });
+	const at = (i: number): QualityOutlier => ({
+		testId: rows[i].testId,
+		serial: rows[i].serial,
+		value: values[i],
+		testedAt: rows[i].testedAt
+	});
 	const fences = tukeyFences(values);
 	const g = grubbs(values, GRUBBS_ALPHA);
 	const fail = values.filter((v) => (lsl !== null && v < lsl) || (usl !== null && v > usl)).length;
@@ -128,8 +175,16 @@ function quantityReport(q: (typeof QUANTITIES)[number], rows: Row[], limits: Lim
 		capability: capability(summary, { lsl, usl }),
 		pass: values.length - fail,
 		fail,
-		tukey: { q1: fences.q1, q3: fences.q3, iqr: fences.iqr, mild: fences.mild.map(at), extreme: fences.extreme.map(at) },
-		grubbs: g.applicable ? { applicable: true, g: g.g, critical: g.critical, outlier: g.outlier ? at(g.index) : null } : { applicable: false, reason: g.reason },
+		tukey: {
+			q1: fences.q1,
+			q3: fences.q3,
+			iqr: fences.iqr,
+			mild: fences.mild.map(at),
+			extreme: fences.extreme.map(at)
+		},
+		grubbs: g.applicable
+			? { applicable: true, g: g.g, critical: g.critical, outlier: g.outlier ? at(g.index) : null }
+			: { applicable: false, reason: g.reason },
 		histogram: histogram(values, { lsl, usl })
 	};
 }
@@ -155,9 +210,20 @@ function groupLabel(first: Row, by: QualityGroupBy, key: string, modelCode: stri
  * @returns the model with its limits, and the groups newest first (empty when no results match)
  */
 export async function qualityReport(db: Db, query: QualityQuery) {
-	if (!QUALITY_GROUP_BY.includes(query.groupBy)) throw new InvalidInputError(`Group by import, week or model; not “${String(query.groupBy).slice(0, 20)}”.`);
+	if (!QUALITY_GROUP_BY.includes(query.groupBy))
+		throw new InvalidInputError(
+			`Group by import, week or model; not “${String(query.groupBy).slice(0, 20)}”.`
+		);
 	const [model] = await db
-		.select({ id: moduleModels.id, code: moduleModels.code, name: moduleModels.name, minCapacityAh: moduleModels.minCapacityAh, maxDcirMohm: moduleModels.maxDcirMohm, maxCellSpreadMv: moduleModels.maxCellSpreadMv, minInsulationMohm: moduleModels.minInsulationMohm })
+		.select({
+			id: moduleModels.id,
+			code: moduleModels.code,
+			name: moduleModels.name,
+			minCapacityAh: moduleModels.minCapacityAh,
+			maxDcirMohm: moduleModels.maxDcirMohm,
+			maxCellSpreadMv: moduleModels.maxCellSpreadMv,
+			minInsulationMohm: moduleModels.minInsulationMohm
+		})
 		.from(moduleModels)
 		.where(eq(moduleModels.id, query.modelId));
 	if (!model) throw new NotFoundError(`There is no module model number ${query.modelId}.`);
@@ -186,7 +252,9 @@ export async function qualityReport(db: Db, query: QualityQuery) {
 			and(
 				eq(modules.modelId, model.id),
 				query.importId ? eq(factoryTests.importId, query.importId) : undefined,
-				range ? and(gte(factoryTests.testedAt, range.start), lt(factoryTests.testedAt, range.end)) : undefined,
+				range
+					? and(gte(factoryTests.testedAt, range.start), lt(factoryTests.testedAt, range.end))
+					: undefined,
 				query.latestOnly ? later : undefined
 			)
 		)
@@ -216,7 +284,16 @@ export async function qualityReport(db: Db, query: QualityQuery) {
 	groups.sort((a, b) => lastAt(b) - lastAt(a));
 
 	const { id, code, name, ...limits } = model;
-	return { model: { id, code, name, limits }, groupBy: query.groupBy, importId: query.importId ?? null, week: query.week ?? null, latestOnly: !!query.latestOnly, n: rows.length, groups, methods: QUALITY_METHODS };
+	return {
+		model: { id, code, name, limits },
+		groupBy: query.groupBy,
+		importId: query.importId ?? null,
+		week: query.week ?? null,
+		latestOnly: !!query.latestOnly,
+		n: rows.length,
+		groups,
+		methods: QUALITY_METHODS
+	};
 }
 
 export type QualityReport = Awaited<ReturnType<typeof qualityReport>>;
@@ -229,7 +306,13 @@ export type QualityReport = Awaited<ReturnType<typeof qualityReport>>;
  */
 export async function qualityFilters(db: Db, opts: { modelId?: number | null } = {}) {
 	const models = await db
-		.select({ id: moduleModels.id, code: moduleModels.code, name: moduleModels.name, retiredAt: moduleModels.retiredAt, tests: count(factoryTests.id) })
+		.select({
+			id: moduleModels.id,
+			code: moduleModels.code,
+			name: moduleModels.name,
+			retiredAt: moduleModels.retiredAt,
+			tests: count(factoryTests.id)
+		})
 		.from(moduleModels)
 		.leftJoin(modules, eq(modules.modelId, moduleModels.id))
 		.leftJoin(factoryTests, eq(factoryTests.moduleId, modules.id))
@@ -241,13 +324,23 @@ export async function qualityFilters(db: Db, opts: { modelId?: number | null } =
 		.where(and(eq(imports.kind, 'factory_tests'), eq(imports.status, 'committed')))
 		.orderBy(desc(imports.id))
 		.limit(50);
-	const chosen = opts.modelId ?? models.find((m) => m.tests > 0 && !m.retiredAt)?.id ?? models.find((m) => m.tests > 0)?.id ?? models[0]?.id ?? null;
+	const chosen =
+		opts.modelId ??
+		models.find((m) => m.tests > 0 && !m.retiredAt)?.id ??
+		models.find((m) => m.tests > 0)?.id ??
+		models[0]?.id ??
+		null;
 	// Distinct UTC days first (few rows), then their ISO weeks.
-	const days = chosen === null ? [] : await db
-		.selectDistinct({ day: sql<string>`date(${factoryTests.testedAt} / 1000, 'unixepoch')` })
-		.from(factoryTests)
-		.innerJoin(modules, eq(factoryTests.moduleId, modules.id))
-		.where(eq(modules.modelId, chosen));
-	const weeks = [...new Set(days.map((d) => isoWeekOf(Date.parse(`${d.day}T00:00:00Z`))))].sort().reverse();
+	const days =
+		chosen === null
+			? []
+			: await db
+					.selectDistinct({ day: sql<string>`date(${factoryTests.testedAt} / 1000, 'unixepoch')` })
+					.from(factoryTests)
+					.innerJoin(modules, eq(factoryTests.moduleId, modules.id))
+					.where(eq(modules.modelId, chosen));
+	const weeks = [...new Set(days.map((d) => isoWeekOf(Date.parse(`${d.day}T00:00:00Z`))))]
+		.sort()
+		.reverse();
 	return { models, imports: recent, weeks, modelId: chosen };
 }

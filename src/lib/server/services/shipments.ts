@@ -1,9 +1,23 @@
 import { and, asc, count, desc, eq, inArray, sql } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
-import { moduleEvents, moduleModels, modules, organisations, shipmentItems, shipments, users, type ModuleState } from '$lib/server/db/schema';
+import {
+	moduleEvents,
+	moduleModels,
+	modules,
+	organisations,
+	shipmentItems,
+	shipments,
+	users,
+	type ModuleState
+} from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
-import { ConflictError, ForbiddenError, InvalidInputError, NotFoundError } from '$lib/server/errors';
+import {
+	ConflictError,
+	ForbiddenError,
+	InvalidInputError,
+	NotFoundError
+} from '$lib/server/errors';
 import { parseSerial, serialRun } from '$lib/domain/serial';
 import { deriveFigures } from '$lib/domain/model';
 import { MAX_RANGE } from '$lib/schemas/shipment';
@@ -19,7 +33,8 @@ const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? o
 
 /** Shipments are the assembler's business: a dealer's people never reach them. */
 function assertStaff(actor: Actor) {
-	if (dealerScopeOf(actor) !== null) throw new ForbiddenError('Shipments are prepared by the assembler’s workshop.');
+	if (dealerScopeOf(actor) !== null)
+		throw new ForbiddenError('Shipments are prepared by the assembler’s workshop.');
 }
 
 async function loadShipment(conn: Conn, id: number): Promise<Shipment> {
@@ -30,7 +45,10 @@ async function loadShipment(conn: Conn, id: number): Promise<Shipment> {
 
 /** Once a shipment has left, its record is history: returns are recorded on each module. */
 function assertDraft(s: Shipment) {
-	if (s.status !== 'draft') throw new ConflictError(`${s.reference} was dispatched on ${day(s.dispatchedAt)}; a return is recorded on the module instead.`);
+	if (s.status !== 'draft')
+		throw new ConflictError(
+			`${s.reference} was dispatched on ${day(s.dispatchedAt)}; a return is recorded on the module instead.`
+		);
 }
 
 const ONLY_PASSED = 'only passed modules in stock can ship';
@@ -74,19 +92,41 @@ function refusal(c: Candidate): string | null {
 }
 
 /** The modules behind these serials, with what the add rules need: state, dealer, other shipments. */
-async function candidates(conn: Conn, shipmentId: number, serials: string[]): Promise<Map<string, Candidate>> {
+async function candidates(
+	conn: Conn,
+	shipmentId: number,
+	serials: string[]
+): Promise<Map<string, Candidate>> {
 	const rows = await conn
-		.select({ id: modules.id, serial: modules.serial, state: modules.state, shippedAt: modules.shippedAt, modelCode: moduleModels.code, dealerName: organisations.name })
+		.select({
+			id: modules.id,
+			serial: modules.serial,
+			state: modules.state,
+			shippedAt: modules.shippedAt,
+			modelCode: moduleModels.code,
+			dealerName: organisations.name
+		})
 		.from(modules)
 		.innerJoin(moduleModels, eq(modules.modelId, moduleModels.id))
 		.leftJoin(organisations, eq(modules.dealerOrgId, organisations.id))
 		.where(inArray(modules.serial, serials));
 	const links = rows.length
 		? await conn
-				.select({ moduleId: shipmentItems.moduleId, shipmentId: shipments.id, reference: shipments.reference, status: shipments.status, dispatchedAt: shipments.dispatchedAt })
+				.select({
+					moduleId: shipmentItems.moduleId,
+					shipmentId: shipments.id,
+					reference: shipments.reference,
+					status: shipments.status,
+					dispatchedAt: shipments.dispatchedAt
+				})
 				.from(shipmentItems)
 				.innerJoin(shipments, eq(shipmentItems.shipmentId, shipments.id))
-				.where(inArray(shipmentItems.moduleId, rows.map((r) => r.id)))
+				.where(
+					inArray(
+						shipmentItems.moduleId,
+						rows.map((r) => r.id)
+					)
+				)
 				.orderBy(desc(shipments.dispatchedAt))
 		: [];
 	return new Map(
@@ -97,7 +137,9 @@ async function candidates(conn: Conn, shipmentId: number, serials: string[]): Pr
 				{
 					...r,
 					onThis: mine.some((l) => l.shipmentId === shipmentId),
-					otherDraft: mine.find((l) => l.status === 'draft' && l.shipmentId !== shipmentId)?.reference ?? null,
+					otherDraft:
+						mine.find((l) => l.status === 'draft' && l.shipmentId !== shipmentId)?.reference ??
+						null,
 					shippedOn: mine.find((l) => l.status === 'dispatched')?.reference ?? null
 				}
 			];
@@ -106,7 +148,10 @@ async function candidates(conn: Conn, shipmentId: number, serials: string[]): Pr
 }
 
 async function itemCount(conn: Conn, shipmentId: number): Promise<number> {
-	const [row] = await conn.select({ n: count() }).from(shipmentItems).where(eq(shipmentItems.shipmentId, shipmentId));
+	const [row] = await conn
+		.select({ n: count() })
+		.from(shipmentItems)
+		.where(eq(shipmentItems.shipmentId, shipmentId));
 	return row?.n ?? 0;
 }
 
@@ -115,36 +160,76 @@ async function itemCount(conn: Conn, shipmentId: number): Promise<number> {
  * next number of the year, taken inside the write transaction so two people starting
  * shipments at once get different, consecutive references.
  */
-export async function createShipment(db: Db, actor: Actor, input: { dealerOrgId: number; note?: string | null }, now = new Date()): Promise<Shipment> {
+export async function createShipment(
+	db: Db,
+	actor: Actor,
+	input: { dealerOrgId: number; note?: string | null },
+	now = new Date()
+): Promise<Shipment> {
 	assertStaff(actor);
 	const year = now.getUTCFullYear();
 	const prefix = `SH-${year}-`;
 	return writeTx(db, async (tx) => {
-		const [dealer] = await tx.select().from(organisations).where(and(eq(organisations.id, input.dealerOrgId), eq(organisations.kind, 'dealer')));
-		if (!dealer) throw new InvalidInputError('That dealer does not exist.', [{ path: 'dealerOrgId', message: 'Choose a dealer from the list.' }]);
-		if (!dealer.active) throw new ConflictError(`${dealer.name} is deactivated and cannot receive new shipments.`);
+		const [dealer] = await tx
+			.select()
+			.from(organisations)
+			.where(and(eq(organisations.id, input.dealerOrgId), eq(organisations.kind, 'dealer')));
+		if (!dealer)
+			throw new InvalidInputError('That dealer does not exist.', [
+				{ path: 'dealerOrgId', message: 'Choose a dealer from the list.' }
+			]);
+		if (!dealer.active)
+			throw new ConflictError(`${dealer.name} is deactivated and cannot receive new shipments.`);
 		const [last] = await tx
-			.select({ n: sql<number | null>`max(cast(substr(${shipments.reference}, ${prefix.length + 1}) as integer))` })
+			.select({
+				n: sql<
+					number | null
+				>`max(cast(substr(${shipments.reference}, ${prefix.length + 1}) as integer))`
+			})
 			.from(shipments)
 			.where(sql`${shipments.reference} like ${prefix + '%'}`);
 		const reference = `${prefix}${String((last?.n ?? 0) + 1).padStart(4, '0')}`;
 		const [s] = await tx
 			.insert(shipments)
-			.values({ reference, dealerOrgId: dealer.id, note: input.note || null, createdBy: actor.userId!, createdAt: now })
+			.values({
+				reference,
+				dealerOrgId: dealer.id,
+				note: input.note || null,
+				createdBy: actor.userId!,
+				createdAt: now
+			})
 			.returning();
-		await recordAudit(tx, actor, { action: 'shipment.create', entity: 'shipment', entityId: reference, after: { dealer: dealer.name, note: s.note }, at: now });
+		await recordAudit(tx, actor, {
+			action: 'shipment.create',
+			entity: 'shipment',
+			entityId: reference,
+			after: { dealer: dealer.name, note: s.note },
+			at: now
+		});
 		return s;
 	});
 }
 
-export type ScanOutcome = { outcome: 'added' | 'already'; serial: string; message: string; count: number };
+export type ScanOutcome = {
+	outcome: 'added' | 'already';
+	serial: string;
+	message: string;
+	count: number;
+};
 
 /**
  * Adds the module of one scan (bare serial, /m/ URL or GS1 Digital Link) to a draft.
  * Only a passed module in stock that is on no other draft can be added; otherwise a
  * ConflictError says why, naming the module's state. The same serial twice changes nothing.
  */
-export async function addToShipment(db: Db, actor: Actor, shipmentId: number, scanText: string, baseUrl?: string, now = new Date()): Promise<ScanOutcome> {
+export async function addToShipment(
+	db: Db,
+	actor: Actor,
+	shipmentId: number,
+	scanText: string,
+	baseUrl?: string,
+	now = new Date()
+): Promise<ScanOutcome> {
 	assertStaff(actor);
 	const serial = await serialFromScan(db, actor, scanText, baseUrl);
 	return writeTx(db, async (tx) => {
@@ -153,14 +238,30 @@ export async function addToShipment(db: Db, actor: Actor, shipmentId: number, sc
 		const c = (await candidates(tx, s.id, [serial])).get(serial)!;
 		if (c.onThis) {
 			const n = await itemCount(tx, s.id);
-			return { outcome: 'already', serial, count: n, message: `${serial} is already on ${s.reference}; nothing changed (${plural(n, 'module')} on it).` };
+			return {
+				outcome: 'already',
+				serial,
+				count: n,
+				message: `${serial} is already on ${s.reference}; nothing changed (${plural(n, 'module')} on it).`
+			};
 		}
 		const reason = refusal(c);
 		if (reason) throw new ConflictError(`${reason}.`);
 		await tx.insert(shipmentItems).values({ shipmentId: s.id, moduleId: c.id, addedAt: now });
-		await recordAudit(tx, actor, { action: 'shipment.add', entity: 'shipment', entityId: s.reference, after: { serials: [serial] }, at: now });
+		await recordAudit(tx, actor, {
+			action: 'shipment.add',
+			entity: 'shipment',
+			entityId: s.reference,
+			after: { serials: [serial] },
+			at: now
+		});
 		const n = await itemCount(tx, s.id);
-		return { outcome: 'added', serial, count: n, message: `${serial} (${c.modelCode}) added to ${s.reference}: ${plural(n, 'module')} on it.` };
+		return {
+			outcome: 'added',
+			serial,
+			count: n,
+			message: `${serial} (${c.modelCode}) added to ${s.reference}: ${plural(n, 'module')} on it.`
+		};
 	});
 }
 
@@ -168,18 +269,37 @@ export async function addToShipment(db: Db, actor: Actor, shipmentId: number, sc
  * Adds a run of consecutive serials (same variant and year, at most MAX_RANGE) to a draft.
  * Each module that cannot ship is left out with its reason; the others are added.
  */
-export async function addRangeToShipment(db: Db, actor: Actor, shipmentId: number, firstSerial: string, lastSerial: string, now = new Date()) {
+export async function addRangeToShipment(
+	db: Db,
+	actor: Actor,
+	shipmentId: number,
+	firstSerial: string,
+	lastSerial: string,
+	now = new Date()
+) {
 	assertStaff(actor);
 	const a = parseSerial(firstSerial);
 	const b = parseSerial(lastSerial);
-	if (!a.ok) throw new InvalidInputError(`The first serial “${firstSerial.slice(0, 40)}” is ${a.reason}.`, [{ path: 'first', message: a.reason }]);
-	if (!b.ok) throw new InvalidInputError(`The last serial “${lastSerial.slice(0, 40)}” is ${b.reason}.`, [{ path: 'last', message: b.reason }]);
+	if (!a.ok)
+		throw new InvalidInputError(`The first serial “${firstSerial.slice(0, 40)}” is ${a.reason}.`, [
+			{ path: 'first', message: a.reason }
+		]);
+	if (!b.ok)
+		throw new InvalidInputError(`The last serial “${lastSerial.slice(0, 40)}” is ${b.reason}.`, [
+			{ path: 'last', message: b.reason }
+		]);
 	if (a.variant !== b.variant || a.year2 !== b.year2)
-		throw new InvalidInputError(`A range stays within one variant and year: ${a.serial} and ${b.serial} differ. Enter them as two ranges.`, [{ path: 'last', message: 'Same variant and year as the first serial.' }]);
+		throw new InvalidInputError(
+			`A range stays within one variant and year: ${a.serial} and ${b.serial} differ. Enter them as two ranges.`,
+			[{ path: 'last', message: 'Same variant and year as the first serial.' }]
+		);
 	const [lo, hi] = a.number <= b.number ? [a.number, b.number] : [b.number, a.number];
 	const size = hi - lo + 1;
 	if (size > MAX_RANGE)
-		throw new InvalidInputError(`${a.serial} to ${b.serial} spans ${size} serials; add at most ${MAX_RANGE} at a time.`, [{ path: 'last', message: `At most ${MAX_RANGE} modules per range.` }]);
+		throw new InvalidInputError(
+			`${a.serial} to ${b.serial} spans ${size} serials; add at most ${MAX_RANGE} at a time.`,
+			[{ path: 'last', message: `At most ${MAX_RANGE} modules per range.` }]
+		);
 	const serials = serialRun(a.variant, 2000 + a.year2, lo, size);
 
 	return writeTx(db, async (tx) => {
@@ -197,53 +317,130 @@ export async function addRangeToShipment(db: Db, actor: Actor, shipmentId: numbe
 			else added.push(c!);
 		}
 		for (let i = 0; i < added.length; i += 200)
-			await tx.insert(shipmentItems).values(added.slice(i, i + 200).map((c) => ({ shipmentId: s.id, moduleId: c.id, addedAt: now })));
-		if (added.length) await recordAudit(tx, actor, { action: 'shipment.add', entity: 'shipment', entityId: s.reference, after: { serials: added.map((c) => c.serial) }, at: now });
-		return { reference: s.reference, added: added.map((c) => c.serial), already, refused, count: await itemCount(tx, s.id) };
+			await tx
+				.insert(shipmentItems)
+				.values(
+					added.slice(i, i + 200).map((c) => ({ shipmentId: s.id, moduleId: c.id, addedAt: now }))
+				);
+		if (added.length)
+			await recordAudit(tx, actor, {
+				action: 'shipment.add',
+				entity: 'shipment',
+				entityId: s.reference,
+				after: { serials: added.map((c) => c.serial) },
+				at: now
+			});
+		return {
+			reference: s.reference,
+			added: added.map((c) => c.serial),
+			already,
+			refused,
+			count: await itemCount(tx, s.id)
+		};
 	});
 }
 
 /** Takes one module off a draft. */
-export async function removeFromShipment(db: Db, actor: Actor, shipmentId: number, serialText: string, now = new Date()) {
+export async function removeFromShipment(
+	db: Db,
+	actor: Actor,
+	shipmentId: number,
+	serialText: string,
+	now = new Date()
+) {
 	assertStaff(actor);
 	const parsed = parseSerial(serialText);
-	if (!parsed.ok) throw new InvalidInputError(`“${serialText.slice(0, 40)}” is not a module serial: ${parsed.reason}.`);
+	if (!parsed.ok)
+		throw new InvalidInputError(
+			`“${serialText.slice(0, 40)}” is not a module serial: ${parsed.reason}.`
+		);
 	return writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
 		assertDraft(s);
-		const [mod] = await tx.select({ id: modules.id }).from(modules).where(eq(modules.serial, parsed.serial));
+		const [mod] = await tx
+			.select({ id: modules.id })
+			.from(modules)
+			.where(eq(modules.serial, parsed.serial));
 		const gone = mod
-			? await tx.delete(shipmentItems).where(and(eq(shipmentItems.shipmentId, s.id), eq(shipmentItems.moduleId, mod.id))).returning({ id: shipmentItems.moduleId })
+			? await tx
+					.delete(shipmentItems)
+					.where(and(eq(shipmentItems.shipmentId, s.id), eq(shipmentItems.moduleId, mod.id)))
+					.returning({ id: shipmentItems.moduleId })
 			: [];
 		if (!gone.length) throw new NotFoundError(`${parsed.serial} is not on ${s.reference}.`);
-		await recordAudit(tx, actor, { action: 'shipment.remove', entity: 'shipment', entityId: s.reference, before: { serials: [parsed.serial] }, at: now });
+		await recordAudit(tx, actor, {
+			action: 'shipment.remove',
+			entity: 'shipment',
+			entityId: s.reference,
+			before: { serials: [parsed.serial] },
+			at: now
+		});
 		return { serial: parsed.serial, count: await itemCount(tx, s.id) };
 	});
 }
 
 /** Changes a draft's note (what the packer or the dealer should know). */
-export async function updateShipmentNote(db: Db, actor: Actor, shipmentId: number, note: string | null | undefined, now = new Date()) {
+export async function updateShipmentNote(
+	db: Db,
+	actor: Actor,
+	shipmentId: number,
+	note: string | null | undefined,
+	now = new Date()
+) {
 	assertStaff(actor);
 	return writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
 		assertDraft(s);
 		const value = note?.trim() || null;
 		await tx.update(shipments).set({ note: value }).where(eq(shipments.id, s.id));
-		await recordAudit(tx, actor, { action: 'shipment.note', entity: 'shipment', entityId: s.reference, before: { note: s.note }, after: { note: value }, at: now });
+		await recordAudit(tx, actor, {
+			action: 'shipment.note',
+			entity: 'shipment',
+			entityId: s.reference,
+			before: { note: s.note },
+			after: { note: value },
+			at: now
+		});
 		return { note: value };
 	});
 }
 
 /** Deletes a draft and its list; the modules stay in stock. A dispatched shipment stays forever. */
-export async function deleteDraftShipment(db: Db, actor: Actor, shipmentId: number, now = new Date()) {
+export async function deleteDraftShipment(
+	db: Db,
+	actor: Actor,
+	shipmentId: number,
+	now = new Date()
+) {
 	assertStaff(actor);
 	return writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
 		assertDraft(s);
-		const items = await tx.delete(shipmentItems).where(eq(shipmentItems.shipmentId, s.id)).returning({ moduleId: shipmentItems.moduleId });
+		const items = await tx
+			.delete(shipmentItems)
+			.where(eq(shipmentItems.shipmentId, s.id))
+			.returning({ moduleId: shipmentItems.moduleId });
 		await tx.delete(shipments).where(eq(shipments.id, s.id));
-		const serials = items.length ? (await tx.select({ serial: modules.serial }).from(modules).where(inArray(modules.id, items.map((i) => i.moduleId)))).map((m) => m.serial) : [];
-		await recordAudit(tx, actor, { action: 'shipment.delete', entity: 'shipment', entityId: s.reference, before: { dealerOrgId: s.dealerOrgId, note: s.note, serials }, at: now });
+		const serials = items.length
+			? (
+					await tx
+						.select({ serial: modules.serial })
+						.from(modules)
+						.where(
+							inArray(
+								modules.id,
+								items.map((i) => i.moduleId)
+							)
+						)
+				).map((m) => m.serial)
+			: [];
+		await recordAudit(tx, actor, {
+			action: 'shipment.delete',
+			entity: 'shipment',
+			entityId: s.reference,
+			before: { dealerOrgId: s.dealerOrgId, note: s.note, serials },
+			at: now
+		});
 		return { reference: s.reference };
 	});
 }
@@ -251,7 +448,13 @@ export async function deleteDraftShipment(db: Db, actor: Actor, shipmentId: numb
 /** The modules on a shipment with their model's rated data, in serial order. */
 async function itemsOf(conn: Conn, shipmentId: number) {
 	const rows = await conn
-		.select({ id: modules.id, serial: modules.serial, state: modules.state, addedAt: shipmentItems.addedAt, model: moduleModels })
+		.select({
+			id: modules.id,
+			serial: modules.serial,
+			state: modules.state,
+			addedAt: shipmentItems.addedAt,
+			model: moduleModels
+		})
 		.from(shipmentItems)
 		.innerJoin(modules, eq(shipmentItems.moduleId, modules.id))
 		.innerJoin(moduleModels, eq(modules.modelId, moduleModels.id))
@@ -280,15 +483,32 @@ export async function dispatchShipment(db: Db, actor: Actor, shipmentId: number,
 	const { s, dealer, items } = await writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
 		assertDraft(s);
-		const [dealer] = await tx.select().from(organisations).where(eq(organisations.id, s.dealerOrgId));
-		if (!dealer.active) throw new ConflictError(`${dealer.name} is deactivated and cannot receive shipments. Reactivate the dealer, or delete this draft.`);
+		const [dealer] = await tx
+			.select()
+			.from(organisations)
+			.where(eq(organisations.id, s.dealerOrgId));
+		if (!dealer.active)
+			throw new ConflictError(
+				`${dealer.name} is deactivated and cannot receive shipments. Reactivate the dealer, or delete this draft.`
+			);
 		const items = await itemsOf(tx, s.id);
-		if (!items.length) throw new ConflictError(`${s.reference} has no modules on it yet; scan modules onto it before dispatch.`);
+		if (!items.length)
+			throw new ConflictError(
+				`${s.reference} has no modules on it yet; scan modules onto it before dispatch.`
+			);
 		const stale = items.filter((i) => i.state !== 'in_stock');
 		if (stale.length) {
-			const found = await candidates(tx, s.id, stale.map((i) => i.serial));
-			const reasons = stale.map((i) => refusal(found.get(i.serial)!) ?? `${i.serial} is ${i.state}`);
-			throw new ConflictError(`${s.reference} cannot be dispatched: ${reasons.join('; ')}. Take ${stale.length === 1 ? 'it' : 'them'} off first.`);
+			const found = await candidates(
+				tx,
+				s.id,
+				stale.map((i) => i.serial)
+			);
+			const reasons = stale.map(
+				(i) => refusal(found.get(i.serial)!) ?? `${i.serial} is ${i.state}`
+			);
+			throw new ConflictError(
+				`${s.reference} cannot be dispatched: ${reasons.join('; ')}. Take ${stale.length === 1 ? 'it' : 'them'} off first.`
+			);
 		}
 		const ids = items.map((i) => i.id);
 		let shipped = 0;
@@ -300,24 +520,64 @@ export async function dispatchShipment(db: Db, actor: Actor, shipmentId: number,
 				.where(and(inArray(modules.id, chunk), eq(modules.state, 'in_stock')))
 				.returning({ id: modules.id });
 			shipped += done.length;
-			await tx.insert(moduleEvents).values(
-				chunk.map((moduleId) => ({ moduleId, kind: 'shipped' as const, at: now, actorUserId: actor.userId, actorLabel: actor.label, summary: `Shipped to ${dealer.name} on ${s.reference}`, detail: JSON.stringify({ shipment: s.reference, dealerOrgId: dealer.id }) }))
-			);
+			await tx
+				.insert(moduleEvents)
+				.values(
+					chunk.map((moduleId) => ({
+						moduleId,
+						kind: 'shipped' as const,
+						at: now,
+						actorUserId: actor.userId,
+						actorLabel: actor.label,
+						summary: `Shipped to ${dealer.name} on ${s.reference}`,
+						detail: JSON.stringify({ shipment: s.reference, dealerOrgId: dealer.id })
+					}))
+				);
 		}
-		if (shipped !== ids.length) throw new ConflictError(`Some modules on ${s.reference} changed while it was being dispatched. Reload and try again.`);
-		await tx.update(shipments).set({ status: 'dispatched', dispatchedAt: now, dispatchedBy: actor.userId }).where(eq(shipments.id, s.id));
-		await recordAudit(tx, actor, { action: 'shipment.dispatch', entity: 'shipment', entityId: s.reference, before: { status: 'draft' }, after: { status: 'dispatched', dealer: dealer.name, serials: items.map((i) => i.serial) }, at: now });
+		if (shipped !== ids.length)
+			throw new ConflictError(
+				`Some modules on ${s.reference} changed while it was being dispatched. Reload and try again.`
+			);
+		await tx
+			.update(shipments)
+			.set({ status: 'dispatched', dispatchedAt: now, dispatchedBy: actor.userId })
+			.where(eq(shipments.id, s.id));
+		await recordAudit(tx, actor, {
+			action: 'shipment.dispatch',
+			entity: 'shipment',
+			entityId: s.reference,
+			before: { status: 'draft' },
+			after: { status: 'dispatched', dealer: dealer.name, serials: items.map((i) => i.serial) },
+			at: now
+		});
 		return { s, dealer, items };
 	});
 
 	const people = await db
 		.select({ email: users.email })
 		.from(users)
-		.where(and(eq(users.organisationId, dealer.id), eq(users.role, 'dealer'), eq(users.active, true)));
-	const to = [...new Set([dealer.contactEmail, ...people.map((p) => p.email)].filter((e): e is string => !!e).map((e) => e.toLowerCase()))];
-	const [assembler] = await db.select({ name: organisations.name }).from(organisations).where(eq(organisations.kind, 'assembler')).limit(1);
+		.where(
+			and(eq(users.organisationId, dealer.id), eq(users.role, 'dealer'), eq(users.active, true))
+		);
+	const to = [
+		...new Set(
+			[dealer.contactEmail, ...people.map((p) => p.email)]
+				.filter((e): e is string => !!e)
+				.map((e) => e.toLowerCase())
+		)
+	];
+	const [assembler] = await db
+		.select({ name: organisations.name })
+		.from(organisations)
+		.where(eq(organisations.kind, 'assembler'))
+		.limit(1);
 	const from = assembler?.name ?? 'Tidewater Cellworks';
-	const result = { reference: s.reference, dealer: dealer.name, count: items.length, mail: { to, error: null as string | null } };
+	const result = {
+		reference: s.reference,
+		dealer: dealer.name,
+		count: items.length,
+		mail: { to, error: null as string | null }
+	};
 	if (!to.length) {
 		result.mail.error = `${dealer.name} has no contact address or active dealer user, so no e-mail was sent.`;
 		return result;
@@ -368,15 +628,35 @@ export async function getShipment(db: Db, actor: Actor, shipmentId: number) {
 	assertStaff(actor);
 	const s = await loadShipment(db, shipmentId);
 	const [dealer] = await db
-		.select({ id: organisations.id, name: organisations.name, contactEmail: organisations.contactEmail, region: organisations.region, active: organisations.active })
+		.select({
+			id: organisations.id,
+			name: organisations.name,
+			contactEmail: organisations.contactEmail,
+			region: organisations.region,
+			active: organisations.active
+		})
 		.from(organisations)
 		.where(eq(organisations.id, s.dealerOrgId));
-	const people = await db.select({ id: users.id, name: users.name }).from(users).where(inArray(users.id, [s.createdBy, s.dispatchedBy ?? -1]));
+	const people = await db
+		.select({ id: users.id, name: users.name })
+		.from(users)
+		.where(inArray(users.id, [s.createdBy, s.dispatchedBy ?? -1]));
 	const nameOf = (id: number | null) => people.find((p) => p.id === id)?.name ?? null;
 	const [assembler] = await db
-		.select({ name: organisations.name, contactEmail: organisations.contactEmail, region: organisations.region })
+		.select({
+			name: organisations.name,
+			contactEmail: organisations.contactEmail,
+			region: organisations.region
+		})
 		.from(organisations)
 		.where(eq(organisations.kind, 'assembler'))
 		.limit(1);
-	return { shipment: s, dealer, assembler: assembler ?? null, createdByName: nameOf(s.createdBy), dispatchedByName: nameOf(s.dispatchedBy), items: await itemsOf(db, s.id) };
+	return {
+		shipment: s,
+		dealer,
+		assembler: assembler ?? null,
+		createdByName: nameOf(s.createdBy),
+		dispatchedByName: nameOf(s.dispatchedBy),
+		items: await itemsOf(db, s.id)
+	};
 }

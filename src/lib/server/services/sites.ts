@@ -19,7 +19,10 @@ const EDITOR_ROLES = new Set<Actor['role']>(['field_tech', 'admin', 'system']);
 
 /** Refuses anyone but field technicians and administrators (the routes check this too). */
 export function assertMayChangeSites(actor: Actor): void {
-	if (!EDITOR_ROLES.has(actor.role)) throw new ForbiddenError('Only field technicians and administrators record sites, systems and installed modules.');
+	if (!EDITOR_ROLES.has(actor.role))
+		throw new ForbiddenError(
+			'Only field technicians and administrators record sites, systems and installed modules.'
+		);
 }
 
 /** Where-clause limiting sites to the actor's dealer organisation (none for the assembler's staff). */
@@ -35,13 +38,18 @@ export function siteScope(actor: Actor) {
  */
 export function maySeeOwner(actor: Actor, site: Pick<SiteRow, 'dealerOrgId'>): boolean {
 	if (actor.role === 'rig') return false;
-	return actor.dealerScoped ? site.dealerOrgId !== null && site.dealerOrgId === actor.organisationId : true;
+	return actor.dealerScoped
+		? site.dealerOrgId !== null && site.dealerOrgId === actor.organisationId
+		: true;
 }
 
 /** A site the actor may see; another dealer's site answers exactly like a missing one. */
 export async function findSite(conn: Conn, actor: Actor, id: number): Promise<SiteRow> {
 	if (!Number.isSafeInteger(id) || id < 1) throw new NotFoundError(NO_SITE(id));
-	const [row] = await conn.select().from(sites).where(and(eq(sites.id, id), siteScope(actor)));
+	const [row] = await conn
+		.select()
+		.from(sites)
+		.where(and(eq(sites.id, id), siteScope(actor)));
 	if (!row) throw new NotFoundError(NO_SITE(id));
 	return row;
 }
@@ -49,7 +57,10 @@ export async function findSite(conn: Conn, actor: Actor, id: number): Promise<Si
 /** A dealer organisation's name, or null for none. */
 export async function dealerName(conn: Conn, orgId: number | null): Promise<string | null> {
 	if (orgId === null) return null;
-	const [org] = await conn.select({ name: organisations.name }).from(organisations).where(eq(organisations.id, orgId));
+	const [org] = await conn
+		.select({ name: organisations.name })
+		.from(organisations)
+		.where(eq(organisations.id, orgId));
 	return org?.name ?? null;
 }
 
@@ -58,7 +69,8 @@ export async function dealerName(conn: Conn, orgId: number | null): Promise<stri
  * under, or, for a dealer's people, just the name of their own organisation (always used).
  */
 export async function siteFormOptions(db: Db, actor: Actor) {
-	if (actor.dealerScoped) return { dealers: [], ownDealer: await dealerName(db, actor.organisationId) };
+	if (actor.dealerScoped)
+		return { dealers: [], ownDealer: await dealerName(db, actor.organisationId) };
 	const dealers = await db
 		.select({ id: organisations.id, name: organisations.name })
 		.from(organisations)
@@ -72,14 +84,25 @@ export async function siteFormOptions(db: Db, actor: Actor) {
  * the form says; the assembler's staff choose the dealer, or none for an installation of
  * their own. Owner data is kept out of the append-only audit log so it can be erased later.
  */
-export async function createSite(db: Db, actor: Actor, input: SiteInput, now = new Date()): Promise<number> {
+export async function createSite(
+	db: Db,
+	actor: Actor,
+	input: SiteInput,
+	now = new Date()
+): Promise<number> {
 	assertMayChangeSites(actor);
-	if (actor.userId === null) throw new ForbiddenError('A site is recorded by a signed-in person, so the register shows who recorded it.');
+	if (actor.userId === null)
+		throw new ForbiddenError(
+			'A site is recorded by a signed-in person, so the register shows who recorded it.'
+		);
 	const createdBy = actor.userId;
 	let dealerOrgId: number | null = null;
 	if (actor.dealerScoped) dealerOrgId = actor.organisationId;
 	else if (input.dealerOrgId != null) {
-		const [org] = await db.select().from(organisations).where(eq(organisations.id, input.dealerOrgId));
+		const [org] = await db
+			.select()
+			.from(organisations)
+			.where(eq(organisations.id, input.dealerOrgId));
 		if (!org || org.kind !== 'dealer' || !org.active) {
 			const message = 'Choose one of the listed dealers, or none for our own installation.';
 			throw new InvalidInputError(message, [{ path: 'dealerOrgId', message }]);
@@ -89,19 +112,37 @@ export async function createSite(db: Db, actor: Actor, input: SiteInput, now = n
 	return writeTx(db, async (tx) => {
 		const [row] = await tx
 			.insert(sites)
-			.values({ dealerOrgId, name: input.name, ownerName: input.ownerName, ownerContact: input.ownerContact, address: input.address, application: input.application, createdBy, createdAt: now })
+			.values({
+				dealerOrgId,
+				name: input.name,
+				ownerName: input.ownerName,
+				ownerContact: input.ownerContact,
+				address: input.address,
+				application: input.application,
+				createdBy,
+				createdAt: now
+			})
 			.returning({ id: sites.id });
-		await recordAudit(tx, actor, { action: 'site.create', entity: 'site', entityId: row.id, after: { name: input.name, application: input.application, dealerOrgId }, at: now });
+		await recordAudit(tx, actor, {
+			action: 'site.create',
+			entity: 'site',
+			entityId: row.id,
+			after: { name: input.name, application: input.application, dealerOrgId },
+			at: now
+		});
 		return row.id;
 	});
 }
 
-const statusOf = (total: number, commissioned: number): SiteStatus => (total === 0 ? 'no_systems' : commissioned === total ? 'commissioned' : 'planned');
+const statusOf = (total: number, commissioned: number): SiteStatus =>
+	total === 0 ? 'no_systems' : commissioned === total ? 'commissioned' : 'planned';
 
 /** Sites the actor may see, newest first, with their systems counted; `q` matches name, address or owner. */
 export async function listSites(db: Db, actor: Actor, opts: { q?: string; limit?: number } = {}) {
 	const q = opts.q?.trim();
-	const search = q ? or(like(sites.name, `%${q}%`), like(sites.address, `%${q}%`), like(sites.ownerName, `%${q}%`)) : undefined;
+	const search = q
+		? or(like(sites.name, `%${q}%`), like(sites.address, `%${q}%`), like(sites.ownerName, `%${q}%`))
+		: undefined;
 	const rows = await db
 		.select({
 			id: sites.id,
@@ -148,8 +189,17 @@ export async function getSite(db: Db, actor: Actor, id: number) {
 		.where(eq(systems.siteId, site.id))
 		.orderBy(systems.id);
 	return {
-		site: { id: site.id, name: site.name, application: site.application, dealerOrgId: site.dealerOrgId, dealerName: await dealerName(db, site.dealerOrgId), createdAt: site.createdAt },
-		owner: maySeeOwner(actor, site) ? { name: site.ownerName, contact: site.ownerContact, address: site.address } : null,
+		site: {
+			id: site.id,
+			name: site.name,
+			application: site.application,
+			dealerOrgId: site.dealerOrgId,
+			dealerName: await dealerName(db, site.dealerOrgId),
+			createdAt: site.createdAt
+		},
+		owner: maySeeOwner(actor, site)
+			? { name: site.ownerName, contact: site.ownerContact, address: site.address }
+			: null,
 		systems: list.map((s) => ({ ...s, total: s.series * s.parallel })),
 		status: statusOf(list.length, list.filter((s) => s.status === 'commissioned').length)
 	};

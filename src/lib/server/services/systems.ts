@@ -26,12 +26,34 @@ const where = (s: SlotRef) => `string ${s.stringNo}, position ${s.position}`;
 
 /** The figures the design check needs, from a stored model. */
 export function designModuleOf(m: ModelRow): DesignModule {
-	const { cellsSeries, cellMinV, cellNominalV, cellMaxV, ratedAh, usableWh, maxContinuousC, burstC } = m;
-	return { cellsSeries, cellMinV, cellNominalV, cellMaxV, ratedAh, usableWh, maxContinuousC, burstC };
+	const {
+		cellsSeries,
+		cellMinV,
+		cellNominalV,
+		cellMaxV,
+		ratedAh,
+		usableWh,
+		maxContinuousC,
+		burstC
+	} = m;
+	return {
+		cellsSeries,
+		cellMinV,
+		cellNominalV,
+		cellMaxV,
+		ratedAh,
+		usableWh,
+		maxContinuousC,
+		burstC
+	};
 }
 
 /** A system and its site as the actor may see them; another dealer's system answers exactly like a missing one. */
-export async function findSystem(conn: Conn, actor: Actor, id: number): Promise<{ system: SystemRow; site: SiteRow }> {
+export async function findSystem(
+	conn: Conn,
+	actor: Actor,
+	id: number
+): Promise<{ system: SystemRow; site: SiteRow }> {
 	if (!Number.isSafeInteger(id) || id < 1) throw new NotFoundError(NO_SYSTEM(id));
 	const scope = dealerScopeOf(actor);
 	const [row] = await conn
@@ -51,7 +73,11 @@ async function modelById(conn: Conn, id: number): Promise<ModelRow> {
 /** What the new-system form needs: the site (scoped) and the models in production to build from. */
 export async function systemFormOptions(db: Db, actor: Actor, siteId: number) {
 	const site = await findSite(db, actor, siteId);
-	const models = await db.select({ code: moduleModels.code, name: moduleModels.name }).from(moduleModels).where(isNull(moduleModels.retiredAt)).orderBy(asc(moduleModels.code));
+	const models = await db
+		.select({ code: moduleModels.code, name: moduleModels.name })
+		.from(moduleModels)
+		.where(isNull(moduleModels.retiredAt))
+		.orderBy(asc(moduleModels.code));
 	return { site: { id: site.id, name: site.name }, models };
 }
 
@@ -65,11 +91,23 @@ export async function designCheck(db: Db, req: DesignCheckRequest): Promise<Desi
 	if (req.model !== undefined) {
 		const all = await db.select().from(moduleModels).orderBy(asc(moduleModels.code));
 		const model = all.find((m) => m.code === req.model);
-		if (!model) throw new NotFoundError(`There is no module model ${req.model}. Models in the register: ${all.map((m) => m.code).join(', ') || 'none yet'}.`);
+		if (!model)
+			throw new NotFoundError(
+				`There is no module model ${req.model}. Models in the register: ${all.map((m) => m.code).join(', ') || 'none yet'}.`
+			);
 		module = designModuleOf(model);
-		variants = all.filter((m) => !m.retiredAt).map((m) => ({ code: m.code, module: designModuleOf(m) }));
+		variants = all
+			.filter((m) => !m.retiredAt)
+			.map((m) => ({ code: m.code, module: designModuleOf(m) }));
 	}
-	return checkDesign({ module: module!, series: req.series, parallel: req.parallel, inverter: req.inverter, targetEnergyKWh: req.targetEnergyKWh, variants });
+	return checkDesign({
+		module: module!,
+		series: req.series,
+		parallel: req.parallel,
+		inverter: req.inverter,
+		targetEnergyKWh: req.targetEnergyKWh,
+		variants
+	});
 }
 
 /**
@@ -78,15 +116,29 @@ export async function designCheck(db: Db, req: DesignCheckRequest): Promise<Desi
  * that only leaves the preferred range (or draws other cautions) is stored and the cautions
  * come back as `warnings`.
  */
-export async function createSystem(db: Db, actor: Actor, siteId: number, input: SystemInput, now = new Date()): Promise<{ id: number; warnings: string[] }> {
+export async function createSystem(
+	db: Db,
+	actor: Actor,
+	siteId: number,
+	input: SystemInput,
+	now = new Date()
+): Promise<{ id: number; warnings: string[] }> {
 	assertMayChangeSites(actor);
 	const site = await findSite(db, actor, siteId);
-	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.code, input.modelCode));
+	const [model] = await db
+		.select()
+		.from(moduleModels)
+		.where(eq(moduleModels.code, input.modelCode));
 	if (!model) {
 		const message = `There is no module model ${input.modelCode}; choose one from the list.`;
 		throw new InvalidInputError(message, [{ path: 'modelCode', message }]);
 	}
-	const result = checkDesign({ module: designModuleOf(model), series: input.series, parallel: input.parallel, inverter: toInverterWindow(input) });
+	const result = checkDesign({
+		module: designModuleOf(model),
+		series: input.series,
+		parallel: input.parallel,
+		inverter: toInverterWindow(input)
+	});
 	if (!result.fitsWindow) {
 		throw new InvalidInputError(
 			`${input.series} × ${model.code} per string does not fit the inverter's DC window, so the system was not saved.`,
@@ -95,8 +147,22 @@ export async function createSystem(db: Db, actor: Actor, siteId: number, input: 
 	}
 	const { modelCode: _code, ...fields } = input;
 	return writeTx(db, async (tx) => {
-		const [row] = await tx.insert(systems).values({ ...fields, siteId: site.id, modelId: model.id, createdAt: now }).returning({ id: systems.id });
-		await recordAudit(tx, actor, { action: 'system.create', entity: 'system', entityId: row.id, after: { ...input, siteId: site.id, stringVoltage: result.stringVoltage, warnings: result.problems }, at: now });
+		const [row] = await tx
+			.insert(systems)
+			.values({ ...fields, siteId: site.id, modelId: model.id, createdAt: now })
+			.returning({ id: systems.id });
+		await recordAudit(tx, actor, {
+			action: 'system.create',
+			entity: 'system',
+			entityId: row.id,
+			after: {
+				...input,
+				siteId: site.id,
+				stringVoltage: result.stringVoltage,
+				warnings: result.problems
+			},
+			at: now
+		});
 		return { id: row.id, warnings: result.problems };
 	});
 }
@@ -104,13 +170,21 @@ export async function createSystem(db: Db, actor: Actor, siteId: number, input: 
 /** The first empty slot, filling string 1 from position 1, then string 2, and so on; null when full. */
 export function nextEmptySlot(series: number, parallel: number, taken: SlotRef[]): SlotRef | null {
 	const used = new Set(taken.map((t) => `${t.stringNo}/${t.position}`));
-	for (let stringNo = 1; stringNo <= parallel; stringNo++) for (let position = 1; position <= series; position++) if (!used.has(`${stringNo}/${position}`)) return { stringNo, position };
+	for (let stringNo = 1; stringNo <= parallel; stringNo++)
+		for (let position = 1; position <= series; position++)
+			if (!used.has(`${stringNo}/${position}`)) return { stringNo, position };
 	return null;
 }
 
 async function placedIn(conn: Conn, systemId: number) {
 	return conn
-		.select({ stringNo: systemSlots.stringNo, position: systemSlots.position, moduleId: modules.id, serial: modules.serial, state: modules.state })
+		.select({
+			stringNo: systemSlots.stringNo,
+			position: systemSlots.position,
+			moduleId: modules.id,
+			serial: modules.serial,
+			state: modules.state
+		})
 		.from(systemSlots)
 		.innerJoin(modules, eq(modules.id, systemSlots.moduleId))
 		.where(eq(systemSlots.systemId, systemId));
@@ -125,16 +199,31 @@ export async function getSystem(db: Db, actor: Actor, id: number) {
 		stringNo: s + 1,
 		slots: Array.from({ length: system.series }, (_, p) => {
 			const m = placed.find((x) => x.stringNo === s + 1 && x.position === p + 1);
-			return { stringNo: s + 1, position: p + 1, serial: m?.serial ?? null, state: m?.state ?? null };
+			return {
+				stringNo: s + 1,
+				position: p + 1,
+				serial: m?.serial ?? null,
+				state: m?.state ?? null
+			};
 		})
 	}));
 	const total = system.series * system.parallel;
 	const commissioned = system.status === 'commissioned';
 	return {
 		system,
-		site: { id: site.id, name: site.name, dealerOrgId: site.dealerOrgId, dealerName: await dealerName(db, site.dealerOrgId) },
+		site: {
+			id: site.id,
+			name: site.name,
+			dealerOrgId: site.dealerOrgId,
+			dealerName: await dealerName(db, site.dealerOrgId)
+		},
 		model: { id: model.id, code: model.code, name: model.name },
-		design: checkDesign({ module: designModuleOf(model), series: system.series, parallel: system.parallel, inverter: toInverterWindow(system) }),
+		design: checkDesign({
+			module: designModuleOf(model),
+			series: system.series,
+			parallel: system.parallel,
+			inverter: toInverterWindow(system)
+		}),
 		strings,
 		filled: placed.length,
 		total,
@@ -147,9 +236,18 @@ export async function getSystem(db: Db, actor: Actor, id: number) {
 }
 
 /** The design check of a stored system, as the system page shows it. */
-export async function designCheckForSystem(db: Db, actor: Actor, id: number): Promise<DesignCheckResult> {
+export async function designCheckForSystem(
+	db: Db,
+	actor: Actor,
+	id: number
+): Promise<DesignCheckResult> {
 	const { system } = await findSystem(db, actor, id);
-	return checkDesign({ module: designModuleOf(await modelById(db, system.modelId)), series: system.series, parallel: system.parallel, inverter: toInverterWindow(system) });
+	return checkDesign({
+		module: designModuleOf(await modelById(db, system.modelId)),
+		series: system.series,
+		parallel: system.parallel,
+		inverter: toInverterWindow(system)
+	});
 }
 
 const NEVER_PLACED: Partial<Record<ModuleRow['state'], string>> = {
@@ -159,15 +257,29 @@ const NEVER_PLACED: Partial<Record<ModuleRow['state'], string>> = {
 };
 
 /** Why a module cannot go into this site's system, in words; null when it can. */
-async function whyNot(conn: Conn, mod: ModuleRow, model: ModelRow, system: SystemRow, site: SiteRow): Promise<string | null> {
+async function whyNot(
+	conn: Conn,
+	mod: ModuleRow,
+	model: ModelRow,
+	system: SystemRow,
+	site: SiteRow
+): Promise<string | null> {
 	const [slot] = await conn
-		.select({ systemId: systems.id, system: systems.name, site: sites.name, stringNo: systemSlots.stringNo, position: systemSlots.position })
+		.select({
+			systemId: systems.id,
+			system: systems.name,
+			site: sites.name,
+			stringNo: systemSlots.stringNo,
+			position: systemSlots.position
+		})
 		.from(systemSlots)
 		.innerJoin(systems, eq(systems.id, systemSlots.systemId))
 		.innerJoin(sites, eq(sites.id, systems.siteId))
 		.where(eq(systemSlots.moduleId, mod.id));
-	if (slot?.systemId === system.id) return `${mod.serial} is already in this system (${where(slot)}).`;
-	if (slot) return `${mod.serial} is installed in ${slot.system} at ${slot.site} (${where(slot)}). Take it out there first.`;
+	if (slot?.systemId === system.id)
+		return `${mod.serial} is already in this system (${where(slot)}).`;
+	if (slot)
+		return `${mod.serial} is installed in ${slot.system} at ${slot.site} (${where(slot)}). Take it out there first.`;
 	if (NEVER_PLACED[mod.state]) return `${mod.serial} ${NEVER_PLACED[mod.state]}.`;
 	if (mod.modelId !== system.modelId) {
 		const systemModel = await modelById(conn, system.modelId);
@@ -182,13 +294,18 @@ async function whyNot(conn: Conn, mod: ModuleRow, model: ModelRow, system: Syste
 			: `${mod.serial} was shipped to ${to}, not to this site's dealer (${siteDealer}).`;
 	}
 	if (mod.state === 'in_stock') {
-		return site.dealerOrgId === null ? null : `${mod.serial} is still in stock at the workshop: ship it to ${siteDealer} before installing it here.`;
+		return site.dealerOrgId === null
+			? null
+			: `${mod.serial} is still in stock at the workshop: ship it to ${siteDealer} before installing it here.`;
 	}
 	return `${mod.serial} is ${(STATE_LABELS[mod.state] ?? mod.state).toLowerCase()}: only modules in stock or at the dealer can be installed.`;
 }
 
 function assertOpen(system: SystemRow) {
-	if (system.status === 'commissioned') throw new ConflictError(`${system.name} is commissioned: modules can no longer be added or taken out here.`);
+	if (system.status === 'commissioned')
+		throw new ConflictError(
+			`${system.name} is commissioned: modules can no longer be added or taken out here.`
+		);
 }
 
 /**
@@ -197,12 +314,28 @@ function assertOpen(system: SystemRow) {
  * our own installation), and not installed anywhere. On success the slot, the module's
  * state and system, its timeline and the audit log change together.
  */
-export async function placeModule(db: Db, actor: Actor, systemId: number, slot: SlotRef | null, scanText: string, baseUrl?: string, now = new Date()) {
+export async function placeModule(
+	db: Db,
+	actor: Actor,
+	systemId: number,
+	slot: SlotRef | null,
+	scanText: string,
+	baseUrl?: string,
+	now = new Date()
+) {
 	assertMayChangeSites(actor);
 	const { system, site } = await findSystem(db, actor, systemId);
 	assertOpen(system);
-	if (slot && (slot.stringNo < 1 || slot.stringNo > system.parallel || slot.position < 1 || slot.position > system.series)) {
-		throw new InvalidInputError(`String ${slot.stringNo}, position ${slot.position} is outside this system (${system.parallel} string${system.parallel === 1 ? '' : 's'} of ${system.series}).`);
+	if (
+		slot &&
+		(slot.stringNo < 1 ||
+			slot.stringNo > system.parallel ||
+			slot.position < 1 ||
+			slot.position > system.series)
+	) {
+		throw new InvalidInputError(
+			`String ${slot.stringNo}, position ${slot.position} is outside this system (${system.parallel} string${system.parallel === 1 ? '' : 's'} of ${system.series}).`
+		);
 	}
 	const mod = await findModule(db, actor, await serialFromScan(db, actor, scanText, baseUrl));
 	const model = await modelById(db, mod.modelId);
@@ -216,16 +349,52 @@ export async function placeModule(db: Db, actor: Actor, systemId: number, slot: 
 		if (reason) throw new ConflictError(reason);
 		const placed = await placedIn(tx, system.id);
 		const target = slot ?? nextEmptySlot(system.series, system.parallel, placed);
-		if (!target) throw new ConflictError(`Every slot of ${system.name} is filled (${placed.length} of ${system.series * system.parallel}).`);
-		const occupant = placed.find((p) => p.stringNo === target.stringNo && p.position === target.position);
-		if (occupant) throw new ConflictError(`String ${target.stringNo}, position ${target.position} already holds ${occupant.serial}. Take it out first or choose an empty slot.`);
+		if (!target)
+			throw new ConflictError(
+				`Every slot of ${system.name} is filled (${placed.length} of ${system.series * system.parallel}).`
+			);
+		const occupant = placed.find(
+			(p) => p.stringNo === target.stringNo && p.position === target.position
+		);
+		if (occupant)
+			throw new ConflictError(
+				`String ${target.stringNo}, position ${target.position} already holds ${occupant.serial}. Take it out first or choose an empty slot.`
+			);
 
-		await tx.update(modules).set({ state: 'installed', systemId: system.id, updatedAt: now }).where(eq(modules.id, mod.id));
-		await tx.insert(systemSlots).values({ systemId: system.id, stringNo: target.stringNo, position: target.position, moduleId: mod.id });
+		await tx
+			.update(modules)
+			.set({ state: 'installed', systemId: system.id, updatedAt: now })
+			.where(eq(modules.id, mod.id));
+		await tx
+			.insert(systemSlots)
+			.values({
+				systemId: system.id,
+				stringNo: target.stringNo,
+				position: target.position,
+				moduleId: mod.id
+			});
 		const summary = `Installed in ${system.name} at ${site.name}, string ${target.stringNo} position ${target.position}`;
-		await recordEvent(tx, actor, { moduleId: mod.id, kind: 'installed', summary, detail: { systemId: system.id, siteId: site.id, ...target }, at: now });
-		await recordAudit(tx, actor, { action: 'module.install', entity: 'module', entityId: mod.serial, before: { state: fresh.state, systemId: null }, after: { state: 'installed', systemId: system.id, ...target }, at: now });
-		return { serial: mod.serial, ...target, filled: placed.length + 1, total: system.series * system.parallel };
+		await recordEvent(tx, actor, {
+			moduleId: mod.id,
+			kind: 'installed',
+			summary,
+			detail: { systemId: system.id, siteId: site.id, ...target },
+			at: now
+		});
+		await recordAudit(tx, actor, {
+			action: 'module.install',
+			entity: 'module',
+			entityId: mod.serial,
+			before: { state: fresh.state, systemId: null },
+			after: { state: 'installed', systemId: system.id, ...target },
+			at: now
+		});
+		return {
+			serial: mod.serial,
+			...target,
+			filled: placed.length + 1,
+			total: system.series * system.parallel
+		};
 	});
 }
 
@@ -233,7 +402,13 @@ export async function placeModule(db: Db, actor: Actor, systemId: number, slot: 
  * Takes a module out of a system before commissioning: the slot is freed and the module
  * goes back to the dealer's stock (or ours, for our own installation), with an event saying so.
  */
-export async function removeModule(db: Db, actor: Actor, systemId: number, serialText: string, now = new Date()) {
+export async function removeModule(
+	db: Db,
+	actor: Actor,
+	systemId: number,
+	serialText: string,
+	now = new Date()
+) {
 	assertMayChangeSites(actor);
 	const { system, site } = await findSystem(db, actor, systemId);
 	assertOpen(system);
@@ -241,15 +416,50 @@ export async function removeModule(db: Db, actor: Actor, systemId: number, seria
 	return writeTx(db, async (tx) => {
 		const [current] = await tx.select().from(systems).where(eq(systems.id, system.id));
 		assertOpen(current);
-		const [slot] = await tx.select().from(systemSlots).where(and(eq(systemSlots.systemId, system.id), eq(systemSlots.moduleId, mod.id)));
+		const [slot] = await tx
+			.select()
+			.from(systemSlots)
+			.where(and(eq(systemSlots.systemId, system.id), eq(systemSlots.moduleId, mod.id)));
 		if (!slot) throw new NotFoundError(`${mod.serial} is not in ${system.name}.`);
 		const state = mod.dealerOrgId === null ? ('in_stock' as const) : ('shipped' as const);
-		await tx.delete(systemSlots).where(and(eq(systemSlots.systemId, system.id), eq(systemSlots.moduleId, mod.id)));
-		await tx.update(modules).set({ state, systemId: null, updatedAt: now }).where(eq(modules.id, mod.id));
-		const back = state === 'shipped' ? `back in ${(await dealerName(tx, mod.dealerOrgId)) ?? 'the dealer'}'s stock` : 'back in our stock';
+		await tx
+			.delete(systemSlots)
+			.where(and(eq(systemSlots.systemId, system.id), eq(systemSlots.moduleId, mod.id)));
+		await tx
+			.update(modules)
+			.set({ state, systemId: null, updatedAt: now })
+			.where(eq(modules.id, mod.id));
+		const back =
+			state === 'shipped'
+				? `back in ${(await dealerName(tx, mod.dealerOrgId)) ?? 'the dealer'}'s stock`
+				: 'back in our stock';
 		// The timeline has no "removed" kind; the installed kind with removed: true keeps the pair together.
-		await recordEvent(tx, actor, { moduleId: mod.id, kind: 'installed', summary: `Taken out of ${system.name} at ${site.name} (${where(slot)}) before commissioning; ${back}`, detail: { removed: true, systemId: system.id, siteId: site.id, stringNo: slot.stringNo, position: slot.position }, at: now });
-		await recordAudit(tx, actor, { action: 'module.uninstall', entity: 'module', entityId: mod.serial, before: { state: mod.state, systemId: system.id, stringNo: slot.stringNo, position: slot.position }, after: { state, systemId: null }, at: now });
+		await recordEvent(tx, actor, {
+			moduleId: mod.id,
+			kind: 'installed',
+			summary: `Taken out of ${system.name} at ${site.name} (${where(slot)}) before commissioning; ${back}`,
+			detail: {
+				removed: true,
+				systemId: system.id,
+				siteId: site.id,
+				stringNo: slot.stringNo,
+				position: slot.position
+			},
+			at: now
+		});
+		await recordAudit(tx, actor, {
+			action: 'module.uninstall',
+			entity: 'module',
+			entityId: mod.serial,
+			before: {
+				state: mod.state,
+				systemId: system.id,
+				stringNo: slot.stringNo,
+				position: slot.position
+			},
+			after: { state, systemId: null },
+			at: now
+		});
 		return { serial: mod.serial, stringNo: slot.stringNo, position: slot.position, state };
 	});
 }

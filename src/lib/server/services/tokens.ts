@@ -17,15 +17,37 @@ export async function createToken(db: Db, actor: Actor, name: string, now = new 
 	const secret = TOKEN_PREFIX + randomBytes(24).toString('base64url');
 	const [row] = await db
 		.insert(apiTokens)
-		.values({ name, tokenHash: sha256(secret), prefix: secret.slice(0, 10), scope: 'imports', createdBy: actor.userId!, createdAt: now })
+		.values({
+			name,
+			tokenHash: sha256(secret),
+			prefix: secret.slice(0, 10),
+			scope: 'imports',
+			createdBy: actor.userId!,
+			createdAt: now
+		})
 		.returning({ id: apiTokens.id });
-	await recordAudit(db, actor, { action: 'token.create', entity: 'api_token', entityId: row.id, after: { name, scope: 'imports' }, at: now });
+	await recordAudit(db, actor, {
+		action: 'token.create',
+		entity: 'api_token',
+		entityId: row.id,
+		after: { name, scope: 'imports' },
+		at: now
+	});
 	return { id: row.id, secret };
 }
 
 export async function listTokens(db: Db) {
 	return db
-		.select({ id: apiTokens.id, name: apiTokens.name, prefix: apiTokens.prefix, scope: apiTokens.scope, createdAt: apiTokens.createdAt, lastUsedAt: apiTokens.lastUsedAt, revokedAt: apiTokens.revokedAt, createdBy: users.email })
+		.select({
+			id: apiTokens.id,
+			name: apiTokens.name,
+			prefix: apiTokens.prefix,
+			scope: apiTokens.scope,
+			createdAt: apiTokens.createdAt,
+			lastUsedAt: apiTokens.lastUsedAt,
+			revokedAt: apiTokens.revokedAt,
+			createdBy: users.email
+		})
 		.from(apiTokens)
 		.innerJoin(users, eq(apiTokens.createdBy, users.id))
 		.orderBy(desc(apiTokens.id));
@@ -36,17 +58,41 @@ export async function revokeToken(db: Db, actor: Actor, id: number, now = new Da
 	if (!row) throw new NotFoundError('That token does not exist.');
 	if (row.revokedAt) throw new ConflictError(`“${row.name}” was already revoked.`);
 	await db.update(apiTokens).set({ revokedAt: now }).where(eq(apiTokens.id, id));
-	await recordAudit(db, actor, { action: 'token.revoke', entity: 'api_token', entityId: id, before: { revokedAt: null }, after: { revokedAt: now }, at: now });
+	await recordAudit(db, actor, {
+		action: 'token.revoke',
+		entity: 'api_token',
+		entityId: id,
+		before: { revokedAt: null },
+		after: { revokedAt: now },
+		at: now
+	});
 }
 
 /** Resolves a bearer token to a rig actor, or says why it is refused. Records its last use. */
-export async function verifyToken(db: Db, secret: string, now = new Date()): Promise<{ actor: Actor; scope: 'imports' } | { error: string }> {
-	const [row] = await db.select().from(apiTokens).where(eq(apiTokens.tokenHash, sha256(secret)));
+export async function verifyToken(
+	db: Db,
+	secret: string,
+	now = new Date()
+): Promise<{ actor: Actor; scope: 'imports' } | { error: string }> {
+	const [row] = await db
+		.select()
+		.from(apiTokens)
+		.where(eq(apiTokens.tokenHash, sha256(secret)));
 	if (!row) return { error: 'This API token is not known. Ask an administrator for a rig token.' };
-	if (row.revokedAt) return { error: `This API token (“${row.name}”) was revoked on ${row.revokedAt.toISOString().slice(0, 10)}. Ask an administrator for a new one.` };
+	if (row.revokedAt)
+		return {
+			error: `This API token (“${row.name}”) was revoked on ${row.revokedAt.toISOString().slice(0, 10)}. Ask an administrator for a new one.`
+		};
 	await db.update(apiTokens).set({ lastUsedAt: now }).where(eq(apiTokens.id, row.id));
 	return {
-		actor: { userId: null, role: 'rig', organisationId: null, dealerScoped: false, label: `rig token “${row.name}”`, tokenId: row.id },
+		actor: {
+			userId: null,
+			role: 'rig',
+			organisationId: null,
+			dealerScoped: false,
+			label: `rig token “${row.name}”`,
+			tokenId: row.id
+		},
 		scope: row.scope
 	};
 }

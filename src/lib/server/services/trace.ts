@@ -16,11 +16,17 @@ const dayMs = (d: string) => Date.parse(`${d}T00:00:00Z`);
 
 function conditions(q: TraceQuery): SQL[] {
 	const where: SQL[] = [];
-	if (q.lot) where.push(sql`${modules.id} IN (SELECT module_id FROM module_cell_lots WHERE lot_code = ${q.lot})`);
+	if (q.lot)
+		where.push(
+			sql`${modules.id} IN (SELECT module_id FROM module_cell_lots WHERE lot_code = ${q.lot})`
+		);
 	if (q.model) where.push(eq(moduleModels.code, q.model));
 	if (q.builtFrom) where.push(gte(modules.builtAt, new Date(dayMs(q.builtFrom))));
 	if (q.builtTo) where.push(lt(modules.builtAt, new Date(dayMs(q.builtTo) + 86_400_000)));
-	if (q.importId) where.push(sql`${modules.id} IN (SELECT module_id FROM factory_tests WHERE import_id = ${q.importId})`);
+	if (q.importId)
+		where.push(
+			sql`${modules.id} IN (SELECT module_id FROM factory_tests WHERE import_id = ${q.importId})`
+		);
 	return where;
 }
 
@@ -51,7 +57,10 @@ export async function traceModules(db: Db, q: TraceQuery) {
 		.limit(TRACE_LIMIT + 1);
 	const truncated = rows.length > TRACE_LIMIT;
 	const items = rows.slice(0, TRACE_LIMIT).map((r) => ({ ...r, whereNow: whereNow(r) }));
-	const byDealer = new Map<string, { dealer: string; dealerId: number | null; count: number; atSites: number }>();
+	const byDealer = new Map<
+		string,
+		{ dealer: string; dealerId: number | null; count: number; atSites: number }
+	>();
 	for (const r of items) {
 		const key = r.dealer ?? 'Tidewater Cellworks (not shipped)';
 		const entry = byDealer.get(key) ?? { dealer: key, dealerId: r.dealerId, count: 0, atSites: 0 };
@@ -59,10 +68,20 @@ export async function traceModules(db: Db, q: TraceQuery) {
 		if (r.site) entry.atSites++;
 		byDealer.set(key, entry);
 	}
-	return { items, truncated, total: items.length, byDealer: [...byDealer.values()].sort((a, b) => b.count - a.count) };
+	return {
+		items,
+		truncated,
+		total: items.length,
+		byDealer: [...byDealer.values()].sort((a, b) => b.count - a.count)
+	};
 }
 
-function whereNow(r: { state: string; dealer: string | null; site: string | null; system: string | null }) {
+function whereNow(r: {
+	state: string;
+	dealer: string | null;
+	site: string | null;
+	system: string | null;
+}) {
 	if (r.site) return `${r.site} (${r.system}), via ${r.dealer ?? 'Tidewater Cellworks'}`;
 	if (r.dealer) return `At ${r.dealer}`;
 	return `Workshop — ${STATE_LABELS[r.state] ?? r.state}`;
@@ -72,7 +91,17 @@ export async function traceCsv(db: Db, q: TraceQuery): Promise<string> {
 	const { items } = await traceModules(db, q);
 	return Papa.unparse({
 		fields: ['serial', 'model', 'state', 'built_at', 'dealer', 'site', 'system'],
-		data: items.map((r) => [r.serial, r.model, STATE_LABELS[r.state] ?? r.state, r.builtAt?.toISOString() ?? '', r.dealer ?? '', r.site ?? '', r.system ?? ''].map((v) => neutraliseCell(String(v))))
+		data: items.map((r) =>
+			[
+				r.serial,
+				r.model,
+				STATE_LABELS[r.state] ?? r.state,
+				r.builtAt?.toISOString() ?? '',
+				r.dealer ?? '',
+				r.site ?? '',
+				r.system ?? ''
+			].map((v) => neutraliseCell(String(v)))
+		)
 	});
 }
 
@@ -81,11 +110,23 @@ export async function traceCsv(db: Db, q: TraceQuery): Promise<string> {
  * notice on every affected module's timeline (shipped units only: the rest is still ours).
  * @returns how many dealers were told about how many modules
  */
-export async function sendServiceNotice(db: Db, actor: Actor, q: TraceQuery, notice: { subject: string; body: string }, now = new Date()) {
+export async function sendServiceNotice(
+	db: Db,
+	actor: Actor,
+	q: TraceQuery,
+	notice: { subject: string; body: string },
+	now = new Date()
+) {
 	const { items, truncated } = await traceModules(db, q);
-	if (truncated) throw new InvalidInputError(`More than ${TRACE_LIMIT} modules match; narrow the trace before sending a notice.`);
+	if (truncated)
+		throw new InvalidInputError(
+			`More than ${TRACE_LIMIT} modules match; narrow the trace before sending a notice.`
+		);
 	const shipped = items.filter((i) => i.dealerId !== null);
-	if (!shipped.length) throw new InvalidInputError('None of the traced modules has left the workshop: there is no dealer to notify.');
+	if (!shipped.length)
+		throw new InvalidInputError(
+			'None of the traced modules has left the workshop: there is no dealer to notify.'
+		);
 	const groups = new Map<number, typeof shipped>();
 	for (const i of shipped) groups.set(i.dealerId!, [...(groups.get(i.dealerId!) ?? []), i]);
 	const dealers = await db.select().from(organisations);
@@ -97,11 +138,28 @@ export async function sendServiceNotice(db: Db, actor: Actor, q: TraceQuery, not
 				{
 					sql: `INSERT INTO module_events (module_id, kind, at, actor_user_id, actor_label, summary, detail)
 					      SELECT value, 'service_notice', ?, ?, ?, ?, ? FROM json_each(?)`,
-					args: [now.getTime(), actor.userId, actor.label, `Service notice sent to the dealer: ${notice.subject}`, JSON.stringify({ criteria }), JSON.stringify(shipped.map((s) => s.id))]
+					args: [
+						now.getTime(),
+						actor.userId,
+						actor.label,
+						`Service notice sent to the dealer: ${notice.subject}`,
+						JSON.stringify({ criteria }),
+						JSON.stringify(shipped.map((s) => s.id))
+					]
 				},
 				{
 					sql: `INSERT INTO audit_log (at, actor_user_id, actor_label, action, entity, entity_id, after) VALUES (?, ?, ?, 'trace.notice', 'trace', ?, ?)`,
-					args: [now.getTime(), actor.userId, actor.label, criteria, JSON.stringify({ subject: notice.subject, dealers: groups.size, modules: shipped.length })]
+					args: [
+						now.getTime(),
+						actor.userId,
+						actor.label,
+						criteria,
+						JSON.stringify({
+							subject: notice.subject,
+							dealers: groups.size,
+							modules: shipped.length
+						})
+					]
 				}
 			],
 			'write'
@@ -120,6 +178,12 @@ export async function sendServiceNotice(db: Db, actor: Actor, q: TraceQuery, not
 }
 
 export function describeTrace(q: TraceQuery): string {
-	const parts = [q.lot && `cell lot ${q.lot}`, q.model && `model ${q.model}`, q.builtFrom && `built from ${q.builtFrom}`, q.builtTo && `built until ${q.builtTo}`, q.importId && `factory import #${q.importId}`];
+	const parts = [
+		q.lot && `cell lot ${q.lot}`,
+		q.model && `model ${q.model}`,
+		q.builtFrom && `built from ${q.builtFrom}`,
+		q.builtTo && `built until ${q.builtTo}`,
+		q.importId && `factory import #${q.importId}`
+	];
 	return parts.filter(Boolean).join(', ');
 }

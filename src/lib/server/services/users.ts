@@ -21,7 +21,13 @@ function roleFitsOrganisation(role: Role, kind: 'assembler' | 'dealer'): boolean
 	return kind === 'assembler';
 }
 
-async function issueToken(db: Db, userId: number, purpose: 'invite' | 'reset', hours: number, now: Date) {
+async function issueToken(
+	db: Db,
+	userId: number,
+	purpose: 'invite' | 'reset',
+	hours: number,
+	now: Date
+) {
 	const token = randomBytes(32).toString('base64url');
 	await db.insert(userTokens).values({
 		userId,
@@ -43,18 +49,42 @@ export async function inviteUser(
 	baseUrl: string,
 	now = new Date()
 ): Promise<number> {
-	const [org] = await db.select().from(organisations).where(eq(organisations.id, input.organisationId));
-	if (!org) throw new InvalidInputError('That organisation does not exist.', [{ path: 'organisationId', message: 'Choose an organisation from the list.' }]);
+	const [org] = await db
+		.select()
+		.from(organisations)
+		.where(eq(organisations.id, input.organisationId));
+	if (!org)
+		throw new InvalidInputError('That organisation does not exist.', [
+			{ path: 'organisationId', message: 'Choose an organisation from the list.' }
+		]);
 	if (!roleFitsOrganisation(input.role, org.kind))
 		throw new InvalidInputError(`The role ${input.role} does not fit ${org.name} (${org.kind}).`, [
-			{ path: 'role', message: input.role === 'dealer' ? 'Dealer users belong to a dealer organisation.' : 'Assembler staff belong to the assembler.' }
+			{
+				path: 'role',
+				message:
+					input.role === 'dealer'
+						? 'Dealer users belong to a dealer organisation.'
+						: 'Assembler staff belong to the assembler.'
+			}
 		]);
-	const [existing] = await db.select({ id: users.id }).from(users).where(eq(users.email, input.email));
+	const [existing] = await db
+		.select({ id: users.id })
+		.from(users)
+		.where(eq(users.email, input.email));
 	if (existing) throw new ConflictError(`${input.email} already has an account.`);
 
 	const userId = await writeTx(db, async (tx) => {
-		const [u] = await tx.insert(users).values({ ...input }).returning({ id: users.id });
-		await recordAudit(tx, actor, { action: 'user.invite', entity: 'user', entityId: u.id, after: input, at: now });
+		const [u] = await tx
+			.insert(users)
+			.values({ ...input })
+			.returning({ id: users.id });
+		await recordAudit(tx, actor, {
+			action: 'user.invite',
+			entity: 'user',
+			entityId: u.id,
+			after: input,
+			at: now
+		});
 		return u.id;
 	});
 	const token = await issueToken(db, userId, 'invite', INVITE_VALID_HOURS, now);
@@ -69,7 +99,12 @@ export async function inviteUser(
 }
 
 /** Sends a reset link when the address belongs to an active account; says nothing either way. */
-export async function requestPasswordReset(db: Db, email: string, baseUrl: string, now = new Date()): Promise<void> {
+export async function requestPasswordReset(
+	db: Db,
+	email: string,
+	baseUrl: string,
+	now = new Date()
+): Promise<void> {
 	const [user] = await db.select().from(users).where(eq(users.email, email));
 	if (!user || !user.active) return;
 	const token = await issueToken(db, user.id, 'reset', RESET_VALID_HOURS, now);
@@ -81,20 +116,40 @@ export async function requestPasswordReset(db: Db, email: string, baseUrl: strin
 }
 
 /** Looks a one-time link up without using it: who it is for, or why it no longer works. */
-export async function checkToken(db: Db, token: string, purpose: 'invite' | 'reset', now = new Date()) {
+export async function checkToken(
+	db: Db,
+	token: string,
+	purpose: 'invite' | 'reset',
+	now = new Date()
+) {
 	const [row] = await db
-		.select({ id: userTokens.id, usedAt: userTokens.usedAt, expiresAt: userTokens.expiresAt, email: users.email, name: users.name, userId: users.id })
+		.select({
+			id: userTokens.id,
+			usedAt: userTokens.usedAt,
+			expiresAt: userTokens.expiresAt,
+			email: users.email,
+			name: users.name,
+			userId: users.id
+		})
 		.from(userTokens)
 		.innerJoin(users, eq(userTokens.userId, users.id))
 		.where(and(eq(userTokens.tokenHash, sha256(token)), eq(userTokens.purpose, purpose)));
 	if (!row) throw new NotFoundError('This link is not valid. Ask for a new one.');
-	if (row.usedAt) throw new ConflictError('This link has already been used. Sign in, or ask for a new link.');
-	if (row.expiresAt.getTime() < now.getTime()) throw new ConflictError('This link has expired. Ask for a new one.');
+	if (row.usedAt)
+		throw new ConflictError('This link has already been used. Sign in, or ask for a new link.');
+	if (row.expiresAt.getTime() < now.getTime())
+		throw new ConflictError('This link has expired. Ask for a new one.');
 	return row;
 }
 
 /** Sets the password through a one-time link and spends the link (in one transaction). */
-export async function redeemToken(db: Db, token: string, purpose: 'invite' | 'reset', password: string, now = new Date()) {
+export async function redeemToken(
+	db: Db,
+	token: string,
+	purpose: 'invite' | 'reset',
+	password: string,
+	now = new Date()
+) {
 	const row = await checkToken(db, token, purpose, now);
 	const passwordHash = await hashPassword(password);
 	await writeTx(db, async (tx) => {
@@ -105,19 +160,38 @@ export async function redeemToken(db: Db, token: string, purpose: 'invite' | 're
 			.returning({ id: userTokens.id });
 		if (!spent.length) throw new ConflictError('This link has already been used.');
 		await tx.update(users).set({ passwordHash }).where(eq(users.id, row.userId));
-		await recordAudit(tx, { userId: row.userId, role: 'system', organisationId: null, dealerScoped: false, label: row.email }, {
-			action: purpose === 'invite' ? 'user.accept_invite' : 'user.reset_password',
-			entity: 'user',
-			entityId: row.userId,
-			at: now
-		});
+		await recordAudit(
+			tx,
+			{
+				userId: row.userId,
+				role: 'system',
+				organisationId: null,
+				dealerScoped: false,
+				label: row.email
+			},
+			{
+				action: purpose === 'invite' ? 'user.accept_invite' : 'user.reset_password',
+				entity: 'user',
+				entityId: row.userId,
+				at: now
+			}
+		);
 	});
 	return { email: row.email };
 }
 
 export async function listUsers(db: Db) {
 	return db
-		.select({ id: users.id, email: users.email, name: users.name, role: users.role, active: users.active, hasPassword: users.passwordHash, organisation: organisations.name, lastSignInAt: users.lastSignInAt })
+		.select({
+			id: users.id,
+			email: users.email,
+			name: users.name,
+			role: users.role,
+			active: users.active,
+			hasPassword: users.passwordHash,
+			organisation: organisations.name,
+			lastSignInAt: users.lastSignInAt
+		})
 		.from(users)
 		.innerJoin(organisations, eq(users.organisationId, organisations.id))
 		.orderBy(asc(organisations.name), asc(users.email))

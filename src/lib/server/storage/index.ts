@@ -26,8 +26,18 @@ const KEY = /^[a-z0-9/-]+$/;
 
 /** Throws unless `key` is a generated key: `[a-z0-9/-]`, no empty segment, at most 200 characters. */
 export function assertValidKey(key: string): void {
-	if (typeof key !== 'string' || key.length === 0 || key.length > 200 || !KEY.test(key) || key.startsWith('/') || key.endsWith('/') || key.includes('//')) {
-		throw new Error(`Invalid storage key ${JSON.stringify(String(key).slice(0, 60))}: keys are generated and use only a-z, 0-9, "/" and "-".`);
+	if (
+		typeof key !== 'string' ||
+		key.length === 0 ||
+		key.length > 200 ||
+		!KEY.test(key) ||
+		key.startsWith('/') ||
+		key.endsWith('/') ||
+		key.includes('//')
+	) {
+		throw new Error(
+			`Invalid storage key ${JSON.stringify(String(key).slice(0, 60))}: keys are generated and use only a-z, 0-9, "/" and "-".`
+		);
 	}
 }
 
@@ -45,7 +55,8 @@ export function createLocalStore(root: string): ObjectStore {
 		assertValidKey(key);
 		const p = resolve(base, key);
 		// Belt and braces: the key pattern already rules this out.
-		if (!p.startsWith(base + sep)) throw new Error(`Storage key ${key} resolves outside the upload folder.`);
+		if (!p.startsWith(base + sep))
+			throw new Error(`Storage key ${key} resolves outside the upload folder.`);
 		return p;
 	};
 	return {
@@ -60,8 +71,14 @@ export function createLocalStore(root: string): ObjectStore {
 		async get(key) {
 			const p = pathOf(key);
 			try {
-				const [bytes, type] = await Promise.all([readFile(p), readFile(`${p}.type`, 'utf8').catch(() => 'application/octet-stream')]);
-				return { bytes: new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength), contentType: type.trim() };
+				const [bytes, type] = await Promise.all([
+					readFile(p),
+					readFile(`${p}.type`, 'utf8').catch(() => 'application/octet-stream')
+				]);
+				return {
+					bytes: new Uint8Array(bytes.buffer, bytes.byteOffset, bytes.byteLength),
+					contentType: type.trim()
+				};
 			} catch (e) {
 				if ((e as NodeJS.ErrnoException).code === 'ENOENT') return null;
 				throw e;
@@ -117,23 +134,39 @@ export function createS3Store(config: S3Config, s3: S3Module): ObjectStore {
 		region: config.region || 'us-east-1',
 		endpoint: config.endpoint || undefined,
 		forcePathStyle: config.forcePathStyle ?? false,
-		credentials: config.accessKeyId && config.secretAccessKey ? { accessKeyId: config.accessKeyId, secretAccessKey: config.secretAccessKey } : undefined
+		credentials:
+			config.accessKeyId && config.secretAccessKey
+				? { accessKeyId: config.accessKeyId, secretAccessKey: config.secretAccessKey }
+				: undefined
 	});
 	const Bucket = config.bucket;
 	return {
 		async put(key, bytes, contentType) {
 			assertValidKey(key);
-			await client.send(new s3.PutObjectCommand({ Bucket, Key: key, Body: bytes, ContentType: contentType }));
+			await client.send(
+				new s3.PutObjectCommand({ Bucket, Key: key, Body: bytes, ContentType: contentType })
+			);
 		},
 		async get(key) {
 			assertValidKey(key);
 			try {
-				const out = (await client.send(new s3.GetObjectCommand({ Bucket, Key: key }))) as { Body?: S3Body; ContentType?: string };
+				const out = (await client.send(new s3.GetObjectCommand({ Bucket, Key: key }))) as {
+					Body?: S3Body;
+					ContentType?: string;
+				};
 				if (!out.Body) return null;
-				return { bytes: await out.Body.transformToByteArray(), contentType: out.ContentType ?? 'application/octet-stream' };
+				return {
+					bytes: await out.Body.transformToByteArray(),
+					contentType: out.ContentType ?? 'application/octet-stream'
+				};
 			} catch (e) {
 				const err = e as { name?: string; $metadata?: { httpStatusCode?: number } };
-				if (err.name === 'NoSuchKey' || err.name === 'NotFound' || err.$metadata?.httpStatusCode === 404) return null;
+				if (
+					err.name === 'NoSuchKey' ||
+					err.name === 'NotFound' ||
+					err.$metadata?.httpStatusCode === 404
+				)
+					return null;
 				throw e;
 			}
 		},
@@ -161,9 +194,13 @@ function configuredStore(): Promise<ObjectStore> {
 				forcePathStyle: /^(1|true|yes)$/i.test(env.S3_FORCE_PATH_STYLE ?? '')
 			}
 		: null;
-	const signature = s3 ? `s3:${s3.bucket}:${s3.endpoint ?? ''}:${s3.region ?? ''}:${s3.accessKeyId ?? ''}:${s3.forcePathStyle}` : `local:${resolve(env.UPLOAD_DIR || 'data/uploads')}`;
+	const signature = s3
+		? `s3:${s3.bucket}:${s3.endpoint ?? ''}:${s3.region ?? ''}:${s3.accessKeyId ?? ''}:${s3.forcePathStyle}`
+		: `local:${resolve(env.UPLOAD_DIR || 'data/uploads')}`;
 	if (cached?.signature !== signature) {
-		const store = s3 ? loadS3Module().then((m) => createS3Store(s3, m)) : Promise.resolve(createLocalStore(env.UPLOAD_DIR || 'data/uploads'));
+		const store = s3
+			? loadS3Module().then((m) => createS3Store(s3, m))
+			: Promise.resolve(createLocalStore(env.UPLOAD_DIR || 'data/uploads'));
 		// A failed load (package missing) is not cached: the next call says so again.
 		store.catch(() => {
 			if (cached?.signature === signature) cached = undefined;
@@ -174,7 +211,11 @@ function configuredStore(): Promise<ObjectStore> {
 }
 
 /** Stores `bytes` under `key` (replacing what was there). */
-export async function putObject(key: string, bytes: Uint8Array, contentType: string): Promise<void> {
+export async function putObject(
+	key: string,
+	bytes: Uint8Array,
+	contentType: string
+): Promise<void> {
 	assertValidKey(key);
 	await (await configuredStore()).put(key, bytes, contentType);
 }

@@ -11,7 +11,10 @@ import type { Actions, PageServerLoad } from './$types';
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'workshop', 'admin');
 	const db = await getDb();
-	return { allocations: await listAllocations(db), models: await listModels(db, { includeRetired: false }) };
+	return {
+		allocations: await listAllocations(db),
+		models: await listModels(db, { includeRetired: false })
+	};
 };
 
 export const actions: Actions = {

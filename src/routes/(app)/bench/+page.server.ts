@@ -19,22 +19,37 @@ export const load: PageServerLoad = async (event) => {
 	let scanError: string | null = null;
 	if (scan) {
 		try {
-			target = await benchTarget(db, actor, await serialFromScan(db, actor, scan, baseUrl(event.url)));
+			target = await benchTarget(
+				db,
+				actor,
+				await serialFromScan(db, actor, scan, baseUrl(event.url))
+			);
 		} catch (e) {
 			if (!(e instanceof AppError)) throw e;
 			scanError = e.message;
 		}
 	}
-	return { target, scanError, scan, recent: await recentBuilds(db, actor), done: event.url.searchParams.get('done') };
+	return {
+		target,
+		scanError,
+		scan,
+		recent: await recentBuilds(db, actor),
+		done: event.url.searchParams.get('done')
+	};
 };
 
 export const actions: Actions = {
 	build: async (event) => {
 		const actor = requireRole(event, 'workshop', 'admin');
-		const parsed = await parseForm(buildSchema.extend({ serial: z.string().min(1) }), event.request);
+		const parsed = await parseForm(
+			buildSchema.extend({ serial: z.string().min(1) }),
+			event.request
+		);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {
-			return { built: (await registerBuild(await getDb(), actor, parsed.data.serial, parsed.data)).serial };
+			return {
+				built: (await registerBuild(await getDb(), actor, parsed.data.serial, parsed.data)).serial
+			};
 		} catch (e) {
 			return failFrom(e, { serial: parsed.data.serial });
 		}

@@ -6,5 +6,8 @@ import type { PageServerLoad } from './$types';
 /** The queue itself is fetched by the page from /api/claims, so filters and sorting stay in the URL. */
 export const load: PageServerLoad = async (event) => {
 	const actor = requireRole(event, 'warranty', 'admin', 'dealer', 'field_tech');
-	return { options: await claimFilterOptions(await getDb(), actor), dealerScoped: actor.dealerScoped };
+	return {
+		options: await claimFilterOptions(await getDb(), actor),
+		dealerScoped: actor.dealerScoped
+	};
 };

@@ -11,6 +11,8 @@ export const load: PageServerLoad = async (event) => {
 	const options = await fleetFilterOptions(db, actor);
 	const saved = actor.userId === null ? null : await getColumnPrefs(db, actor.userId);
 	// A dealer's staff see only their own organisation, so its column starts hidden for them.
-	const defaults = options.dealers ? DEFAULT_FLEET_COLUMNS : DEFAULT_FLEET_COLUMNS.filter((c) => c !== 'dealer');
+	const defaults = options.dealers
+		? DEFAULT_FLEET_COLUMNS
+		: DEFAULT_FLEET_COLUMNS.filter((c) => c !== 'dealer');
 	return { ...options, columns: saved ?? defaults };
 };

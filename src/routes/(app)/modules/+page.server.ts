@@ -10,6 +10,7 @@ export const load: PageServerLoad = async (event) => {
 	const q = (event.url.searchParams.get('q') ?? '').trim();
 	const exact = q ? parseSerial(q) : null;
 	const results = q ? await searchModules(await getDb(), actor, q) : [];
-	if (exact?.ok && results.some((r) => r.serial === exact.serial)) redirect(303, `/m/${exact.serial}`);
+	if (exact?.ok && results.some((r) => r.serial === exact.serial))
+		redirect(303, `/m/${exact.serial}`);
 	return { q, results, hint: exact && !exact.ok && !results.length ? exact.reason : null };
 };

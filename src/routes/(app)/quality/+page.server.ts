@@ -9,26 +9,67 @@ import type { PageServerLoad } from './$types';
 // The filters live in the URL (a GET form), so a view can be shared as a link. An empty
 // select sends "", which means "not chosen".
 const blank = (v: unknown) => (v === '' ? undefined : v);
-const id = (what: string) => z.preprocess(blank, z.coerce.number({ message: `Choose a ${what}.` }).int().positive(`Choose a ${what}.`).optional());
+const id = (what: string) =>
+	z.preprocess(
+		blank,
+		z.coerce
+			.number({ message: `Choose a ${what}.` })
+			.int()
+			.positive(`Choose a ${what}.`)
+			.optional()
+	);
 const filterSchema = z.object({
 	model: id('model'),
-	group: z.preprocess(blank, z.enum(QUALITY_GROUP_BY, { message: 'Group by rig file, week or the whole model.' }).default('import')),
+	group: z.preprocess(
+		blank,
+		z
+			.enum(QUALITY_GROUP_BY, { message: 'Group by rig file, week or the whole model.' })
+			.default('import')
+	),
 	import: id('rig file'),
-	week: z.preprocess(blank, z.string().regex(/^\d{4}-W\d{2}$/, 'Write the week as 2026-W07.').optional()),
+	week: z.preprocess(
+		blank,
+		z
+			.string()
+			.regex(/^\d{4}-W\d{2}$/, 'Write the week as 2026-W07.')
+			.optional()
+	),
 	latest: z.preprocess(blank, z.literal('1').optional())
 });
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'workshop', 'admin', 'warranty');
 	const parsed = filterSchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success) error(400, `These filters cannot be read: ${parsed.error.issues.map((i) => i.message).join(' ')}`);
+	if (!parsed.success)
+		error(
+			400,
+			`These filters cannot be read: ${parsed.error.issues.map((i) => i.message).join(' ')}`
+		);
 	const q = parsed.data;
 	const db = await getDb();
 	try {
 		const filters = await qualityFilters(db, { modelId: q.model });
 		const report =
-			filters.modelId === null ? null : await qualityReport(db, { modelId: filters.modelId, groupBy: q.group, importId: q.import, week: q.week, latestOnly: q.latest === '1' });
-		return { filters, report, query: { model: filters.modelId, group: q.group, import: q.import ?? null, week: q.week ?? null, latest: q.latest === '1' } };
+			filters.modelId === null
+				? null
+				: await qualityReport(db, {
+						modelId: filters.modelId,
+						groupBy: q.group,
+						importId: q.import,
+						week: q.week,
+						latestOnly: q.latest === '1'
+					});
+		return {
+			filters,
+			report,
+			query: {
+				model: filters.modelId,
+				group: q.group,
+				import: q.import ?? null,
+				week: q.week ?? null,
+				latest: q.latest === '1'
+			}
+		};
 	} catch (e) {
 		errorFrom(e);
 	}

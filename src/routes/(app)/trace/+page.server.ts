@@ -16,14 +16,20 @@ export const load: PageServerLoad = async (event) => {
 	const parsed = traceQuerySchema.safeParse(params);
 	if (!parsed.success) return { query: params, result: null, issues: toIssues(parsed.error) };
 	const result = await traceModules(await getDb(), parsed.data);
-	return { query: params, criteria: describeTrace(parsed.data), result: { ...result, items: result.items.slice(0, SHOWN) }, issues: [] };
+	return {
+		query: params,
+		criteria: describeTrace(parsed.data),
+		result: { ...result, items: result.items.slice(0, SHOWN) },
+		issues: []
+	};
 };
 
 export const actions: Actions = {
 	notice: async (event) => {
 		const actor = requireRole(event, 'admin');
 		const query = traceQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
-		if (!query.success) return fail(400, { message: 'The trace criteria are missing; run the trace again.' });
+		if (!query.success)
+			return fail(400, { message: 'The trace criteria are missing; run the trace again.' });
 		const parsed = await parseForm(noticeSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {

@@ -7,11 +7,15 @@ import { signInSchema } from '$lib/schemas/auth';
 import { parseForm } from '$lib/server/validation';
 import type { Actions, PageServerLoad } from './$types';
 
-const safeNext = (v: unknown) => (typeof v === 'string' && v.startsWith('/') && !v.startsWith('//') ? v : '/');
+const safeNext = (v: unknown) =>
+	typeof v === 'string' && v.startsWith('/') && !v.startsWith('//') ? v : '/';
 
 export const load: PageServerLoad = (event) => {
 	if (allowAnonymous(event)) redirect(303, safeNext(event.url.searchParams.get('next')));
-	return { next: safeNext(event.url.searchParams.get('next')), done: event.url.searchParams.get('done') };
+	return {
+		next: safeNext(event.url.searchParams.get('next')),
+		done: event.url.searchParams.get('done')
+	};
 };
 
 export const actions: Actions = {
@@ -21,12 +25,16 @@ export const actions: Actions = {
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		const minutes = signInBlockedFor(parsed.data.email, event.getClientAddress());
 		if (minutes > 0)
-			return fail(429, { message: `Too many failed attempts. Try again in ${minutes} minute${minutes === 1 ? '' : 's'}, or reset your password.`, values: { email: parsed.data.email } });
+			return fail(429, {
+				message: `Too many failed attempts. Try again in ${minutes} minute${minutes === 1 ? '' : 's'}, or reset your password.`,
+				values: { email: parsed.data.email }
+			});
 		try {
 			await signIn(event);
 		} catch (e) {
 			if (isRedirect(e)) {
-				if (new URL(e.location, event.url).searchParams.get('error')) return failed(parsed.data.email);
+				if (new URL(e.location, event.url).searchParams.get('error'))
+					return failed(parsed.data.email);
 				throw e;
 			}
 			if (e instanceof AuthError) return failed(parsed.data.email);
@@ -36,5 +44,8 @@ export const actions: Actions = {
 };
 
 function failed(email: string) {
-	return fail(400, { message: 'That e-mail and password do not match an active account.', values: { email } });
+	return fail(400, {
+		message: 'That e-mail and password do not match an active account.',
+		values: { email }
+	});
 }

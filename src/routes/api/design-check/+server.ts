@@ -16,7 +16,14 @@ import type { RequestHandler } from './$types';
 export const POST: RequestHandler = async (event) => {
 	requireUser(event);
 	const parsed = await parseJson(designCheckRequestSchema, event.request);
-	if (!parsed.ok) return json({ message: `The design cannot be checked: ${parsed.issues.map((i) => (i.path ? `${i.path}: ${i.message}` : i.message)).join('; ')}`, issues: parsed.issues }, { status: 400 });
+	if (!parsed.ok)
+		return json(
+			{
+				message: `The design cannot be checked: ${parsed.issues.map((i) => (i.path ? `${i.path}: ${i.message}` : i.message)).join('; ')}`,
+				issues: parsed.issues
+			},
+			{ status: 400 }
+		);
 	try {
 		return json(await designCheck(await getDb(), parsed.data));
 	} catch (e) {

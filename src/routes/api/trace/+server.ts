@@ -10,7 +10,19 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = async (event) => {
 	requireRole(event, 'admin', 'workshop', 'warranty');
 	const parsed = traceQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success) return json({ message: 'Give a cell lot, model, build date range or import.', issues: toIssues(parsed.error) }, { status: 400 });
+	if (!parsed.success)
+		return json(
+			{
+				message: 'Give a cell lot, model, build date range or import.',
+				issues: toIssues(parsed.error)
+			},
+			{ status: 400 }
+		);
 	const r = await traceModules(await getDb(), parsed.data);
-	return json({ total: r.total, truncated: r.truncated, byDealer: r.byDealer, items: r.items.map(({ id: _id, dealerId: _d, ...rest }) => rest) });
+	return json({
+		total: r.total,
+		truncated: r.truncated,
+		byDealer: r.byDealer,
+		items: r.items.map(({ id: _id, dealerId: _d, ...rest }) => rest)
+	});
 };

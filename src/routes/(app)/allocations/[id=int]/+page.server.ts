@@ -11,8 +11,18 @@ export const load: PageServerLoad = async (event) => {
 	const id = Number(event.params.id);
 	if (!Number.isInteger(id)) error(404, 'No such allocation.');
 	try {
-		const { allocation, model, labels } = await labelsForAllocation(await getDb(), id, baseUrl(event.url), 6);
-		return { allocation, model: { code: model.code, name: model.name }, labels, total: allocation.count };
+		const { allocation, model, labels } = await labelsForAllocation(
+			await getDb(),
+			id,
+			baseUrl(event.url),
+			6
+		);
+		return {
+			allocation,
+			model: { code: model.code, name: model.name },
+			labels,
+			total: allocation.count
+		};
 	} catch (e) {
 		errorFrom(e);
 	}

@@ -4,11 +4,25 @@ import { getDb } from '$lib/server/db';
 import { parseForm } from '$lib/server/validation';
 import { errorFrom, failFrom } from '$lib/server/http';
 import { baseUrl } from '$lib/server/base-url';
-import { addEvidenceSchema, commentSchema, decideClaimSchema, moveClaimSchema, replacementSchema, returnInspectionSchema } from '$lib/schemas/claim';
+import {
+	addEvidenceSchema,
+	commentSchema,
+	decideClaimSchema,
+	moveClaimSchema,
+	replacementSchema,
+	returnInspectionSchema
+} from '$lib/schemas/claim';
 import { getClaim } from '$lib/server/services/claims';
 import { listAttachments, savePhoto } from '$lib/server/services/attachments';
 import { photoSchema } from '$lib/schemas/commissioning';
-import { addEvidence, commentOnClaim, decideClaim, moveClaim, recordReturnInspection, replaceModule } from '$lib/server/services/claim-workflow';
+import {
+	addEvidence,
+	commentOnClaim,
+	decideClaim,
+	moveClaim,
+	recordReturnInspection,
+	replaceModule
+} from '$lib/server/services/claim-workflow';
 import type { Actions, PageServerLoad } from './$types';
 
 const VIEWERS = ['warranty', 'admin', 'dealer', 'field_tech'] as const;
@@ -30,9 +44,18 @@ export const load: PageServerLoad = async (event) => {
 	try {
 		const db = await getDb();
 		const detail = await getClaim(db, actor, claimId(event));
-		const photos = await listAttachments(db, actor, { ownerKind: 'claim', ownerId: claimId(event) });
+		const photos = await listAttachments(db, actor, {
+			ownerKind: 'claim',
+			ownerId: claimId(event)
+		});
 		const officer = !actor.dealerScoped && (actor.role === 'warranty' || actor.role === 'admin');
-		return { ...detail, photos, officer, canReplace: officer || actor.role === 'field_tech', isFiler: actor.userId === null ? false : detail.claim.filedBy?.id === actor.userId };
+		return {
+			...detail,
+			photos,
+			officer,
+			canReplace: officer || actor.role === 'field_tech',
+			isFiler: actor.userId === null ? false : detail.claim.filedBy?.id === actor.userId
+		};
 	} catch (e) {
 		errorFrom(e);
 	}
@@ -42,11 +65,22 @@ export const actions: Actions = {
 	photo: async (event) => {
 		const actor = requireRole(event, ...VIEWERS);
 		const parsed = await parseForm(photoSchema, event.request);
-		if (!parsed.ok) return fail(400, { form: 'photo', message: parsed.issues[0].message, issues: parsed.issues });
+		if (!parsed.ok)
+			return fail(400, { form: 'photo', message: parsed.issues[0].message, issues: parsed.issues });
 		const { photo, caption } = parsed.data;
 		try {
-			const file = { name: photo.name, type: photo.type, bytes: new Uint8Array(await photo.arrayBuffer()) };
-			await savePhoto(await getDb(), actor, { ownerKind: 'claim', ownerId: claimId(event) }, file, caption);
+			const file = {
+				name: photo.name,
+				type: photo.type,
+				bytes: new Uint8Array(await photo.arrayBuffer())
+			};
+			await savePhoto(
+				await getDb(),
+				actor,
+				{ ownerKind: 'claim', ownerId: claimId(event) },
+				file,
+				caption
+			);
 			return { done: 'photo' };
 		} catch (e) {
 			return failed('photo', e);
@@ -55,9 +89,13 @@ export const actions: Actions = {
 	move: async (event) => {
 		const actor = requireRole(event, 'warranty', 'admin');
 		const parsed = await parseForm(moveClaimSchema, event.request);
-		if (!parsed.ok) return fail(400, { form: 'move', message: parsed.issues[0].message, issues: parsed.issues });
+		if (!parsed.ok)
+			return fail(400, { form: 'move', message: parsed.issues[0].message, issues: parsed.issues });
 		try {
-			return { done: 'move', ...(await moveClaim(await getDb(), actor, claimId(event), parsed.data)) };
+			return {
+				done: 'move',
+				...(await moveClaim(await getDb(), actor, claimId(event), parsed.data))
+			};
 		} catch (e) {
 			return failed('move', e);
 		}
@@ -65,9 +103,17 @@ export const actions: Actions = {
 	decide: async (event) => {
 		const actor = requireRole(event, 'warranty', 'admin');
 		const parsed = await parseForm(decideClaimSchema, event.request);
-		if (!parsed.ok) return fail(400, { form: 'decide', message: parsed.issues[0].message, issues: parsed.issues });
+		if (!parsed.ok)
+			return fail(400, {
+				form: 'decide',
+				message: parsed.issues[0].message,
+				issues: parsed.issues
+			});
 		try {
-			return { done: 'decide', ...(await decideClaim(await getDb(), actor, claimId(event), parsed.data)) };
+			return {
+				done: 'decide',
+				...(await decideClaim(await getDb(), actor, claimId(event), parsed.data))
+			};
 		} catch (e) {
 			return failed('decide', e);
 		}
@@ -75,7 +121,12 @@ export const actions: Actions = {
 	comment: async (event) => {
 		const actor = requireRole(event, ...VIEWERS);
 		const parsed = await parseForm(commentSchema, event.request);
-		if (!parsed.ok) return fail(400, { form: 'comment', message: parsed.issues[0].message, issues: parsed.issues });
+		if (!parsed.ok)
+			return fail(400, {
+				form: 'comment',
+				message: parsed.issues[0].message,
+				issues: parsed.issues
+			});
 		try {
 			await commentOnClaim(await getDb(), actor, claimId(event), parsed.data.comment);
 			return { done: 'comment' };
@@ -86,9 +137,17 @@ export const actions: Actions = {
 	evidence: async (event) => {
 		const actor = requireRole(event, ...VIEWERS);
 		const parsed = await parseForm(addEvidenceSchema, event.request);
-		if (!parsed.ok) return fail(400, { form: 'evidence', message: parsed.issues[0].message, issues: parsed.issues });
+		if (!parsed.ok)
+			return fail(400, {
+				form: 'evidence',
+				message: parsed.issues[0].message,
+				issues: parsed.issues
+			});
 		try {
-			return { done: 'evidence', ...(await addEvidence(await getDb(), actor, claimId(event), parsed.data)) };
+			return {
+				done: 'evidence',
+				...(await addEvidence(await getDb(), actor, claimId(event), parsed.data))
+			};
 		} catch (e) {
 			return failed('evidence', e);
 		}
@@ -96,10 +155,25 @@ export const actions: Actions = {
 	replace: async (event) => {
 		const actor = requireRole(event, 'warranty', 'admin', 'field_tech');
 		const parsed = await parseForm(replacementSchema, event.request);
-		if (!parsed.ok) return fail(400, { form: 'replace', message: parsed.issues[0].message, issues: parsed.issues });
+		if (!parsed.ok)
+			return fail(400, {
+				form: 'replace',
+				message: parsed.issues[0].message,
+				issues: parsed.issues
+			});
 		try {
 			const { failedSerial, replacementScan } = parsed.data;
-			return { done: 'replace', ...(await replaceModule(await getDb(), actor, claimId(event), failedSerial, replacementScan, baseUrl(event.url))) };
+			return {
+				done: 'replace',
+				...(await replaceModule(
+					await getDb(),
+					actor,
+					claimId(event),
+					failedSerial,
+					replacementScan,
+					baseUrl(event.url)
+				))
+			};
 		} catch (e) {
 			return failed('replace', e);
 		}
@@ -107,10 +181,18 @@ export const actions: Actions = {
 	inspect: async (event) => {
 		const actor = requireRole(event, 'warranty', 'admin');
 		const parsed = await parseForm(returnInspectionSchema, event.request);
-		if (!parsed.ok) return fail(400, { form: 'inspect', message: parsed.issues[0].message, issues: parsed.issues });
+		if (!parsed.ok)
+			return fail(400, {
+				form: 'inspect',
+				message: parsed.issues[0].message,
+				issues: parsed.issues
+			});
 		try {
 			const { serial, ...inspection } = parsed.data;
-			return { done: 'inspect', ...(await recordReturnInspection(await getDb(), actor, claimId(event), serial, inspection)) };
+			return {
+				done: 'inspect',
+				...(await recordReturnInspection(await getDb(), actor, claimId(event), serial, inspection))
+			};
 		} catch (e) {
 			return failed('inspect', e);
 		}

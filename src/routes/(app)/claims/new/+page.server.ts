@@ -19,11 +19,23 @@ export const actions: Actions = {
 	file: async (event) => {
 		const actor = requireRole(event, ...FILERS);
 		const parsed = await parseForm(fileClaimFormSchema, event.request);
-		if (!parsed.ok) return fail(400, { message: parsed.issues[0]?.message, issues: parsed.issues, values: parsed.values });
+		if (!parsed.ok)
+			return fail(400, {
+				message: parsed.issues[0]?.message,
+				issues: parsed.issues,
+				values: parsed.values
+			});
 		const { serials, fault, throughputScope, log, ...evidence } = parsed.data;
 		let claim;
 		try {
-			claim = await fileClaim(await getDb(), actor, { serials, fault, evidence, throughputScope, log, baseUrl: baseUrl(event.url) });
+			claim = await fileClaim(await getDb(), actor, {
+				serials,
+				fault,
+				evidence,
+				throughputScope,
+				log,
+				baseUrl: baseUrl(event.url)
+			});
 		} catch (e) {
 			return failFrom(e);
 		}
@@ -34,18 +46,35 @@ export const actions: Actions = {
 		const actor = requireRole(event, ...FILERS);
 		const form = await event.request.formData();
 		const file = form.get('file');
-		if (!(file instanceof File) || file.size === 0) return fail(400, { message: 'Choose the inverter log: a CSV file exported from the inverter or its portal.' });
-		if (file.size > MAX_LOG_BYTES) return fail(413, { message: `The log is ${(file.size / 1048576).toFixed(1)} MB; the limit is ${MAX_LOG_BYTES / 1048576} MB. Export a shorter period.` });
+		if (!(file instanceof File) || file.size === 0)
+			return fail(400, {
+				message: 'Choose the inverter log: a CSV file exported from the inverter or its portal.'
+			});
+		if (file.size > MAX_LOG_BYTES)
+			return fail(413, {
+				message: `The log is ${(file.size / 1048576).toFixed(1)} MB; the limit is ${MAX_LOG_BYTES / 1048576} MB. Export a shorter period.`
+			});
 		let mapping;
 		if (form.get('confirm') === '1') {
-			const parsed = logMappingSchema.safeParse(Object.fromEntries([...form].filter(([, v]) => typeof v === 'string')));
-			if (!parsed.success) return fail(400, { message: toIssues(parsed.error)[0].message, issues: toIssues(parsed.error) });
+			const parsed = logMappingSchema.safeParse(
+				Object.fromEntries([...form].filter(([, v]) => typeof v === 'string'))
+			);
+			if (!parsed.success)
+				return fail(400, {
+					message: toIssues(parsed.error)[0].message,
+					issues: toIssues(parsed.error)
+				});
 			mapping = parsed.data;
 		}
 		try {
 			const db = await getDb();
 			const dealerOrgId = await logDealerFor(db, actor, String(form.get('serial') ?? ''));
-			return { log: { ...(await readInverterLog(db, actor, dealerOrgId, await file.text(), mapping)), fileName: file.name } };
+			return {
+				log: {
+					...(await readInverterLog(db, actor, dealerOrgId, await file.text(), mapping)),
+					fileName: file.name
+				}
+			};
 		} catch (e) {
 			return failFrom(e);
 		}

@@ -1,9 +1,24 @@
 import { error, fail, redirect, type RequestEvent } from '@sveltejs/kit';
 import { requireRole } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { shipmentDeleteSchema, shipmentDispatchSchema, shipmentNoteSchema, shipmentRangeSchema, shipmentRemoveSchema, shipmentScanSchema } from '$lib/schemas/shipment';
+import {
+	shipmentDeleteSchema,
+	shipmentDispatchSchema,
+	shipmentNoteSchema,
+	shipmentRangeSchema,
+	shipmentRemoveSchema,
+	shipmentScanSchema
+} from '$lib/schemas/shipment';
 import { parseForm } from '$lib/server/validation';
-import { addRangeToShipment, addToShipment, deleteDraftShipment, dispatchShipment, getShipment, removeFromShipment, updateShipmentNote } from '$lib/server/services/shipments';
+import {
+	addRangeToShipment,
+	addToShipment,
+	deleteDraftShipment,
+	dispatchShipment,
+	getShipment,
+	removeFromShipment,
+	updateShipmentNote
+} from '$lib/server/services/shipments';
 import { baseUrl } from '$lib/server/base-url';
 import { errorFrom, failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
@@ -15,8 +30,15 @@ function shipmentId(event: Pick<RequestEvent, 'params'>): number {
 }
 
 // Each failure says which form it belongs to (values.action), so the page shows it there.
-const invalid = (action: string, p: { issues: { path: string; message: string }[]; values: Record<string, string> }) =>
-	fail(400, { message: p.issues[0]?.message ?? 'Check the form.', issues: p.issues, values: { ...p.values, action } });
+const invalid = (
+	action: string,
+	p: { issues: { path: string; message: string }[]; values: Record<string, string> }
+) =>
+	fail(400, {
+		message: p.issues[0]?.message ?? 'Check the form.',
+		issues: p.issues,
+		values: { ...p.values, action }
+	});
 
 export const load: PageServerLoad = async (event) => {
 	const actor = requireRole(event, 'workshop', 'admin');
@@ -33,7 +55,15 @@ export const actions: Actions = {
 		const parsed = await parseForm(shipmentScanSchema, event.request);
 		if (!parsed.ok) return invalid('scan', parsed);
 		try {
-			return { scanned: await addToShipment(await getDb(), actor, shipmentId(event), parsed.data.scan, baseUrl(event.url)) };
+			return {
+				scanned: await addToShipment(
+					await getDb(),
+					actor,
+					shipmentId(event),
+					parsed.data.scan,
+					baseUrl(event.url)
+				)
+			};
 		} catch (e) {
 			return failFrom(e, { action: 'scan', scan: parsed.data.scan });
 		}
@@ -43,7 +73,15 @@ export const actions: Actions = {
 		const parsed = await parseForm(shipmentRangeSchema, event.request);
 		if (!parsed.ok) return invalid('range', parsed);
 		try {
-			return { range: await addRangeToShipment(await getDb(), actor, shipmentId(event), parsed.data.first, parsed.data.last) };
+			return {
+				range: await addRangeToShipment(
+					await getDb(),
+					actor,
+					shipmentId(event),
+					parsed.data.first,
+					parsed.data.last
+				)
+			};
 		} catch (e) {
 			return failFrom(e, { ...parsed.data, action: 'range' });
 		}
@@ -53,7 +91,14 @@ export const actions: Actions = {
 		const parsed = await parseForm(shipmentRemoveSchema, event.request);
 		if (!parsed.ok) return invalid('remove', parsed);
 		try {
-			return { removed: await removeFromShipment(await getDb(), actor, shipmentId(event), parsed.data.serial) };
+			return {
+				removed: await removeFromShipment(
+					await getDb(),
+					actor,
+					shipmentId(event),
+					parsed.data.serial
+				)
+			};
 		} catch (e) {
 			return failFrom(e, { action: 'remove' });
 		}
@@ -63,7 +108,14 @@ export const actions: Actions = {
 		const parsed = await parseForm(shipmentNoteSchema, event.request);
 		if (!parsed.ok) return invalid('note', parsed);
 		try {
-			return { noteSaved: await updateShipmentNote(await getDb(), actor, shipmentId(event), parsed.data.note) };
+			return {
+				noteSaved: await updateShipmentNote(
+					await getDb(),
+					actor,
+					shipmentId(event),
+					parsed.data.note
+				)
+			};
 		} catch (e) {
 			return failFrom(e, { ...parsed.data, action: 'note' });
 		}

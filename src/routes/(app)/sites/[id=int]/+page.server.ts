@@ -9,7 +9,11 @@ export const load: PageServerLoad = async (event) => {
 	const actor = requireRole(event, 'field_tech', 'dealer', 'admin', 'warranty');
 	try {
 		const site = await getSite(await getDb(), actor, Number(event.params.id));
-		return { ...site, canChange: hasRole(actor.role, ['field_tech', 'admin']), created: event.url.searchParams.has('created') };
+		return {
+			...site,
+			canChange: hasRole(actor.role, ['field_tech', 'admin']),
+			created: event.url.searchParams.has('created')
+		};
 	} catch (e) {
 		errorFrom(e);
 	}

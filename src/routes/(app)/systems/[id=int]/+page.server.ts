@@ -13,7 +13,11 @@ export const load: PageServerLoad = async (event) => {
 	const actor = requireRole(event, 'field_tech', 'dealer', 'admin', 'warranty');
 	try {
 		const view = await getSystem(await getDb(), actor, Number(event.params.id));
-		return { ...view, canChange: hasRole(actor.role, ['field_tech', 'admin']), created: event.url.searchParams.has('created') };
+		return {
+			...view,
+			canChange: hasRole(actor.role, ['field_tech', 'admin']),
+			created: event.url.searchParams.has('created')
+		};
 	} catch (e) {
 		errorFrom(e);
 	}
@@ -23,9 +27,21 @@ export const actions: Actions = {
 	place: async (event) => {
 		const actor = requireRole(event, 'field_tech', 'admin');
 		const parsed = await parseForm(placeModuleSchema, event.request);
-		if (!parsed.ok) return fail(400, { action: 'place', message: parsed.issues[0]?.message ?? 'Scan a module label.', issues: parsed.issues });
+		if (!parsed.ok)
+			return fail(400, {
+				action: 'place',
+				message: parsed.issues[0]?.message ?? 'Scan a module label.',
+				issues: parsed.issues
+			});
 		try {
-			const placed = await placeModule(await getDb(), actor, Number(event.params.id), parsed.data.slot, parsed.data.scan, baseUrl(event.url));
+			const placed = await placeModule(
+				await getDb(),
+				actor,
+				Number(event.params.id),
+				parsed.data.slot,
+				parsed.data.scan,
+				baseUrl(event.url)
+			);
 			return { action: 'place', placed };
 		} catch (e) {
 			return failFrom(e, { action: 'place', scan: parsed.data.scan });
@@ -34,9 +50,22 @@ export const actions: Actions = {
 	remove: async (event) => {
 		const actor = requireRole(event, 'field_tech', 'admin');
 		const parsed = await parseForm(removeModuleSchema, event.request);
-		if (!parsed.ok) return fail(400, { action: 'remove', message: parsed.issues[0]?.message ?? 'Say which module to take out.', issues: parsed.issues });
+		if (!parsed.ok)
+			return fail(400, {
+				action: 'remove',
+				message: parsed.issues[0]?.message ?? 'Say which module to take out.',
+				issues: parsed.issues
+			});
 		try {
-			return { action: 'remove', removed: await removeModule(await getDb(), actor, Number(event.params.id), parsed.data.serial) };
+			return {
+				action: 'remove',
+				removed: await removeModule(
+					await getDb(),
+					actor,
+					Number(event.params.id),
+					parsed.data.serial
+				)
+			};
 		} catch (e) {
 			return failFrom(e, { action: 'remove' });
 		}

@@ -12,7 +12,11 @@ export const load: PageServerLoad = async (event) => {
 	try {
 		const publicRecord = await getPublicRecord(db, event.params.serial, today);
 		// Signed-in people who may see the module get its full record; everyone else the public one.
-		const full = user ? await getModuleRecord(db, user, publicRecord.identifier).catch((e) => (e instanceof NotFoundError ? null : Promise.reject(e))) : null;
+		const full = user
+			? await getModuleRecord(db, user, publicRecord.identifier).catch((e) =>
+					e instanceof NotFoundError ? null : Promise.reject(e)
+				)
+			: null;
 		return { publicRecord, full, role: user?.role ?? null };
 	} catch (e) {
 		errorFrom(e);

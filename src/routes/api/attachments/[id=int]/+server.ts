@@ -8,7 +8,11 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = async (event) => {
 	const actor = requireRole(event, 'field_tech', 'dealer', 'admin', 'warranty');
 	try {
-		const { attachment, bytes, contentType } = await readAttachment(await getDb(), actor, Number(event.params.id));
+		const { attachment, bytes, contentType } = await readAttachment(
+			await getDb(),
+			actor,
+			Number(event.params.id)
+		);
 		const name = attachment.fileName.replace(/[^A-Za-z0-9._-]+/g, '_');
 		return new Response(bytes as Uint8Array<ArrayBuffer>, {
 			headers: {

@@ -16,7 +16,8 @@ export const POST: RequestHandler = async (event) => {
 	const db = await getDb();
 	try {
 		const preview = await previewImport(db, actor, file);
-		if (event.url.searchParams.get('commit') !== 'accepted') return json(preview, { status: preview.alreadySent ? 200 : 201 });
+		if (event.url.searchParams.get('commit') !== 'accepted')
+			return json(preview, { status: preview.alreadySent ? 200 : 201 });
 		const committed = await commitImport(db, actor, preview.import.id);
 		return json({ ...committed, alreadySent: preview.alreadySent || committed.alreadySent });
 	} catch (e) {

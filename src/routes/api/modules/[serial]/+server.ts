@@ -11,7 +11,11 @@ export const GET: RequestHandler = async (event) => {
 	const db = await getDb();
 	try {
 		const record = await getModuleRecord(db, actor, event.params.serial);
-		const publicRecord = await getPublicRecord(db, record.module.serial, new Date().toISOString().slice(0, 10));
+		const publicRecord = await getPublicRecord(
+			db,
+			record.module.serial,
+			new Date().toISOString().slice(0, 10)
+		);
 		const { module: m, model, builder, dealer, events } = record;
 		return json({
 			serial: m.serial,

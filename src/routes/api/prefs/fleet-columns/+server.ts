@@ -7,7 +7,10 @@ import { parseJson } from '$lib/server/validation';
 import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
 
-const NO_PERSON = { message: 'Column choices are kept per person; sign in with your own account.', issues: [] };
+const NO_PERSON = {
+	message: 'Column choices are kept per person; sign in with your own account.',
+	issues: []
+};
 
 /** The fleet table's visible columns for the signed-in person (the defaults until they choose). */
 export const GET: RequestHandler = async (event) => {
@@ -22,9 +25,19 @@ export const PUT: RequestHandler = async (event) => {
 	const { userId } = requireUser(event);
 	if (userId === null) return json(NO_PERSON, { status: 403 });
 	const body = await parseJson(fleetColumnsSchema, event.request);
-	if (!body.ok) return json({ message: 'The column choice was not understood. Reload the page and choose again.', issues: body.issues }, { status: 400 });
+	if (!body.ok)
+		return json(
+			{
+				message: 'The column choice was not understood. Reload the page and choose again.',
+				issues: body.issues
+			},
+			{ status: 400 }
+		);
 	try {
-		return json({ columns: await setColumnPrefs(await getDb(), userId, body.data.columns), saved: true });
+		return json({
+			columns: await setColumnPrefs(await getDb(), userId, body.data.columns),
+			saved: true
+		});
 	} catch (e) {
 		return jsonFrom(e);
 	}

@@ -13,7 +13,14 @@ import type { RequestHandler } from './$types';
 export const POST: RequestHandler = async (event) => {
 	requireRole(event, 'warranty', 'admin', 'dealer', 'field_tech');
 	const parsed = await parseJson(assessRequestSchema, event.request);
-	if (!parsed.ok) return json({ message: `Check the figures: ${parsed.issues[0]?.message ?? 'the request could not be read.'}`, issues: parsed.issues }, { status: 400 });
+	if (!parsed.ok)
+		return json(
+			{
+				message: `Check the figures: ${parsed.issues[0]?.message ?? 'the request could not be read.'}`,
+				issues: parsed.issues
+			},
+			{ status: 400 }
+		);
 	try {
 		return json(assessClaim(parsed.data));
 	} catch (e) {

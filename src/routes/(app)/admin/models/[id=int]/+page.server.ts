@@ -4,7 +4,13 @@ import { getDb } from '$lib/server/db';
 import { modelInputSchema } from '$lib/schemas/model';
 import { parseForm } from '$lib/server/validation';
 import { errorFrom, failFrom } from '$lib/server/http';
-import { deleteModel, getModel, reinstateModel, retireModel, updateModel } from '$lib/server/services/models';
+import {
+	deleteModel,
+	getModel,
+	reinstateModel,
+	retireModel,
+	updateModel
+} from '$lib/server/services/models';
 import type { Actions, PageServerLoad } from './$types';
 
 function modelId(event: Pick<RequestEvent, 'params'>): number {
@@ -28,7 +34,12 @@ export const actions: Actions = {
 		const parsed = await parseForm(modelInputSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {
-			const { warrantyTermsChanged } = await updateModel(await getDb(), actor, modelId(event), parsed.data);
+			const { warrantyTermsChanged } = await updateModel(
+				await getDb(),
+				actor,
+				modelId(event),
+				parsed.data
+			);
 			return { saved: true, warrantyTermsChanged };
 		} catch (e) {
 			return failFrom(e, parsed.data);
@@ -55,7 +66,8 @@ export const actions: Actions = {
 	delete: async (event) => {
 		const actor = requireRole(event, 'admin');
 		const form = await event.request.formData();
-		if (form.get('sure') !== 'yes') return fail(400, { message: 'Tick the box to confirm the deletion first.' });
+		if (form.get('sure') !== 'yes')
+			return fail(400, { message: 'Tick the box to confirm the deletion first.' });
 		try {
 			await deleteModel(await getDb(), actor, modelId(event));
 		} catch (e) {

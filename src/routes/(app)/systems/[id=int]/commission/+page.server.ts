@@ -4,7 +4,10 @@ import { getDb } from '$lib/server/db';
 import { hasRole } from '$lib/roles';
 import { commissioningSchema, photoSchema } from '$lib/schemas/commissioning';
 import { parseForm } from '$lib/server/validation';
-import { loadSystemForCommissioning, submitCommissioning } from '$lib/server/services/commissioning';
+import {
+	loadSystemForCommissioning,
+	submitCommissioning
+} from '$lib/server/services/commissioning';
 import { listAttachments, savePhoto } from '$lib/server/services/attachments';
 import { AppError } from '$lib/server/errors';
 import { errorFrom, failFrom } from '$lib/server/http';
@@ -15,7 +18,10 @@ export const load: PageServerLoad = async (event) => {
 	const db = await getDb();
 	try {
 		const target = await loadSystemForCommissioning(db, actor, Number(event.params.id));
-		const photos = await listAttachments(db, actor, { ownerKind: 'system', ownerId: target.system.id });
+		const photos = await listAttachments(db, actor, {
+			ownerKind: 'system',
+			ownerId: target.system.id
+		});
 		return { target, photos, canSubmit: hasRole(actor.role, ['field_tech', 'admin']) };
 	} catch (e) {
 		errorFrom(e);
@@ -28,7 +34,14 @@ export const actions: Actions = {
 		const parsed = await parseForm(commissioningSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {
-			return { submitted: await submitCommissioning(await getDb(), actor, Number(event.params.id), parsed.data) };
+			return {
+				submitted: await submitCommissioning(
+					await getDb(),
+					actor,
+					Number(event.params.id),
+					parsed.data
+				)
+			};
 		} catch (e) {
 			return failFrom(e);
 		}
@@ -39,8 +52,22 @@ export const actions: Actions = {
 		if (!parsed.ok) return fail(400, { photoError: parsed.issues[0].message });
 		const { photo, caption } = parsed.data;
 		try {
-			const file = { name: photo.name, type: photo.type, bytes: new Uint8Array(await photo.arrayBuffer()) };
-			return { photoSaved: (await savePhoto(await getDb(), actor, { ownerKind: 'system', ownerId: Number(event.params.id) }, file, caption)).id };
+			const file = {
+				name: photo.name,
+				type: photo.type,
+				bytes: new Uint8Array(await photo.arrayBuffer())
+			};
+			return {
+				photoSaved: (
+					await savePhoto(
+						await getDb(),
+						actor,
+						{ ownerKind: 'system', ownerId: Number(event.params.id) },
+						file,
+						caption
+					)
+				).id
+			};
 		} catch (e) {
 			// Shown beside the camera button, not with the checklist.
 			if (e instanceof AppError) return fail(e.status, { photoError: e.message });

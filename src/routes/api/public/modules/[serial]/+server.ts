@@ -12,7 +12,11 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = async (event) => {
 	allowAnonymous(event);
 	try {
-		const record = await getPublicRecord(await getDb(), event.params.serial, new Date().toISOString().slice(0, 10));
+		const record = await getPublicRecord(
+			await getDb(),
+			event.params.serial,
+			new Date().toISOString().slice(0, 10)
+		);
 		return json(record, { headers: { 'cache-control': 'public, max-age=300' } });
 	} catch (e) {
 		return jsonFrom(e);

@@ -12,13 +12,21 @@ import type { PageServerLoad } from './$types';
 export const load: PageServerLoad = async (event) => {
 	allowAnonymous(event);
 	const link = parseDigitalLink(event.url.href);
-	if (!link) error(404, 'This is not a valid GS1 Digital Link: the GTIN check digit or the serial is wrong.');
+	if (!link)
+		error(
+			404,
+			'This is not a valid GS1 Digital Link: the GTIN check digit or the serial is wrong.'
+		);
 	const db = await getDb();
 	let serial: string;
 	try {
 		const mod = await findModule(db, null, link.serial);
-		const [model] = await db.select({ gtin: moduleModels.gtin }).from(moduleModels).where(eq(moduleModels.id, mod.modelId));
-		if (model.gtin !== link.gtin) error(404, `Module ${mod.serial} does not carry GTIN ${link.gtin}.`);
+		const [model] = await db
+			.select({ gtin: moduleModels.gtin })
+			.from(moduleModels)
+			.where(eq(moduleModels.id, mod.modelId));
+		if (model.gtin !== link.gtin)
+			error(404, `Module ${mod.serial} does not carry GTIN ${link.gtin}.`);
 		serial = mod.serial;
 	} catch (e) {
 		errorFrom(e);
