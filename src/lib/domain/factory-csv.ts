@@ -536,6 +536,7 @@ export function validateRowValues(
 	const serial = cell('serial');
 	if (serial === '')
 		fail('serial', 'Serial is empty; every row needs the serial number of the module tested.');
+	// eslint-disable-next-line no-control-regex -- finding control characters is the point
 	else if (/[\u0000-\u001f\u007f]/.test(serial))
 		fail('serial', `Serial "${serial}" contains control characters; retype it.`);
 
