@@ -224,7 +224,7 @@ describe('parseFactoryCsv — file-level errors', () => {
 
 	it('a quote that is never closed ends the import with its row', () => {
 		expect(parseError(csv(HEADER, ROW, 'TW48-0002,"2026-03-12T08:15:00Z,46.2'))).toMatch(
-			/^Row 3 has a double quote \(\"\) that is never closed/
+			/^Row 3 has a double quote \("\) that is never closed/
 		);
 	});
 });

@@ -8,14 +8,17 @@ import {
 	text,
 	uniqueIndex
 } from 'drizzle-orm/sqlite-core';
+import { ROLE_NAMES, type RoleName } from '../../policy';
+import { MODULE_STATES, type ModuleState } from '../../domain/module-lifecycle';
+import { CLAIM_DECISIONS, CLAIM_STATES, type ClaimState } from '../../domain/claim-workflow';
 
 const createdAt = () =>
 	integer('created_at', { mode: 'timestamp_ms' })
 		.notNull()
 		.default(sql`(unixepoch('subsec') * 1000)`);
 
-export const ROLES = ['admin', 'workshop', 'field_tech', 'warranty', 'dealer'] as const;
-export type Role = (typeof ROLES)[number];
+export const ROLES = ROLE_NAMES;
+export type Role = RoleName;
 
 export const organisations = sqliteTable('organisations', {
 	id: integer('id').primaryKey({ autoIncrement: true }),
@@ -132,20 +135,7 @@ export const allocations = sqliteTable('allocations', {
 	createdAt: createdAt()
 });
 
-export const MODULE_STATES = [
-	'allocated',
-	'built',
-	'test_failed',
-	'in_stock',
-	'shipped',
-	'installed',
-	'commissioned',
-	'claim_open',
-	'returned',
-	'replaced',
-	'scrapped'
-] as const;
-export type ModuleState = (typeof MODULE_STATES)[number];
+export { MODULE_STATES, type ModuleState };
 
 export const modules = sqliteTable(
 	'modules',
@@ -537,16 +527,7 @@ export const attachments = sqliteTable(
 	(t) => [index('attachments_owner_idx').on(t.ownerKind, t.ownerId)]
 );
 
-export const CLAIM_STATES = [
-	'filed',
-	'in_review',
-	'awaiting_evidence',
-	'covered',
-	'not_covered',
-	'replacement_sent',
-	'closed'
-] as const;
-export type ClaimState = (typeof CLAIM_STATES)[number];
+export { CLAIM_STATES, type ClaimState };
 
 /** A warranty claim on one or more modules of a commissioned system. */
 export const claims = sqliteTable(
@@ -565,7 +546,7 @@ export const claims = sqliteTable(
 		evidence: text('evidence').notNull(),
 		/** The assessment computed when the claim was decided (JSON), kept for later reading. */
 		assessment: text('assessment'),
-		decision: text('decision', { enum: ['covered', 'not_covered'] }),
+		decision: text('decision', { enum: CLAIM_DECISIONS }),
 		decisionReason: text('decision_reason'),
 		decidedBy: integer('decided_by').references(() => users.id),
 		decidedAt: integer('decided_at', { mode: 'timestamp_ms' }),

@@ -161,6 +161,7 @@ export async function savePhoto(
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
 	const storageKey = `attachments/${owner.ownerKind}/${owner.ownerId}/${randomUUID()}`;
 	const fileName =
+		// eslint-disable-next-line no-control-regex -- removing control characters is the point
 		(file.name || 'photo').replace(/[\u0000-\u001f\u007f]/g, '').slice(0, 200) || 'photo';
 	await putObject(storageKey, file.bytes, contentType);
 	try {

@@ -10,19 +10,21 @@ import {
 	systemSlots,
 	systems
 } from '$lib/server/db/schema';
-import type { Actor } from '$lib/server/actor';
+import { assertCan, type Actor } from '$lib/server/actor';
+import { checkRule, ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import {
-	ConflictError,
-	ForbiddenError,
-	InvalidInputError,
-	NotFoundError
-} from '$lib/server/errors';
+	assertMayDecide,
+	assertTransition,
+	decisionReasonProblem,
+	mayAddEvidence,
+	mayRecordReplacement,
+	stateAfterEvidence,
+	stateAfterReplacement
+} from '$lib/domain/claim-workflow';
+import { endOf, mayReplace, statesFrom } from '$lib/domain/module-lifecycle';
 import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
 import {
-	AWAITING_DECISION,
-	CLAIM_MOVES,
 	CLAIM_STATE_LABELS,
-	MIN_DECISION_REASON,
 	RETURN_CAUSES,
 	type AddEvidenceInput,
 	type ClaimStateName,
@@ -117,19 +119,7 @@ export async function moveClaim(
 	const claim = await loadClaim(db, actor, claimId);
 	const { to } = input;
 	const comment = input.comment?.trim() || null;
-	if (to === 'covered' || to === 'not_covered')
-		throw new InvalidInputError(
-			`${label(to)} is a decision: use the decision form, which keeps the assessment with it.`
-		);
-	const allowed = CLAIM_MOVES[claim.state];
-	if (!allowed.includes(to)) {
-		const next = allowed.length
-			? `From ${label(claim.state)} it can go to ${allowed.map(label).join(' or ')}.`
-			: 'It is closed.';
-		throw new ConflictError(
-			`Claim ${claim.reference} is ${label(claim.state)} and cannot move to ${label(to)}. ${next}`
-		);
-	}
+	checkRule(() => assertTransition(claim.reference, claim.state, to));
 	if (to === 'replacement_sent') {
 		const missing = await db
 			.select({ serial: modules.serial })
@@ -214,28 +204,12 @@ export async function decideClaim(
 ) {
 	requireOfficer(actor);
 	const claim = await loadClaim(db, actor, claimId);
-	if (claim.state !== 'in_review') {
-		const hint =
-			claim.state === 'filed' || claim.state === 'awaiting_evidence'
-				? ' Move it to Under review first.'
-				: '';
-		throw new ConflictError(
-			`Only a claim under review can be decided; ${claim.reference} is ${label(claim.state)}.${hint}`
-		);
-	}
+	checkRule(() => assertMayDecide(claim.reference, claim.state));
 	const assessment = await assessmentFor(db, claim);
 	const rec = assessment.recommendation;
-	const agrees =
-		(rec === 'cover' && input.decision === 'covered') ||
-		(rec === 'decline' && input.decision === 'not_covered');
 	const reason = input.reason?.trim() || null;
-	if (!agrees && (reason?.length ?? 0) < MIN_DECISION_REASON) {
-		const message =
-			rec === 'need-evidence'
-				? `The assessment asks for more evidence; say why you decide without it (at least ${MIN_DECISION_REASON} characters).`
-				: `The assessment recommends ${rec === 'cover' ? 'cover' : 'declining'}; say why you decide otherwise (at least ${MIN_DECISION_REASON} characters).`;
-		throw new InvalidInputError(message, [{ path: 'reason', message }]);
-	}
+	const message = decisionReasonProblem(rec, input.decision, reason);
+	if (message) throw new InvalidInputError(message, [{ path: 'reason', message }]);
 	const to = input.decision;
 	const recWords = { cover: 'cover', decline: 'decline', 'need-evidence': 'more evidence' }[rec];
 	await writeTx(db, async (tx) => {
@@ -270,8 +244,8 @@ export async function decideClaim(
 			).map((r) => r.id);
 			await tx
 				.update(modules)
-				.set({ state: 'commissioned', updatedAt: now })
-				.where(and(inArray(modules.id, ids), eq(modules.state, 'claim_open')));
+				.set({ state: endOf('declineClaim'), updatedAt: now })
+				.where(and(inArray(modules.id, ids), inArray(modules.state, statesFrom('declineClaim'))));
 		}
 		await recordAudit(tx, actor, {
 			action: 'claim.decide',
@@ -329,10 +303,13 @@ export async function addEvidence(
 	patch: AddEvidenceInput,
 	now = new Date()
 ) {
-	if (!['dealer', 'field_tech', 'warranty', 'admin'].includes(actor.role))
-		throw new ForbiddenError('Evidence is added by the dealer, a technician or warranty staff.');
+	assertCan(
+		actor,
+		'addClaimEvidence',
+		'Evidence is added by the dealer, a technician or warranty staff.'
+	);
 	const claim = await loadClaim(db, actor, claimId);
-	if (!AWAITING_DECISION.includes(claim.state))
+	if (!mayAddEvidence(claim.state))
 		throw new ConflictError(
 			`Claim ${claim.reference} is ${label(claim.state)}: evidence can no longer change the decision. Add a comment instead.`
 		);
@@ -379,7 +356,7 @@ export async function addEvidence(
 	});
 	if (implausible.length) throw new InvalidInputError(implausible[0].message, implausible);
 
-	const to: ClaimStateName = claim.state === 'awaiting_evidence' ? 'in_review' : claim.state;
+	const to = stateAfterEvidence(claim.state);
 	const what = changed.map(
 		(k) =>
 			`${EVIDENCE_WORDS[k]} ${k === 'description' || k === 'eventsOutsideLimits' ? 'updated' : `→ ${after[k] === undefined ? 'not given' : fmtNumber(after[k] as number, 2)}`}`
@@ -437,10 +414,13 @@ export async function replaceModule(
 	baseUrl?: string,
 	now = new Date()
 ) {
-	if (!['warranty', 'admin', 'field_tech'].includes(actor.role))
-		throw new ForbiddenError('Replacements are recorded by warranty staff or a field technician.');
+	assertCan(
+		actor,
+		'replaceModule',
+		'Replacements are recorded by warranty staff or a field technician.'
+	);
 	const claim = await loadClaim(db, actor, claimId);
-	if (claim.state !== 'covered')
+	if (!mayRecordReplacement(claim.state))
 		throw new ConflictError(
 			`Replacements are recorded for a covered claim; ${claim.reference} is ${label(claim.state)}.`
 		);
@@ -464,10 +444,9 @@ export async function replaceModule(
 			`${repl.serial} is of another model than ${failed.serial}: a replacement must be the same model.`
 		);
 	const usable =
-		repl.state === 'in_stock' ||
-		(repl.state === 'shipped' &&
-			repl.dealerOrgId !== null &&
-			repl.dealerOrgId === claim.dealerOrgId);
+		mayReplace(repl.state) &&
+		(repl.state === 'in_stock' ||
+			(repl.dealerOrgId !== null && repl.dealerOrgId === claim.dealerOrgId));
 	if (!usable)
 		throw new ConflictError(
 			`${repl.serial} is ${STATE_LABELS[repl.state].toLowerCase()}: a replacement must be in stock, or shipped to this claim's dealer and not yet installed.`
@@ -497,7 +476,7 @@ export async function replaceModule(
 		const moved = await tx
 			.update(modules)
 			.set({
-				state: 'commissioned',
+				state: endOf('fitAsReplacement'),
 				systemId: failed.systemId ?? claim.systemId,
 				dealerOrgId: failed.dealerOrgId,
 				shippedAt: repl.shippedAt ?? now,
@@ -512,7 +491,7 @@ export async function replaceModule(
 		if (!moved.length) throw new ConflictError(`${repl.serial} changed meanwhile; scan it again.`);
 		await tx
 			.update(modules)
-			.set({ state: 'returned', systemId: null, updatedAt: now })
+			.set({ state: endOf('returnFailed'), systemId: null, updatedAt: now })
 			.where(eq(modules.id, failed.id));
 		await tx
 			.update(claimModules)
@@ -560,16 +539,10 @@ export async function replaceModule(
 			`${failed.serial} replaced by ${repl.serial} in ${where}.`,
 			now
 		);
-		if (!open.length) {
-			await setState(tx, claim, { state: 'replacement_sent' }, now);
-			await logStep(
-				tx,
-				actor,
-				claim,
-				'replacement_sent',
-				'Every claimed module has its replacement.',
-				now
-			);
+		const next = stateAfterReplacement(claim.state, !open.length);
+		if (next !== claim.state) {
+			await setState(tx, claim, { state: next }, now);
+			await logStep(tx, actor, claim, next, 'Every claimed module has its replacement.', now);
 		}
 		await recordAudit(tx, actor, {
 			action: 'claim.replace',

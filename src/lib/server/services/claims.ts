@@ -15,7 +15,7 @@ import {
 	systems,
 	users
 } from '$lib/server/db/schema';
-import { dealerScopeOf, type Actor } from '$lib/server/actor';
+import { assertCan, dealerScopeOf, type Actor } from '$lib/server/actor';
 import {
 	ConflictError,
 	ForbiddenError,
@@ -49,13 +49,13 @@ import {
 	type ClaimAssessmentResult,
 	type StoredEvidence
 } from './claim-assessment';
+import { endOf, mayBeClaimed, statesFrom } from '$lib/domain/module-lifecycle';
 
 export { TARGET_RESPONSE_DAYS };
 type Conn = Db | Tx;
 export type ClaimRow = typeof claims.$inferSelect;
 
 const DAY_MS = 86_400_000;
-const FILERS = ['dealer', 'field_tech', 'warranty', 'admin'];
 
 /** The claim if the actor may see it: a dealer's people see their organisation's claims only. */
 export async function loadClaim(conn: Conn, actor: Actor, claimId: number): Promise<ClaimRow> {
@@ -69,10 +69,15 @@ export async function loadClaim(conn: Conn, actor: Actor, claimId: number): Prom
 
 /** Warranty officers and administrators of the assembler move and decide claims; nobody else. */
 export function requireOfficer(actor: Actor): void {
-	if (actor.dealerScoped || (actor.role !== 'warranty' && actor.role !== 'admin'))
+	if (actor.dealerScoped)
 		throw new ForbiddenError(
 			'Only a warranty officer or an administrator moves and decides claims.'
 		);
+	assertCan(
+		actor,
+		'decideClaim',
+		'Only a warranty officer or an administrator moves and decides claims.'
+	);
 }
 
 /** Tells the person who filed the claim what happened to it. */
@@ -112,8 +117,9 @@ export interface FileClaimInput {
  * checked for form and for plausibility. Modules go to "Under claim"; the filer gets an e-mail.
  */
 export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now = new Date()) {
-	if (actor.userId === null || !FILERS.includes(actor.role))
+	if (actor.userId === null)
 		throw new ForbiddenError('Claims are filed by dealers, technicians and warranty staff.');
+	assertCan(actor, 'fileClaim', 'Claims are filed by dealers, technicians and warranty staff.');
 	const fault = (input.fault ?? '').trim();
 	if (fault.length < 3 || fault.length > 200)
 		throw new InvalidInputError('Name the fault in a few words (3 to 200 characters).', [
@@ -157,7 +163,7 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		);
 	}
 	for (const m of mods) {
-		if (m.state !== 'commissioned')
+		if (!mayBeClaimed(m.state))
 			throw new ConflictError(
 				`${m.serial} is ${STATE_LABELS[m.state].toLowerCase()}, not in service: only modules of a commissioned system can be claimed.`
 			);
@@ -189,14 +195,14 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		const reference = await nextReference(tx, now);
 		const taken = await tx
 			.update(modules)
-			.set({ state: 'claim_open', updatedAt: now })
+			.set({ state: endOf('openClaim'), updatedAt: now })
 			.where(
 				and(
 					inArray(
 						modules.id,
 						mods.map((m) => m.id)
 					),
-					eq(modules.state, 'commissioned')
+					inArray(modules.state, statesFrom('openClaim'))
 				)
 			)
 			.returning({ id: modules.id });

@@ -1,6 +1,6 @@
 import { error } from '@sveltejs/kit';
 import { z } from 'zod';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { errorFrom } from '$lib/server/http';
 import { QUALITY_GROUP_BY, qualityFilters, qualityReport } from '$lib/server/services/quality';
@@ -38,7 +38,7 @@ const filterSchema = z.object({
 });
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'workshop', 'admin', 'warranty');
+	requireCan(event, 'viewQuality');
 	const parsed = filterSchema.safeParse(Object.fromEntries(event.url.searchParams));
 	if (!parsed.success)
 		error(

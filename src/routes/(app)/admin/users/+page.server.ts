@@ -1,5 +1,5 @@
 import { fail } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { inviteSchema } from '$lib/schemas/auth';
 import { parseForm } from '$lib/server/validation';
@@ -9,14 +9,14 @@ import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
+	requireCan(event, 'manageUsers');
 	const db = await getDb();
 	return { users: await listUsers(db), organisations: await listOrganisations(db) };
 };
 
 export const actions: Actions = {
 	invite: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageUsers');
 		const parsed = await parseForm(inviteSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {

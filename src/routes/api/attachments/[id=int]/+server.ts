@@ -1,4 +1,4 @@
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { readAttachment } from '$lib/server/services/attachments';
 import { jsonFrom } from '$lib/server/http';
@@ -6,7 +6,7 @@ import type { RequestHandler } from './$types';
 
 /** The stored file of an attachment; another dealer's attachment answers 404 like a missing one. */
 export const GET: RequestHandler = async (event) => {
-	const actor = requireRole(event, 'field_tech', 'dealer', 'admin', 'warranty');
+	const actor = requireCan(event, 'viewInstallations');
 	try {
 		const { attachment, bytes, contentType } = await readAttachment(
 			await getDb(),

@@ -11,7 +11,7 @@ import type { RequestHandler } from './$types';
  * with `?commit=accepted` it also stores the accepted rows in the same call.
  */
 export const POST: RequestHandler = async (event) => {
-	const actor = requireApiActor(event, { roles: ['workshop', 'admin'], tokenScope: 'imports' });
+	const actor = requireApiActor(event, 'importResults', { tokenScope: 'imports' });
 	const file = await readUploadedText(event.request, event.url, MAX_IMPORT_BYTES);
 	const db = await getDb();
 	try {
