@@ -43,6 +43,7 @@ const EXPECTED: Record<string, string[]> = {
 	fileClaim: [A, F, O, D],
 	addClaimEvidence: [A, F, O, D],
 	decideClaim: [A, O],
+	viewReliability: [A, O],
 	replaceModule: [A, F, O],
 	inspectReturn: [A, O],
 	manageModels: [A],
