@@ -52,6 +52,8 @@ export interface LogSummary {
 
 /** How many problems of one kind are listed row by row before they are only counted. */
 export const PROBLEMS_PER_KIND = 10;
+/** Header cells longer than this are never suggested as a column. */
+export const MAX_HEADER_LENGTH = 200;
 
 const normalise = (h: string) =>
 	h
@@ -83,6 +85,8 @@ export function detectColumns(headers: string[]): ColumnGuess {
 	const guess: ColumnGuess = {};
 	const cleaned = headers.map((h) => h.replace(/^\uFEFF/, '').trim());
 	for (const h of cleaned) {
+		// No column name is this long; a longer header is not guessed at (and no pattern runs on it).
+		if (h.length > MAX_HEADER_LENGTH) continue;
 		const n = normalise(h);
 		if (!n) continue;
 		if (!guess.timestamp && /\b(timestamp|datetime|date ?time|time|date|ts)\b/.test(n)) {

@@ -91,8 +91,23 @@ const whole = (label: string, min: number, max: number) =>
 			.max(max, { error: `${label}: ${min} to ${max}.` })
 	);
 
-const EMAIL = /^[^\s@]+@[^\s@]+\.[^\s@]{2,}$/;
+/** Longest owner contact accepted (an e-mail address has at most 254, RFC 5321 §4.5.3.1.3). */
+export const MAX_OWNER_CONTACT = 254;
 const PHONE = /^\+?[0-9(][0-9 ()./-]{4,24}[0-9]$/;
+
+/**
+ * name@host.tld without spaces: one "@", something before it, a dot in the host with at
+ * least two characters after it. Written without a pattern: the pattern it
+ * replaces backtracked quadratically on a long "a@a.a.a…".
+ */
+function looksLikeEmail(v: string): boolean {
+	if (/\s/.test(v)) return false;
+	const at = v.indexOf('@');
+	if (at < 1 || at !== v.lastIndexOf('@')) return false;
+	const host = v.slice(at + 1);
+	const dot = host.indexOf('.', 1);
+	return dot > 0 && dot <= host.length - 3;
+}
 
 export const siteSchema = z.object({
 	name: text('Site name', 2, 80, 'Willow Lane farm'),
@@ -100,7 +115,11 @@ export const siteSchema = z.object({
 	ownerContact: z
 		.string({ error: 'Enter the owner’s phone number or e-mail address.' })
 		.trim()
-		.refine((v) => EMAIL.test(v) || (PHONE.test(v) && v.replace(/\D/g, '').length >= 6), {
+		.max(MAX_OWNER_CONTACT, {
+			error: `The owner’s contact must be at most ${MAX_OWNER_CONTACT} characters.`,
+			abort: true
+		})
+		.refine((v) => looksLikeEmail(v) || (PHONE.test(v) && v.replace(/\D/g, '').length >= 6), {
 			error:
 				'Enter the owner’s phone number (digits, spaces, +) or e-mail address (name@example.org).'
 		}),

@@ -38,7 +38,24 @@ export const users = sqliteTable('users', {
 	passwordHash: text('password_hash'),
 	active: integer('active', { mode: 'boolean' }).notNull().default(true),
 	lastSignInAt: integer('last_sign_in_at', { mode: 'timestamp_ms' }),
+	/**
+	 * Copied into the session token at sign-in; the request hook refuses a token whose copy
+	 * differs. Sign-out, a password reset, a change of role or organisation and deactivation
+	 * (of the person or the organisation) raise it, so every older session ends at once.
+	 */
+	sessionVersion: integer('session_version').notNull().default(0),
 	createdAt: createdAt()
+});
+
+/**
+ * Fixed-window counters for sign-in and reset limits, kept in the database so that every
+ * app process on the same database shares them. An attempt claims its slot with one
+ * atomic upsert before any password is checked.
+ */
+export const rateLimits = sqliteTable('rate_limits', {
+	key: text('key').primaryKey(),
+	windowStart: integer('window_start').notNull(),
+	count: integer('count').notNull()
 });
 
 /** One-time links: invitations and password resets. Only a hash of the token is stored. */
