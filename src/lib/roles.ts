@@ -94,6 +94,13 @@ export const NAV: NavItem[] = [
 			'From a cell lot, model, build period or import to every affected module and where it is.'
 	},
 	{
+		href: '/passports',
+		label: 'Passports',
+		roles: ['admin', 'workshop', 'warranty'],
+		blurb:
+			'Export the battery passports of a shipment, lot or model; access links for recyclers and authorities.'
+	},
+	{
 		href: '/admin/models',
 		label: 'Models',
 		roles: ['admin'],
