@@ -101,6 +101,12 @@ export const NAV: NavItem[] = [
 			'Export the battery passports of a shipment, lot or model; access links for recyclers and authorities.'
 	},
 	{
+		href: '/reliability',
+		label: 'Reliability',
+		roles: ['warranty', 'admin'],
+		blurb: 'Claim rates with intervals, the fitted life model and the claims still to come.'
+	},
+	{
 		href: '/admin/models',
 		label: 'Models',
 		roles: ['admin'],
