@@ -28,7 +28,7 @@ const STATUS_WORDS: Record<ItemStatus['status'], string> = {
 type Obj = Record<string, unknown>;
 const fmt = (n: unknown, unit = '') =>
 	typeof n === 'number'
-		? `${n.toLocaleString('en-GB', { maximumFractionDigits: 3 })}${unit ? ` ${unit}` : ''}`
+		? `${n.toLocaleString('en-GB', { maximumFractionDigits: 4 })}${unit ? ` ${unit}` : ''}`
 		: null;
 const addr = (a: unknown) => {
 	const x = a as Obj | undefined;
@@ -327,7 +327,16 @@ export function passportView(p: Passport): ViewSection[] {
 				items: history.map((h) => `${date(h.at)} — ${h.summary} (${h.by})`)
 			}
 		});
-	return sections;
+	const order = [
+		'identity',
+		'condition',
+		'performance',
+		'safety',
+		'carbon',
+		'circularity',
+		'history'
+	];
+	return sections.sort((a, b) => order.indexOf(a.id) - order.indexOf(b.id));
 }
 
 /** Items the manufacturer has not provided yet, for the page's closing list. */
