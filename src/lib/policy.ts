@@ -61,6 +61,10 @@ export const POLICY = {
 	decideClaim: OFFICERS,
 	/** Record the replacement module of a covered claim. */
 	replaceModule: ['warranty', 'admin', 'field_tech'],
+	/** Export the passports of a shipment, lot or model for a customer or authority. */
+	exportPassports: FACTORY_READERS,
+	/** Issue and revoke time-limited passport access links for recyclers, repairers, authorities. */
+	grantPassportAccess: ADMIN,
 	/** Fleet reliability: claim rates, the life model and the warranty reserve. */
 	viewReliability: OFFICERS,
 	/** Record the inspection of a returned module. */

@@ -91,6 +91,13 @@ export const NAV: NavItem[] = [
 			'From a cell lot, model, build period or import to every affected module and where it is.'
 	},
 	{
+		href: '/passports',
+		label: 'Passports',
+		capability: 'exportPassports',
+		blurb:
+			'Export the battery passports of a shipment, lot or model; access links for recyclers and authorities.'
+	},
+	{
 		href: '/reliability',
 		label: 'Reliability',
 		capability: 'viewReliability',

@@ -44,6 +44,8 @@ const EXPECTED: Record<string, string[]> = {
 	addClaimEvidence: [A, F, O, D],
 	decideClaim: [A, O],
 	viewReliability: [A, O],
+	exportPassports: [A, W, O],
+	grantPassportAccess: [A],
 	replaceModule: [A, F, O],
 	inspectReturn: [A, O],
 	manageModels: [A],

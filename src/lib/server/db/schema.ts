@@ -604,3 +604,52 @@ export const logMappings = sqliteTable('log_mappings', {
 	mapping: text('mapping').notNull(),
 	updatedAt: integer('updated_at', { mode: 'timestamp_ms' }).notNull()
 });
+
+/**
+ * Battery passport items of a model that the admin enters (Regulation (EU) 2023/1542,
+ * Annex XIII §1): one row per item, its value as entered (JSON) and the unit it was
+ * entered in. An item without a row is "not yet provided"; nothing is filled in for it.
+ */
+export const modelPassportItems = sqliteTable(
+	'model_passport_items',
+	{
+		modelId: integer('model_id')
+			.notNull()
+			.references(() => moduleModels.id),
+		itemKey: text('item_key').notNull(),
+		value: text('value').notNull(),
+		unit: text('unit'),
+		updatedAt: integer('updated_at', { mode: 'timestamp_ms' }).notNull(),
+		updatedBy: integer('updated_by').references(() => users.id)
+	},
+	(t) => [primaryKey({ columns: [t.modelId, t.itemKey] })]
+);
+
+export const PASSPORT_GRANT_PARTIES = ['recycler', 'repairer', 'authority'] as const;
+
+/**
+ * A time-limited access link to the restricted part of battery passports, issued by the
+ * admin to a recycler, repairer or market-surveillance authority for one module or one
+ * cell lot. Only a hash of the secret is stored; revoking ends it at once.
+ */
+export const passportGrants = sqliteTable(
+	'passport_grants',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		tokenHash: text('token_hash').notNull().unique(),
+		prefix: text('prefix').notNull(),
+		partyKind: text('party_kind', { enum: PASSPORT_GRANT_PARTIES }).notNull(),
+		partyName: text('party_name').notNull(),
+		scopeKind: text('scope_kind', { enum: ['module', 'lot'] }).notNull(),
+		/** The module's serial or the cell lot code. */
+		scopeValue: text('scope_value').notNull(),
+		expiresAt: integer('expires_at', { mode: 'timestamp_ms' }).notNull(),
+		createdBy: integer('created_by')
+			.notNull()
+			.references(() => users.id),
+		createdAt: createdAt(),
+		revokedAt: integer('revoked_at', { mode: 'timestamp_ms' }),
+		lastUsedAt: integer('last_used_at', { mode: 'timestamp_ms' })
+	},
+	(t) => [index('passport_grants_scope_idx').on(t.scopeKind, t.scopeValue)]
+);
