@@ -11,6 +11,7 @@ import { signInSchema } from '$lib/schemas/auth';
 import { hashPassword, verifyPassword } from './password';
 import { claimSignInAttempt, signInSucceeded } from './rate-limit';
 import { currentClientAddress } from '$lib/server/request-context';
+import { safeNext } from '$lib/server/safe-redirect';
 import { endSessions } from '$lib/server/services/users';
 
 class RateLimited extends CredentialsSignin {
@@ -95,6 +96,11 @@ export const authConfig: SvelteKitAuthConfig = {
 		})
 	],
 	callbacks: {
+		/** After sign-in or sign-out: only a path on this site (see safeNext). */
+		redirect({ url, baseUrl }) {
+			const path = url.startsWith(baseUrl) ? url.slice(baseUrl.length) || '/' : url;
+			return baseUrl + safeNext(path, baseUrl);
+		},
 		jwt({ token, user }) {
 			if (user) {
 				const u = user as {
