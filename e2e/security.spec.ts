@@ -66,6 +66,7 @@ test.describe('sessions end (item 2)', () => {
 		expect(out.status()).toBeLessThan(400);
 		const after = await copy.get('/api/modules');
 		expect(after.status()).toBe(401);
+		expect(await (await copy.get('/auth/session')).json()).toBeNull();
 	});
 
 	test('the standard POST /auth/signout ends copies too', async () => {
@@ -318,6 +319,8 @@ test.describe('sign-in and reset abuse, trusted proxy, shutdown (items 3, 10, 11
 				timeout: 30_000
 			})
 			.toBe(200);
+		expect(server.exitCode, `port ${PORT} was taken by another server`).toBeNull();
+		expect(log).toContain(`Listening on http://0.0.0.0:${PORT}`);
 	});
 	test.afterAll(() => {
 		if (server && server.exitCode === null) server.kill('SIGKILL');
