@@ -5,7 +5,10 @@
  * Each issue names its field in words a technician on site can act on.
  */
 import { z } from 'zod';
-import type { SITE_APPLICATIONS as DB_SITE_APPLICATIONS } from '$lib/server/db/schema';
+import type {
+	CLIMATE_BANDS as DB_CLIMATE_BANDS,
+	SITE_APPLICATIONS as DB_SITE_APPLICATIONS
+} from '$lib/server/db/schema';
 import type { InverterWindow } from '$lib/domain/design-check';
 import { designCheckInputSchema, designModuleSchema, inverterWindowSchema } from './design-check';
 
@@ -21,6 +24,18 @@ export const SITE_APPLICATION_LABELS: Record<SiteApplication, string> = {
 	other: 'Something else'
 };
 export const SITE_APPLICATIONS = Object.keys(SITE_APPLICATION_LABELS) as SiteApplication[];
+
+export type ClimateBand = (typeof DB_CLIMATE_BANDS)[number];
+
+/** Main climate groups of the Köppen–Geiger classification, in plain words. */
+export const CLIMATE_BAND_LABELS: Record<ClimateBand, string> = {
+	tropical: 'Tropical (hot and humid all year)',
+	arid: 'Arid (desert or steppe)',
+	temperate: 'Temperate (mild winters)',
+	continental: 'Continental (cold winters, warm summers)',
+	polar: 'Polar or alpine (cold all year)'
+};
+export const CLIMATE_BANDS = Object.keys(CLIMATE_BAND_LABELS) as ClimateBand[];
 
 /** Form text to number: blank → undefined (so "required" can be said), "12,5" → 12.5. */
 const fromText = (v: unknown) => {
@@ -112,6 +127,16 @@ export const siteSchema = z.object({
 	application: z.enum(SITE_APPLICATIONS as [SiteApplication, ...SiteApplication[]], {
 		error: 'Choose what the battery is for.'
 	}),
+	/** Optional: blank means not recorded. */
+	climateBand: z.preprocess(
+		(v) => (v === '' || v == null ? null : v),
+		z
+			.enum(CLIMATE_BANDS as [ClimateBand, ...ClimateBand[]], {
+				error: 'Choose one of the listed climate bands, or leave it blank.'
+			})
+			.nullable()
+			.optional()
+	),
 	/** Assembler staff only (ignored for a dealer's people, whose own organisation is always used); blank = our own installation. */
 	dealerOrgId: z.preprocess(
 		(v) => (v === '' || v === 'none' || v == null ? null : fromText(v)),

@@ -101,6 +101,8 @@ export const moduleModels = sqliteTable('module_models', {
 	endRetentionPct: real('end_retention_pct').notNull(),
 	hotTempC: real('hot_temp_c').notNull(),
 	hotRatedCycles: integer('hot_rated_cycles').notNull(),
+	/** What replacing one module under warranty costs, entered by the admin (currency of the books); null until entered. */
+	replacementCost: real('replacement_cost'),
 	retiredAt: integer('retired_at', { mode: 'timestamp_ms' }),
 	createdAt: createdAt()
 });
@@ -389,6 +391,13 @@ export const shipmentItems = sqliteTable(
 	]
 );
 
+/**
+ * Main climate groups of the Köppen–Geiger classification (tropical, arid, temperate,
+ * continental, polar): a site's climate band, for slicing the fleet's reliability.
+ */
+export const CLIMATE_BANDS = ['tropical', 'arid', 'temperate', 'continental', 'polar'] as const;
+export type ClimateBand = (typeof CLIMATE_BANDS)[number];
+
 export const SITE_APPLICATIONS = [
 	'off_grid_home',
 	'backup',
@@ -410,6 +419,8 @@ export const sites = sqliteTable(
 		ownerContact: text('owner_contact').notNull(),
 		address: text('address').notNull(),
 		application: text('application', { enum: SITE_APPLICATIONS }).notNull(),
+		/** Köppen–Geiger main group of the site's climate; null when not recorded. */
+		climateBand: text('climate_band', { enum: CLIMATE_BANDS }),
 		createdBy: integer('created_by')
 			.notNull()
 			.references(() => users.id),
