@@ -43,6 +43,7 @@ export const actions: Actions = {
 };
 
 function tooMany(minutes: number, email: string) {
+	console.warn('sign-in refused: too many attempts for this account or client');
 	return fail(429, {
 		message: `Too many failed attempts. Try again in ${minutes} minute${minutes === 1 ? '' : 's'}, or reset your password.`,
 		values: { email }
