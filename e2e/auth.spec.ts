@@ -1,4 +1,4 @@
-import { test, expect, ROLES, signIn, stateFile } from './roles';
+import { test, expect, refreshState, ROLES, signIn } from './roles';
 
 const navOf = (page: import('@playwright/test').Page) =>
 	page.getByRole('navigation', { name: 'Main' });
@@ -45,16 +45,14 @@ test('a wrong password is refused with a message, not an error page', async ({ p
 	await expect(page.getByRole('alert')).toContainText('do not match');
 });
 
-test('sign-out ends the session', async ({ page }) => {
+test('sign-out ends the session', async ({ page, browser }) => {
 	await signIn(page, ROLES.workshop);
 	await page.getByRole('button', { name: 'Sign out' }).first().click();
 	await expect(page).toHaveURL(/\/signin/);
 	await page.goto('/');
 	await expect(page).toHaveURL(/\/signin/);
-	// Sign-out ends every session of the person (their session version rises), the saved one
-	// the other specs reuse included: sign in again and save it afresh.
-	await signIn(page, ROLES.workshop);
-	await page.context().storageState({ path: stateFile('workshop') });
+	// Sign-out ended every workshop session, the stored one of the other tests included.
+	await refreshState(browser, 'workshop');
 });
 
 test('an invitation arrives in the outbox and its link sets a password, once', async ({

@@ -13,7 +13,8 @@ export const GET: RequestHandler = async (event) => {
 	if (!parsed.success)
 		return json(
 			{
-				message: 'Give a cell lot, model, build date range or import.',
+				message:
+					parsed.error.issues[0]?.message ?? 'Give a cell lot, model, build date range or import.',
 				issues: toIssues(parsed.error)
 			},
 			{ status: 400 }

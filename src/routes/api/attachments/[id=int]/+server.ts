@@ -1,6 +1,6 @@
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { readAttachment } from '$lib/server/services/attachments';
+import { readAttachment, safeFileName } from '$lib/server/services/attachments';
 import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
 
@@ -13,12 +13,13 @@ export const GET: RequestHandler = async (event) => {
 			actor,
 			Number(event.params.id)
 		);
-		const name = attachment.fileName.replace(/[^A-Za-z0-9._-]+/g, '_');
+		// Served under a name whose extension is that of the detected type, whatever was sent.
+		const name = safeFileName(attachment.fileName, contentType);
 		return new Response(bytes as Uint8Array<ArrayBuffer>, {
 			headers: {
 				'content-type': contentType,
 				'content-length': String(bytes.byteLength),
-				'content-disposition': `inline; filename="${name}"`,
+				'content-disposition': `${contentType.startsWith('image/') ? 'inline' : 'attachment'}; filename="${name}"`,
 				'cache-control': 'private, max-age=3600',
 				'x-content-type-options': 'nosniff',
 				'content-security-policy': "default-src 'none'"
