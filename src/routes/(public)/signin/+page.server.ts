@@ -10,8 +10,9 @@ import { safeNext } from '$lib/server/safe-redirect';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = (event) => {
+	const user = allowAnonymous(event);
 	const next = safeNext(event.url.searchParams.get('next'), event.url.origin);
-	if (allowAnonymous(event)) redirect(303, next);
+	if (user) redirect(303, next);
 	return {
 		next,
 		done: event.url.searchParams.get('done')
