@@ -63,6 +63,8 @@ export const POLICY = {
 	replaceModule: ['warranty', 'admin', 'field_tech'],
 	/** Record the inspection of a returned module. */
 	inspectReturn: OFFICERS,
+	/** Fleet reliability: failure rates, Weibull fit and the warranty reserve. */
+	viewReliability: OFFICERS,
 	/** Models: rated data, test limits, warranty terms. */
 	manageModels: ADMIN,
 	/** Invite people and change their access. */

@@ -91,6 +91,12 @@ export const NAV: NavItem[] = [
 			'From a cell lot, model, build period or import to every affected module and where it is.'
 	},
 	{
+		href: '/reliability',
+		label: 'Reliability',
+		capability: 'viewReliability',
+		blurb: 'Claim rates with intervals, the fitted life model and the claims still to come.'
+	},
+	{
 		href: '/admin/models',
 		label: 'Models',
 		capability: 'manageModels',

@@ -45,6 +45,7 @@ const EXPECTED: Record<string, string[]> = {
 	decideClaim: [A, O],
 	replaceModule: [A, F, O],
 	inspectReturn: [A, O],
+	viewReliability: [A, O],
 	manageModels: [A],
 	manageUsers: [A],
 	manageDealers: [A],
