@@ -143,7 +143,10 @@ test('the assessment says the basis of its equivalent full cycles and accepts a 
 	expect(a.temperatureBasis).toBe('profile');
 
 	await officer.goto('/claims');
-	await officer.getByRole('link', { name: /^CL-\d{4}-/ }).first().click();
+	await officer
+		.getByRole('link', { name: /^CL-\d{4}-/ })
+		.first()
+		.click();
 	await expect(officer.getByTestId('efc')).toContainText(
 		/energy throughput ÷ usable energy|cycle count/
 	);

@@ -256,7 +256,7 @@ describe('validateRowValues — a valid row', () => {
 		});
 	});
 
-	it('computes DCIR from the pulse columns when dcir_mohm is empty (REFERENCES §3: 0.250 mΩ)', () => {
+	it('computes DCIR from the pulse columns when dcir_mohm is empty (docs/references.md §3: 0.250 mΩ)', () => {
 		const v = validateRowValues(
 			raw({
 				dcir_mohm: '',

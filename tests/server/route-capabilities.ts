@@ -57,6 +57,7 @@ export const ROUTE_CAPABILITIES: Record<string, string> = {
 	'(app)/imports/[id=int]/+page.server.ts load': 'importResults',
 	'(app)/modules/+page.server.ts load': 'lookUpModules',
 	'(app)/quality/+page.server.ts load': 'viewQuality',
+	'(app)/reliability/+page.server.ts load': 'viewReliability',
 	'(app)/shipments/+page.server.ts load': 'ship',
 	'(app)/shipments/+page.server.ts actions.create': 'ship',
 	'(app)/shipments/[id=int]/+page.server.ts load': 'ship',
@@ -109,6 +110,9 @@ export const ROUTE_CAPABILITIES: Record<string, string> = {
 	'api/prefs/fleet-columns/+server.ts GET': 'viewFleet',
 	'api/prefs/fleet-columns/+server.ts PUT': 'viewFleet',
 	'api/public/modules/[serial]/+server.ts GET': ANONYMOUS,
+	'api/reliability/+server.ts GET': 'viewReliability',
+	'api/reliability/rate/+server.ts POST': 'viewReliability',
+	'api/reliability/weibull/+server.ts POST': 'viewReliability',
 	'api/trace.csv/+server.ts GET': 'trace',
 	'api/trace/+server.ts GET': 'trace',
 	'api/warranty/assess/+server.ts POST': 'viewClaims',
@@ -123,10 +127,6 @@ export const ROUTE_CAPABILITIES: Record<string, string> = {
 	'.well-known/gs1resolver/+server.ts GET': ANONYMOUS,
 	'api/passport/[serial]/+server.ts GET': ANONYMOUS,
 	'api/passports/export/+server.ts GET': 'exportPassports',
-	'(app)/reliability/+page.server.ts load': 'viewReliability',
-	'api/reliability/+server.ts GET': 'viewReliability',
-	'api/reliability/rate/+server.ts POST': 'viewReliability',
-	'api/reliability/weibull/+server.ts POST': 'viewReliability',
 	'signout/+page.server.ts load': ANONYMOUS,
 	'signout/+page.server.ts actions.default': ANONYMOUS
 };

@@ -23,6 +23,7 @@ import {
 	NotFoundError
 } from '$lib/server/errors';
 import { sendMail } from '$lib/server/mail';
+import { claimFiled, type Mail } from '$lib/server/mail/templates/claims';
 import {
 	detectColumns,
 	InverterLogError,
@@ -84,8 +85,7 @@ export function requireOfficer(actor: Actor): void {
 export async function mailFiler(
 	db: Db,
 	claim: ClaimRow,
-	subject: string,
-	body: string
+	{ subject, text: body }: Mail
 ): Promise<void> {
 	const [filer] = await db
 		.select({ email: users.email, name: users.name })
@@ -251,12 +251,15 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		});
 		return row;
 	});
-	const list = mods.map((m) => `  ${m.serial}`).join('\n');
 	await mailFiler(
 		db,
 		claim,
-		`Claim ${claim.reference} received`,
-		`We have received warranty claim ${claim.reference} (${fault}) for:\n${list}\n\nA warranty officer will review the evidence; we aim to decide within ${TARGET_RESPONSE_DAYS} calendar days. Keep the modules in place, isolated if they are unsafe, until we ask for them.`
+		claimFiled({
+			reference: claim.reference,
+			fault,
+			serials: mods.map((m) => m.serial),
+			targetDays: TARGET_RESPONSE_DAYS
+		})
 	);
 	return { id: claim.id, reference: claim.reference };
 }
