@@ -19,7 +19,7 @@ test('the admin changes a role, switches a dealer off (their session ends), read
 	await admin
 		.getByLabel('Organisation')
 		.first()
-		.selectOption({ label: /Ridgeline/ });
+		.selectOption({ label: 'Ridgeline Off-Grid Supply (dealer)' });
 	await admin.getByRole('button', { name: 'Send invitation' }).click();
 	await expect(
 		admin.getByRole('status').filter({ hasText: `Invitation sent to ${EMAIL}` })

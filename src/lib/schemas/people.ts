@@ -22,16 +22,23 @@ const flag = z.union([
 
 /** What an admin may change of a person: `PATCH /api/users/{id}` and the edit form. */
 export const personPatchSchema = z
-	.object({
-		role: z.enum(ROLE_NAMES, { message: 'Choose a role from the list.' }).optional(),
-		organisationId: z.coerce
-			.number({ message: 'Choose an organisation.' })
-			.int('Choose an organisation.')
-			.positive('Choose an organisation.')
-			.optional(),
-		active: flag.optional()
-	})
-	.strict('Only role, organisationId and active can be changed here.')
+	.strictObject(
+		{
+			role: z.enum(ROLE_NAMES, { message: 'Choose a role from the list.' }).optional(),
+			organisationId: z.coerce
+				.number({ message: 'Choose an organisation.' })
+				.int('Choose an organisation.')
+				.positive('Choose an organisation.')
+				.optional(),
+			active: flag.optional()
+		},
+		{
+			error: (iss) =>
+				iss.code === 'unrecognized_keys'
+					? 'Only role, organisationId and active can be changed here.'
+					: undefined
+		}
+	)
 	.refine((p) => p.role !== undefined || p.organisationId !== undefined || p.active !== undefined, {
 		message: 'Say what to change: role, organisationId or active.'
 	});
