@@ -552,6 +552,26 @@ export async function getClaim(db: Db, actor: Actor, claimId: number, now = new 
 		system: system ?? null,
 		modules: mods,
 		events,
-		assessment: await assessmentFor(db, claim)
+		assessment: await assessmentView(db, actor, claim)
 	};
+}
+
+/**
+ * What a dealer sees before the decision: the evidence facts the assessment derived
+ * (throughput per module, stop-charge proof), not its recommendation or reasons — those
+ * come with the officer's decision, so the filer is not promised what the officer may not
+ * grant. Assembler staff always see the live assessment.
+ */
+export type WithheldAssessment = Pick<ClaimAssessmentResult, 'throughputShare' | 'stopCharge'> & {
+	withheld: true;
+};
+
+async function assessmentView(
+	db: Db,
+	actor: Actor,
+	claim: Parameters<typeof assessmentFor>[1] & { decision: string | null }
+): Promise<ClaimAssessmentResult | WithheldAssessment> {
+	const live = await assessmentFor(db, claim);
+	if (dealerScopeOf(actor) === null || claim.decision) return live;
+	return { withheld: true, throughputShare: live.throughputShare, stopCharge: live.stopCharge };
 }

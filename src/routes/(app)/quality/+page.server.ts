@@ -4,6 +4,7 @@ import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { errorFrom } from '$lib/server/http';
 import { QUALITY_GROUP_BY, qualityFilters, qualityReport } from '$lib/server/services/quality';
+import { qualityTrend } from '$lib/server/services/quality-trend';
 import type { PageServerLoad } from './$types';
 
 // The filters live in the URL (a GET form), so a view can be shared as a link. An empty
@@ -59,9 +60,11 @@ export const load: PageServerLoad = async (event) => {
 						week: q.week,
 						latestOnly: q.latest === '1'
 					});
+		const trend = filters.modelId === null ? null : await qualityTrend(db, filters.modelId);
 		return {
 			filters,
 			report,
+			trend,
 			query: {
 				model: filters.modelId,
 				group: q.group,
