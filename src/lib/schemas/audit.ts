@@ -1,16 +1,11 @@
 import { z } from 'zod';
+import { isCalendarDate } from './warranty-assess';
 
-/** A calendar date `YYYY-MM-DD` that exists (2026-02-30 does not). */
+/** A calendar date `YYYY-MM-DD` that exists (2026-02-30 does not); length bounded first. */
 const calendarDate = z
 	.string()
 	.max(10, 'Use a date like 2026-11-30.')
-	.refine((s) => {
-		if (s.length !== 10 || s[4] !== '-' || s[7] !== '-') return false;
-		const [y, m, d] = [s.slice(0, 4), s.slice(5, 7), s.slice(8, 10)].map(Number);
-		if (![y, m, d].every(Number.isInteger)) return false;
-		const t = new Date(Date.UTC(y, m - 1, d));
-		return t.getUTCFullYear() === y && t.getUTCMonth() === m - 1 && t.getUTCDate() === d;
-	}, 'Use a real date like 2026-11-30.');
+	.refine(isCalendarDate, 'Use a real date like 2026-11-30.');
 
 const blank = z.literal('').transform(() => undefined);
 const text = (max: number, what: string) =>

@@ -1,4 +1,4 @@
-import { and, count, desc, eq, gte, inArray, like, lt, or, sql, type SQL } from 'drizzle-orm';
+import { and, count, desc, eq, gte, inArray, like, lt, or, type SQL } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { auditLog, claims, moduleEvents, shipments, type EventKind } from '$lib/server/db/schema';
 import {
@@ -8,6 +8,7 @@ import {
 	type FieldChange
 } from '$lib/domain/audit-trail';
 import Papa from 'papaparse';
+import { containsText } from '$lib/server/db/like';
 import { neutraliseCell } from '$lib/domain/factory-csv';
 import type { AuditQuery } from '$lib/schemas/audit';
 import type { Actor } from '$lib/server/actor';
@@ -86,10 +87,7 @@ function nextDay(date: string): string {
 
 function conditions(q: AuditQuery, timeZone: string): SQL | undefined {
 	const where: (SQL | undefined)[] = [];
-	if (q.actor) {
-		const pattern = `%${q.actor.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
-		where.push(sql`${auditLog.actorLabel} LIKE ${pattern} ESCAPE '\\'`);
-	}
+	if (q.actor) where.push(containsText(auditLog.actorLabel, q.actor));
 	if (q.entity) where.push(eq(auditLog.entity, q.entity));
 	if (q.entityId) where.push(eq(auditLog.entityId, q.entityId));
 	if (q.action) {

@@ -6,12 +6,11 @@ import type { Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import { membershipProblem } from '$lib/domain/membership';
 import type { PeopleQuery, PersonPatch } from '$lib/schemas/people';
+import { containsText } from '$lib/server/db/like';
 import { recordAudit } from './audit';
 
 /** Most people one list shows; the search narrows it. */
 export const PEOPLE_CAP = 1000;
-
-const escapeLike = (s: string) => s.replace(/[\\%_]/g, (c) => `\\${c}`);
 
 /**
  * People for the admin's list and `GET /api/users`: search by name or e-mail, filter by role
@@ -21,11 +20,10 @@ export async function searchPeople(db: Db, q: PeopleQuery & { id?: number } = {}
 	const where: (SQL | undefined)[] = [];
 	if (q.id !== undefined) where.push(eq(users.id, q.id));
 	if (q.q) {
-		const p = `%${escapeLike(q.q)}%`;
 		where.push(
 			or(
-				sql`${users.name} LIKE ${p} ESCAPE '\\'`,
-				sql`${users.email} LIKE ${p} ESCAPE '\\'`,
+				containsText(users.name, q.q),
+				containsText(users.email, q.q),
 				sql`cast(${users.id} as text) = ${q.q}`
 			)
 		);
