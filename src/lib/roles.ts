@@ -112,6 +112,12 @@ export const NAV: NavItem[] = [
 		blurb: 'Dealer organisations, their contact address and region; who may receive shipments.'
 	},
 	{
+		href: '/admin/organisation',
+		label: 'Calendar',
+		roles: ['admin'],
+		blurb: 'The time zone business dates are counted in, and the locale pages print in.'
+	},
+	{
 		href: '/admin/tokens',
 		label: 'Rig tokens',
 		roles: ['admin'],

@@ -14,6 +14,9 @@ import type { WarrantyTerms } from '$lib/domain/model';
 import { warrantyTermsSchema, type ClaimEvidence } from '$lib/schemas/warranty-assess';
 import type { LogSummaryEvidence } from '$lib/schemas/claim';
 import type { Issue } from '$lib/server/validation';
+import { calendarDay, isCalendarDate, type CalendarSettings } from '$lib/domain/calendar';
+import { createFormat } from '$lib/format';
+import { assemblerCalendar } from './calendar';
 
 type Conn = Db | Tx;
 type ClaimRow = typeof claims.$inferSelect;
@@ -40,13 +43,9 @@ export interface ClaimAssessmentResult extends ClaimAssessment {
 }
 
 const DAY_MS = 86_400_000;
-export const isoDay = (d: Date) => d.toISOString().slice(0, 10);
-
-/** Numbers as the assessment's sentences write them: grouped by spaces, at most `decimals`. */
-export function fmtNumber(x: number, decimals = 0): string {
-	const [int, frac] = Math.abs(x).toFixed(decimals).split('.');
-	const grouped = int.length > 3 ? int.replace(/\B(?=(\d{3})+(?!\d))/g, ' ') : int;
-	return (x < 0 ? '−' : '') + grouped + (frac && Number(frac) !== 0 ? `.${frac}` : '');
+/** Numbers in the officer's messages, printed by the one formatting module (default locale). */
+export function fmtNumber(x: number, decimals = 0, locale?: string): string {
+	return createFormat({ locale }).number(x, decimals);
 }
 
 export function parseEvidence(json: string): StoredEvidence {
@@ -199,7 +198,9 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 		.orderBy(asc(modules.serial));
 	const moduleCount = await modulesInSystem(conn, claim.systemId);
 	const stopCharge = await stopChargeProof(conn, claim.systemId);
-	const claimedOn = isoDay(claim.filedAt);
+	const { timeZone } = await assemblerCalendar(conn);
+	// The claim is dated by the assembler's calendar, as is the warranty start it is compared with.
+	const claimedOn = calendarDay(claim.filedAt, timeZone);
 	const perModuleWh = perModuleThroughput(evidence, moduleCount);
 
 	const preface: string[] = [];
@@ -229,7 +230,7 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 	const assessed = rows.map(({ module, model }) => ({
 		module,
 		model,
-		...assessModule(module, model, evidence, perModuleWh, stopCharge, claimedOn)
+		...assessModule(module, model, evidence, perModuleWh, stopCharge, claimedOn, timeZone)
 	}));
 	if (!assessed.length) throw new Error(`Claim ${claim.reference} has no modules.`);
 	const [first] = assessed;
@@ -264,14 +265,16 @@ function assessModule(
 	evidence: StoredEvidence,
 	perModuleWh: number | null,
 	stopCharge: ClaimAssessmentResult['stopCharge'],
-	claimedOn: string
+	claimedOn: string,
+	timeZone: string
 ) {
 	const { terms, note } = termsOf(module.warrantyTerms, model);
 	const events = eventsOf(evidence, model);
 	const input: ClaimInput = {
 		terms,
 		commissionedOn:
-			module.warrantyStartsOn ?? (module.commissionedAt ? isoDay(module.commissionedAt) : null),
+			module.warrantyStartsOn ??
+			(module.commissionedAt ? calendarDay(module.commissionedAt, timeZone) : null),
 		claimedOn,
 		ratedCapacityAh: model.ratedAh,
 		measuredCapacityAh: evidence.measuredCapacityAh ?? null,
@@ -293,10 +296,17 @@ function assessModule(
  */
 export function implausibleEvidence(
 	evidence: StoredEvidence,
-	ctx: { model: ModelRow; moduleCount: number; startsOn: string | null; now: Date }
+	ctx: {
+		model: ModelRow;
+		moduleCount: number;
+		startsOn: string | null;
+		now: Date;
+		calendar: CalendarSettings;
+	}
 ): Issue[] {
 	const issues: Issue[] = [];
-	const today = isoDay(ctx.now);
+	const today = calendarDay(ctx.now, ctx.calendar.timeZone);
+	const fmtNumber = (x: number, d = 0) => createFormat(ctx.calendar).number(x, d);
 	const start = ctx.startsOn ? Date.parse(`${ctx.startsOn}T00:00:00Z`) : NaN;
 	const days = Number.isFinite(start) ? Math.max(1, (ctx.now.getTime() - start) / DAY_MS) : null;
 	const maxPerDay = 12 * ctx.model.maxContinuousC;
@@ -321,7 +331,7 @@ export function implausibleEvidence(
 		});
 	}
 	const lastDay = evidence.log?.lastAt?.slice(0, 10);
-	if (lastDay && /^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > today) {
+	if (lastDay && isCalendarDate(lastDay) && lastDay > today) {
 		issues.push({
 			path: 'log',
 			message: `The inverter log runs to ${evidence.log!.lastAt}, after today (${today}): check the inverter's clock or the file.`

@@ -43,6 +43,7 @@ import {
 	parseEvidence,
 	type StoredEvidence
 } from './claim-assessment';
+import { assemblerCalendar } from './calendar';
 
 const label = (s: ClaimStateName) => CLAIM_STATE_LABELS[s];
 
@@ -56,17 +57,15 @@ async function logStep(
 	now: Date,
 	moduleSummary?: string
 ) {
-	await tx
-		.insert(claimEvents)
-		.values({
-			claimId: claim.id,
-			at: now,
-			actorUserId: actor.userId,
-			actorLabel: actor.label,
-			fromState: claim.state,
-			toState: to,
-			comment
-		});
+	await tx.insert(claimEvents).values({
+		claimId: claim.id,
+		at: now,
+		actorUserId: actor.userId,
+		actorLabel: actor.label,
+		fromState: claim.state,
+		toState: to,
+		comment
+	});
 	if (moduleSummary) {
 		const ids = (
 			await tx
@@ -377,7 +376,8 @@ export async function addEvidence(
 		model,
 		moduleCount: await modulesInSystem(db, claim.systemId),
 		startsOn: mod.modules.warrantyStartsOn,
-		now
+		now,
+		calendar: await assemblerCalendar(db)
 	});
 	if (implausible.length) throw new InvalidInputError(implausible[0].message, implausible);
 

@@ -1,4 +1,4 @@
-import { and, asc, count, desc, eq, inArray, like, lte, ne, sql, type SQL } from 'drizzle-orm';
+import { and, asc, count, desc, eq, inArray, lte, ne, sql, type SQL } from 'drizzle-orm';
 import { alias } from 'drizzle-orm/sqlite-core';
 import Papa from 'papaparse';
 import type { Db, Tx } from '$lib/server/db';
@@ -49,6 +49,9 @@ import {
 	type ClaimAssessmentResult,
 	type StoredEvidence
 } from './claim-assessment';
+import { isCalendarDate } from '$lib/domain/calendar';
+import { assemblerCalendar, businessDay, businessYear } from './calendar';
+import { nextYearlyReference } from './sequences';
 
 export { TARGET_RESPONSE_DAYS };
 type Conn = Db | Tx;
@@ -181,7 +184,8 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		model,
 		moduleCount,
 		startsOn: mods[0].warrantyStartsOn,
-		now
+		now,
+		calendar: await assemblerCalendar(db)
 	});
 	if (implausible.length) throw new InvalidInputError(implausible[0].message, implausible);
 
@@ -219,17 +223,15 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 			})
 			.returning();
 		await tx.insert(claimModules).values(mods.map((m) => ({ claimId: row.id, moduleId: m.id })));
-		await tx
-			.insert(claimEvents)
-			.values({
-				claimId: row.id,
-				at: now,
-				actorUserId: actor.userId,
-				actorLabel: actor.label,
-				fromState: null,
-				toState: 'filed',
-				comment: fault
-			});
+		await tx.insert(claimEvents).values({
+			claimId: row.id,
+			at: now,
+			actorUserId: actor.userId,
+			actorLabel: actor.label,
+			fromState: null,
+			toState: 'filed',
+			comment: fault
+		});
 		for (const m of mods)
 			await recordEvent(tx, actor, {
 				moduleId: m.id,
@@ -257,17 +259,10 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 	return { id: claim.id, reference: claim.reference };
 }
 
-/** CL-{year}-{NNNN}: the next number of the year, read and written inside the caller's write transaction. */
+/** CL-{year}-{NNNN}: the next number of the assembler's calendar year, inside the caller's write transaction. */
 async function nextReference(tx: Tx, now: Date): Promise<string> {
-	const prefix = `CL-${now.getUTCFullYear()}-`;
-	const [last] = await tx
-		.select({ reference: claims.reference })
-		.from(claims)
-		.where(like(claims.reference, `${prefix}%`))
-		.orderBy(desc(sql`length(${claims.reference})`), desc(claims.reference))
-		.limit(1);
-	const next = last ? Number(last.reference.slice(prefix.length)) + 1 : 1;
-	return prefix + String(next).padStart(4, '0');
+	const year = await businessYear(tx, now);
+	return nextYearlyReference(tx, claims, claims.reference, { code: 'CL', year, width: 4 });
 }
 
 /** The dealer whose remembered log mapping applies when staff file for a module (null: the assembler's own). */
@@ -342,7 +337,7 @@ export async function readInverterLog(
 		throw e;
 	}
 	const lastDay = summary.lastAt?.slice(0, 10) ?? '';
-	if (/^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > now.toISOString().slice(0, 10))
+	if (isCalendarDate(lastDay) && lastDay > (await businessDay(db, now)))
 		summary.problems.push(
 			`The last row is dated ${summary.lastAt}, after today: check the inverter's clock.`
 		);
