@@ -11,9 +11,21 @@ import { businessDay } from '$lib/server/services/calendar';
 export const GET: RequestHandler = async (event) => {
 	requireRole(event, 'admin', 'workshop', 'warranty');
 	const parsed = traceQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success) return json({ message: 'Give a cell lot, model, build date range or import.', issues: toIssues(parsed.error) }, { status: 400 });
+	if (!parsed.success)
+		return json(
+			{
+				message: 'Give a cell lot, model, build date range or import.',
+				issues: toIssues(parsed.error)
+			},
+			{ status: 400 }
+		);
 	const db = await getDb();
 	const csv = await traceCsv(db, parsed.data);
 	const today = await businessDay(db, new Date());
-	return new Response(csv, { headers: { 'content-type': 'text/csv; charset=utf-8', 'content-disposition': `attachment; filename="packledger-trace-${today}.csv"` } });
+	return new Response(csv, {
+		headers: {
+			'content-type': 'text/csv; charset=utf-8',
+			'content-disposition': `attachment; filename="packledger-trace-${today}.csv"`
+		}
+	});
 };

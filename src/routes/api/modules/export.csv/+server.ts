@@ -17,7 +17,11 @@ export const GET: RequestHandler = async (event) => {
 		const csv = await exportModules(db, actor, query.data);
 		const today = await businessDay(db, new Date());
 		return new Response(csv, {
-			headers: { 'content-type': 'text/csv; charset=utf-8', 'content-disposition': `attachment; filename="packledger-fleet-${today}.csv"`, 'cache-control': 'private, no-store' }
+			headers: {
+				'content-type': 'text/csv; charset=utf-8',
+				'content-disposition': `attachment; filename="packledger-fleet-${today}.csv"`,
+				'cache-control': 'private, no-store'
+			}
 		});
 	} catch (e) {
 		return jsonFrom(e);
