@@ -29,7 +29,7 @@ import {
 	summariseLog,
 	type LogMapping
 } from '$lib/domain/inverter-log';
-import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
+import type { ClaimEvidence } from '$lib/schemas/warranty-assess';
 import {
 	AWAITING_DECISION,
 	CLAIM_STATE_LABELS,
@@ -38,7 +38,6 @@ import {
 	type LogSummaryEvidence
 } from '$lib/schemas/claim';
 import { STATE_LABELS } from '$lib/module-states';
-import { toIssues } from '$lib/server/validation';
 import { recordAudit, recordEvent } from './audit';
 import { findModule, serialFromScan } from './modules';
 import {
@@ -101,8 +100,8 @@ export interface FileClaimInput {
 	/** As scanned or typed: bare serials, our label URLs or GS1 Digital Links. */
 	serials: string[];
 	fault: string;
-	/** Checked here with claimEvidenceSchema (form strings or numbers). */
-	evidence: unknown;
+	/** Parsed with claimEvidenceSchema (part of fileClaimFormSchema). */
+	evidence: ClaimEvidence;
 	throughputScope?: 'system' | 'module';
 	log?: LogSummaryEvidence | null;
 	baseUrl?: string;
@@ -117,22 +116,10 @@ export interface FileClaimInput {
 export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now = new Date()) {
 	if (actor.userId === null || !FILERS.includes(actor.role))
 		throw new ForbiddenError('Claims are filed by dealers, technicians and warranty staff.');
-	const fault = (input.fault ?? '').trim();
-	if (fault.length < 3 || fault.length > 200)
-		throw new InvalidInputError('Name the fault in a few words (3 to 200 characters).', [
-			{ path: 'fault', message: 'Name the fault in a few words (3 to 200 characters).' }
-		]);
-	const parsed = claimEvidenceSchema.safeParse(input.evidence);
-	if (!parsed.success) {
-		const issues = toIssues(parsed.error);
-		throw new InvalidInputError(`Check the evidence: ${issues[0].message}`, issues);
-	}
-	const texts = [...new Set(input.serials.map((s) => s.trim()).filter(Boolean))];
-	if (!texts.length)
-		throw new InvalidInputError('Scan or type the serial of at least one module.', [
-			{ path: 'serials', message: 'Scan or type the serial of at least one module.' }
-		]);
-	if (texts.length > 50) throw new InvalidInputError('One claim covers at most 50 modules.');
+	// The input was parsed with fileClaimFormSchema (serials, fault, evidence); only what needs
+	// the register is checked here.
+	const { fault } = input;
+	const texts = [...new Set(input.serials)];
 
 	const mods: (typeof modules.$inferSelect)[] = [];
 	for (const text of texts) {
@@ -176,7 +163,7 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mods[0].modelId));
 	const moduleCount = await modulesInSystem(db, systemId);
 	const evidence: StoredEvidence = {
-		...parsed.data,
+		...input.evidence,
 		throughputScope: input.throughputScope ?? 'system',
 		log: input.log ?? null
 	};
