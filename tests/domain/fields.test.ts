@@ -43,11 +43,22 @@ describe('calendarDate', () => {
 		expect(d.parse('2028-02-29')).toBe('2028-02-29');
 		expect(d.parse('2026-11-30')).toBe('2026-11-30');
 	});
-	it('refuses 2026-02-30, 2026-99-99 and 2027-02-29 with a message', () => {
-		for (const s of ['2026-02-30', '2026-99-99', '2027-02-29', '30/11/2026']) {
+	it('refuses 2026-02-30, 2026-99-99 and 2027-02-29 (no such day) and 30/11/2026 (not YYYY-MM-DD)', () => {
+		// Gregorian calendar: 2027 is not a leap year, so February has 28 days.
+		for (const s of ['2026-02-30', '2026-99-99', '2027-02-29']) {
 			const r = d.safeParse(s);
 			expect(r.success, s).toBe(false);
-			expect(r.error?.issues[0].message).toBe('Built from must be a real date written YYYY-MM-DD.');
+			expect(r.error?.issues[0].message).toBe(
+				'Built from: this date does not exist; check the month and day.'
+			);
+		}
+		for (const s of ['30/11/2026', '2026-1-1', 'x'.repeat(200_000)]) {
+			const r = d.safeParse(s);
+			expect(r.success, s).toBe(false);
+			expect(r.error?.issues).toHaveLength(1);
+			expect(r.error?.issues[0].message).toBe(
+				'Built from: write the date as YYYY-MM-DD, like 2026-11-30.'
+			);
 		}
 	});
 });

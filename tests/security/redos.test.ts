@@ -1,8 +1,9 @@
 /**
  * Every regular expression that runs on user input is fed a 200 KB worst case and must
- * answer quickly. The limit (250 ms) is generous on purpose: a linear scan of 200 KB takes a
- * few milliseconds, a quadratic backtracking one seconds (OWASP, "Regular expression Denial
- * of Service – ReDoS"). The point is the shape of the cost, not a speed target.
+ * answer quickly. The limit (1 s, the best of three tries) is generous on purpose: a linear
+ * scan of 200 KB takes a few milliseconds, a quadratic backtracking one 12–18 s (OWASP,
+ * "Regular expression Denial of Service – ReDoS"); a loaded 2-core machine must not make it
+ * flaky. The point is the shape of the cost, not a speed target.
  */
 import { describe, expect, it } from 'vitest';
 import {
@@ -24,12 +25,17 @@ import { readDecimal } from '../../src/lib/schemas/commissioning';
 import { claimEvidenceSchema } from '../../src/lib/schemas/warranty-assess';
 
 const SIZE = Number(process.env.REDOS_SIZE ?? 200_000);
-const LIMIT_MS = 250;
+const LIMIT_MS = 1000;
 
+/** The best of three timings: a busy machine can only slow a try down, never speed it up. */
 function elapsed(fn: () => unknown): number {
-	const t = performance.now();
-	fn();
-	return performance.now() - t;
+	let best = Infinity;
+	for (let i = 0; i < 3; i++) {
+		const t = performance.now();
+		fn();
+		best = Math.min(best, performance.now() - t);
+	}
+	return best;
 }
 
 /** Strings that make backtracking engines work hardest on the patterns used here. */

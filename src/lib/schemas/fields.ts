@@ -93,14 +93,19 @@ export function queryInt(min: number, max: number, label: string) {
 	);
 }
 
-/** A real calendar day written YYYY-MM-DD (2026-02-30 and 2026-99-99 refused; 2028-02-29 taken). */
+/**
+ * A real calendar day written YYYY-MM-DD (2026-02-30 and 2026-99-99 refused; 2028-02-29 taken).
+ * Two messages: one for text that is not written as a date, one for a day that does not exist.
+ */
 export function calendarDate(label: string) {
-	const message = `${label} must be a real date written YYYY-MM-DD.`;
+	const shape = `${label}: write the date as YYYY-MM-DD, like 2026-11-30.`;
+	const missing = `${label}: this date does not exist; check the month and day.`;
 	return z
-		.string({ error: message })
+		.string({ error: shape })
 		.trim()
-		.max(10, { error: message, abort: true })
-		.refine(isCalendarDate, { error: message });
+		.max(10, { error: shape, abort: true })
+		.refine((s) => s.length === 10 && /^\d{4}-\d{2}-\d{2}$/.test(s), { error: shape, abort: true })
+		.refine(isCalendarDate, { error: missing });
 }
 
 /** An optional calendar day: blank or absent → undefined. */

@@ -2,8 +2,8 @@ import { eq } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import { organisations } from '$lib/server/db/schema';
-import type { Actor } from '$lib/server/actor';
-import { ForbiddenError, NotFoundError } from '$lib/server/errors';
+import { assertCan, type Actor } from '$lib/server/actor';
+import { NotFoundError } from '$lib/server/errors';
 import {
 	calendarDay,
 	calendarYear,
@@ -48,8 +48,12 @@ export async function updateAssemblerCalendar(
 	input: CalendarSettingsInput,
 	now = new Date()
 ): Promise<CalendarSettings> {
-	if (actor.role !== 'admin' && actor.role !== 'system')
-		throw new ForbiddenError('Only an administrator sets the organisation’s time zone and locale.');
+	assertCan(
+		actor,
+		'manageCalendar',
+		'Only an administrator sets the organisation’s time zone and locale.',
+		{ allowSystem: true }
+	);
 	const result = await writeTx(db, async (tx) => {
 		const [before] = await tx
 			.select()

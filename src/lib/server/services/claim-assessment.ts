@@ -13,10 +13,11 @@ import { assessClaim, type ClaimAssessment, type ClaimInput } from '$lib/domain/
 import type { WarrantyTerms } from '$lib/domain/model';
 import { warrantyTermsSchema, type ClaimEvidence } from '$lib/schemas/warranty-assess';
 import type { LogSummaryEvidence } from '$lib/schemas/claim';
-import type { Issue } from '$lib/server/validation';
-import { calendarDay, isCalendarDate, type CalendarSettings } from '$lib/domain/calendar';
-import { createFormat } from '$lib/format';
+import { calendarDay } from '$lib/domain/calendar';
 import { assemblerCalendar } from './calendar';
+import { fmtNumber, implausibleEvidence, perModuleThroughput } from '$lib/domain/claim-evidence';
+
+export { fmtNumber, implausibleEvidence, perModuleThroughput };
 
 type Conn = Db | Tx;
 type ClaimRow = typeof claims.$inferSelect;
@@ -40,12 +41,6 @@ export interface ClaimAssessmentResult extends ClaimAssessment {
 	throughputShare: { systemWh: number; modules: number; perModuleWh: number } | null;
 	stopCharge: { proven: boolean; certificateNo: string | null; commissionedOn: string } | null;
 	modules: { serial: string; assessment: ClaimAssessment }[];
-}
-
-const DAY_MS = 86_400_000;
-/** Numbers in the officer's messages, printed by the one formatting module (default locale). */
-export function fmtNumber(x: number, decimals = 0, locale?: string): string {
-	return createFormat({ locale }).number(x, decimals);
 }
 
 export function parseEvidence(json: string): StoredEvidence {
@@ -150,14 +145,6 @@ function eventsOf(evidence: StoredEvidence, model: ModelRow): string[] {
 		);
 	}
 	return listed;
-}
-
-/** Per-module throughput: the system's figure shared equally over its modules, or the module's own. */
-export function perModuleThroughput(evidence: StoredEvidence, moduleCount: number): number | null {
-	if (evidence.throughputWh === undefined) return null;
-	return evidence.throughputScope === 'system'
-		? evidence.throughputWh / Math.max(1, moduleCount)
-		: evidence.throughputWh;
 }
 
 function assessSafely(input: ClaimInput): ClaimAssessment {
@@ -294,56 +281,4 @@ function assessModule(
 		eventsOutsideLimits: events.length ? events : null
 	};
 	return { input, note, assessment: assessSafely(input) };
-}
-
-/**
- * Figures no module can have produced: more equivalent full cycles per day since the
- * warranty started than a full discharge and a full recharge at the model's maximum
- * continuous C-rate allow (each takes 1/C hours, so at most 12 × C cycles a day). A
- * log that ends after the claim date is refused too. Returns issues on the form's fields.
- */
-export function implausibleEvidence(
-	evidence: StoredEvidence,
-	ctx: {
-		model: ModelRow;
-		moduleCount: number;
-		startsOn: string | null;
-		now: Date;
-		calendar: CalendarSettings;
-	}
-): Issue[] {
-	const issues: Issue[] = [];
-	const today = calendarDay(ctx.now, ctx.calendar.timeZone);
-	const fmtNumber = (x: number, d = 0) => createFormat(ctx.calendar).number(x, d);
-	const start = ctx.startsOn ? Date.parse(`${ctx.startsOn}T00:00:00Z`) : NaN;
-	const days = Number.isFinite(start) ? Math.max(1, (ctx.now.getTime() - start) / DAY_MS) : null;
-	const maxPerDay = 12 * ctx.model.maxContinuousC;
-	const perModule = perModuleThroughput(evidence, ctx.moduleCount);
-	if (days !== null && perModule !== null) {
-		const perDay = perModule / ctx.model.usableWh / days;
-		if (perDay > maxPerDay) {
-			issues.push({
-				path: 'throughputWh',
-				message: `${fmtNumber(evidence.throughputWh!)} Wh would be ${fmtNumber(perDay, 1)} equivalent full cycles a day per module since ${ctx.startsOn}; a ${ctx.model.code} cannot do more than ${fmtNumber(maxPerDay)} a day at its ${fmtNumber(ctx.model.maxContinuousC, 1)} C maximum rate. Check the figure, its unit (Wh, not kWh) and whether it is for the whole system.`
-			});
-		}
-	}
-	if (
-		days !== null &&
-		evidence.cycleCount !== undefined &&
-		evidence.cycleCount / days > maxPerDay
-	) {
-		issues.push({
-			path: 'cycleCount',
-			message: `${fmtNumber(evidence.cycleCount)} cycles since ${ctx.startsOn} would be ${fmtNumber(evidence.cycleCount / days, 1)} a day; a ${ctx.model.code} cannot do more than ${fmtNumber(maxPerDay)} a day. Check the counter reading.`
-		});
-	}
-	const lastDay = evidence.log?.lastAt?.slice(0, 10);
-	if (lastDay && isCalendarDate(lastDay) && lastDay > today) {
-		issues.push({
-			path: 'log',
-			message: `The inverter log runs to ${evidence.log!.lastAt}, after today (${today}): check the inverter's clock or the file.`
-		});
-	}
-	return issues;
 }

@@ -1,5 +1,5 @@
 import { fail } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { calendarSettingsSchema } from '$lib/schemas/organisation';
 import { parseForm } from '$lib/server/validation';
@@ -8,13 +8,13 @@ import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
+	requireCan(event, 'manageCalendar');
 	return { settings: await assemblerCalendar(await getDb()), now: Date.now() };
 };
 
 export const actions: Actions = {
 	default: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageCalendar');
 		const parsed = await parseForm(calendarSettingsSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {
