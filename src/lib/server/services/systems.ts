@@ -34,7 +34,8 @@ export function designModuleOf(m: ModelRow): DesignModule {
 		ratedAh,
 		usableWh,
 		maxContinuousC,
-		burstC
+		burstC,
+		internalResistanceMohm
 	} = m;
 	return {
 		cellsSeries,
@@ -44,7 +45,8 @@ export function designModuleOf(m: ModelRow): DesignModule {
 		ratedAh,
 		usableWh,
 		maxContinuousC,
-		burstC
+		burstC,
+		...(internalResistanceMohm ? { internalResistanceMOhm: internalResistanceMohm } : {})
 	};
 }
 
@@ -106,7 +108,8 @@ export async function designCheck(db: Db, req: DesignCheckRequest): Promise<Desi
 		parallel: req.parallel,
 		inverter: req.inverter,
 		targetEnergyKWh: req.targetEnergyKWh,
-		variants
+		variants,
+		protection: req.protection
 	});
 }
 
@@ -365,14 +368,12 @@ export async function placeModule(
 			.update(modules)
 			.set({ state: 'installed', systemId: system.id, updatedAt: now })
 			.where(eq(modules.id, mod.id));
-		await tx
-			.insert(systemSlots)
-			.values({
-				systemId: system.id,
-				stringNo: target.stringNo,
-				position: target.position,
-				moduleId: mod.id
-			});
+		await tx.insert(systemSlots).values({
+			systemId: system.id,
+			stringNo: target.stringNo,
+			position: target.position,
+			moduleId: mod.id
+		});
 		const summary = `Installed in ${system.name} at ${site.name}, string ${target.stringNo} position ${target.position}`;
 		await recordEvent(tx, actor, {
 			moduleId: mod.id,
