@@ -25,3 +25,7 @@ BEGIN SELECT RAISE(ABORT, 'commissioning_rule_sets is append-only: add a new ver
 --> statement-breakpoint
 CREATE TRIGGER commissioning_rule_sets_no_delete BEFORE DELETE ON commissioning_rule_sets
 BEGIN SELECT RAISE(ABORT, 'commissioning_rule_sets is append-only: add a new version'); END;
+--> statement-breakpoint
+CREATE TRIGGER commissioning_rule_sets_no_replace BEFORE INSERT ON commissioning_rule_sets
+WHEN EXISTS (SELECT 1 FROM commissioning_rule_sets WHERE id = NEW.id) OR EXISTS (SELECT 1 FROM commissioning_rule_sets WHERE market = NEW.market AND version = NEW.version)
+BEGIN SELECT RAISE(ABORT, 'commissioning_rule_sets is append-only: this version already exists'); END;
