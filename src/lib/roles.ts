@@ -118,6 +118,12 @@ export const NAV: NavItem[] = [
 		blurb: 'Dealer organisations, their contact address and region; who may receive shipments.'
 	},
 	{
+		href: '/admin/rule-sets',
+		label: 'Rule sets',
+		roles: ['admin'],
+		blurb: 'Commissioning limits and the citations each certificate prints, per market and version.'
+	},
+	{
 		href: '/admin/tokens',
 		label: 'Rig tokens',
 		roles: ['admin'],

@@ -239,3 +239,10 @@ export async function setDealerMarket(
 		});
 	});
 }
+
+/** What the admin's rule set page shows: every market and version, the dealers' markets, and the form prefilled from `market`. */
+export async function ruleSetsPage(db: Db, actor: Actor, market: string | null) {
+	const listed = await listRuleSets(db, actor);
+	const chosen = market && listed.markets.some((m) => m.market === market) ? market : 'default';
+	return { ...listed, form: await latestRuleSet(db, actor, chosen) };
+}
