@@ -25,9 +25,9 @@ for (const format of ['roll', 'a4'] as const) {
 		await page.getByLabel('How many').fill('3');
 		await page.getByRole('button', { name: 'Reserve serials' }).click();
 		await expect(page.getByRole('heading', { name: /Run #\d+: 3 × TC-HC-48/ })).toBeVisible();
-		await page
-			.getByRole('link', { name: format === 'roll' ? /Roll 50 × 30 mm/ : /A4 sheet/ })
-			.click();
+		// The run page links the A4 sheet; the sheet page offers the roll format beside it.
+		await page.getByRole('link', { name: /A4 sheet/ }).click();
+		if (format === 'roll') await page.getByRole('link', { name: /Roll 50 × 30 mm/ }).click();
 		await page.emulateMedia({ media: 'print' });
 		const labels = page.getByTestId('label-sheet').locator('.module-label');
 		await expect(labels).toHaveCount(3);
