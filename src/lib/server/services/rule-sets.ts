@@ -2,8 +2,8 @@ import { and, asc, desc, eq, lte } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import { commissioningRuleSets, organisations } from '$lib/server/db/schema';
-import type { Actor } from '$lib/server/actor';
-import { ForbiddenError, NotFoundError } from '$lib/server/errors';
+import { assertCan, type Actor } from '$lib/server/actor';
+import { NotFoundError } from '$lib/server/errors';
 import {
 	DEFAULT_COMMISSIONING_CITATIONS,
 	DEFAULT_COMMISSIONING_LIMITS,
@@ -36,8 +36,7 @@ function toRuleSet(row: Row): StoredRuleSet {
 }
 
 function assertAdmin(actor: Actor) {
-	if (actor.role !== 'admin')
-		throw new ForbiddenError('Only an administrator maintains the commissioning rule sets.');
+	assertCan(actor, 'manageRuleSets', 'Only an administrator maintains the commissioning rule sets.');
 }
 
 /** The default set, version 1, stored the first time anything asks for a rule set. */

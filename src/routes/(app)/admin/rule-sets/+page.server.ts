@@ -1,5 +1,5 @@
 import { fail } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { dealerMarketSchema, ruleSetFormSchema } from '$lib/schemas/rule-set';
 import { parseForm } from '$lib/server/validation';
@@ -8,7 +8,7 @@ import { errorFrom, failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'admin');
+	const actor = requireCan(event, 'manageRuleSets');
 	try {
 		return await ruleSetsPage(await getDb(), actor, event.url.searchParams.get('market'));
 	} catch (e) {
@@ -18,7 +18,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	add: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageRuleSets');
 		const parsed = await parseForm(ruleSetFormSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {
@@ -29,7 +29,7 @@ export const actions: Actions = {
 		}
 	},
 	market: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageRuleSets');
 		const parsed = await parseForm(dealerMarketSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues });
 		try {
