@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createHash } from 'node:crypto';
-import { eq, inArray } from 'drizzle-orm';
+import { eq, inArray, sql } from 'drizzle-orm';
 import canonicalize from 'canonicalize';
 import type { Db } from '$lib/server/db';
 import {
@@ -202,9 +202,17 @@ describe('certificate: rule set version, content hash, verification', () => {
 		expect((await verifyCertificate(db, r.certificateNo!, 'f'.repeat(64))).state).toBe('different');
 		expect((await verifyCertificate(db, 'PLC-1999-00001', null)).state).toBe('unknown');
 
-		// Someone edits a reading in the database afterwards: the certificate no longer verifies.
+		// The table refuses edits (append-only trigger); someone with raw access to the file drops
+		// the trigger and edits a reading: the certificate no longer verifies.
 		const m = JSON.parse(row.measurements);
 		m.insulation.measuredMohm = 0.2;
+		await expect(
+			db
+				.update(commissionings)
+				.set({ measurements: JSON.stringify(m) })
+				.where(eq(commissionings.id, r.id))
+		).rejects.toThrow();
+		await db.run(sql`DROP TRIGGER commissionings_no_update`);
 		await db
 			.update(commissionings)
 			.set({ measurements: JSON.stringify(m) })

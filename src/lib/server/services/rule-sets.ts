@@ -36,7 +36,11 @@ function toRuleSet(row: Row): StoredRuleSet {
 }
 
 function assertAdmin(actor: Actor) {
-	assertCan(actor, 'manageRuleSets', 'Only an administrator maintains the commissioning rule sets.');
+	assertCan(
+		actor,
+		'manageRuleSets',
+		'Only an administrator maintains the commissioning rule sets.'
+	);
 }
 
 /** The default set, version 1, stored the first time anything asks for a rule set. */
