@@ -4,7 +4,7 @@ import { execFileSync } from 'node:child_process';
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { PNG } from 'pngjs';
 import jsQR from 'jsqr';
-import type { Page } from '@playwright/test';
+import { sign } from './signature';
 
 test.use({ viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true });
 
@@ -18,18 +18,6 @@ function photo(): Buffer {
 		png.data[i + 3] = 255;
 	}
 	return PNG.sync.write(png);
-}
-
-/** Draws a signature-like zigzag on a signature pad with the mouse (signature_pad listens to pointer events). */
-async function sign(page: Page, testId: string) {
-	const pad = page.getByTestId(testId);
-	await pad.scrollIntoViewIfNeeded();
-	const b = (await pad.boundingBox())!;
-	await page.mouse.move(b.x + 20, b.y + b.height / 2);
-	await page.mouse.down();
-	for (let i = 1; i <= 14; i++)
-		await page.mouse.move(b.x + 20 + i * 20, b.y + b.height / 2 + (i % 2 ? -30 : 30), { steps: 3 });
-	await page.mouse.up();
 }
 
 test('a technician on a phone commissions a two-string system: breaking capacity refused with numbers, a typo caught, both sign, the certificate verifies', async ({
