@@ -158,6 +158,13 @@ export const NAV: NavItem[] = [
 		blurb: 'The time zone business dates are counted in, and the locale pages print in.'
 	},
 	{
+		href: '/admin/rule-sets',
+		group: 'admin',
+		label: 'Rule sets',
+		capability: 'manageRuleSets',
+		blurb: 'Commissioning limits and the citations each certificate prints, per market and version.'
+	},
+	{
 		href: '/admin/tokens',
 		group: 'admin',
 		label: 'Rig tokens',

@@ -52,6 +52,7 @@ const EXPECTED: Record<string, string[]> = {
 	manageUsers: [A],
 	manageDealers: [A],
 	manageCalendar: [A],
+	manageRuleSets: [A],
 	manageTokens: [A],
 	viewOutbox: [A],
 	viewAudit: [A]
