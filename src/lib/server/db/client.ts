@@ -1,4 +1,4 @@
-import { createClient, type Client } from '@libsql/client';
+import { createClient, type Client, type InStatement } from '@libsql/client';
 import { drizzle, type LibSQLDatabase } from 'drizzle-orm/libsql';
 import { migrate } from 'drizzle-orm/libsql/migrator';
 import { mkdirSync } from 'node:fs';
@@ -54,4 +54,12 @@ export async function withWriteLock<T>(db: Db, fn: () => Promise<T>): Promise<T>
 /** Runs `fn` in a write transaction (BEGIN IMMEDIATE), one at a time per database handle. */
 export function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T> {
 	return withWriteLock(db, () => db.transaction(fn, { behavior: 'immediate' }));
+}
+
+/**
+ * Runs statements as one transaction (`batch`). Callers that write hold `withWriteLock`.
+ * Through a remote libSQL server this is one network round trip.
+ */
+export function runBatch(db: Db, statements: InStatement[]) {
+	return db.$client.batch(statements, 'write');
 }

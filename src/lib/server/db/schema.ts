@@ -171,6 +171,18 @@ export const modules = sqliteTable(
 	]
 );
 
+/**
+ * Each module's label QR code, drawn once: the SVG of the payload it encodes. A module's
+ * payload changes only when the register's public address does; then it is drawn again.
+ */
+export const moduleQrCodes = sqliteTable('module_qr_codes', {
+	moduleId: integer('module_id')
+		.primaryKey()
+		.references(() => modules.id),
+	payload: text('payload').notNull(),
+	svg: text('svg').notNull()
+});
+
 export const moduleCellLots = sqliteTable(
 	'module_cell_lots',
 	{
@@ -297,7 +309,10 @@ export const importFiles = sqliteTable('import_files', {
 	importId: integer('import_id')
 		.primaryKey()
 		.references(() => imports.id),
-	content: text('content').notNull()
+	content: text('content').notNull(),
+	/** Until commit: the accepted rows as insert-ready JSON and each module's latest result (see import-analysis). */
+	planRows: text('plan_rows'),
+	planStates: text('plan_states')
 });
 
 export const factoryTests = sqliteTable(
