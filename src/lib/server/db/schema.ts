@@ -167,7 +167,9 @@ export const modules = sqliteTable(
 		index('modules_tested_idx').on(t.testedAt),
 		index('modules_shipped_idx').on(t.shippedAt),
 		index('modules_system_idx').on(t.systemId),
-		index('modules_dealer_state_idx').on(t.dealerOrgId, t.state)
+		index('modules_dealer_state_idx').on(t.dealerOrgId, t.state),
+		// State + model filters, read in serial order without a sort (EXPLAIN QUERY PLAN on 200,000 modules).
+		index('modules_state_model_serial_idx').on(t.state, t.modelId, t.serial)
 	]
 );
 
