@@ -27,10 +27,13 @@ const summary = (row: ImportRow, extra: Partial<ImportResult> = {}): ImportResul
 
 const TEST_COLUMNS = `module_id, import_id, ${PLAN_COLUMNS.slice(1).join(', ')}`;
 const PLAN_FIELDS = PLAN_COLUMNS.map((_, i) => `value ->> ${i}`);
-const INSERT_FROM_PLAN = `INSERT OR IGNORE INTO factory_tests (${TEST_COLUMNS})
+// Not INSERT OR IGNORE: factory_tests is append-only, and its trigger refuses any insert
+// that meets an existing row_key; a row stored since the preview is skipped here instead.
+const INSERT_FROM_PLAN = `INSERT INTO factory_tests (${TEST_COLUMNS})
 	SELECT ${PLAN_FIELDS[0]}, ?, ${PLAN_FIELDS.slice(1).join(', ')}
 	FROM json_each((SELECT plan_rows FROM import_files WHERE import_id = ?))
-	WHERE (SELECT state FROM modules WHERE id = value ->> 0) IN ${TESTABLE_SQL}`;
+	WHERE (SELECT state FROM modules WHERE id = value ->> 0) IN ${TESTABLE_SQL}
+	  AND NOT EXISTS (SELECT 1 FROM factory_tests f WHERE f.row_key = value ->> 1)`;
 
 /**
  * Step one: validates a rig file and keeps it with its counts and its commit plan (the

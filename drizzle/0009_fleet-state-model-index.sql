@@ -1,1 +1,0 @@
-CREATE INDEX `modules_state_model_serial_idx` ON `modules` (`state`,`model_id`,`serial`);
