@@ -22,6 +22,7 @@ const asJson = args.includes('--json');
 const PORT = Number(process.env.BENCH_PORT ?? 4172);
 const dbDir = 'data/bench-fleet';
 const FLEET = 200_000;
+const errors = new Set();
 
 async function load(origin, path, cookie) {
 	const times = [];
@@ -31,10 +32,17 @@ async function load(origin, path, cookie) {
 		while (next < REQUESTS) {
 			next++;
 			const t0 = performance.now();
-			const res = await fetch(origin + path, { headers: { cookie } });
-			await res.arrayBuffer();
+			try {
+				const res = await fetch(origin + path, { headers: { cookie } });
+				await res.arrayBuffer();
+				if (!res.ok) failures++;
+			} catch (e) {
+				// A connection the server reset counts as a failure of this request; the run goes on
+				// and says so (the server's own exit, if any, is reported by bench-server.js).
+				failures++;
+				errors.add(e.cause?.code ?? e.message);
+			}
 			times.push(performance.now() - t0);
-			if (!res.ok) failures++;
 		}
 	};
 	await Promise.all(Array.from({ length: CLIENTS }, worker));
@@ -137,6 +145,7 @@ try {
 	console.log(
 		`\nWorst fleet p95: ${worst.p95.toFixed(1)} ms (${worst.name}; target < 20 ms); trace p95 ${t.p95.toFixed(1)} ms (target < 50 ms); load ${loadavg()[0].toFixed(2)}`
 	);
+	if (errors.size) console.log(`Connection errors: ${[...errors].join(', ')}`);
 	if (out.some((r) => r.failures)) process.exitCode = 1;
 } finally {
 	server.stop();

@@ -1,49 +1,14 @@
 // Claim states and their words for pages; no zod here, so a page importing them does not carry the schema library.
-export const CLAIM_STATE_NAMES = [
-	'filed',
-	'in_review',
-	'awaiting_evidence',
-	'covered',
-	'not_covered',
-	'replacement_sent',
-	'closed'
-] as const;
-export type ClaimStateName = (typeof CLAIM_STATE_NAMES)[number];
-
-export const CLAIM_STATE_LABELS: Record<ClaimStateName, string> = {
-	filed: 'Filed',
-	in_review: 'Under review',
-	awaiting_evidence: 'Waiting for evidence',
-	covered: 'Covered',
-	not_covered: 'Not covered',
-	replacement_sent: 'Replacement sent',
-	closed: 'Closed'
-};
-
-/**
- * Moves a warranty officer may make by hand. Covered and not covered are reached only
- * through a decision (which stores the assessment and, where needed, the reason), and
- * replacement sent also follows on its own when the last replacement is scanned.
- */
-export const CLAIM_MOVES: Record<ClaimStateName, ClaimStateName[]> = {
-	filed: ['in_review'],
-	in_review: ['awaiting_evidence'],
-	awaiting_evidence: ['in_review'],
-	covered: ['replacement_sent'],
-	not_covered: ['closed'],
-	replacement_sent: ['closed'],
-	closed: []
-};
-
-/** States in which the claim still waits for the assembler's decision: the response-time target applies. */
-export const AWAITING_DECISION: readonly ClaimStateName[] = [
-	'filed',
-	'in_review',
-	'awaiting_evidence'
-];
-
-/** Target response time: a decision within 10 calendar days of filing (calendar, not working days, to keep it plain). */
-export const TARGET_RESPONSE_DAYS = 10;
+// The states and moves themselves live in the domain's claim workflow (one enumeration).
+export {
+	AWAITING_DECISION,
+	CLAIM_MOVES,
+	CLAIM_STATE_LABELS,
+	CLAIM_STATES as CLAIM_STATE_NAMES,
+	MIN_DECISION_REASON,
+	TARGET_RESPONSE_DAYS,
+	type ClaimState as ClaimStateName
+} from '$lib/domain/claim-workflow';
 
 /** What the return inspection found to be the cause. Our own short list. */
 export const RETURN_CAUSES = {

@@ -5,27 +5,29 @@
  */
 import { z } from 'zod';
 import { claimEvidenceSchema, temperatureProfileSchema } from './warranty-assess';
-
 import {
-	CLAIM_STATE_NAMES,
-	RETURN_CAUSES,
-	type ClaimStateName,
-	type ReturnCause
-} from '$lib/claim-states';
+	AWAITING_DECISION,
+	CLAIM_DECISIONS,
+	CLAIM_MOVES,
+	CLAIM_STATE_LABELS,
+	CLAIM_STATES,
+	MIN_DECISION_REASON,
+	TARGET_RESPONSE_DAYS,
+	type ClaimState
+} from '$lib/domain/claim-workflow';
+import { RETURN_CAUSES, type ReturnCause } from '$lib/claim-states';
 
 export {
 	AWAITING_DECISION,
 	CLAIM_MOVES,
 	CLAIM_STATE_LABELS,
-	CLAIM_STATE_NAMES,
+	CLAIM_STATES as CLAIM_STATE_NAMES,
+	MIN_DECISION_REASON,
 	RETURN_CAUSES,
 	TARGET_RESPONSE_DAYS,
-	type ClaimStateName,
+	type ClaimState as ClaimStateName,
 	type ReturnCause
-} from '$lib/claim-states';
-
-/** The shortest reason accepted for a decision that departs from the recommendation. */
-export const MIN_DECISION_REASON = 20;
+};
 
 const blankToUndefined = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? undefined : v);
 
@@ -88,7 +90,7 @@ export const fileClaimFormSchema = z
 export type FileClaimForm = z.infer<typeof fileClaimFormSchema>;
 
 export const moveClaimSchema = z.object({
-	to: z.enum(CLAIM_STATE_NAMES, { error: 'Choose the state to move the claim to.' }),
+	to: z.enum(CLAIM_STATES, { error: 'Choose the state to move the claim to.' }),
 	comment: z.preprocess(
 		blankToUndefined,
 		z.string().trim().max(2000, { error: 'Keep the comment under 2000 characters.' }).optional()
@@ -105,7 +107,7 @@ export const commentSchema = z.object({
 });
 
 export const decideClaimSchema = z.object({
-	decision: z.enum(['covered', 'not_covered'], { error: 'Choose covered or not covered.' }),
+	decision: z.enum(CLAIM_DECISIONS, { error: 'Choose covered or not covered.' }),
 	reason: z.preprocess(
 		blankToUndefined,
 		z.string().trim().max(4000, { error: 'Keep the reason under 4000 characters.' }).optional()
@@ -208,7 +210,7 @@ const queryInt = (min: number, max: number, label: string) =>
 export const claimQuerySchema = z.object({
 	state: z.preprocess(
 		blankToUndefined,
-		z.enum(CLAIM_STATE_NAMES, { error: 'Unknown claim state.' }).optional()
+		z.enum(CLAIM_STATES, { error: 'Unknown claim state.' }).optional()
 	),
 	dealer: queryInt(1, Number.MAX_SAFE_INTEGER, 'Dealer'),
 	model: z.preprocess(blankToUndefined, z.string().trim().max(40).optional()),
