@@ -34,6 +34,14 @@ export async function startBenchServer({
 		if (s.status !== 0) throw new Error('seed failed');
 	}
 	const proc = spawn('node', ['build'], { stdio: ['ignore', 'ignore', 'inherit'], env });
+	let stopping = false;
+	// A server that dies under load says so (and how), rather than surfacing as a client's ECONNRESET.
+	proc.once('exit', (code, signal) => {
+		if (!stopping)
+			console.error(
+				`\nThe benchmark's server (pid ${proc.pid}) exited unexpectedly: ${signal ? `signal ${signal}` : `exit code ${code}`}.`
+			);
+	});
 	for (let i = 0; i < 100; i++) {
 		try {
 			if ((await fetch(`${origin}/signin`)).ok) break;
@@ -42,7 +50,15 @@ export async function startBenchServer({
 		}
 		await new Promise((r) => setTimeout(r, 200));
 	}
-	return { origin, env, proc, stop: () => proc.kill('SIGTERM') };
+	return {
+		origin,
+		env,
+		proc,
+		stop: () => {
+			stopping = true;
+			proc.kill('SIGTERM');
+		}
+	};
 }
 
 /** Signs in through Auth.js's standard endpoints; returns a Cookie header value. */

@@ -20,29 +20,20 @@ import {
 	TARGET_RESPONSE_DAYS,
 	type ClaimState
 } from '$lib/domain/claim-workflow';
+import { RETURN_CAUSES, type ReturnCause } from '$lib/claim-states';
 
 export {
 	AWAITING_DECISION,
 	CLAIM_MOVES,
 	CLAIM_STATE_LABELS,
 	CLAIM_STATES as CLAIM_STATE_NAMES,
+	MIN_DECISION_REASON,
+	RETURN_CAUSES,
 	TARGET_RESPONSE_DAYS,
-	type ClaimState as ClaimStateName
+	type ClaimState as ClaimStateName,
+	type ReturnCause
 };
 
-/** What the return inspection found to be the cause. Our own short list. */
-export const RETURN_CAUSES = {
-	cell_fade_within_spec: 'Cell fade within the warranted curve',
-	cell_fade_premature: 'Premature cell fade',
-	over_temperature_operation: 'Operated above the temperature limits',
-	over_charge: 'Over-charged (stop-charge not obeyed)',
-	mechanical_damage: 'Mechanical damage',
-	connection_fault: 'Connection or terminal fault',
-	no_fault_found: 'No fault found'
-} as const;
-export type ReturnCause = keyof typeof RETURN_CAUSES;
-
-export { MIN_DECISION_REASON };
 
 /** Serials as scanned or typed: one per line (commas and spaces also separate). */
 export const serialListSchema = z.preprocess(

@@ -1,4 +1,4 @@
-import { createClient, type Client } from '@libsql/client';
+import { createClient, type Client, type InStatement } from '@libsql/client';
 import { drizzle, type LibSQLDatabase } from 'drizzle-orm/libsql';
 import { migrate } from 'drizzle-orm/libsql/migrator';
 import { mkdirSync } from 'node:fs';
@@ -29,6 +29,20 @@ export async function migrateDb(db: Db, migrationsFolder = resolve('drizzle')): 
 }
 
 const locks = new WeakMap<object, Promise<unknown>>();
+const localWrites = new WeakMap<object, number>();
+
+/**
+ * A value that changes whenever the data may have changed: this process's write count
+ * (every write goes through `withWriteLock`) and SQLite's `PRAGMA data_version`, which
+ * changes when another connection (another app server on the same file) commits. Through
+ * a remote libSQL server there is no such signal: null, and callers do not cache.
+ */
+export async function dataVersion(db: Db): Promise<string | null> {
+	const url = (db.$client as { protocol?: string }).protocol;
+	if (url !== 'file') return null;
+	const r = await db.$client.execute('PRAGMA data_version');
+	return `${Number(r.rows[0][0])}:${localWrites.get(db) ?? 0}`;
+}
 
 /**
  * Runs `fn` while holding this process's write lock for the database handle.
@@ -46,6 +60,7 @@ export async function withWriteLock<T>(db: Db, fn: () => Promise<T>): Promise<T>
 	try {
 		return await fn();
 	} finally {
+		localWrites.set(db, (localWrites.get(db) ?? 0) + 1);
 		release();
 		if (locks.get(db) === chained) locks.delete(db);
 	}
@@ -54,4 +69,12 @@ export async function withWriteLock<T>(db: Db, fn: () => Promise<T>): Promise<T>
 /** Runs `fn` in a write transaction (BEGIN IMMEDIATE), one at a time per database handle. */
 export function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T> {
 	return withWriteLock(db, () => db.transaction(fn, { behavior: 'immediate' }));
+}
+
+/**
+ * Runs statements as one transaction (`batch`). Callers that write hold `withWriteLock`.
+ * Through a remote libSQL server this is one network round trip.
+ */
+export function runBatch(db: Db, statements: InStatement[]) {
+	return db.$client.batch(statements, 'write');
 }

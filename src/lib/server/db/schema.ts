@@ -184,9 +184,23 @@ export const modules = sqliteTable(
 		index('modules_tested_idx').on(t.testedAt),
 		index('modules_shipped_idx').on(t.shippedAt),
 		index('modules_system_idx').on(t.systemId),
-		index('modules_dealer_state_idx').on(t.dealerOrgId, t.state)
+		index('modules_dealer_state_idx').on(t.dealerOrgId, t.state),
+		// State + model filters, read in serial order without a sort (EXPLAIN QUERY PLAN on 200,000 modules).
+		index('modules_state_model_serial_idx').on(t.state, t.modelId, t.serial)
 	]
 );
+
+/**
+ * Each module's label QR code, drawn once: the SVG of the payload it encodes. A module's
+ * payload changes only when the register's public address does; then it is drawn again.
+ */
+export const moduleQrCodes = sqliteTable('module_qr_codes', {
+	moduleId: integer('module_id')
+		.primaryKey()
+		.references(() => modules.id),
+	payload: text('payload').notNull(),
+	svg: text('svg').notNull()
+});
 
 export const moduleCellLots = sqliteTable(
 	'module_cell_lots',
@@ -314,7 +328,10 @@ export const importFiles = sqliteTable('import_files', {
 	importId: integer('import_id')
 		.primaryKey()
 		.references(() => imports.id),
-	content: text('content').notNull()
+	content: text('content').notNull(),
+	/** Until commit: the accepted rows as insert-ready JSON and each module's latest result (see import-analysis). */
+	planRows: text('plan_rows'),
+	planStates: text('plan_states')
 });
 
 export const factoryTests = sqliteTable(

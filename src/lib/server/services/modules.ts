@@ -1,8 +1,10 @@
-import { and, asc, desc, eq, like, or } from 'drizzle-orm';
+import { and, asc, desc, eq, like, or, sql } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import {
 	claimModules,
 	claims,
+	factoryTests,
+	imports,
 	moduleEvents,
 	moduleModels,
 	modules,
@@ -88,6 +90,47 @@ export async function getPublicRecord(db: Db, serialText: string, today: string)
 	});
 }
 
+/**
+ * A module's factory results as timeline entries, read from `factory_tests` itself: an
+ * import of 100,000 results writes no second row per result. Results an older version
+ * copied into `module_events` (kind `tested`, detail.testId) are not shown twice. Ids are
+ * negative so they never meet an event's id.
+ */
+async function testEvents(db: Db, moduleId: number) {
+	const rows = await db
+		.select({
+			id: factoryTests.id,
+			at: factoryTests.testedAt,
+			outcome: factoryTests.outcome,
+			rig: factoryTests.rig,
+			failures: factoryTests.failures,
+			importId: factoryTests.importId,
+			actorUserId: imports.uploadedBy,
+			actorLabel: imports.uploaderLabel
+		})
+		.from(factoryTests)
+		.leftJoin(imports, eq(imports.id, factoryTests.importId))
+		.where(
+			and(
+				eq(factoryTests.moduleId, moduleId),
+				sql`NOT EXISTS (SELECT 1 FROM module_events e WHERE e.module_id = ${moduleId} AND e.kind = 'tested' AND e.detail ->> 'testId' = ${factoryTests.id})`
+			)
+		);
+	return rows.map((t) => ({
+		id: -t.id,
+		moduleId,
+		kind: 'tested' as const,
+		at: t.at,
+		actorUserId: t.actorUserId,
+		actorLabel: t.actorLabel ?? 'Factory test rig',
+		summary:
+			t.outcome === 'pass'
+				? `Factory test passed${t.rig ? ` on ${t.rig}` : ''}`
+				: `Factory test failed: ${(JSON.parse(t.failures) as { message: string }[]).map((f) => f.message).join('; ')}`,
+		detail: JSON.stringify({ testId: t.id, importId: t.importId })
+	}));
+}
+
 /** The full record for signed-in staff and the module's own dealer: module, model, builder, timeline. */
 export async function getModuleRecord(db: Db, actor: Actor, serialText: string) {
 	const mod = await findModule(db, actor, serialText);
@@ -108,11 +151,14 @@ export async function getModuleRecord(db: Db, actor: Actor, serialText: string) 
 				.from(organisations)
 				.where(eq(organisations.id, mod.dealerOrgId))
 		: [];
-	const events = await db
+	const stored = await db
 		.select()
 		.from(moduleEvents)
 		.where(eq(moduleEvents.moduleId, mod.id))
 		.orderBy(desc(moduleEvents.at), desc(moduleEvents.id));
+	const events = [...stored, ...(await testEvents(db, mod.id))].sort(
+		(a, b) => b.at.getTime() - a.at.getTime() || b.id - a.id
+	);
 	const [placement] = mod.systemId
 		? await db
 				.select({ systemId: systems.id, system: systems.name, siteId: sites.id, site: sites.name })

@@ -40,17 +40,19 @@ function conditions(q: TraceQuery, timeZone: string): SQL[] {
  */
 export async function traceModules(db: Db, q: TraceQuery) {
 	const { timeZone } = await assemblerCalendar(db);
-	const rows = await db
+	// One JSON value back instead of one result row per module: libSQL's row
+	// materialisation and drizzle's mapping cost ~6 µs a row, JSON.parse well under 1.
+	const v = db
 		.select({
 			id: modules.id,
 			serial: modules.serial,
 			state: modules.state,
-			model: moduleModels.code,
+			model: sql`${moduleModels.code}`.as('model'),
 			builtAt: modules.builtAt,
 			dealerId: modules.dealerOrgId,
-			dealer: organisations.name,
-			site: sites.name,
-			system: systems.name
+			dealer: sql`${organisations.name}`.as('dealer'),
+			site: sql`${sites.name}`.as('site'),
+			system: sql`${systems.name}`.as('system')
 		})
 		.from(modules)
 		.innerJoin(moduleModels, eq(modules.modelId, moduleModels.id))
@@ -59,7 +61,37 @@ export async function traceModules(db: Db, q: TraceQuery) {
 		.leftJoin(sites, eq(systems.siteId, sites.id))
 		.where(and(...conditions(q, timeZone)))
 		.orderBy(modules.serial)
-		.limit(TRACE_LIMIT + 1);
+		.limit(TRACE_LIMIT + 1)
+		.as('v');
+	const [{ json }] = await db
+		.select({
+			json: sql<string>`json_group_array(json_array(${v.id}, ${v.serial}, ${v.state}, ${v.model}, ${v.builtAt}, ${v.dealerId}, ${v.dealer}, ${v.site}, ${v.system}))`
+		})
+		.from(v);
+	type Packed = [
+		number,
+		string,
+		string,
+		string,
+		number | null,
+		number | null,
+		string | null,
+		string | null,
+		string | null
+	];
+	const rows = (JSON.parse(json) as Packed[]).map(
+		([id, serial, state, model, built, dealerId, dealer, site, system]) => ({
+			id,
+			serial,
+			state: state as (typeof modules.$inferSelect)['state'],
+			model,
+			builtAt: built === null ? null : new Date(built),
+			dealerId,
+			dealer,
+			site,
+			system
+		})
+	);
 	const truncated = rows.length > TRACE_LIMIT;
 	const items = rows.slice(0, TRACE_LIMIT).map((r) => ({ ...r, whereNow: whereNow(r) }));
 	const byDealer = new Map<
