@@ -84,6 +84,8 @@ export interface CertificateData {
 	/** SHA-256 of the canonical content, fixed at issue; null for a certificate issued before hashing. */
 	contentHash: string | null;
 	shortCircuitA: number | null;
+	/** The module's DC internal resistance the fault current was computed from, mΩ. */
+	internalResistanceMOhm: number | null;
 }
 
 /** What a commissioning keeps beside the measurements, so its certificate never depends on later edits. */
@@ -728,7 +730,8 @@ export async function certificateData(
 			owner: c.ownerSignature ? (JSON.parse(c.ownerSignature) as Signature) : null
 		},
 		contentHash: c.contentHash,
-		shortCircuitA: stored.shortCircuitA ?? null
+		shortCircuitA: stored.shortCircuitA ?? null,
+		internalResistanceMOhm: evaluationSystem.model.internalResistanceMOhm ?? null
 	};
 }
 
