@@ -5,6 +5,7 @@ import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { PNG } from 'pngjs';
 import jsQR from 'jsqr';
 import { sign } from './signature';
+import type { Page } from '@playwright/test';
 
 test.use({ viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true });
 
@@ -18,6 +19,16 @@ function photo(): Buffer {
 		png.data[i + 3] = 255;
 	}
 	return PNG.sync.write(png);
+}
+
+/**
+ * The page is no wider than the phone. A wider page (a select with long option labels did
+ * this to the site form) makes a mobile browser zoom out, and taps then land on the field
+ * next to the one aimed at: the "Save site" tap hit the address box and nothing was sent.
+ */
+async function fitsThePhone(page: Page) {
+	const width = await page.evaluate(() => document.documentElement.scrollWidth);
+	expect(width, `${page.url()} is ${width} px wide on a 390 px phone`).toBeLessThanOrEqual(390);
 }
 
 test('a technician on a phone commissions a two-string system: breaking capacity refused with numbers, a typo caught, both sign, the certificate verifies', async ({
@@ -42,6 +53,7 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 	expect(serials).toHaveLength(2);
 
 	await page.goto('/sites/new');
+	await fitsThePhone(page);
 	await page.getByLabel('Site name').fill('Larchmoor relay hut');
 	await page.getByText('Telecom or radio hut').click();
 	await page.getByLabel('Owner’s name').fill('Ines Calloway');
@@ -49,6 +61,7 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 	await page.getByLabel('Address').fill('Relay track 2, Ridgeline hills');
 	await page.getByRole('button', { name: 'Save site' }).click();
 	await page.getByRole('link', { name: /Add a system/ }).click();
+	await fitsThePhone(page);
 	await page.getByLabel('Name', { exact: true }).fill('Relay bank');
 	await page.getByLabel('Module model').selectOption('TC-HC-48');
 	await page.getByLabel(/Modules per string/).fill('1');
@@ -75,6 +88,7 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 	await page.screenshot({ path: 'test-results/field-system-saved.png' });
 	await page.getByRole('link', { name: 'Commission this system' }).click();
 
+	await fitsThePhone(page);
 	await page.getByText('I have read the cautions', { exact: true }).click();
 	const byName = (n: string) => page.locator(`[name="${n}"]`);
 	await byName('moduleOcvV.1.1').fill('51,65');

@@ -15,12 +15,11 @@ import {
 	users
 } from '$lib/server/db/schema';
 import {
-	certificateData,
-	certificatePdf,
 	evaluateDraft,
 	loadSystemForCommissioning,
 	submitCommissioning
 } from '$lib/server/services/commissioning';
+import { certificateData, certificatePdf } from '$lib/server/services/certificates';
 import { closeMailer, listOutbox } from '$lib/server/mail';
 import { commissioningSchema, draftMeasurementsSchema } from '$lib/schemas/commissioning';
 import type { Actor } from '$lib/server/actor';

@@ -2,7 +2,7 @@ import { PageSizes, PDFDocument, rgb, StandardFonts, type PDFFont, type PDFPage 
 import QRCode from 'qrcode';
 import type { CommissioningItem } from '$lib/domain/commissioning';
 import { signaturePath, type Signature } from '$lib/schemas/signature';
-import type { CertificateData } from './commissioning';
+import type { CertificateData } from './certificates';
 
 export interface CertificateExtras {
 	/** Photo bytes in certificate order; JPEG and PNG are drawn as thumbnails, others are listed. */
