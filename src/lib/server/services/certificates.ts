@@ -185,7 +185,12 @@ export async function mailCertificate(
 		.where(eq(systems.id, data.system.id));
 	const ownerTo = ownerEmailOf(siteRow?.ownerContact);
 	const pdf = await certificatePdf(data, await certificateExtras(db, actor, data));
-	const send = async (to: string): Promise<{ to: string; sent: boolean; error?: string }> => {
+	// The dealer's copy ends with the address of the record; the owner has no account, so theirs
+	// points to the public verification page only.
+	const send = async (
+		to: string,
+		about?: string
+	): Promise<{ to: string; sent: boolean; error?: string }> => {
 		try {
 			await sendMail(db, {
 				to,
@@ -195,6 +200,7 @@ export async function mailCertificate(
 					`${data.modules.length} modules of ${data.system.modelCode}, ${data.system.series} in series × ${data.system.parallel} in parallel. ` +
 					`Warranty from ${data.warranty.startsOn} to ${data.warranty.endsOn}.\n\nThe certificate ${data.certificateNo} is attached as a PDF. ` +
 					`Its QR code opens a page that shows whether it is genuine and unchanged: ${verifyUrlOf(data)}\n\n${data.codesNote}\n`,
+				about,
 				attachments: [
 					{
 						filename: `${data.certificateNo}.pdf`,
@@ -215,7 +221,7 @@ export async function mailCertificate(
 		}
 	};
 	const dealer = org?.email
-		? await send(org.email)
+		? await send(org.email, `/commissionings/${commissioningId}`)
 		: {
 				to: '',
 				sent: false,
