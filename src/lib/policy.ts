@@ -75,6 +75,8 @@ export const POLICY = {
 	manageUsers: ADMIN,
 	/** Dealer organisations. */
 	manageDealers: ADMIN,
+	/** The assembler's calendar: the time zone business dates are counted in, the locale pages print in. */
+	manageCalendar: ADMIN,
 	/** Commissioning rule sets per market (limits, citations, effective date) and each dealer's market. */
 	manageRuleSets: ADMIN,
 	/** API tokens of the test rigs. */

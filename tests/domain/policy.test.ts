@@ -51,6 +51,7 @@ const EXPECTED: Record<string, string[]> = {
 	manageModels: [A],
 	manageUsers: [A],
 	manageDealers: [A],
+	manageCalendar: [A],
 	manageRuleSets: [A],
 	manageTokens: [A],
 	viewOutbox: [A],

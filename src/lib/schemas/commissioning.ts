@@ -8,6 +8,7 @@
  * blank. A JSON body may instead send `moduleOcvV` and `stringVoltageV` as arrays.
  */
 import { z } from 'zod';
+import { decimal, nullableText, readDecimal, yesNo } from './fields';
 import type { CommissioningMeasurements } from '$lib/domain/commissioning';
 import { signatureField } from './signature';
 
@@ -42,16 +43,8 @@ export const COMMISSIONING_CAUTIONS: { title: string; text: string }[] = [
 export const CODES_TAKE_PRECEDENCE =
 	'Local electrical codes and installation standards take precedence over anything the application computes.';
 
-/** Form text to a number: blank → null, "0,4" → 0.4, anything else unreadable → 'invalid'. */
-export function readDecimal(v: unknown): number | null | 'invalid' {
-	if (v === undefined || v === null) return null;
-	if (typeof v === 'number') return Number.isFinite(v) ? v : 'invalid';
-	if (typeof v !== 'string') return 'invalid';
-	const s = v.trim().replace(/\s+/g, '');
-	if (s === '') return null;
-	if (!/^[+-]?(\d+([.,]\d*)?|[.,]\d+)$/.test(s)) return 'invalid';
-	return Number(s.replace(',', '.'));
-}
+/** Form text to a number: the one decimal rule (`domain/decimal.ts`), re-exported for the page. */
+export { readDecimal };
 
 const GRID = /^moduleOcvV\.(\d{1,2})\.(\d{1,2})$/;
 const STRING = /^stringVoltageV\.(\d{1,2})$/;
@@ -90,32 +83,15 @@ export function nestForm(raw: unknown): unknown {
 
 function measured(label: string, unit: string, min: number, max: number) {
 	const range = `${label} must be between ${min} and ${max} ${unit}; leave it blank if not measured.`;
-	return z.preprocess(
-		(v) => {
-			const n = readDecimal(v);
-			return n === 'invalid' ? v : n;
-		},
+	return decimal(
 		z
 			.number({
 				error: `${label} must be a number in ${unit}, e.g. 51,2; leave it blank if not measured.`
 			})
 			.min(min, { error: range })
 			.max(max, { error: range })
-			.nullable()
-	);
-}
-
-function yesNo(label: string) {
-	return z.preprocess(
-		(v) =>
-			v === 'yes' || v === true || v === 'true'
-				? true
-				: v === 'no' || v === false || v === 'false'
-					? false
-					: v === '' || v == null
-						? null
-						: v,
-		z.boolean({ error: `${label}: answer yes or no, or leave it open if not checked.` }).nullable()
+			.nullable(),
+		{ blank: 'null' }
 	);
 }
 
@@ -159,14 +135,7 @@ export const measurementsSchema = z.preprocess(nestForm, measurementsObject);
 export const draftMeasurementsSchema = z.preprocess(nestForm, z.object(measurementFields(true)));
 
 const optionalText = (max: number, label: string) =>
-	z.preprocess(
-		(v) => (typeof v === 'string' && v.trim() === '' ? null : (v ?? null)),
-		z
-			.string()
-			.trim()
-			.max(max, { error: `Keep the ${label} under ${max} characters.` })
-			.nullable()
-	);
+	nullableText(max, `Keep the ${label} under ${max} characters.`);
 
 /** The whole submission: measurements, who signs, handover, and the cautions acknowledged. */
 export const commissioningSchema = z.preprocess(

@@ -18,6 +18,7 @@ import {
 import type { Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
 import { sendMail } from '$lib/server/mail';
+import { configuredBaseUrl } from '$lib/server/base-url';
 import {
 	readingsTable,
 	type CommissioningItem,
@@ -233,12 +234,7 @@ export async function mailCertificate(
 
 /** Where a certificate's QR code points: the public verification page with the content hash. */
 export function verifyUrlOf(data: Pick<CertificateData, 'certificateNo' | 'contentHash'>): string {
-	const base = (
-		process.env.PUBLIC_BASE_URL ||
-		process.env.ORIGIN ||
-		'http://localhost:3000'
-	).replace(/\/+$/, '');
-	return `${base}/verify/${encodeURIComponent(data.certificateNo)}${data.contentHash ? `?h=${data.contentHash}` : ''}`;
+	return `${configuredBaseUrl()}/verify/${encodeURIComponent(data.certificateNo)}${data.contentHash ? `?h=${data.contentHash}` : ''}`;
 }
 
 /** The photo bytes and verification address the PDF needs beside the certificate data. */

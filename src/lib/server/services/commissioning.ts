@@ -1,4 +1,4 @@
-import { and, asc, avg, desc, eq, inArray, like } from 'drizzle-orm';
+import { and, asc, avg, desc, eq, inArray } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import {
@@ -28,6 +28,8 @@ import {
 } from '$lib/schemas/commissioning';
 import { recordAudit, recordEvent } from './audit';
 import { ruleSetInForce } from './rule-sets';
+import { businessDay } from './calendar';
+import { nextYearlyReference } from './sequences';
 import {
 	canonicalContent,
 	mailCertificate,
@@ -114,7 +116,7 @@ export async function loadSystemForCommissioning(
 			);
 		internalResistanceMOhm = row?.mean ? Math.round(Number(row.mean) * 1000) / 1000 : null;
 	}
-	const ruleSet = await ruleSetInForce(db, site.dealerOrgId, now.toISOString().slice(0, 10));
+	const ruleSet = await ruleSetInForce(db, site.dealerOrgId, await businessDay(db, now));
 	const evaluationSystem: CommissioningSystem = {
 		series: system.series,
 		parallel: system.parallel,
@@ -174,16 +176,12 @@ export function evaluateDraft(
 }
 
 /** Next certificate number of a year: PLC-{YYYY}-{NNNNN}. Call inside the write transaction. */
-async function nextCertificateNo(tx: Tx, year: string): Promise<string> {
-	const prefix = `PLC-${year}-`;
-	const [last] = await tx
-		.select({ no: commissionings.certificateNo })
-		.from(commissionings)
-		.where(like(commissionings.certificateNo, `${prefix}%`))
-		.orderBy(desc(commissionings.certificateNo))
-		.limit(1);
-	const n = last?.no ? Number(last.no.slice(prefix.length)) + 1 : 1;
-	return `${prefix}${String(n).padStart(5, '0')}`;
+function nextCertificateNo(tx: Tx, year: number): Promise<string> {
+	return nextYearlyReference(tx, commissionings, commissionings.certificateNo, {
+		code: 'PLC',
+		year,
+		width: 5
+	});
 }
 
 export interface SubmitResult {
@@ -246,7 +244,8 @@ export async function submitCommissioning(
 			`The checklist was not stored: ${result.implausible.length === 1 ? 'a reading is' : 'some readings are'} implausible. ${result.implausible.join(' ')}`,
 			result.implausible.map((message) => ({ path: 'readings', message }))
 		);
-	const commissionedOn = now.toISOString().slice(0, 10);
+	// The day on the assembler's calendar: a commissioning at 08:00 in UTC+10 is dated that day.
+	const commissionedOn = await businessDay(db, now);
 	const passed = result.overall === 'pass';
 	if (passed && (!input.technicianSignature || !input.ownerSignature))
 		throw new InvalidInputError(
@@ -296,7 +295,9 @@ export async function submitCommissioning(
 			throw new ConflictError(
 				`${label} has just been commissioned by someone else; it cannot be commissioned again.`
 			);
-		const certificateNo = passed ? await nextCertificateNo(tx, commissionedOn.slice(0, 4)) : null;
+		const certificateNo = passed
+			? await nextCertificateNo(tx, Number(commissionedOn.slice(0, 4)))
+			: null;
 		const content = {
 			systemId,
 			certificateNo,
