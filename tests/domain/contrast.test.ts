@@ -5,6 +5,10 @@
  */
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
+import Color from 'colorjs.io';
+
+/** The same ratio from an independent library (colorjs.io's WCAG 2.1 contrast, identical in 2.2). */
+const libraryRatio = (a: string, b: string) => Color.contrast(a, b, 'WCAG21');
 
 /** WCAG 2.2 relative luminance of an sRGB colour "#rrggbb" (definition in the WCAG 2.2 glossary). */
 function luminance(hex: string): number {
@@ -35,6 +39,20 @@ describe('contrast ratio formula (WCAG 2.2)', () => {
 	it('#767676 on white is about 4.54:1 (the usual lightest AA grey, from memory)', () => {
 		expect(ratio('#767676', '#ffffff')).toBeCloseTo(4.54, 2);
 	});
+
+	// colorjs.io derives the luminance weights from the sRGB primaries at full precision; WCAG
+	// rounds them to 0.2126 / 0.7152 / 0.0722, so the two agree to about 1e-4.
+	it('agrees with colorjs.io on every token pair the inputs use', () => {
+		for (const [a, b] of [
+			['edge', 'card'],
+			['edge', 'paper'],
+			['line', 'card']
+		])
+			expect(ratio(token(a), token(b)), `${a} on ${b}`).toBeCloseTo(
+				libraryRatio(token(a), token(b)),
+				3
+			);
+	});
 });
 
 describe('input borders meet 3:1 (WCAG 2.2 SC 1.4.11)', () => {
@@ -48,6 +66,7 @@ describe('input borders meet 3:1 (WCAG 2.2 SC 1.4.11)', () => {
 	it('the edge colour is at least 3:1 against the card and the paper it sits on', () => {
 		expect(ratio(token('edge'), token('card'))).toBeGreaterThanOrEqual(3);
 		expect(ratio(token('edge'), token('paper'))).toBeGreaterThanOrEqual(3);
+		expect(libraryRatio(token('edge'), token('card'))).toBeGreaterThanOrEqual(3);
 	});
 
 	it('the old line colour (kept for dividers) would not have been enough: about 1.4:1', () => {

@@ -15,12 +15,11 @@ import {
 	users
 } from '$lib/server/db/schema';
 import {
-	certificateData,
-	certificatePdf,
 	evaluateDraft,
 	loadSystemForCommissioning,
 	submitCommissioning
 } from '$lib/server/services/commissioning';
+import { certificateData, certificatePdf } from '$lib/server/services/certificates';
 import { closeMailer, listOutbox } from '$lib/server/mail';
 import { commissioningSchema, draftMeasurementsSchema } from '$lib/schemas/commissioning';
 import type { Actor } from '$lib/server/actor';
@@ -248,8 +247,13 @@ describe('submitCommissioning', () => {
 			'dealer@saltmarsh.example',
 			'wren@heron.example'
 		]);
-		// Every e-mail leads to its record: the certificate's own page.
-		for (const m of mails) expect(m.text).toContain(`/commissionings/${r.id}\n`);
+		// Every e-mail leads to its record: the dealer's copy to the certificate's own page; the
+		// owner, who has no account, gets the public verification address instead.
+		const dealerMail = mails.find((m) => m.toAddr === 'dealer@saltmarsh.example');
+		expect(dealerMail?.text).toContain(`/commissionings/${r.id}\n`);
+		const ownerMail = mails.find((m) => m.toAddr === 'wren@heron.example');
+		expect(ownerMail?.text).not.toContain('/commissionings/');
+		expect(ownerMail?.text).toContain(`/verify/${r.certificateNo}`);
 
 		await expect(submitCommissioning(db, tech, system.id, form(), DAY)).rejects.toThrow(
 			/already commissioned/

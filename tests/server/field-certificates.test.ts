@@ -13,12 +13,12 @@ import {
 	systemSlots,
 	users
 } from '$lib/server/db/schema';
+import { submitCommissioning } from '$lib/server/services/commissioning';
 import {
 	canonicalContent,
 	certificateData,
-	submitCommissioning,
 	verifyCertificate
-} from '$lib/server/services/commissioning';
+} from '$lib/server/services/certificates';
 import {
 	addRuleSetVersion,
 	listRuleSets,

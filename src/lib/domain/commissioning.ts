@@ -506,7 +506,9 @@ function checkProtectiveDevice(ctx: Ctx): Outcome {
 		},
 		{ continuousA, stringMaxV: stringMax, shortCircuitA, overcurrentFactor: t.overcurrentFactor }
 	);
-	const cites = `(${ctx.cite.overcurrent}; ${ctx.cite.voltageRating}; ${ctx.cite.breakingCapacity})`;
+	const cites =
+		`(current rating: ${ctx.cite.overcurrent}; DC voltage rating: ${ctx.cite.voltageRating}; ` +
+		`breaking capacity: ${ctx.cite.breakingCapacity})`;
 	if (!verdict.fits)
 		return fail(
 			`Protective device ${verdict.checks

@@ -2,7 +2,7 @@ import { PageSizes, PDFDocument, rgb, StandardFonts, type PDFFont, type PDFPage 
 import QRCode from 'qrcode';
 import type { CommissioningItem } from '$lib/domain/commissioning';
 import { signaturePath, type Signature } from '$lib/schemas/signature';
-import type { CertificateData } from './commissioning';
+import type { CertificateData } from './certificates';
 
 export interface CertificateExtras {
 	/** Photo bytes in certificate order; JPEG and PNG are drawn as thumbnails, others are listed. */
@@ -110,9 +110,10 @@ export async function certificatePdf(
 			y -= size * 1.4;
 		}
 	};
-	const heading = (text: string) => {
+	/** A section heading, kept on one page with at least `keep` points of what follows it. */
+	const heading = (text: string, keep = 40) => {
 		y -= 10;
-		ensure(40);
+		ensure(30 + keep);
 		write(text, { size: 13, font: bold });
 		page.drawLine({
 			start: { x: LEFT, y: y + 2 },
@@ -134,6 +135,7 @@ export async function certificatePdf(
 	};
 
 	const sys = data.system;
+	const moduleMaxV = Math.round((sys.maxV / sys.series) * 1000) / 1000;
 	const QR = 92;
 	if (extras.verifyUrl) {
 		const png = await QRCode.toBuffer(extras.verifyUrl, {
@@ -176,7 +178,7 @@ export async function certificatePdf(
 	field('Module model', `${sys.modelCode} (${sys.modelName})`);
 	field(
 		'Arrangement',
-		`${sys.series} in series x ${sys.parallel} in parallel (${sys.series * sys.parallel} modules)`
+		`${sys.series} in series × ${sys.parallel} in parallel (${sys.series * sys.parallel} modules)`
 	);
 	field(
 		'String voltage',
@@ -187,13 +189,15 @@ export async function certificatePdf(
 		'Fault current',
 		data.shortCircuitA === null
 			? 'not computed (module internal resistance not on record)'
-			: `${data.shortCircuitA} A prospective short-circuit current (strings in parallel x module maximum voltage / module internal resistance, cable resistance neglected)`
+			: `${(data.shortCircuitA / 1000).toFixed(1)} kA (${data.shortCircuitA} A) prospective short-circuit current: ` +
+					`${sys.parallel} string${sys.parallel === 1 ? '' : 's'} in parallel × ${moduleMaxV} V module maximum ÷ ` +
+					`${data.internalResistanceMOhm ?? '?'} mΩ module internal resistance, cable resistance neglected (conservative)`
 	);
 
 	heading('Modules');
 	for (const m of data.modules) field(`String ${m.stringNo}, position ${m.position}`, m.serial);
 
-	heading('Readings and their limits');
+	heading('Readings and their limits', 60);
 	{
 		const cols = [0, 170, 290];
 		ensure(16);
@@ -217,17 +221,19 @@ export async function certificatePdf(
 				});
 				lowest = Math.min(lowest, y);
 			});
-			y = lowest;
+			// The rule sits below the descenders of the row's last line, then a little air.
+			y = lowest - 1;
 			page.drawLine({
-				start: { x: LEFT, y: y + 3 },
-				end: { x: LEFT + WIDTH, y: y + 3 },
+				start: { x: LEFT, y },
+				end: { x: LEFT + WIDTH, y },
 				thickness: 0.3,
 				color: soft
 			});
+			y -= 3;
 		}
 	}
 
-	heading('Checklist');
+	heading('Checklist', 50);
 	for (const item of data.items) {
 		ensure(30);
 		write(`${STATUS_WORDS[item.status]}  ${item.label}`, { font: bold });
@@ -239,7 +245,7 @@ export async function certificatePdf(
 	if (data.ruleSet) {
 		field(
 			'Judged by',
-			`${data.ruleSet.name} (market ${data.ruleSet.market}), version ${data.ruleSet.version}, in force from ${data.ruleSet.effectiveFrom}`
+			`${data.ruleSet.name}; ${data.ruleSet.market === 'default' ? 'the default set (for markets without a set of their own)' : `market ${data.ruleSet.market}`}; version ${data.ruleSet.version}, in force from ${data.ruleSet.effectiveFrom}`
 		);
 		const c = data.ruleSet.citations;
 		const cites: [string, string][] = [
@@ -258,9 +264,9 @@ export async function certificatePdf(
 	}
 
 	if (extras.photos.length) {
-		heading('Photos');
 		const TW = 150;
 		const TH = 112;
+		heading('Photos', TH + 20);
 		let col = 0;
 		for (const p of extras.photos) {
 			let img;
@@ -313,7 +319,7 @@ export async function certificatePdf(
 		if (col) y -= TH + 18;
 	}
 
-	heading('Sign-off');
+	heading('Sign-off', 100);
 	const signBox = (who: string, name: string, sig: Signature | null, x: number) => {
 		const w = 230;
 		const h = 70;

@@ -1,6 +1,6 @@
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { certificatePdfFor } from '$lib/server/services/commissioning';
+import { certificatePdfFor } from '$lib/server/services/certificates';
 import { errorFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
 
