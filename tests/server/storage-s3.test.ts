@@ -79,7 +79,7 @@ beforeAll(async () => {
 		directory: join(work, 's3rver'),
 		configureBuckets: [{ name: BUCKET, configs: [] }]
 	});
-	const addr = (await fake.run()) as { port: number };
+	const addr = await fake.run();
 	endpoint = `http://127.0.0.1:${addr.port}`;
 	db = await createSeededDb();
 	tech = await actorFor(db, 'tech@tidewater.example');
