@@ -34,7 +34,6 @@ export {
 	type ReturnCause
 };
 
-
 /** Serials as scanned or typed: one per line (commas and spaces also separate). */
 export const serialListSchema = z.preprocess(
 	(v) => {

@@ -1,6 +1,18 @@
 import { createClient } from '@libsql/client';
-import { copyFileSync, existsSync, renameSync, rmSync, statSync } from 'node:fs';
-import { resolve } from 'node:path';
+import { createHash } from 'node:crypto';
+import {
+	copyFileSync,
+	existsSync,
+	mkdtempSync,
+	readFileSync,
+	renameSync,
+	rmSync,
+	statSync,
+	writeFileSync
+} from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+import { assertValidKey, type ObjectStore } from '$lib/server/storage';
 import type { Db } from './client';
 
 /** Rows per table of a database file, and SQLite's own integrity verdict. */
@@ -68,4 +80,55 @@ export async function restoreDatabase(file: string, url: string): Promise<FileCh
 	for (const side of ['-wal', '-shm']) rmSync(target + side, { force: true });
 	renameSync(staging, target);
 	return checkDatabaseFile(target);
+}
+
+/** A backup's place in the bucket: `s3:backups/packledger-2026-12-02` (a storage key after `s3:`). */
+export const s3KeyOf = (target: string) => (target.startsWith('s3:') ? target.slice(3) : null);
+
+/**
+ * A backup sent to an S3-compatible bucket: taken and checked in a local temporary file as
+ * above, uploaded, read back and compared byte for byte (SHA-256) before the local copy is
+ * removed, so a backup that is in the bucket is known to be whole.
+ */
+export async function backupToStore(
+	db: Db,
+	key: string,
+	store: ObjectStore
+): Promise<FileCheck & { bytes: number; sha256: string }> {
+	assertValidKey(key);
+	if (await store.get(key)) throw new Error(`${key} is already in the bucket; choose a new name.`);
+	const dir = mkdtempSync(join(tmpdir(), 'packledger-backup-'));
+	try {
+		const file = join(dir, 'backup.db');
+		const check = await backupDatabase(db, file);
+		const bytes = new Uint8Array(readFileSync(file));
+		const sha256 = createHash('sha256').update(bytes).digest('hex');
+		await store.put(key, bytes, 'application/vnd.sqlite3');
+		const back = await store.get(key);
+		if (!back || createHash('sha256').update(back.bytes).digest('hex') !== sha256)
+			throw new Error(
+				`The backup read back from the bucket under ${key} differs from the one sent.`
+			);
+		return { ...check, sha256 };
+	} finally {
+		rmSync(dir, { recursive: true, force: true });
+	}
+}
+
+/** Restores a backup kept in the bucket: downloaded to a temporary file, then `restoreDatabase`. */
+export async function restoreFromStore(
+	key: string,
+	store: ObjectStore,
+	url: string
+): Promise<FileCheck> {
+	const object = await store.get(key);
+	if (!object) throw new Error(`There is no backup ${key} in the bucket.`);
+	const dir = mkdtempSync(join(tmpdir(), 'packledger-restore-'));
+	try {
+		const file = join(dir, 'backup.db');
+		writeFileSync(file, object.bytes);
+		return await restoreDatabase(file, url);
+	} finally {
+		rmSync(dir, { recursive: true, force: true });
+	}
 }

@@ -33,15 +33,19 @@ const localWrites = new WeakMap<object, number>();
 
 /**
  * A value that changes whenever the data may have changed: this process's write count
- * (every write goes through `withWriteLock`) and SQLite's `PRAGMA data_version`, which
+ * (writes through `withWriteLock`), this connection's `total_changes()`, and SQLite's
+ * `PRAGMA data_version`, which
  * changes when another connection (another app server on the same file) commits. Through
  * a remote libSQL server there is no such signal: null, and callers do not cache.
  */
 export async function dataVersion(db: Db): Promise<string | null> {
 	const url = (db.$client as { protocol?: string }).protocol;
 	if (url !== 'file') return null;
-	const r = await db.$client.execute('PRAGMA data_version');
-	return `${Number(r.rows[0][0])}:${localWrites.get(db) ?? 0}`;
+	// total_changes() counts this connection's own writes, even one made outside withWriteLock.
+	const r = await db.$client.execute(
+		'SELECT data_version, total_changes() FROM pragma_data_version()'
+	);
+	return `${Number(r.rows[0][0])}:${Number(r.rows[0][1])}:${localWrites.get(db) ?? 0}`;
 }
 
 /**

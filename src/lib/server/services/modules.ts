@@ -1,5 +1,7 @@
+import { createHash } from 'node:crypto';
 import { and, asc, desc, eq, like, or, sql } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import { dataVersion, type Db } from '$lib/server/db';
+import { alias } from 'drizzle-orm/sqlite-core';
 import {
 	claimModules,
 	claims,
@@ -16,7 +18,7 @@ import {
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
 import { extractSerialFromScan, parseSerial } from '$lib/domain/serial';
-import { toPublicRecord } from '$lib/domain/public-record';
+import { toPublicRecord, type PublicRecord } from '$lib/domain/public-record';
 
 export const UNKNOWN_SERIAL = (serial: string) =>
 	`No module ${serial} is in the register. Check the serial on the label (it looks like PL48-26-000123F).`;
@@ -63,31 +65,78 @@ export async function serialFromScan(
 	return mod.serial;
 }
 
+const dealerOrg = alias(organisations, 'dealer');
+
+/**
+ * The public record's one query: module, model, dealer and the assembler in a single join,
+ * prepared once (no query building per view).
+ */
+const preparedFor = new WeakMap<Db, ReturnType<typeof preparePublicQuery>>();
+function preparePublicQuery(db: Db) {
+	return db
+		.select({
+			serial: modules.serial,
+			builtAt: modules.builtAt,
+			state: modules.state,
+			warrantyStartsOn: modules.warrantyStartsOn,
+			warrantyEndsOn: modules.warrantyEndsOn,
+			model: moduleModels,
+			dealerName: dealerOrg.name,
+			dealerEmail: dealerOrg.contactEmail,
+			assemblerName: sql<
+				string | null
+			>`(SELECT name FROM organisations WHERE kind = 'assembler' ORDER BY id LIMIT 1)`,
+			assemblerEmail: sql<
+				string | null
+			>`(SELECT contact_email FROM organisations WHERE kind = 'assembler' ORDER BY id LIMIT 1)`
+		})
+		.from(modules)
+		.innerJoin(moduleModels, eq(moduleModels.id, modules.modelId))
+		.leftJoin(dealerOrg, eq(dealerOrg.id, modules.dealerOrgId))
+		.where(eq(modules.serial, sql.placeholder('serial')))
+		.prepare();
+}
+
+/**
+ * Public records already built, per serial and day, kept while the data version stands
+ * (`dataVersion`: this process's writes and SQLite's data_version for other processes). The
+ * record is the same for everyone, so one read serves every scan of a label until a write.
+ */
+const publicCache = new Map<string, { version: string; record: PublicRecord }>();
+
 /** The public record of a module: rated data, build month, warranty state, contact. No customer data. */
 export async function getPublicRecord(db: Db, serialText: string, today: string) {
-	const mod = await findModule(db, null, serialText);
-	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mod.modelId));
-	const [assembler] = await db
-		.select()
-		.from(organisations)
-		.where(eq(organisations.kind, 'assembler'))
-		.limit(1);
-	const [dealer] = mod.dealerOrgId
-		? await db.select().from(organisations).where(eq(organisations.id, mod.dealerOrgId))
-		: [];
-	return toPublicRecord({
-		serial: mod.serial,
-		model,
-		builtAt: mod.builtAt,
-		state: mod.state,
+	const parsed = parseSerial(serialText);
+	if (!parsed.ok)
+		throw new NotFoundError(
+			`“${serialText.slice(0, 40)}” is not a module serial: ${parsed.reason}.`
+		);
+	const version = await dataVersion(db);
+	const key = `${parsed.serial}|${today}`;
+	const hit = version ? publicCache.get(key) : undefined;
+	if (hit && hit.version === version) return hit.record;
+	let query = preparedFor.get(db);
+	if (!query) preparedFor.set(db, (query = preparePublicQuery(db)));
+	const [row] = await query.execute({ serial: parsed.serial });
+	if (!row) throw new NotFoundError(UNKNOWN_SERIAL(parsed.serial));
+	const record = toPublicRecord({
+		serial: row.serial,
+		model: row.model,
+		builtAt: row.builtAt,
+		state: row.state,
 		warranty:
-			mod.warrantyStartsOn && mod.warrantyEndsOn
-				? { startsOn: mod.warrantyStartsOn, endsOn: mod.warrantyEndsOn }
+			row.warrantyStartsOn && row.warrantyEndsOn
+				? { startsOn: row.warrantyStartsOn, endsOn: row.warrantyEndsOn }
 				: null,
-		assembler: { name: assembler?.name ?? 'The assembler', email: assembler?.contactEmail ?? null },
-		dealer: dealer ? { name: dealer.name, email: dealer.contactEmail } : null,
+		assembler: { name: row.assemblerName ?? 'The assembler', email: row.assemblerEmail ?? null },
+		dealer: row.dealerName ? { name: row.dealerName, email: row.dealerEmail } : null,
 		today
 	});
+	if (version) {
+		if (publicCache.size >= 10_000) publicCache.clear();
+		publicCache.set(key, { version, record });
+	}
+	return record;
 }
 
 /**
@@ -211,4 +260,13 @@ export async function searchModules(db: Db, actor: Actor, text: string, limit = 
 		.where(where)
 		.orderBy(asc(modules.serial))
 		.limit(limit);
+}
+
+/**
+ * The validator of an anonymous public-record page: a hash of the record and the build, so a
+ * write to the module or a new release gives a new one (RFC 9110 §8.8.3; weak, since the
+ * page's bytes differ in their CSP nonce while its content is the same).
+ */
+export function publicRecordEtag(record: PublicRecord, build: string): string {
+	return `W/"${createHash('sha256').update(build).update(JSON.stringify(record)).digest('base64url').slice(0, 27)}"`;
 }

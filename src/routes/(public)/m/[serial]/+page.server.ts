@@ -1,6 +1,7 @@
+import { version } from '$app/environment';
 import { allowAnonymous } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { getModuleRecord, getPublicRecord } from '$lib/server/services/modules';
+import { getModuleRecord, getPublicRecord, publicRecordEtag } from '$lib/server/services/modules';
 import { NotFoundError } from '$lib/server/errors';
 import { errorFrom } from '$lib/server/http';
 import type { PageServerLoad } from './$types';
@@ -18,6 +19,14 @@ export const load: PageServerLoad = async (event) => {
 					e instanceof NotFoundError ? null : Promise.reject(e)
 				)
 			: null;
+		// Without a session the page is the same for everyone: a validator, so a rescan of the
+		// label (or a proxy) revalidates with If-None-Match and gets 304 (see hooks' publicRevalidation).
+		if (!user)
+			event.setHeaders({
+				etag: publicRecordEtag(publicRecord, version),
+				'cache-control': 'public, no-cache',
+				vary: 'Cookie'
+			});
 		return { publicRecord, full, role: user?.role ?? null };
 	} catch (e) {
 		errorFrom(e);
