@@ -1,6 +1,6 @@
 import { createHash, randomUUID } from 'node:crypto';
 import { and, asc, eq } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import { writeTx, type Db } from '$lib/server/db';
 import { attachments, commissionings, sites, systems, claims } from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { InvalidInputError, NotFoundError } from '$lib/server/errors';
@@ -164,36 +164,38 @@ export async function savePhoto(
 		(file.name || 'photo').replace(/[\u0000-\u001f\u007f]/g, '').slice(0, 200) || 'photo';
 	await putObject(storageKey, file.bytes, contentType);
 	try {
-		const [row] = await db
-			.insert(attachments)
-			.values({
-				ownerKind: owner.ownerKind,
-				ownerId: owner.ownerId,
-				storageKey,
-				fileName,
-				contentType,
-				bytes: file.bytes.byteLength,
-				sha256,
-				caption: caption?.trim() || null,
-				uploadedBy: actor.userId,
-				createdAt: now
-			})
-			.returning();
-		await recordAudit(db, actor, {
-			action: 'attachment.add',
-			entity: 'attachment',
-			entityId: row.id,
-			after: {
-				ownerKind: row.ownerKind,
-				ownerId: row.ownerId,
-				fileName,
-				contentType,
-				bytes: row.bytes,
-				sha256
-			},
-			at: now
+		return await writeTx(db, async (tx) => {
+			const [row] = await tx
+				.insert(attachments)
+				.values({
+					ownerKind: owner.ownerKind,
+					ownerId: owner.ownerId,
+					storageKey,
+					fileName,
+					contentType,
+					bytes: file.bytes.byteLength,
+					sha256,
+					caption: caption?.trim() || null,
+					uploadedBy: actor.userId,
+					createdAt: now
+				})
+				.returning();
+			await recordAudit(tx, actor, {
+				action: 'attachment.add',
+				entity: 'attachment',
+				entityId: row.id,
+				after: {
+					ownerKind: row.ownerKind,
+					ownerId: row.ownerId,
+					fileName,
+					contentType,
+					bytes: row.bytes,
+					sha256
+				},
+				at: now
+			});
+			return row;
 		});
-		return row;
 	} catch (e) {
 		// No row points at the stored file: remove it rather than leave an orphan.
 		await deleteObject(storageKey).catch(() => undefined);
