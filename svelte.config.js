@@ -9,7 +9,9 @@ const config = {
 	},
 	kit: {
 		adapter: adapter(),
-		alias: { $domain: 'src/lib/domain' }
+		alias: { $domain: 'src/lib/domain' },
+		// Absolute asset paths: the service worker serves one offline shell at every page's address.
+		paths: { relative: false }
 	}
 };
 

@@ -3,5 +3,12 @@ import type { LayoutServerLoad } from './$types';
 
 export const load: LayoutServerLoad = (event) => {
 	const user = allowAnonymous(event);
-	return { user: user && { label: user.label, role: user.role, dealerScoped: user.dealerScoped } };
+	return {
+		user: user && {
+			id: user.userId,
+			label: user.label,
+			role: user.role,
+			dealerScoped: user.dealerScoped
+		}
+	};
 };

@@ -156,6 +156,7 @@ export async function savePhoto(
 ) {
 	if (actor.userId === null)
 		throw new InvalidInputError('Photos are uploaded by a signed-in person.');
+	const uploadedBy = actor.userId;
 	await assertOwnerVisible(db, actor, owner);
 	const contentType = checkPhoto(file);
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
@@ -176,7 +177,7 @@ export async function savePhoto(
 					bytes: file.bytes.byteLength,
 					sha256,
 					caption: caption?.trim() || null,
-					uploadedBy: actor.userId,
+					uploadedBy,
 					createdAt: now
 				})
 				.returning();
