@@ -23,13 +23,11 @@ test('a dealer files a claim with an inverter log, the officer asks for evidence
 	await expect(dealer.getByRole('main')).toContainText(/isolate/i);
 	await dealer.getByLabel(/Serials/).fill(serial);
 	await dealer.getByLabel('Fault, in a few words').fill('Capacity fade');
-	await dealer
-		.getByLabel(/Inverter log/)
-		.setInputFiles({
-			name: 'cabin-inverter-log.csv',
-			mimeType: 'text/csv',
-			buffer: Buffer.from(LOG)
-		});
+	await dealer.getByLabel(/Inverter log/).setInputFiles({
+		name: 'cabin-inverter-log.csv',
+		mimeType: 'text/csv',
+		buffer: Buffer.from(LOG)
+	});
 	await dealer.getByRole('button', { name: 'Read the log' }).click();
 	await dealer.getByRole('button', { name: 'Read the log with these columns' }).click();
 	await expect(dealer.locator('input[name="throughputWh"]')).toHaveValue(/^36800000/);

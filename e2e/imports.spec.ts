@@ -41,13 +41,11 @@ test('upload a rig file with bad rows, see them explained, store the rest, see s
 	].join('\r\n');
 
 	await page.goto('/imports');
-	await page
-		.getByLabel('Rig CSV file')
-		.setInputFiles({
-			name: 'rig2-shift-a.csv',
-			mimeType: 'text/csv',
-			buffer: Buffer.from('\uFEFF' + csv)
-		});
+	await page.getByLabel('Rig CSV file').setInputFiles({
+		name: 'rig2-shift-a.csv',
+		mimeType: 'text/csv',
+		buffer: Buffer.from('\uFEFF' + csv)
+	});
 	const preview = page.getByTestId('import-preview');
 	await expect(preview.getByTestId('count-accepted')).toHaveText('4');
 	await expect(preview.getByTestId('count-rejected')).toHaveText('3');

@@ -31,9 +31,9 @@ async function load(origin, path, cookie) {
 }
 
 let server;
-if (reuse) server = await startBenchServer({ port: 4196, dbDir, seed: false, keep: true });
+if (reuse) server = await startBenchServer({ port: PORT, dbDir, seed: false, keep: true });
 else {
-	server = await startBenchServer({ port: 4196, dbDir, seed: false });
+	server = await startBenchServer({ port: PORT, dbDir, seed: false });
 	server.stop();
 	await new Promise((r) => setTimeout(r, 500));
 	const s = spawnSync('npm', ['run', 'seed:large', '--silent'], {
@@ -41,7 +41,7 @@ else {
 		env: server.env
 	});
 	if (s.status !== 0) process.exit(1);
-	server = await startBenchServer({ port: 4196, dbDir, seed: false, keep: true });
+	server = await startBenchServer({ port: PORT, dbDir, seed: false, keep: true });
 }
 try {
 	const admin = await signInCookie(server.origin, 'admin@tidewater.example');

@@ -1,7 +1,10 @@
 // Times the A4 label sheet for 1,000 serials through the production server (median of 5).
 import { startBenchServer, signInCookie } from './lib/bench-server.js';
 
-const server = await startBenchServer({ port: 4198, dbDir: 'data/bench-labels' });
+const server = await startBenchServer({
+	port: Number(process.env.BENCH_PORT ?? 4173),
+	dbDir: 'data/bench-labels'
+});
 try {
 	const cookie = await signInCookie(server.origin, 'workshop@tidewater.example');
 	const form = new URLSearchParams({ modelId: '3', count: '1000' });

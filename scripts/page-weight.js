@@ -5,7 +5,10 @@ import { chromium } from '@playwright/test';
 import { gzipSync } from 'node:zlib';
 import { startBenchServer, signInCookie } from './lib/bench-server.js';
 
-const server = await startBenchServer({ port: 4194, dbDir: 'data/page-weight' });
+const server = await startBenchServer({
+	port: Number(process.env.BENCH_PORT ?? 4174),
+	dbDir: 'data/page-weight'
+});
 try {
 	const email = process.argv[3] ?? 'tech@tidewater.example';
 	const cookie = await signInCookie(server.origin, email);

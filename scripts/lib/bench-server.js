@@ -1,9 +1,10 @@
 // Starts the production build on a throwaway database for a benchmark and signs a user in.
+// Every benchmark passes its own port (127.0.0.1 only); BENCH_PORT overrides the default.
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, rmSync } from 'node:fs';
 
 export async function startBenchServer({
-	port = 4199,
+	port = Number(process.env.BENCH_PORT ?? 4171),
 	dbDir = 'data/bench',
 	seed = true,
 	keep = false,
@@ -15,10 +16,11 @@ export async function startBenchServer({
 	}
 	if (!keep) rmSync(dbDir, { recursive: true, force: true });
 	mkdirSync(dbDir, { recursive: true });
-	const origin = `http://localhost:${port}`;
+	const origin = `http://127.0.0.1:${port}`;
 	const env = {
 		...process.env,
 		PORT: String(port),
+		HOST: '127.0.0.1',
 		ORIGIN: origin,
 		PUBLIC_BASE_URL: origin,
 		DATABASE_URL: `file:${dbDir}/bench.db`,

@@ -94,6 +94,12 @@ export const NAV: NavItem[] = [
 			'From a cell lot, model, build period or import to every affected module and where it is.'
 	},
 	{
+		href: '/reliability',
+		label: 'Reliability',
+		roles: ['warranty', 'admin'],
+		blurb: 'Claim rates with intervals, the fitted life model and the claims still to come.'
+	},
+	{
 		href: '/admin/models',
 		label: 'Models',
 		roles: ['admin'],

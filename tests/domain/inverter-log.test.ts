@@ -75,6 +75,12 @@ describe('summariseLog', () => {
 			throughputWh: 3000,
 			avgTempC: 24,
 			maxTempC: 28,
+			// Hourly readings: each holds one hour, the last the usual interval (one hour).
+			temperatureProfile: [
+				{ tempC: 20, hours: 1 },
+				{ tempC: 24, hours: 1 },
+				{ tempC: 28, hours: 1 }
+			],
 			problems: []
 		});
 	});

@@ -230,7 +230,7 @@ describe('assessClaim', () => {
 		expect(a.retentionPct).toBe(72.61);
 		expect(a.promisedRetentionPct).toBe(90.88);
 		expect(a.reasons).toContain(
-			'Retention 72.6 % (203.3 Ah of 280.0 Ah) is below the 90.9 % promised at 9 120 equivalent full cycles.'
+			'Retention 72.61 % (203.3 Ah of 280.0 Ah) is below the 90.88 % promised at 9 120 equivalent full cycles.'
 		);
 		expect(a.reasons).toContain(
 			'Discharge throughput of 130 744 320 Wh over 14 336 Wh usable gives 9 120 equivalent full cycles (energy basis).'
@@ -254,7 +254,7 @@ describe('assessClaim', () => {
 		expect(a.promisedRetentionPct).toBe(90);
 		expect(a.recommendation).toBe('decline');
 		expect(a.reasons).toContain(
-			'Retention 90.0 % (252.0 Ah of 280.0 Ah) is at or above the 90.0 % promised at 10 000 equivalent full cycles: the module performs as warranted.'
+			'Retention 90.00 % (252.0 Ah of 280.0 Ah) is at or above the 90.00 % promised at 10 000 equivalent full cycles: the module performs as warranted.'
 		);
 	});
 
@@ -310,7 +310,7 @@ describe('assessClaim', () => {
 			'Neither energy throughput nor a cycle count was given: ask for the inverter log or the BMS cycle counter.'
 		);
 		expect(a.reasons).toContain(
-			'Retention is 72.6 % (203.3 Ah of 280.0 Ah); without the cycles the promised retention cannot be set.'
+			'Retention is 72.61 % (203.3 Ah of 280.0 Ah); without the cycles the promised retention cannot be set.'
 		);
 	});
 
@@ -377,13 +377,17 @@ describe('assessClaim', () => {
 		).toBe(false);
 	});
 
-	it('shows more decimals when rounding would make retention and promise read the same', () => {
-		// 259.1/280 = 92.536 %; promised at 7 460 EFC = 92.54 %: both "92.5" at one decimal.
+	it('compares at the stated precision: 259.1/280 = 92.5357… % reads 92.54 % and ties with 92.54 % promised at 7 460 EFC, so it declines (calc)', () => {
 		const a = assessClaim(claim({ measuredCapacityAh: 259.1, throughputWh: 7460 * usableWh }));
-		expect(a.recommendation).toBe('cover');
+		expect(a.retentionPct).toBe(92.54);
+		expect(a.promisedRetentionPct).toBe(92.54);
+		expect(a.recommendation).toBe('decline');
 		expect(a.reasons).toContain(
-			'Retention 92.536 % (259.1 Ah of 280.0 Ah) is below the 92.540 % promised at 7 460 equivalent full cycles.'
+			'Retention 92.54 % (259.1 Ah of 280.0 Ah) is at or above the 92.54 % promised at 7 460 equivalent full cycles: the module performs as warranted.'
 		);
+		// One hundredth lower (259.0 Ah = 92.50 %) is below and covered.
+		const b = assessClaim(claim({ measuredCapacityAh: 259.0, throughputWh: 7460 * usableWh }));
+		expect(b.recommendation).toBe('cover');
 	});
 
 	it('throws on a claim dated before commissioning', () => {

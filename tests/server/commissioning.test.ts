@@ -89,14 +89,12 @@ async function makeSystem(
 	const rows = await db.select().from(modules).where(inArray(modules.serial, serials));
 	const placed = rows.slice(0, rows.length - (opts.leaveEmpty ?? 0));
 	for (const [i, m] of placed.entries()) {
-		await db
-			.insert(systemSlots)
-			.values({
-				systemId: system.id,
-				stringNo: Math.floor(i / series) + 1,
-				position: (i % series) + 1,
-				moduleId: m.id
-			});
+		await db.insert(systemSlots).values({
+			systemId: system.id,
+			stringNo: Math.floor(i / series) + 1,
+			position: (i % series) + 1,
+			moduleId: m.id
+		});
 		await db
 			.update(modules)
 			.set({ state: 'installed', systemId: system.id, dealerOrgId: dealer?.id ?? null })

@@ -173,21 +173,19 @@ beforeAll(async () => {
 		.from(modules)
 		.where(inArray(modules.serial, [s24[0], s24[1]]));
 	for (const m of rows) {
-		await db
-			.insert(factoryTests)
-			.values({
-				moduleId: m.id,
-				importId,
-				rowKey: `${m.serial}-k`,
-				testedAt: m.testedAt!,
-				capacityAh: 92,
-				dcirMohm: 3,
-				dcirSource: 'measured',
-				cellSpreadMv: 8,
-				insulationMohm: 500,
-				outcome: 'pass',
-				failures: '[]'
-			});
+		await db.insert(factoryTests).values({
+			moduleId: m.id,
+			importId,
+			rowKey: `${m.serial}-k`,
+			testedAt: m.testedAt!,
+			capacityAh: 92,
+			dcirMohm: 3,
+			dcirSource: 'measured',
+			cellSpreadMv: 8,
+			insulationMohm: 500,
+			outcome: 'pass',
+			failures: '[]'
+		});
 	}
 	ids = new Map(
 		(await db.select({ id: modules.id, serial: modules.serial }).from(modules)).map((r) => [

@@ -9,11 +9,10 @@ import {
 	requestPasswordReset
 } from '$lib/server/services/users';
 import {
-	clearSignInFailures,
+	claimSignInAttempt,
 	MAX_FAILURES_PER_ACCOUNT,
-	recordSignInFailure,
-	resetRateLimits,
-	signInBlockedFor
+	signInBlockedFor,
+	signInSucceeded
 } from '$lib/server/auth/rate-limit';
 import { verifyPassword } from '$lib/server/auth/password';
 import type { Actor } from '$lib/server/actor';
@@ -89,22 +88,36 @@ describe('invitations and resets', () => {
 	});
 });
 
-describe('sign-in rate limit', () => {
-	it('blocks an account after five failures in 15 minutes, and a success clears it', () => {
-		resetRateLimits();
+describe('sign-in rate limit (in the database)', () => {
+	it('blocks an account after five attempts in 15 minutes, and a success clears it', async () => {
 		const now = Date.parse('2026-12-01T10:00:00Z');
 		for (let i = 0; i < MAX_FAILURES_PER_ACCOUNT; i++)
-			recordSignInFailure('a@x.example', '10.0.0.1', now + i * 1000);
-		expect(signInBlockedFor('a@x.example', '10.0.0.2', now + 6000)).toBeGreaterThan(0);
-		expect(signInBlockedFor('b@x.example', '10.0.0.2', now + 6000)).toBe(0);
-		expect(signInBlockedFor('a@x.example', '10.0.0.2', now + 16 * 60_000)).toBe(0);
-		clearSignInFailures('a@x.example');
-		expect(signInBlockedFor('a@x.example', '10.0.0.1', now + 7000)).toBe(0);
+			expect(
+				(await claimSignInAttempt(db, 'a@x.example', '10.0.0.1', now + i * 1000)).allowed
+			).toBe(true);
+		expect(await signInBlockedFor(db, 'a@x.example', '10.0.0.2', now + 6000)).toBeGreaterThan(0);
+		expect((await claimSignInAttempt(db, 'a@x.example', '10.0.0.2', now + 6000)).allowed).toBe(
+			false
+		);
+		expect(await signInBlockedFor(db, 'b@x.example', '10.0.0.2', now + 6000)).toBe(0);
+		expect(await signInBlockedFor(db, 'a@x.example', '10.0.0.2', now + 16 * 60_000)).toBe(0);
+		await signInSucceeded(db, 'a@x.example', '10.0.0.1');
+		expect(await signInBlockedFor(db, 'a@x.example', '10.0.0.1', now + 7000)).toBe(0);
 	});
-	it('blocks an address after twenty failures across accounts', () => {
-		resetRateLimits();
+	it('blocks an address after twenty attempts across accounts', async () => {
 		const now = Date.parse('2026-12-01T10:00:00Z');
-		for (let i = 0; i < 20; i++) recordSignInFailure(`u${i}@x.example`, '10.9.9.9', now);
-		expect(signInBlockedFor('fresh@x.example', '10.9.9.9', now + 1000)).toBeGreaterThan(0);
+		for (let i = 0; i < 20; i++) await claimSignInAttempt(db, `u${i}@x.example`, '10.9.9.9', now);
+		expect(await signInBlockedFor(db, 'fresh@x.example', '10.9.9.9', now + 1000)).toBeGreaterThan(
+			0
+		);
+	});
+	it('lets exactly five of forty parallel attempts on one account through', async () => {
+		const now = Date.parse('2026-12-01T12:00:00Z');
+		const claims = await Promise.all(
+			Array.from({ length: 40 }, (_, i) =>
+				claimSignInAttempt(db, 'parallel@x.example', `10.1.0.${i}`, now)
+			)
+		);
+		expect(claims.filter((c) => c.allowed)).toHaveLength(MAX_FAILURES_PER_ACCOUNT);
 	});
 });

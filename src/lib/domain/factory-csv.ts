@@ -104,6 +104,40 @@ const UNITS: Partial<Record<FactoryColumn, { ok: RegExp; say: string }>> = {
 	pulse_i2_a: { ok: /^(a|amps?|amperes?)$/i, say: 'A' }
 };
 
+/** Longest header cell that is matched to a column; longer ones are ignored columns. */
+export const MAX_HEADER_LENGTH = 200;
+/** Most columns a factory test file may have (it needs 6 to 16); more means another kind of file. */
+export const MAX_COLUMNS = 200;
+/** Longest number or date cell that is read; no measurement or ISO 8601 time comes near it. */
+export const MAX_VALUE_LENGTH = 100;
+
+/** A cell quoted in a message: long ones cut, so one row cannot make a megabyte of errors. */
+export function shorten(text: string, max = 60): string {
+	return text.length > max ? `${text.slice(0, max)}… (${text.length} characters)` : text;
+}
+
+function tooLong(label: string, s: string): string {
+	return `${label} "${shorten(s, 20)}" is ${s.length} characters long; a value has at most ${MAX_VALUE_LENGTH}.`;
+}
+
+/**
+ * "Capacity (Ah)" → name "Capacity", unit "Ah": a closing bracket or parenthesis at the
+ * end, and the first opening one after which no other closing one comes. One pass from the
+ * end, so the cost is linear in the length (a backtracking pattern was quadratic).
+ */
+function splitUnitSuffix(h: string): { name: string; unit: string } | null {
+	const last = h.length - 1;
+	if (last < 1 || (h[last] !== ')' && h[last] !== ']')) return null;
+	let open = -1;
+	for (let i = last - 1; i >= 0; i--) {
+		const c = h[i];
+		if (c === ')' || c === ']') break;
+		if (c === '(' || c === '[') open = i;
+	}
+	if (open < 0) return null;
+	return { name: h.slice(0, open).trimEnd(), unit: h.slice(open + 1, last) };
+}
+
 export interface HeaderMatch {
 	column: FactoryColumn | null;
 	/** Unit named in brackets or parentheses after the name, if any. */
@@ -115,12 +149,15 @@ export interface HeaderMatch {
  * parentheses are ignored ("Capacity (Ah)", "capacity_ah [Ah]" → capacity_ah).
  */
 export function matchHeader(header: string): HeaderMatch {
+	// No column name is anywhere near this long: a longer cell is not read at all, so no
+	// pattern below ever runs on more than a few hundred characters.
+	if (header.length > MAX_HEADER_LENGTH) return { column: null, unit: null };
 	let h = header.replace(/^\uFEFF/, '').trim();
 	let unit: string | null = null;
-	const m = /^(.*?)\s*[[(]([^\])]*)[\])]\s*$/.exec(h);
-	if (m) {
-		h = m[1];
-		unit = m[2].trim().replace(/Ω/g, 'Ohm').replace(/ω/g, 'ohm');
+	const split = splitUnitSuffix(h);
+	if (split) {
+		h = split.name;
+		unit = split.unit.trim().replace(/Ω/g, 'Ohm').replace(/ω/g, 'ohm');
 	}
 	const key = h
 		.toLowerCase()
@@ -222,6 +259,11 @@ export function parseFactoryCsv(text: string): ParseResult {
 	const records = parsed.data;
 	const headerIndex = records.findIndex((r) => !isBlankRecord(r));
 	if (headerIndex < 0) return { ok: false, error: 'The file is empty.' };
+	if (records[headerIndex].length > MAX_COLUMNS)
+		return {
+			ok: false,
+			error: `The header row has ${records[headerIndex].length} columns; a factory test file has at most ${MAX_COLUMNS}. Check that this is the rig's results file.`
+		};
 	const header = records[headerIndex].map((h) => h.trim());
 
 	const headerMap: Partial<Record<FactoryColumn, string>> = {};
@@ -230,7 +272,7 @@ export function parseFactoryCsv(text: string): ParseResult {
 	for (const [i, cell] of header.entries()) {
 		const { column, unit } = matchHeader(cell);
 		if (!column) {
-			if (cell !== '') ignoredColumns.push(cell);
+			if (cell !== '') ignoredColumns.push(shorten(cell));
 			continue;
 		}
 		if (headerMap[column] !== undefined) {
@@ -258,7 +300,7 @@ export function parseFactoryCsv(text: string): ParseResult {
 		const names = missing.map((c) =>
 			c === 'dcir_mohm' ? `dcir_mohm (or all four of ${PULSE_COLUMNS.join(', ')})` : c
 		);
-		const found = header.filter((h) => h !== '').map((h) => `"${h}"`);
+		const found = header.filter((h) => h !== '').map((h) => `"${shorten(h)}"`);
 		return {
 			ok: false,
 			error: `Missing required column${missing.length > 1 ? 's' : ''}: ${names.join(', ')}. Columns found: ${found.join(', ') || 'none'}.`
@@ -401,6 +443,7 @@ function readNumber(
 ): { value: number | null } | { message: string } {
 	const s = text.trim();
 	if (s === '') return { value: null };
+	if (s.length > MAX_VALUE_LENGTH) return { message: tooLong(rule.label, s) };
 	let value: number;
 	if (POINT_NUMBER.test(s)) value = Number(s);
 	else if (decimalComma && COMMA_NUMBER.test(s)) value = Number(s.replace(',', '.'));
@@ -454,6 +497,7 @@ export function parseTestedAt(
 			message:
 				'Tested at is empty; enter the date and time of the test in ISO 8601, e.g. 2026-03-12T08:15:00Z.'
 		};
+	if (s.length > MAX_VALUE_LENGTH) return { ok: false, message: tooLong('Tested at', s) };
 	const local = /^(\d{1,2})[./-](\d{1,2})[./-](\d{4})(.*)$/.exec(s);
 	if (local) {
 		const [a, b, y] = [Number(local[1]), Number(local[2]), local[3]];
@@ -536,8 +580,9 @@ export function validateRowValues(
 	const serial = cell('serial');
 	if (serial === '')
 		fail('serial', 'Serial is empty; every row needs the serial number of the module tested.');
+	// eslint-disable-next-line no-control-regex -- control characters are what is looked for
 	else if (/[\u0000-\u001f\u007f]/.test(serial))
-		fail('serial', `Serial "${serial}" contains control characters; retype it.`);
+		fail('serial', `Serial "${shorten(serial)}" contains control characters; retype it.`);
 
 	let testedAt: Date | null = null;
 	const t = parseTestedAt(cell('tested_at'));

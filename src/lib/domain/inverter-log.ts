@@ -1,5 +1,5 @@
 /**
- * Reads an inverter log exported as CSV (RFC 4180, REFERENCES §7) and sums the battery's
+ * Reads an inverter log exported as CSV (RFC 4180) and sums the battery's
  * discharge energy for the energy-basis equivalent full cycles of a warranty claim.
  * Pure: the text comes in, a summary goes out.
  */
@@ -41,11 +41,19 @@ export interface LogSummary {
 	/** Plain mean of the readings (not time-weighted), 2 decimals. */
 	avgTempC: number | null;
 	maxTempC: number | null;
+	/**
+	 * Hours spent at each temperature (0.1 °C steps, coolest first): each reading holds until
+	 * the next one, the last for the log's usual interval. The warranty assessment takes its
+	 * mean kinetic temperature. Empty when the timestamps are not ISO 8601.
+	 */
+	temperatureProfile: { tempC: number; hours: number }[];
 	problems: string[];
 }
 
 /** How many problems of one kind are listed row by row before they are only counted. */
 export const PROBLEMS_PER_KIND = 10;
+/** Header cells longer than this are never suggested as a column. */
+export const MAX_HEADER_LENGTH = 200;
 
 const normalise = (h: string) =>
 	h
@@ -77,6 +85,8 @@ export function detectColumns(headers: string[]): ColumnGuess {
 	const guess: ColumnGuess = {};
 	const cleaned = headers.map((h) => h.replace(/^\uFEFF/, '').trim());
 	for (const h of cleaned) {
+		// No column name is this long; a longer header is not guessed at (and no pattern runs on it).
+		if (h.length > MAX_HEADER_LENGTH) continue;
 		const n = normalise(h);
 		if (!n) continue;
 		if (!guess.timestamp && /\b(timestamp|datetime|date ?time|time|date|ts)\b/.test(n)) {
@@ -125,6 +135,48 @@ function readNumber(raw: string | undefined): number | null {
 }
 
 const ISO_LIKE = /^\d{4}-\d{2}-\d{2}([ T]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?$/;
+
+/** Milliseconds of an ISO-like local timestamp (read as UTC: only differences matter), or null. */
+function isoMs(ts: string): number | null {
+	if (ts.length > 40 || !ISO_LIKE.test(ts)) return null;
+	const t = Date.parse(`${ts.replace(' ', 'T')}${ts.length > 10 ? '' : 'T00:00'}Z`);
+	return Number.isFinite(t) ? t : null;
+}
+
+/** A gap this many times the usual interval is counted as one usual interval (logger off). */
+export const GAP_FACTOR = 10;
+
+/** Time at each temperature from timed readings; see LogSummary.temperatureProfile. */
+export function temperatureProfileOf(readings: readonly { at: number; tempC: number }[]): {
+	profile: { tempC: number; hours: number }[];
+	gaps: number;
+} {
+	if (readings.length < 2) return { profile: [], gaps: 0 };
+	const steps: number[] = [];
+	for (let i = 0; i + 1 < readings.length; i++) {
+		const d = readings[i + 1].at - readings[i].at;
+		if (d > 0) steps.push(d);
+	}
+	if (!steps.length) return { profile: [], gaps: 0 };
+	const sorted = [...steps].sort((a, b) => a - b);
+	const usual = sorted[Math.floor(sorted.length / 2)];
+	const bins = new Map<number, number>();
+	let gaps = 0;
+	readings.forEach((r, i) => {
+		let d = i + 1 < readings.length ? readings[i + 1].at - r.at : usual;
+		if (d <= 0) return;
+		if (d > GAP_FACTOR * usual) {
+			d = usual;
+			gaps++;
+		}
+		const key = Math.round(r.tempC * 10);
+		bins.set(key, (bins.get(key) ?? 0) + d / 3_600_000);
+	});
+	const profile = [...bins.entries()]
+		.sort(([a], [b]) => a - b)
+		.map(([k, h]) => ({ tempC: k / 10, hours: Math.round(h * 10_000) / 10_000 }));
+	return { profile, gaps };
+}
 
 class ProblemList {
 	private kinds = new Map<
@@ -197,6 +249,8 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 	let tempSum = 0;
 	let tempCount = 0;
 	let tempMax: number | null = null;
+	const timed: { at: number; tempC: number }[] = [];
+	let untimedTemps = 0;
 
 	for (let i = 1; i < table.length; i++) {
 		const cells = table[i];
@@ -276,6 +330,9 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 				tempSum += t;
 				tempCount++;
 				tempMax = tempMax === null ? t : Math.max(tempMax, t);
+				const at = isoMs(ts);
+				if (at === null) untimedTemps++;
+				else timed.push({ at, tempC: t });
 			}
 		}
 	}
@@ -293,6 +350,17 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 		);
 	if (tCol !== null && tempCount === 0)
 		out.push(`No row has a usable temperature in "${mapping.tempColumn}".`);
+	timed.sort((a, b) => a.at - b.at);
+	const { profile, gaps } =
+		untimedTemps > 0 ? { profile: [], gaps: 0 } : temperatureProfileOf(timed);
+	if (tempCount > 0 && untimedTemps > 0)
+		out.push(
+			'Some timestamps are not written YYYY-MM-DD hh:mm, so the temperatures cannot be weighted by time; the plain average is used for the derating.'
+		);
+	if (gaps > 0)
+		out.push(
+			`${gaps} ${gaps === 1 ? 'gap' : 'gaps'} in the log longer than ${GAP_FACTOR} usual intervals ${gaps === 1 ? 'was' : 'were'} counted as one interval at the temperature before ${gaps === 1 ? 'it' : 'them'} (the logger was probably off).`
+		);
 
 	return {
 		rows,
@@ -301,6 +369,7 @@ export function summariseLog(text: string, mapping: LogMapping): LogSummary {
 		throughputWh: energyRows === 0 ? null : Math.round(total * 1000) / 1000,
 		avgTempC: tempCount === 0 ? null : Math.round((tempSum / tempCount) * 100) / 100,
 		maxTempC: tempMax,
+		temperatureProfile: profile,
 		problems: out
 	};
 }

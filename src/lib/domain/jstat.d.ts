@@ -10,8 +10,14 @@ declare module 'jstat' {
 		/** Quantile: the t with P(T ≤ t) = p. */
 		inv(p: number, dof: number): number;
 	}
+	interface JStatChiSquare {
+		cdf(x: number, dof: number): number;
+		/** Quantile: the x with P(X ≤ x) = p. */
+		inv(p: number, dof: number): number;
+	}
 	interface JStatStatic {
 		studentt: JStatStudentT;
+		chisquare: JStatChiSquare;
 		/** Hyndman–Fan family in SciPy's (alphap, betap) form; the default 3/8, 3/8 is type 9, 1, 1 is type 7. */
 		quantiles(
 			arr: readonly number[],

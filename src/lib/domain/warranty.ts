@@ -1,12 +1,15 @@
 /**
  * Warranty assessment for TC-HC modules: term, equivalent full cycles, temperature
- * derating and promised capacity retention. Pure: dates arrive as 'YYYY-MM-DD' strings,
- * nothing reads the clock. Formulas and check values: shared/REFERENCES.md §2 and §5.
+ * derating (Arrhenius, with the mean kinetic temperature of a logged profile) and promised
+ * capacity retention. Pure: dates arrive as 'YYYY-MM-DD' strings, nothing reads the clock.
+ * Sources: IEC 61434 (C-rate), the Arrhenius equation with R from CODATA 2018, Haynes (1971)
+ * and USP ⟨1160⟩ for mean kinetic temperature, IEC 61960-3 for the capacity reference
+ * temperature; tests/domain/warranty.test.ts names the check values.
  */
 import { addYears, differenceInCalendarDays, format, isValid, parseISO } from 'date-fns';
 import type { WarrantyTerms } from './model';
 
-/** Molar gas constant, J/(mol·K). CODATA 2018; exact in the 2019 SI (REFERENCES §5). */
+/** Molar gas constant, J/(mol·K). CODATA 2018; exact in the 2019 SI. */
 export const R_GAS = 8.314462618;
 
 const KELVIN_OFFSET = 273.15;
@@ -23,7 +26,7 @@ const round = (x: number, digits: number): number => {
 };
 
 // ---------------------------------------------------------------------------
-// Arrhenius (REFERENCES §5)
+// Arrhenius
 
 /**
  * Acceleration factor of ageing from t1C to t2C: AF = exp[(Ea/R)(1/T1 − 1/T2)], T in K.
@@ -54,6 +57,58 @@ export function fitActivationEnergy(
 	);
 }
 
+/** One stretch of a temperature log: the cell temperature and how long it lasted. */
+export interface TemperatureSpan {
+	tempC: number;
+	hours: number;
+}
+
+/** Most spans a profile may have (an hourly log of eleven years fits). */
+export const MAX_PROFILE_SPANS = 100_000;
+
+/**
+ * Mean kinetic temperature (Haynes, J. Pharm. Sci. 60 (1971) 927; the form of USP ⟨1160⟩),
+ * time-weighted: T_mk = (Ea/R) / −ln(Σ tᵢ·exp(−Ea/(R·Tᵢ)) / Σ tᵢ), T in K. The single
+ * temperature that ages the cells as much as the whole profile does, under Arrhenius
+ * kinetics with the given activation energy; always at or above the plain time-weighted mean.
+ * The sum is taken as a log-sum-exp so that no term underflows.
+ */
+export function meanKineticTempC(profile: readonly TemperatureSpan[], eaJPerMol: number): number {
+	if (!(eaJPerMol > 0)) throw new RangeError('The activation energy must be positive.');
+	if (profile.length === 0) throw new RangeError('The temperature profile is empty.');
+	if (profile.length > MAX_PROFILE_SPANS)
+		throw new RangeError(`A temperature profile may have at most ${MAX_PROFILE_SPANS} spans.`);
+	let total = 0;
+	let xMin = Infinity;
+	const xs = profile.map((p) => {
+		if (!(Number.isFinite(p.hours) && p.hours >= 0))
+			throw new RangeError('Each span of the temperature profile needs hours of 0 or more.');
+		const x = eaJPerMol / (R_GAS * toKelvin(p.tempC));
+		total += p.hours;
+		if (p.hours > 0) xMin = Math.min(xMin, x);
+		return x;
+	});
+	if (!(total > 0)) throw new RangeError('The temperature profile covers no time.');
+	let acc = 0;
+	profile.forEach((p, i) => {
+		if (p.hours > 0) acc += (p.hours / total) * Math.exp(-(xs[i] - xMin));
+	});
+	const lnMean = -xMin + Math.log(acc);
+	return eaJPerMol / R_GAS / -lnMean - KELVIN_OFFSET;
+}
+
+/** The plain time-weighted mean of a profile, °C (what MKT replaces). */
+export function timeWeightedMeanC(profile: readonly TemperatureSpan[]): number {
+	let total = 0;
+	let sum = 0;
+	for (const p of profile) {
+		total += p.hours;
+		sum += p.hours * p.tempC;
+	}
+	if (!(total > 0)) throw new RangeError('The temperature profile covers no time.');
+	return sum / total;
+}
+
 export interface DeratedCycles {
 	/** Rated cycles at the operating temperature (full precision). */
 	cycles: number;
@@ -67,12 +122,17 @@ export interface DeratedCycles {
 }
 
 /**
- * Rated cycles at the average cell temperature. At or below the reference temperature,
- * or when the temperature is unknown, the rated cycles apply unchanged: the terms promise
- * no more life for cooler operation, and an unknown temperature is not held against the
- * owner. Above the hot point the fit is extrapolated, and the reason says so.
+ * Rated cycles at the cell temperature (a logged average, or the mean kinetic temperature
+ * of a profile, named by `label`). At or below the reference temperature, or when the
+ * temperature is unknown, the rated cycles apply unchanged: the terms promise no more life
+ * for cooler operation, and an unknown temperature is not held against the owner. Above
+ * the hot point the fit is extrapolated, and the reason says so.
  */
-export function deratedCycles(terms: WarrantyTerms, avgCellTempC: number | null): DeratedCycles {
+export function deratedCycles(
+	terms: WarrantyTerms,
+	cellTempC: number | null,
+	label = 'average cell temperature'
+): DeratedCycles {
 	const ea = fitActivationEnergy(
 		terms.referenceTempC,
 		terms.ratedCycles,
@@ -80,29 +140,29 @@ export function deratedCycles(terms: WarrantyTerms, avgCellTempC: number | null)
 		terms.hotRatedCycles
 	);
 	const rated = `${fmt(terms.ratedCycles, 0)} cycles rated at ${fmtTemp(terms.referenceTempC)}`;
-	if (avgCellTempC === null || !Number.isFinite(avgCellTempC)) {
+	if (cellTempC === null || !Number.isFinite(cellTempC)) {
 		return {
 			cycles: terms.ratedCycles,
 			derated: false,
 			factor: 1,
 			activationEnergyJPerMol: ea,
-			reason: `No average cell temperature was given, so the ${rated} are used without derating.`
+			reason: `No ${label} was given, so the ${rated} are used without derating.`
 		};
 	}
-	if (avgCellTempC <= terms.referenceTempC) {
+	if (cellTempC <= terms.referenceTempC) {
 		return {
 			cycles: terms.ratedCycles,
 			derated: false,
 			factor: 1,
 			activationEnergyJPerMol: ea,
-			reason: `The average cell temperature of ${fmtTemp(avgCellTempC)} is at or below the ${fmtTemp(terms.referenceTempC)} reference, so the ${rated} apply without derating.`
+			reason: `The ${label} of ${fmtTemp(cellTempC)} is at or below the ${fmtTemp(terms.referenceTempC)} reference, so the ${rated} apply without derating.`
 		};
 	}
-	const factor = arrheniusFactor(ea, terms.referenceTempC, avgCellTempC);
+	const factor = arrheniusFactor(ea, terms.referenceTempC, cellTempC);
 	const cycles = terms.ratedCycles / factor;
 	const beyond =
-		avgCellTempC > terms.hotTempC
-			? `; ${fmtTemp(avgCellTempC)} is beyond the ${fmtTemp(terms.hotTempC)} hot point, so the fit is extrapolated`
+		cellTempC > terms.hotTempC
+			? `; ${fmtTemp(cellTempC)} is beyond the ${fmtTemp(terms.hotTempC)} hot point, so the fit is extrapolated`
 			: '';
 	return {
 		cycles,
@@ -110,7 +170,7 @@ export function deratedCycles(terms: WarrantyTerms, avgCellTempC: number | null)
 		factor,
 		activationEnergyJPerMol: ea,
 		reason:
-			`At an average cell temperature of ${fmtTemp(avgCellTempC)} the rated cycles derate from ` +
+			`At ${/^[aeiou]/.test(label) ? 'an' : 'a'} ${label} of ${fmtTemp(cellTempC)} the rated cycles derate from ` +
 			`${fmt(terms.ratedCycles, 0)} to ${fmtCycles(cycles)} (Arrhenius fit through ${fmt(terms.ratedCycles, 0)} at ` +
 			`${fmtTemp(terms.referenceTempC)} and ${fmt(terms.hotRatedCycles, 0)} at ${fmtTemp(terms.hotTempC)}, ` +
 			`Ea ${fmt(ea / 1000, 1)} kJ/mol)${beyond}.`
@@ -118,7 +178,7 @@ export function deratedCycles(terms: WarrantyTerms, avgCellTempC: number | null)
 }
 
 // ---------------------------------------------------------------------------
-// Cycles and capacity (REFERENCES §2)
+// Cycles and capacity (IEC 61434; energy-basis equivalent full cycles)
 
 /**
  * Equivalent full cycles on the energy basis: throughput ÷ usable energy. This is the basis
@@ -212,17 +272,35 @@ export function yearsBetween(from: string, to: string): number {
 
 export type ClaimRecommendation = 'cover' | 'decline' | 'need-evidence';
 
+/**
+ * Capacity is rated at 20 ± 5 °C (IEC 61960-3 reference conditions, from memory); a test
+ * outside the band is weighed, and a cold one (which reads low) asks for a repeat.
+ */
+export const CAPACITY_REFERENCE_C = 20;
+export const CAPACITY_REFERENCE_TOLERANCE_C = 5;
+/**
+ * Default uncertainty of a field capacity test, % of the reading (common practice: test
+ * sets quote about ±0.5–1 % of reading; the field adds more). Configurable per request.
+ */
+export const DEFAULT_CAPACITY_UNCERTAINTY_PCT = 1;
+
 export interface ClaimInput {
 	terms: WarrantyTerms;
 	commissionedOn: string | null;
 	claimedOn: string;
 	ratedCapacityAh: number;
 	measuredCapacityAh?: number | null;
+	/** Cell temperature during the capacity test, °C. */
+	measuredAtC?: number | null;
 	usableWh: number;
 	throughputWh?: number | null;
 	/** Cycle count from the BMS, taken as equivalent full cycles when no throughput is given. */
 	cycles?: number | null;
 	avgCellTempC?: number | null;
+	/** Time at each cell temperature from the log; when given it sets the temperature (MKT). */
+	temperatureProfile?: readonly TemperatureSpan[] | null;
+	/** Uncertainty of the capacity test, % of the reading (default 1 %). */
+	capacityUncertaintyPct?: number | null;
 	stopChargeProven?: boolean | null;
 	/** Descriptions of events, or just how many. */
 	eventsOutsideLimits?: string[] | number | null;
@@ -241,10 +319,17 @@ export interface ClaimAssessment {
 	deratedRatedCycles: number;
 	/** 3 decimals. */
 	activationEnergyKJPerMol: number;
-	/** 2 decimals. */
+	/** The cell temperature the derating used, °C (2 decimals): the profile's MKT or the average. */
+	effectiveCellTempC: number | null;
+	temperatureBasis: 'profile' | 'average' | null;
+	/** Exactly the hundredths the comparison used (2 decimals). */
 	retentionPct: number | null;
-	/** 2 decimals; null when the cycles are unknown. */
+	/** Exactly the hundredths the comparison used (2 decimals); null when the cycles are unknown. */
 	promisedRetentionPct: number | null;
+	/** Retention and promise are compared in steps of this many percentage points. */
+	retentionPrecisionPct: number;
+	/** ± percentage points the capacity test's uncertainty spans (2 decimals). */
+	measurementMarginPct: number | null;
 	/** Sentences with their numbers, for the claims officer. */
 	reasons: string[];
 }
@@ -252,12 +337,62 @@ export interface ClaimAssessment {
 const given = (x: number | null | undefined): x is number =>
 	typeof x === 'number' && Number.isFinite(x);
 
+// ---------------------------------------------------------------------------
+// Exact decimals for the comparisons: every input is taken as the decimal it prints as
+// (256.2 is 2562/10, not the nearest binary double), so 256.2 Ah of 280 Ah is exactly
+// 91.5 % and ties with a promised 91.5 %.
+
+interface Dec {
+	n: bigint;
+	d: bigint;
+}
+const TEN = BigInt(10);
+function dec(x: number): Dec {
+	if (!Number.isFinite(x)) throw new RangeError(`${x} is not a finite number.`);
+	const [mant, expPart] = String(x).toLowerCase().split('e');
+	const neg = mant.startsWith('-');
+	const [int, frac = ''] = (neg ? mant.slice(1) : mant).split('.');
+	let n = BigInt(int + frac) * (neg ? BigInt(-1) : BigInt(1));
+	let d = TEN ** BigInt(frac.length);
+	const e = Number(expPart ?? 0);
+	if (e > 0) n *= TEN ** BigInt(e);
+	else if (e < 0) d *= TEN ** BigInt(-e);
+	return { n, d };
+}
+const mul = (a: Dec, b: Dec): Dec => ({ n: a.n * b.n, d: a.d * b.d });
+const div = (a: Dec, b: Dec): Dec =>
+	b.n < BigInt(0) ? { n: -a.n * b.d, d: a.d * -b.n } : { n: a.n * b.d, d: a.d * b.n };
+const sub = (a: Dec, b: Dec): Dec => ({ n: a.n * b.d - b.n * a.d, d: a.d * b.d });
+const cmp = (a: Dec, b: Dec): number => {
+	const x = a.n * b.d - b.n * a.d;
+	return x > BigInt(0) ? 1 : x < BigInt(0) ? -1 : 0;
+};
+const minDec = (a: Dec, b: Dec): Dec => (cmp(a, b) <= 0 ? a : b);
+/** Rounds to whole hundredths, half away from zero: 91.495 → 9150. */
+function hundredths(a: Dec): bigint {
+	const num = a.n * BigInt(100);
+	const neg = num < BigInt(0);
+	const abs = neg ? -num : num;
+	const q = (abs * BigInt(2) + a.d) / (a.d * BigInt(2));
+	return neg ? -q : q;
+}
+const fmtHundredths = (h: bigint): string => {
+	const neg = h < BigInt(0);
+	const abs = neg ? -h : h;
+	const frac = (abs % BigInt(100)).toString().padStart(2, '0');
+	return `${neg ? '−' : ''}${fmt(Number(abs / BigInt(100)), 0)}.${frac}`;
+};
+
 /**
- * Recommends cover, decline or a request for evidence. Decisions use full precision;
- * returned numbers are rounded (2 decimals for % and cycles, 3 for years). A decline
- * that holds whatever missing evidence would show (past term, past cycles, retention at
- * or above the promise) wins over need-evidence. Events outside limits and an unproven
- * stop-charge signal are listed for the officer to weigh and never change the result.
+ * Recommends cover, decline or a request for evidence. Retention and the promised retention
+ * are compared in whole hundredths of a percentage point, each rounded half away from zero
+ * in exact decimal arithmetic, and the sentences print exactly those hundredths; the
+ * returned numbers are the same hundredths. Cycles against the rated cycles are compared
+ * exactly too. A decline that holds whatever missing evidence would show (past term, past
+ * cycles, retention at or above the promise) wins over need-evidence. Events outside
+ * limits, an unproven stop-charge signal, a capacity test away from the reference
+ * temperature and a retention within the test's uncertainty of the promise are listed for
+ * the officer to weigh and never change the result.
  */
 export function assessClaim(input: ClaimInput): ClaimAssessment {
 	const { terms } = input;
@@ -286,9 +421,11 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 
 	// Cycles
 	let efc: number | null = null;
+	let efcDec: Dec | null = null;
 	let cycleBasis: ClaimAssessment['cycleBasis'] = null;
 	if (given(input.throughputWh)) {
 		efc = equivalentFullCycles({ throughputWh: input.throughputWh, usableWh: input.usableWh });
+		efcDec = div(dec(input.throughputWh), dec(input.usableWh));
 		cycleBasis = 'throughput';
 		let s = `Discharge throughput of ${fmt(input.throughputWh, 0)} Wh over ${fmt(input.usableWh, 0)} Wh usable gives ${fmtCycles(efc)} equivalent full cycles (energy basis).`;
 		if (given(input.cycles))
@@ -297,6 +434,7 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 	} else if (given(input.cycles)) {
 		if (input.cycles < 0) throw new RangeError('Cycles must not be negative.');
 		efc = input.cycles;
+		efcDec = dec(input.cycles);
 		cycleBasis = 'count';
 		reasons.push(
 			`No energy throughput was given, so the reported count of ${fmtCycles(efc)} cycles is taken as equivalent full cycles.`
@@ -307,10 +445,35 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 		);
 	}
 
-	// Derating
-	const derating = deratedCycles(terms, given(input.avgCellTempC) ? input.avgCellTempC : null);
+	// Temperature: the log's profile (mean kinetic temperature) before a typed average.
+	const ea = fitActivationEnergy(
+		terms.referenceTempC,
+		terms.ratedCycles,
+		terms.hotTempC,
+		terms.hotRatedCycles
+	);
+	let effectiveCellTempC: number | null = null;
+	let temperatureBasis: ClaimAssessment['temperatureBasis'] = null;
+	let tempLabel = 'average cell temperature';
+	const profile = input.temperatureProfile?.filter((p) => p.hours > 0) ?? [];
+	if (profile.length) {
+		effectiveCellTempC = meanKineticTempC(profile, ea);
+		temperatureBasis = 'profile';
+		tempLabel = 'mean kinetic cell temperature';
+		const hours = profile.reduce((a, p) => a + p.hours, 0);
+		const plain = timeWeightedMeanC(profile);
+		let s = `The log's cell temperatures over ${fmt(hours, 0)} hours, weighted by time and by how fast cells age at each (mean kinetic temperature, Haynes 1971, with the terms' Ea of ${fmt(ea / 1000, 1)} kJ/mol), give ${fmt(effectiveCellTempC, 1)} °C; their plain mean is ${fmt(plain, 1)} °C.`;
+		if (given(input.avgCellTempC))
+			s += ` The typed average of ${fmtTemp(input.avgCellTempC)} was not used: the log takes precedence.`;
+		reasons.push(s);
+	} else if (given(input.avgCellTempC)) {
+		effectiveCellTempC = input.avgCellTempC;
+		temperatureBasis = 'average';
+	}
+	const derating = deratedCycles(terms, effectiveCellTempC, tempLabel);
 	reasons.push(derating.reason);
-	const pastCycles = efc !== null && efc > derating.cycles;
+	const deratedDec = derating.derated ? dec(derating.cycles) : dec(terms.ratedCycles);
+	const pastCycles = efcDec !== null && cmp(efcDec, deratedDec) > 0;
 	if (efc !== null) {
 		const [e, d] = fmtDistinct(efc, derating.cycles, efc >= 100 ? 0 : 1);
 		reasons.push(
@@ -320,24 +483,68 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 		);
 	}
 
-	// Retention
-	const promised =
-		efc !== null ? promisedRetentionPct(terms.endRetentionPct, efc, derating.cycles) : null;
-	let retention: number | null = null;
+	// Retention, compared in exact hundredths of a percentage point.
+	const hundred = dec(100);
+	const promisedH =
+		efcDec !== null
+			? hundredths(
+					sub(
+						hundred,
+						mul(sub(hundred, dec(terms.endRetentionPct)), minDec(div(efcDec, deratedDec), dec(1)))
+					)
+				)
+			: null;
+	let retentionH: bigint | null = null;
+	let marginH: bigint | null = null;
 	if (given(input.measuredCapacityAh)) {
-		retention = capacityRetentionPct(input.measuredCapacityAh, input.ratedCapacityAh);
+		if (!(input.ratedCapacityAh > 0)) throw new RangeError('Rated capacity must be positive.');
+		if (input.measuredCapacityAh < 0)
+			throw new RangeError('Measured capacity must not be negative.');
+		const retention = mul(div(dec(input.measuredCapacityAh), dec(input.ratedCapacityAh)), hundred);
+		retentionH = hundredths(retention);
+		const uPct = given(input.capacityUncertaintyPct)
+			? input.capacityUncertaintyPct
+			: DEFAULT_CAPACITY_UNCERTAINTY_PCT;
+		if (!(uPct >= 0 && uPct <= 20))
+			throw new RangeError(
+				'The capacity test uncertainty must be between 0 and 20 % of the reading.'
+			);
+		marginH = hundredths(div(mul(retention, dec(uPct)), hundred));
 		const of = `(${fmt(input.measuredCapacityAh, 1)} Ah of ${fmt(input.ratedCapacityAh, 1)} Ah)`;
-		if (promised !== null && efc !== null) {
-			const [r, p] = fmtDistinct(retention, promised, 1);
+		const r = fmtHundredths(retentionH);
+		if (promisedH !== null && efc !== null) {
+			const p = fmtHundredths(promisedH);
 			const at = `at ${fmtCycles(efc)} equivalent full cycles`;
 			reasons.push(
-				retention < promised
+				retentionH < promisedH
 					? `Retention ${r} % ${of} is below the ${p} % promised ${at}.`
 					: `Retention ${r} % ${of} is at or above the ${p} % promised ${at}: the module performs as warranted.`
 			);
+			const gap = retentionH > promisedH ? retentionH - promisedH : promisedH - retentionH;
+			if (marginH > BigInt(0) && gap <= marginH)
+				reasons.push(
+					`The difference of ${fmtHundredths(gap)} percentage points is within the ±${fmtHundredths(marginH)} points the capacity test can be trusted to (${fmt(uPct, 1)} % of the reading): a repeat test could land on the other side of the promise. Weigh that before deciding.`
+				);
 		} else {
 			reasons.push(
-				`Retention is ${fmt(retention, 1)} % ${of}; without the cycles the promised retention cannot be set.`
+				`Retention is ${r} % ${of}; without the cycles the promised retention cannot be set.`
+			);
+		}
+		const band = `${fmt(CAPACITY_REFERENCE_C, 0)} ± ${fmt(CAPACITY_REFERENCE_TOLERANCE_C, 0)} °C reference band (IEC 61960-3)`;
+		if (given(input.measuredAtC)) {
+			const t = input.measuredAtC;
+			if (t < CAPACITY_REFERENCE_C - CAPACITY_REFERENCE_TOLERANCE_C)
+				reasons.push(
+					`The capacity was measured at ${fmtTemp(t)}, below the ${band}: a cold cell gives less capacity, so the retention may read low. Ask for a capacity test at ${fmt(CAPACITY_REFERENCE_C - CAPACITY_REFERENCE_TOLERANCE_C, 0)}–${fmt(CAPACITY_REFERENCE_C + CAPACITY_REFERENCE_TOLERANCE_C, 0)} °C before deciding.`
+				);
+			else if (t > CAPACITY_REFERENCE_C + CAPACITY_REFERENCE_TOLERANCE_C)
+				reasons.push(
+					`The capacity was measured at ${fmtTemp(t)}, above the ${band}: a warm cell gives more capacity, so the retention may read high.`
+				);
+			else reasons.push(`The capacity was measured at ${fmtTemp(t)}, within the ${band}.`);
+		} else {
+			reasons.push(
+				`The capacity test's temperature was not given; capacity is rated within the ${band}.`
 			);
 		}
 	} else {
@@ -361,10 +568,10 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 		);
 	}
 
-	const meetsPromise = retention !== null && promised !== null && retention >= promised;
+	const meetsPromise = retentionH !== null && promisedH !== null && retentionH >= promisedH;
 	let recommendation: ClaimRecommendation;
 	if (withinTerm === false || pastCycles || meetsPromise) recommendation = 'decline';
-	else if (withinTerm === null || efc === null || retention === null)
+	else if (withinTerm === null || efc === null || retentionH === null)
 		recommendation = 'need-evidence';
 	else recommendation = 'cover';
 
@@ -377,8 +584,12 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 		cycleBasis,
 		deratedRatedCycles: round(derating.cycles, 2),
 		activationEnergyKJPerMol: round(derating.activationEnergyJPerMol / 1000, 3),
-		retentionPct: retention === null ? null : round(retention, 2),
-		promisedRetentionPct: promised === null ? null : round(promised, 2),
+		effectiveCellTempC: effectiveCellTempC === null ? null : round(effectiveCellTempC, 2),
+		temperatureBasis,
+		retentionPct: retentionH === null ? null : Number(retentionH) / 100,
+		promisedRetentionPct: promisedH === null ? null : Number(promisedH) / 100,
+		retentionPrecisionPct: 0.01,
+		measurementMarginPct: marginH === null ? null : Number(marginH) / 100,
 		reasons
 	};
 }

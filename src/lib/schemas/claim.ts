@@ -4,7 +4,7 @@
  * pages, their actions and the API routes.
  */
 import { z } from 'zod';
-import { claimEvidenceSchema } from './warranty-assess';
+import { claimEvidenceSchema, temperatureProfileSchema } from './warranty-assess';
 
 export const CLAIM_STATE_NAMES = [
 	'filed',
@@ -93,7 +93,9 @@ export const logSummarySchema = z.object({
 	rows: z.number().int().min(0),
 	firstAt: z.string().max(40).nullable(),
 	lastAt: z.string().max(40).nullable(),
-	problems: z.array(z.string().max(500)).max(100)
+	problems: z.array(z.string().max(500)).max(100),
+	/** Hours at each cell temperature (0.1 °C steps): at most 1 601 from −40 to 120 °C. */
+	temperatureProfile: temperatureProfileSchema.max(2000).optional()
 });
 export type LogSummaryEvidence = z.infer<typeof logSummarySchema>;
 

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { emailField } from './auth';
 
 /** Blank text from a form means "none". */
 const optionalText = (max: number, message: string) =>
@@ -14,7 +15,7 @@ export const dealerSchema = z.object({
 		.trim()
 		.min(2, 'Enter the dealer’s name.')
 		.max(120, 'Use at most 120 characters.'),
-	contactEmail: z.string().trim().toLowerCase().email('Enter the address shipment notices go to.'),
+	contactEmail: emailField('Enter the address shipment notices go to.'),
 	region: optionalText(120, 'Use at most 120 characters for the region.')
 });
 export type DealerInput = z.infer<typeof dealerSchema>;

@@ -127,7 +127,16 @@ const fields = z.object({
 	referenceTempC: temperature('Reference temperature'),
 	endRetentionPct: between('End-of-warranty retention', '%', 1, 100),
 	hotTempC: temperature('Hot test temperature'),
-	hotRatedCycles: whole('Rated cycles when hot', 'cycles', 1, 1_000_000)
+	hotRatedCycles: whole('Rated cycles when hot', 'cycles', 1, 1_000_000),
+	/** What one replacement under warranty costs (module, freight, labour); blank = not yet entered. */
+	replacementCost: z.preprocess(
+		(v) => (typeof v === 'string' && v.trim() === '' ? null : v === undefined ? null : fromText(v)),
+		z
+			.number({ error: 'Replacement cost must be a number (or blank).' })
+			.min(0, { error: 'Replacement cost must not be negative.' })
+			.max(10_000_000, { error: 'Replacement cost must be at most 10 000 000; check the figure.' })
+			.nullable()
+	)
 });
 
 type Fields = z.output<typeof fields>;

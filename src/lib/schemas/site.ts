@@ -5,7 +5,10 @@
  * Each issue names its field in words a technician on site can act on.
  */
 import { z } from 'zod';
-import type { SITE_APPLICATIONS as DB_SITE_APPLICATIONS } from '$lib/server/db/schema';
+import type {
+	CLIMATE_BANDS as DB_CLIMATE_BANDS,
+	SITE_APPLICATIONS as DB_SITE_APPLICATIONS
+} from '$lib/server/db/schema';
 import type { InverterWindow } from '$lib/domain/design-check';
 import { designCheckInputSchema, designModuleSchema, inverterWindowSchema } from './design-check';
 
@@ -21,6 +24,18 @@ export const SITE_APPLICATION_LABELS: Record<SiteApplication, string> = {
 	other: 'Something else'
 };
 export const SITE_APPLICATIONS = Object.keys(SITE_APPLICATION_LABELS) as SiteApplication[];
+
+export type ClimateBand = (typeof DB_CLIMATE_BANDS)[number];
+
+/** Main climate groups of the Köppen–Geiger classification, in plain words. */
+export const CLIMATE_BAND_LABELS: Record<ClimateBand, string> = {
+	tropical: 'Tropical (hot and humid all year)',
+	arid: 'Arid (desert or steppe)',
+	temperate: 'Temperate (mild winters)',
+	continental: 'Continental (cold winters, warm summers)',
+	polar: 'Polar or alpine (cold all year)'
+};
+export const CLIMATE_BANDS = Object.keys(CLIMATE_BAND_LABELS) as ClimateBand[];
 
 /** Form text to number: blank → undefined (so "required" can be said), "12,5" → 12.5. */
 const fromText = (v: unknown) => {
@@ -76,8 +91,23 @@ const whole = (label: string, min: number, max: number) =>
 			.max(max, { error: `${label}: ${min} to ${max}.` })
 	);
 
-const EMAIL = /^[^\s@]+@[^\s@]+\.[^\s@]{2,}$/;
+/** Longest owner contact accepted (an e-mail address has at most 254, RFC 5321 §4.5.3.1.3). */
+export const MAX_OWNER_CONTACT = 254;
 const PHONE = /^\+?[0-9(][0-9 ()./-]{4,24}[0-9]$/;
+
+/**
+ * name@host.tld without spaces: one "@", something before it, a dot in the host with at
+ * least two characters after it. Written without a pattern: the pattern it
+ * replaces backtracked quadratically on a long "a@a.a.a…".
+ */
+function looksLikeEmail(v: string): boolean {
+	if (/\s/.test(v)) return false;
+	const at = v.indexOf('@');
+	if (at < 1 || at !== v.lastIndexOf('@')) return false;
+	const host = v.slice(at + 1);
+	const dot = host.indexOf('.', 1);
+	return dot > 0 && dot <= host.length - 3;
+}
 
 export const siteSchema = z.object({
 	name: text('Site name', 2, 80, 'Willow Lane farm'),
@@ -85,7 +115,11 @@ export const siteSchema = z.object({
 	ownerContact: z
 		.string({ error: 'Enter the owner’s phone number or e-mail address.' })
 		.trim()
-		.refine((v) => EMAIL.test(v) || (PHONE.test(v) && v.replace(/\D/g, '').length >= 6), {
+		.max(MAX_OWNER_CONTACT, {
+			error: `The owner’s contact must be at most ${MAX_OWNER_CONTACT} characters.`,
+			abort: true
+		})
+		.refine((v) => looksLikeEmail(v) || (PHONE.test(v) && v.replace(/\D/g, '').length >= 6), {
 			error:
 				'Enter the owner’s phone number (digits, spaces, +) or e-mail address (name@example.org).'
 		}),
@@ -93,6 +127,16 @@ export const siteSchema = z.object({
 	application: z.enum(SITE_APPLICATIONS as [SiteApplication, ...SiteApplication[]], {
 		error: 'Choose what the battery is for.'
 	}),
+	/** Optional: blank means not recorded. */
+	climateBand: z.preprocess(
+		(v) => (v === '' || v == null ? null : v),
+		z
+			.enum(CLIMATE_BANDS as [ClimateBand, ...ClimateBand[]], {
+				error: 'Choose one of the listed climate bands, or leave it blank.'
+			})
+			.nullable()
+			.optional()
+	),
 	/** Assembler staff only (ignored for a dealer's people, whose own organisation is always used); blank = our own installation. */
 	dealerOrgId: z.preprocess(
 		(v) => (v === '' || v === 'none' || v == null ? null : fromText(v)),

@@ -58,6 +58,28 @@ export const warrantyTermsSchema = z
 		path: ['hotRatedCycles']
 	});
 
+/** Most spans a temperature profile may have (an hourly log of eleven years fits). */
+export const MAX_PROFILE_SPANS = 100_000;
+
+/** Time at each cell temperature, e.g. from an inverter log: `[{ tempC, hours }]`. */
+export const temperatureProfileSchema = z
+	.array(
+		z.object({
+			tempC: temperature('A profile temperature'),
+			hours: z
+				.number({ error: 'Each profile span needs its hours as a number.' })
+				.min(0, { error: 'Profile hours must not be negative.' })
+				.max(1_000_000, { error: 'A profile span cannot last more than 1 000 000 hours.' })
+		}),
+		{ error: 'temperatureProfile must be a list of { tempC, hours }.' }
+	)
+	.max(MAX_PROFILE_SPANS, {
+		error: `A temperature profile may have at most ${MAX_PROFILE_SPANS.toLocaleString('en')} spans; group the readings by temperature first.`
+	})
+	.refine((p) => p.length === 0 || p.some((s) => s.hours > 0), {
+		error: 'The temperature profile covers no time: give the hours at each temperature.'
+	});
+
 /** Request body for a warranty assessment; matches `ClaimInput` of domain/warranty. */
 export const assessRequestSchema = z
 	.object({
@@ -69,7 +91,14 @@ export const assessRequestSchema = z
 		usableWh: positive('Usable energy', 'Wh'),
 		throughputWh: nonNegative('Throughput', 'Wh').nullish(),
 		cycles: nonNegative('Cycle count', 'cycles').nullish(),
+		measuredAtC: temperature('Capacity test temperature').nullish(),
 		avgCellTempC: temperature('Average cell temperature').nullish(),
+		temperatureProfile: temperatureProfileSchema.nullish(),
+		capacityUncertaintyPct: z
+			.number({ error: 'Capacity test uncertainty must be a number in % of the reading.' })
+			.min(0, { error: 'Capacity test uncertainty must be between 0 and 20 %.' })
+			.max(20, { error: 'Capacity test uncertainty must be between 0 and 20 %.' })
+			.nullish(),
 		stopChargeProven: z.boolean().nullish(),
 		eventsOutsideLimits: z
 			.union([z.array(z.string().trim().min(1).max(500)).max(200), z.number().int().min(0)], {

@@ -8,6 +8,8 @@ export interface Actor {
 	/** True when the organisation is a dealer: every module query is scoped to it. */
 	dealerScoped: boolean;
 	label: string;
+	/** The user's session version when the actor was read; a session token must carry the same. */
+	sessionVersion?: number;
 	/** Set when the request came with an API token instead of a session. */
 	tokenId?: number;
 }

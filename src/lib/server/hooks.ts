@@ -28,33 +28,43 @@ export const actorHandle: Handle = async ({ event, resolve }) => {
 	if (authz?.startsWith('Bearer ') && event.url.pathname.startsWith('/api/')) {
 		event.locals.token = await verifyToken(await getDb(), authz.slice(7).trim());
 	} else if (!event.url.pathname.startsWith('/auth/')) {
-		const id = await sessionUserId(event);
-		if (id) event.locals.user = await loadActor(id);
+		const session = await sessionOf(event);
+		if (session) {
+			const actor = await loadActor(session.userId);
+			// A token issued before sign-out, a password reset, a role or organisation change
+			// or a deactivation carries an older session version: it no longer signs anyone in.
+			if (actor && actor.sessionVersion === session.sessionVersion) event.locals.user = actor;
+		}
 	}
 	return resolve(event);
 };
 
 /**
  * Decoding the session token (Auth.js decrypts a JWE and re-issues the cookie) costs a few
- * milliseconds, as much as a fleet query. The user id of a token is remembered for a
- * minute; the user row is still read on every request, so a deactivated account or a
- * changed role takes effect at once.
+ * milliseconds, as much as a fleet query. What a token says is remembered for a minute; the
+ * user row (with its session version) is still read on every request, so sign-out, a
+ * deactivated account or a changed role takes effect at once.
  */
 const SESSION_CACHE_MS = 60_000;
-const sessionCache = new Map<string, { userId: number; at: number }>();
+const sessionCache = new Map<string, { userId: number; sessionVersion: number; at: number }>();
 
-async function sessionUserId(event: Parameters<Handle>[0]['event']): Promise<number | null> {
+async function sessionOf(
+	event: Parameters<Handle>[0]['event']
+): Promise<{ userId: number; sessionVersion: number } | null> {
 	const token =
 		event.cookies.get('__Secure-authjs.session-token') ?? event.cookies.get('authjs.session-token');
 	if (!token) return null;
 	const hit = sessionCache.get(token);
-	if (hit && Date.now() - hit.at < SESSION_CACHE_MS) return hit.userId;
+	if (hit && Date.now() - hit.at < SESSION_CACHE_MS) return hit;
 	const session = await event.locals.auth();
-	const id = Number((session?.user as { id?: unknown } | undefined)?.id);
-	if (!Number.isInteger(id) || id <= 0) return null;
+	const user = session?.user as { id?: unknown; sessionVersion?: unknown } | undefined;
+	const id = Number(user?.id);
+	const sessionVersion = Number(user?.sessionVersion);
+	if (!Number.isInteger(id) || id <= 0 || !Number.isInteger(sessionVersion)) return null;
 	if (sessionCache.size > 5000) sessionCache.clear();
-	sessionCache.set(token, { userId: id, at: Date.now() });
-	return id;
+	const entry = { userId: id, sessionVersion, at: Date.now() };
+	sessionCache.set(token, entry);
+	return entry;
 }
 
 export async function loadActor(userId: number): Promise<Actor | null> {

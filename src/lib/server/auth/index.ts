@@ -1,18 +1,29 @@
 import { SvelteKitAuth, CredentialsSignin, type SvelteKitAuthConfig } from '@auth/sveltekit';
 import { Auth } from '@auth/core';
+import { decode } from '@auth/core/jwt';
 import type { Handle } from '@sveltejs/kit';
 import Credentials from '@auth/sveltekit/providers/credentials';
+import { randomBytes } from 'node:crypto';
 import { eq } from 'drizzle-orm';
 import { getDb } from '$lib/server/db';
-import { users } from '$lib/server/db/schema';
+import { organisations, users } from '$lib/server/db/schema';
 import { signInSchema } from '$lib/schemas/auth';
-import { verifyPassword } from './password';
-import { clearSignInFailures, recordSignInFailure, signInBlockedFor } from './rate-limit';
+import { hashPassword, verifyPassword } from './password';
+import { claimSignInAttempt, signInSucceeded } from './rate-limit';
 import { currentClientAddress } from '$lib/server/request-context';
+import { endSessions } from '$lib/server/services/users';
 
 class RateLimited extends CredentialsSignin {
 	code = 'rate_limited';
 }
+
+/**
+ * A hash of a random password, checked when the account does not exist (or cannot sign in),
+ * so that the answer takes as long as for a real account (OWASP Authentication Cheat Sheet,
+ * "Authentication and Error Messages": response times).
+ */
+let dummyHash: Promise<string> | null = null;
+const dummy = () => (dummyHash ??= hashPassword(randomBytes(24).toString('base64url')));
 
 /** Checks e-mail and password; returns the user Auth.js puts in the token, or null. */
 async function authorize(credentials: Partial<Record<string, unknown>>) {
@@ -20,26 +31,44 @@ async function authorize(credentials: Partial<Record<string, unknown>>) {
 	if (!parsed.success) return null;
 	const { email, password } = parsed.data;
 	const address = currentClientAddress();
-	if (signInBlockedFor(email, address) > 0) throw new RateLimited();
 	const db = await getDb();
-	const [user] = await db.select().from(users).where(eq(users.email, email)).limit(1);
-	const ok =
-		!!user &&
-		user.active &&
-		!!user.passwordHash &&
-		(await verifyPassword(user.passwordHash, password));
-	if (!ok || !user) {
-		recordSignInFailure(email, address);
+	// The slot is claimed before any password is checked, so parallel attempts cannot overrun it.
+	const attempt = await claimSignInAttempt(db, email, address);
+	if (!attempt.allowed) {
+		console.warn(`sign-in refused: too many attempts for this account or client (${address})`);
+		throw new RateLimited();
+	}
+	const [user] = await db
+		.select({
+			id: users.id,
+			email: users.email,
+			name: users.name,
+			role: users.role,
+			organisationId: users.organisationId,
+			passwordHash: users.passwordHash,
+			active: users.active,
+			orgActive: organisations.active,
+			sessionVersion: users.sessionVersion
+		})
+		.from(users)
+		.innerJoin(organisations, eq(users.organisationId, organisations.id))
+		.where(eq(users.email, email))
+		.limit(1);
+	const usable = !!user && user.active && user.orgActive && !!user.passwordHash;
+	const matches = await verifyPassword(usable ? user.passwordHash! : await dummy(), password);
+	if (!usable || !matches) {
+		console.warn('sign-in refused: e-mail and password do not match an active account');
 		return null;
 	}
-	clearSignInFailures(email);
+	await signInSucceeded(db, email, address);
 	await db.update(users).set({ lastSignInAt: new Date() }).where(eq(users.id, user.id));
 	return {
 		id: String(user.id),
 		email: user.email,
 		name: user.name,
 		role: user.role,
-		organisationId: user.organisationId
+		organisationId: user.organisationId,
+		sessionVersion: user.sessionVersion
 	};
 }
 
@@ -51,7 +80,9 @@ export const authConfig: SvelteKitAuthConfig = {
 	logger: {
 		// A wrong password is an everyday event answered on the form, not a server error.
 		error(e) {
-			if (e.name !== 'CredentialsSignin') console.error(e);
+			// authorize has already written its one line for a refused sign-in.
+			if (e instanceof CredentialsSignin || e.name === 'CredentialsSignin') return;
+			console.error(e);
 		}
 	},
 	providers: [
@@ -66,10 +97,16 @@ export const authConfig: SvelteKitAuthConfig = {
 	callbacks: {
 		jwt({ token, user }) {
 			if (user) {
-				const u = user as { id: string; role: string; organisationId: number };
+				const u = user as {
+					id: string;
+					role: string;
+					organisationId: number;
+					sessionVersion: number;
+				};
 				token.uid = Number(u.id);
 				token.role = u.role;
 				token.org = u.organisationId;
+				token.sv = u.sessionVersion;
 			}
 			return token;
 		},
@@ -78,6 +115,7 @@ export const authConfig: SvelteKitAuthConfig = {
 			s.user.id = token.uid;
 			s.user.role = token.role;
 			s.user.organisationId = token.org;
+			s.user.sessionVersion = token.sv;
 			return session;
 		}
 	}
@@ -96,12 +134,39 @@ const STANDARD = new Set([
 	'POST /auth/callback/credentials',
 	'POST /auth/signout'
 ]);
-export const standardAuthEndpoints: Handle = ({ event, resolve }) => {
-	if (!STANDARD.has(`${event.request.method} ${event.url.pathname}`)) return resolve(event);
-	return Auth(event.request, {
+export const standardAuthEndpoints: Handle = async ({ event, resolve }) => {
+	const route = `${event.request.method} ${event.url.pathname}`;
+	if (!STANDARD.has(route)) return resolve(event);
+	const response = await Auth(event.request, {
 		...authConfig,
 		basePath: '/auth',
 		secret: process.env.AUTH_SECRET,
 		skipCSRFCheck: undefined
 	});
+	// Auth.js only clears the cookie; a copy of the token must stop working too.
+	if (route === 'POST /auth/signout' && response.status < 400) {
+		const uid = await tokenUserId(event.cookies.getAll());
+		if (uid) await endSessions(await getDb(), uid);
+	}
+	return response;
 };
+
+/** The user id inside a session cookie, or null (a token that does not decode counts as none). */
+export async function tokenUserId(
+	cookies: { name: string; value: string }[]
+): Promise<number | null> {
+	for (const name of SESSION_COOKIES) {
+		const value = cookies.find((c) => c.name === name)?.value;
+		if (!value) continue;
+		try {
+			const token = await decode({ token: value, secret: process.env.AUTH_SECRET!, salt: name });
+			const id = Number(token?.uid);
+			if (Number.isInteger(id) && id > 0) return id;
+		} catch {
+			/* not ours, or expired */
+		}
+	}
+	return null;
+}
+
+export const SESSION_COOKIES = ['__Secure-authjs.session-token', 'authjs.session-token'];

@@ -38,7 +38,24 @@ export const users = sqliteTable('users', {
 	passwordHash: text('password_hash'),
 	active: integer('active', { mode: 'boolean' }).notNull().default(true),
 	lastSignInAt: integer('last_sign_in_at', { mode: 'timestamp_ms' }),
+	/**
+	 * Copied into the session token at sign-in; the request hook refuses a token whose copy
+	 * differs. Sign-out, a password reset, a change of role or organisation and deactivation
+	 * (of the person or the organisation) raise it, so every older session ends at once.
+	 */
+	sessionVersion: integer('session_version').notNull().default(0),
 	createdAt: createdAt()
+});
+
+/**
+ * Fixed-window counters for sign-in and reset limits, kept in the database so that every
+ * app process on the same database shares them. An attempt claims its slot with one
+ * atomic upsert before any password is checked.
+ */
+export const rateLimits = sqliteTable('rate_limits', {
+	key: text('key').primaryKey(),
+	windowStart: integer('window_start').notNull(),
+	count: integer('count').notNull()
 });
 
 /** One-time links: invitations and password resets. Only a hash of the token is stored. */
@@ -84,6 +101,8 @@ export const moduleModels = sqliteTable('module_models', {
 	endRetentionPct: real('end_retention_pct').notNull(),
 	hotTempC: real('hot_temp_c').notNull(),
 	hotRatedCycles: integer('hot_rated_cycles').notNull(),
+	/** What replacing one module under warranty costs, entered by the admin (currency of the books); null until entered. */
+	replacementCost: real('replacement_cost'),
 	retiredAt: integer('retired_at', { mode: 'timestamp_ms' }),
 	createdAt: createdAt()
 });
@@ -372,6 +391,13 @@ export const shipmentItems = sqliteTable(
 	]
 );
 
+/**
+ * Main climate groups of the Köppen–Geiger classification (tropical, arid, temperate,
+ * continental, polar): a site's climate band, for slicing the fleet's reliability.
+ */
+export const CLIMATE_BANDS = ['tropical', 'arid', 'temperate', 'continental', 'polar'] as const;
+export type ClimateBand = (typeof CLIMATE_BANDS)[number];
+
 export const SITE_APPLICATIONS = [
 	'off_grid_home',
 	'backup',
@@ -393,6 +419,8 @@ export const sites = sqliteTable(
 		ownerContact: text('owner_contact').notNull(),
 		address: text('address').notNull(),
 		application: text('application', { enum: SITE_APPLICATIONS }).notNull(),
+		/** Köppen–Geiger main group of the site's climate; null when not recorded. */
+		climateBand: text('climate_band', { enum: CLIMATE_BANDS }),
 		createdBy: integer('created_by')
 			.notNull()
 			.references(() => users.id),

@@ -10,6 +10,21 @@ export interface OutgoingMail {
 	subject: string;
 	text: string;
 	attachments?: { filename: string; content: Buffer; contentType: string }[];
+	/**
+	 * One-time links (invitations, password resets) inside `text`. The stored copy of a
+	 * message sent through real SMTP has them blanked out, so nobody who can read the outbox
+	 * can use them; the in-process fake keeps them, since there the outbox is the only inbox.
+	 */
+	oneTimeLinks?: string[];
+}
+
+export const REDACTED_LINK = '[one-time link: sent to the recipient, not kept in this copy]';
+
+/** The text as the outbox keeps it for real SMTP: every one-time link replaced. */
+export function redactedCopy(mail: Pick<OutgoingMail, 'text' | 'oneTimeLinks'>): string {
+	let text = mail.text;
+	for (const link of mail.oneTimeLinks ?? []) if (link) text = text.split(link).join(REDACTED_LINK);
+	return text;
 }
 
 interface Mailer {
@@ -21,6 +36,8 @@ interface Mailer {
 }
 
 const mailers = new WeakMap<Db, Promise<Mailer>>();
+/** Every mailer started in this process, so that shutdown can close them all. */
+const open = new Set<Promise<Mailer>>();
 
 export const MAIL_FROM = () => process.env.MAIL_FROM || 'Packledger <no-reply@tidewater.example>';
 
@@ -96,6 +113,8 @@ function mailerFor(db: Db): Promise<Mailer> {
 	if (!m) {
 		m = startMailer(db);
 		mailers.set(db, m);
+		open.add(m);
+		hookShutdown();
 	}
 	return m;
 }
@@ -103,7 +122,8 @@ function mailerFor(db: Db): Promise<Mailer> {
 /** Sends one message. Throws when the SMTP server refuses it, so callers can say so. */
 export async function sendMail(db: Db, mail: OutgoingMail): Promise<void> {
 	const mailer = await mailerFor(db);
-	await mailer.transport.sendMail({ from: MAIL_FROM(), ...mail });
+	const { oneTimeLinks, ...message } = mail;
+	await mailer.transport.sendMail({ from: MAIL_FROM(), ...message });
 	if (mailer.kind === 'fake') {
 		await mailer.settled();
 	} else {
@@ -112,7 +132,7 @@ export async function sendMail(db: Db, mail: OutgoingMail): Promise<void> {
 			fromAddr: MAIL_FROM(),
 			toAddr: Array.isArray(mail.to) ? mail.to.join(', ') : mail.to,
 			subject: mail.subject,
-			text: mail.text,
+			text: redactedCopy({ text: mail.text, oneTimeLinks }),
 			transport: 'smtp'
 		});
 	}
@@ -126,6 +146,36 @@ export async function closeMailer(db: Db): Promise<void> {
 	const m = mailers.get(db);
 	if (m) {
 		mailers.delete(db);
+		open.delete(m);
 		await (await m).close();
 	}
+}
+
+/** Mail handed off without waiting (reset mails): finished before the mailers close. */
+const queued = new Set<Promise<unknown>>();
+
+export function queueMailWork(work: Promise<unknown>): void {
+	queued.add(work);
+	void work.finally(() => queued.delete(work));
+}
+
+/** Waits for queued mail, then closes every transport and fake SMTP server of this process. */
+export async function closeAllMailers(): Promise<void> {
+	await Promise.allSettled([...queued]);
+	const all = [...open];
+	open.clear();
+	await Promise.allSettled(all.map(async (m) => (await m).close()));
+}
+
+/**
+ * adapter-node answers SIGTERM and SIGINT by closing the HTTP server, letting in-flight
+ * requests finish, then emitting `sveltekit:shutdown`. The fake SMTP server's listening
+ * socket and nodemailer's connection would keep the process alive after that, so they close
+ * here; the process then exits on its own.
+ */
+let shutdownHooked = false;
+function hookShutdown() {
+	if (shutdownHooked) return;
+	shutdownHooked = true;
+	process.once('sveltekit:shutdown' as 'beforeExit', () => void closeAllMailers());
 }

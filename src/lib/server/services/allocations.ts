@@ -78,18 +78,16 @@ export async function allocateSerials(
 					}))
 				)
 				.returning({ id: modules.id });
-			await tx
-				.insert(moduleEvents)
-				.values(
-					inserted.map((m) => ({
-						moduleId: m.id,
-						kind: 'allocated' as const,
-						at: now,
-						actorUserId: actor.userId,
-						actorLabel: actor.label,
-						summary: `Serial reserved (${model.code}, run ${serials[0]} – ${serials.at(-1)})`
-					}))
-				);
+			await tx.insert(moduleEvents).values(
+				inserted.map((m) => ({
+					moduleId: m.id,
+					kind: 'allocated' as const,
+					at: now,
+					actorUserId: actor.userId,
+					actorLabel: actor.label,
+					summary: `Serial reserved (${model.code}, run ${serials[0]} – ${serials.at(-1)})`
+				}))
+			);
 		}
 		await recordAudit(tx, actor, {
 			action: 'serials.allocate',

@@ -175,8 +175,12 @@ function assessSafely(input: ClaimInput): ClaimAssessment {
 			cycleBasis: null,
 			deratedRatedCycles: input.terms.ratedCycles,
 			activationEnergyKJPerMol: 0,
+			effectiveCellTempC: null,
+			temperatureBasis: null,
 			retentionPct: null,
 			promisedRetentionPct: null,
+			retentionPrecisionPct: 0.01,
+			measurementMarginPct: null,
 			reasons: [`The assessment could not be computed from the record: ${e.message}`]
 		};
 	}
@@ -275,10 +279,14 @@ function assessModule(
 		claimedOn,
 		ratedCapacityAh: model.ratedAh,
 		measuredCapacityAh: evidence.measuredCapacityAh ?? null,
+		measuredAtC: evidence.measuredAtC ?? null,
 		usableWh: model.usableWh,
 		throughputWh: perModuleWh === null ? null : Math.round(perModuleWh * 1000) / 1000,
 		cycles: evidence.cycleCount ?? null,
 		avgCellTempC: evidence.avgCellTempC ?? null,
+		temperatureProfile: evidence.log?.temperatureProfile?.length
+			? evidence.log.temperatureProfile
+			: null,
 		stopChargeProven: stopCharge ? stopCharge.proven : null,
 		eventsOutsideLimits: events.length ? events : null
 	};

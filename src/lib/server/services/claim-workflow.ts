@@ -56,17 +56,15 @@ async function logStep(
 	now: Date,
 	moduleSummary?: string
 ) {
-	await tx
-		.insert(claimEvents)
-		.values({
-			claimId: claim.id,
-			at: now,
-			actorUserId: actor.userId,
-			actorLabel: actor.label,
-			fromState: claim.state,
-			toState: to,
-			comment
-		});
+	await tx.insert(claimEvents).values({
+		claimId: claim.id,
+		at: now,
+		actorUserId: actor.userId,
+		actorLabel: actor.label,
+		fromState: claim.state,
+		toState: to,
+		comment
+	});
 	if (moduleSummary) {
 		const ids = (
 			await tx

@@ -219,17 +219,15 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 			})
 			.returning();
 		await tx.insert(claimModules).values(mods.map((m) => ({ claimId: row.id, moduleId: m.id })));
-		await tx
-			.insert(claimEvents)
-			.values({
-				claimId: row.id,
-				at: now,
-				actorUserId: actor.userId,
-				actorLabel: actor.label,
-				fromState: null,
-				toState: 'filed',
-				comment: fault
-			});
+		await tx.insert(claimEvents).values({
+			claimId: row.id,
+			at: now,
+			actorUserId: actor.userId,
+			actorLabel: actor.label,
+			fromState: null,
+			toState: 'filed',
+			comment: fault
+		});
 		for (const m of mods)
 			await recordEvent(tx, actor, {
 				moduleId: m.id,

@@ -166,7 +166,9 @@ export async function updateDealer(
 
 /**
  * Deactivates or reactivates a dealer. A deactivated dealer receives no new shipments
- * (drafts to it cannot be dispatched); its modules and people stay on record.
+ * (drafts to it cannot be dispatched); its modules and people stay on record, but its
+ * people can no longer sign in, and their open sessions end at once (the migration's
+ * `organisations_end_sessions` trigger raises their session version).
  */
 export async function setDealerActive(
 	db: Db,

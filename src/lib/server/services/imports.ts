@@ -216,7 +216,10 @@ export async function commitImport(
 		const { counts } = plan;
 		const statements: InStatement[] = [
 			...plan.chunks.map((json) => ({
-				sql: `INSERT OR IGNORE INTO factory_tests (${TEST_COLUMNS}) SELECT ${JSON_FIELDS} FROM json_each(?)`,
+				// Not INSERT OR IGNORE: factory_tests is append-only, and its trigger refuses any insert
+				// that meets an existing row_key (which is how a REPLACE would rewrite history).
+				sql: `INSERT INTO factory_tests (${TEST_COLUMNS}) SELECT ${JSON_FIELDS} FROM json_each(?)
+				      WHERE NOT EXISTS (SELECT 1 FROM factory_tests f WHERE f.row_key = value ->> 2)`,
 				args: [json]
 			})),
 			{

@@ -71,20 +71,16 @@ export async function recordSheetPrinted(
 			.from(modules)
 			.where(eq(modules.allocationId, allocationId));
 		for (let i = 0; i < ids.length; i += 500)
-			await tx
-				.insert(moduleEvents)
-				.values(
-					ids
-						.slice(i, i + 500)
-						.map((m) => ({
-							moduleId: m.id,
-							kind: 'label_printed' as const,
-							at: now,
-							actorUserId: actor.userId,
-							actorLabel: actor.label,
-							summary: `Label printed (${format} sheet of allocation ${allocation.id})`
-						}))
-				);
+			await tx.insert(moduleEvents).values(
+				ids.slice(i, i + 500).map((m) => ({
+					moduleId: m.id,
+					kind: 'label_printed' as const,
+					at: now,
+					actorUserId: actor.userId,
+					actorLabel: actor.label,
+					summary: `Label printed (${format} sheet of allocation ${allocation.id})`
+				}))
+			);
 		await recordAudit(tx, actor, {
 			action: 'labels.print',
 			entity: 'allocation',

@@ -520,19 +520,17 @@ export async function dispatchShipment(db: Db, actor: Actor, shipmentId: number,
 				.where(and(inArray(modules.id, chunk), eq(modules.state, 'in_stock')))
 				.returning({ id: modules.id });
 			shipped += done.length;
-			await tx
-				.insert(moduleEvents)
-				.values(
-					chunk.map((moduleId) => ({
-						moduleId,
-						kind: 'shipped' as const,
-						at: now,
-						actorUserId: actor.userId,
-						actorLabel: actor.label,
-						summary: `Shipped to ${dealer.name} on ${s.reference}`,
-						detail: JSON.stringify({ shipment: s.reference, dealerOrgId: dealer.id })
-					}))
-				);
+			await tx.insert(moduleEvents).values(
+				chunk.map((moduleId) => ({
+					moduleId,
+					kind: 'shipped' as const,
+					at: now,
+					actorUserId: actor.userId,
+					actorLabel: actor.label,
+					summary: `Shipped to ${dealer.name} on ${s.reference}`,
+					detail: JSON.stringify({ shipment: s.reference, dealerOrgId: dealer.id })
+				}))
+			);
 		}
 		if (shipped !== ids.length)
 			throw new ConflictError(

@@ -119,6 +119,7 @@ export async function createSite(
 				ownerContact: input.ownerContact,
 				address: input.address,
 				application: input.application,
+				climateBand: input.climateBand ?? null,
 				createdBy,
 				createdAt: now
 			})
@@ -127,7 +128,12 @@ export async function createSite(
 			action: 'site.create',
 			entity: 'site',
 			entityId: row.id,
-			after: { name: input.name, application: input.application, dealerOrgId },
+			after: {
+				name: input.name,
+				application: input.application,
+				climateBand: input.climateBand ?? null,
+				dealerOrgId
+			},
 			at: now
 		});
 		return row.id;

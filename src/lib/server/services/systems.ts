@@ -365,14 +365,12 @@ export async function placeModule(
 			.update(modules)
 			.set({ state: 'installed', systemId: system.id, updatedAt: now })
 			.where(eq(modules.id, mod.id));
-		await tx
-			.insert(systemSlots)
-			.values({
-				systemId: system.id,
-				stringNo: target.stringNo,
-				position: target.position,
-				moduleId: mod.id
-			});
+		await tx.insert(systemSlots).values({
+			systemId: system.id,
+			stringNo: target.stringNo,
+			position: target.position,
+			moduleId: mod.id
+		});
 		const summary = `Installed in ${system.name} at ${site.name}, string ${target.stringNo} position ${target.position}`;
 		await recordEvent(tx, actor, {
 			moduleId: mod.id,

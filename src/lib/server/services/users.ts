@@ -1,12 +1,13 @@
 import { createHash, randomBytes } from 'node:crypto';
-import { and, asc, eq, isNull } from 'drizzle-orm';
+import { and, asc, eq, isNull, sql } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import { organisations, users, userTokens, type Role } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import { hashPassword } from '$lib/server/auth/password';
-import { sendMail } from '$lib/server/mail';
+import { queueMailWork, sendMail } from '$lib/server/mail';
+import { claimResetRequest } from '$lib/server/auth/rate-limit';
 import { recordAudit } from './audit';
 
 export const INVITE_VALID_HOURS = 72;
@@ -88,12 +89,14 @@ export async function inviteUser(
 		return u.id;
 	});
 	const token = await issueToken(db, userId, 'invite', INVITE_VALID_HOURS, now);
+	const link = `${baseUrl}/welcome/${token}`;
 	await sendMail(db, {
 		to: input.email,
 		subject: 'Your Packledger account',
 		text:
 			`Hello ${input.name},\n\n${actor.label} has given you access to Packledger, the module register of Tidewater Cellworks, as ${input.role} for ${org.name}.\n\n` +
-			`Choose your password here (the link works once, for ${INVITE_VALID_HOURS} hours):\n${baseUrl}/welcome/${token}\n`
+			`Choose your password here (the link works once, for ${INVITE_VALID_HOURS} hours):\n${link}\n`,
+		oneTimeLinks: [link]
 	});
 	return userId;
 }
@@ -108,11 +111,37 @@ export async function requestPasswordReset(
 	const [user] = await db.select().from(users).where(eq(users.email, email));
 	if (!user || !user.active) return;
 	const token = await issueToken(db, user.id, 'reset', RESET_VALID_HOURS, now);
+	const link = `${baseUrl}/reset/${token}`;
 	await sendMail(db, {
 		to: user.email,
 		subject: 'Reset your Packledger password',
-		text: `Someone asked to reset the password of ${user.email}. If it was you, choose a new one here (the link works once, for ${RESET_VALID_HOURS} hour):\n${baseUrl}/reset/${token}\n\nIf it was not you, ignore this message.`
+		text: `Someone asked to reset the password of ${user.email}. If it was you, choose a new one here (the link works once, for ${RESET_VALID_HOURS} hour):\n${link}\n\nIf it was not you, ignore this message.`,
+		oneTimeLinks: [link]
 	});
+}
+
+/**
+ * What `/forgot` does: counts the request against the address's and the client's limits and,
+ * within them, queues the reset mail without waiting for it. The caller answers the same
+ * way whatever happened, and as fast, so neither the answer nor its timing tells whether the
+ * address has an account (OWASP Forgot Password Cheat Sheet).
+ */
+export async function askForPasswordReset(
+	db: Db,
+	email: string,
+	clientAddress: string,
+	baseUrl: string,
+	now = new Date()
+): Promise<void> {
+	if (!(await claimResetRequest(db, email, clientAddress, now.getTime()))) {
+		console.warn(`password reset refused: too many requests for this address or client`);
+		return;
+	}
+	queueMailWork(
+		requestPasswordReset(db, email, baseUrl, now).catch((e: Error) =>
+			console.error(`password reset mail not sent: ${e.message}`)
+		)
+	);
 }
 
 /** Looks a one-time link up without using it: who it is for, or why it no longer works. */
@@ -159,7 +188,17 @@ export async function redeemToken(
 			.where(and(eq(userTokens.id, row.id), isNull(userTokens.usedAt)))
 			.returning({ id: userTokens.id });
 		if (!spent.length) throw new ConflictError('This link has already been used.');
-		await tx.update(users).set({ passwordHash }).where(eq(users.id, row.userId));
+		// Every other link still out for this person stops working with this one.
+		await tx
+			.update(userTokens)
+			.set({ usedAt: now })
+			.where(and(eq(userTokens.userId, row.userId), isNull(userTokens.usedAt)));
+		// A new password ends every session signed in with the old one (the users trigger
+		// raises session_version too; this says so where it happens).
+		await tx
+			.update(users)
+			.set({ passwordHash, sessionVersion: sql`${users.sessionVersion} + 1` })
+			.where(eq(users.id, row.userId));
 		await recordAudit(
 			tx,
 			{
@@ -178,6 +217,17 @@ export async function redeemToken(
 		);
 	});
 	return { email: row.email };
+}
+
+/**
+ * Ends every session of a user at once (sign-out): the session version rises, and the request
+ * hook refuses any token issued with an older one, copies included (OWASP ASVS 4.0 V3.3.1).
+ */
+export async function endSessions(db: Db, userId: number): Promise<void> {
+	await db
+		.update(users)
+		.set({ sessionVersion: sql`${users.sessionVersion} + 1` })
+		.where(eq(users.id, userId));
 }
 
 export async function listUsers(db: Db) {

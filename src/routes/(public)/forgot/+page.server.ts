@@ -3,7 +3,7 @@ import { allowAnonymous } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { forgotSchema } from '$lib/schemas/auth';
 import { parseForm } from '$lib/server/validation';
-import { requestPasswordReset } from '$lib/server/services/users';
+import { askForPasswordReset } from '$lib/server/services/users';
 import { baseUrl } from '$lib/server/base-url';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -16,7 +16,12 @@ export const actions: Actions = {
 		allowAnonymous(event);
 		const parsed = await parseForm(forgotSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
-		await requestPasswordReset(await getDb(), parsed.data.email, baseUrl(event.url));
+		await askForPasswordReset(
+			await getDb(),
+			parsed.data.email,
+			event.getClientAddress(),
+			baseUrl(event.url)
+		);
 		return { sent: true, email: parsed.data.email };
 	}
 };

@@ -10,7 +10,19 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = async (event) => {
 	requireRole(event, 'admin', 'workshop', 'warranty');
 	const parsed = traceQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success) return json({ message: 'Give a cell lot, model, build date range or import.', issues: toIssues(parsed.error) }, { status: 400 });
+	if (!parsed.success)
+		return json(
+			{
+				message: 'Give a cell lot, model, build date range or import.',
+				issues: toIssues(parsed.error)
+			},
+			{ status: 400 }
+		);
 	const csv = await traceCsv(await getDb(), parsed.data);
-	return new Response(csv, { headers: { 'content-type': 'text/csv; charset=utf-8', 'content-disposition': `attachment; filename="packledger-trace-${new Date().toISOString().slice(0, 10)}.csv"` } });
+	return new Response(csv, {
+		headers: {
+			'content-type': 'text/csv; charset=utf-8',
+			'content-disposition': `attachment; filename="packledger-trace-${new Date().toISOString().slice(0, 10)}.csv"`
+		}
+	});
 };

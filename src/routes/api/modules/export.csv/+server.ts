@@ -15,7 +15,11 @@ export const GET: RequestHandler = async (event) => {
 		const csv = await exportModules(await getDb(), actor, query.data);
 		const today = new Date().toISOString().slice(0, 10);
 		return new Response(csv, {
-			headers: { 'content-type': 'text/csv; charset=utf-8', 'content-disposition': `attachment; filename="packledger-fleet-${today}.csv"`, 'cache-control': 'private, no-store' }
+			headers: {
+				'content-type': 'text/csv; charset=utf-8',
+				'content-disposition': `attachment; filename="packledger-fleet-${today}.csv"`,
+				'cache-control': 'private, no-store'
+			}
 		});
 	} catch (e) {
 		return jsonFrom(e);

@@ -12,7 +12,10 @@ export const GET: RequestHandler = async (event) => {
 		const result = await getImport(await getDb(), Number(event.params.id));
 		const base = result.import.fileName.replace(/\.[^.]+$/, '').replace(/[^A-Za-z0-9._-]+/g, '_');
 		return new Response(toErrorReportCsv(result.errors), {
-			headers: { 'content-type': 'text/csv; charset=utf-8', 'content-disposition': `attachment; filename="${base}-rejected-rows.csv"` }
+			headers: {
+				'content-type': 'text/csv; charset=utf-8',
+				'content-disposition': `attachment; filename="${base}-rejected-rows.csv"`
+			}
 		});
 	} catch (e) {
 		return jsonFrom(e);

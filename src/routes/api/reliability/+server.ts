@@ -1,0 +1,28 @@
+import { json } from '@sveltejs/kit';
+import { requireRole } from '$lib/server/auth/guards';
+import { getDb } from '$lib/server/db';
+import { toIssues } from '$lib/server/validation';
+import { reliabilityQuerySchema } from '$lib/schemas/reliability';
+import { reliabilityReport } from '$lib/server/services/reliability';
+import type { RequestHandler } from './$types';
+
+/**
+ * The fleet's reliability for a selection (`asOf`, `model`, `lot`, `dealer`, `buildMonth`,
+ * `application`, `climate`, `basis=covered|all`, `by=<dimension>` for per-slice rates):
+ * `{ unitsInService, unitYears, claims, ratePer1000UnitYears, rateCI95, weibull, reserve }`
+ * plus the probability plot, the assumptions and the slices.
+ */
+export const GET: RequestHandler = async (event) => {
+	const actor = requireRole(event, 'warranty', 'admin');
+	const parsed = reliabilityQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
+	if (!parsed.success) {
+		const issues = toIssues(parsed.error);
+		return json({ message: `Check the query: ${issues[0].message}`, issues }, { status: 400 });
+	}
+	const {
+		options: _o,
+		dimensions: _d,
+		...report
+	} = await reliabilityReport(await getDb(), actor, parsed.data);
+	return json(report);
+};
