@@ -5,7 +5,9 @@
 /**
  * Packledger's service worker (SvelteKit's own, `$service-worker`): field work without a signal.
  *
- * - Precaches the built app (`build`, `files`) per version, and the offline page shell.
+ * - Precaches the built app (`build`, `files`, less what src/lib/offline/precache.ts leaves
+ *   to first use) per version, and the offline page shell; `npx tsx scripts/precache-size.ts`
+ *   says how much that is.
  * - Never caches an API answer, an HTML page of a signed-in user, or any POST. The only
  *   user-specific thing it keeps is the `/offline` shell's layout data (name and role of the
  *   person signed in), in a cache the page deletes at sign-out and when someone else signs in;
@@ -20,6 +22,7 @@ import { OFFLINE_PREFIX, parseFieldPath, type FieldRoute } from '$lib/offline/ro
 import { offlineAction } from '$lib/offline/actions';
 import { loadState } from '$lib/offline/state';
 import { addOp, LAYOUT_CACHE, openCurrent } from '$lib/offline/store';
+import { precached } from '$lib/offline/precache';
 import { MODELS_KEY } from '$lib/offline/views';
 import { checkDesign, type DesignModule } from '$lib/domain/design-check';
 import { designCheckRequestSchema } from '$lib/schemas/site';
@@ -34,7 +37,7 @@ sw.addEventListener('install', (event) => {
 	event.waitUntil(
 		(async () => {
 			const cache = await caches.open(APP_CACHE);
-			await cache.addAll([...ASSETS]);
+			await cache.addAll([...ASSETS].filter(precached));
 			// The shell has no data in it (ssr = false), so one copy serves every offline page.
 			const shell = await fetch(SHELL_URL, { credentials: 'omit' });
 			if (shell.ok) await cache.put(SHELL_URL, shell);
@@ -232,6 +235,16 @@ async function post(event: FetchEvent, url: URL): Promise<Response> {
 	}
 }
 
+/** A built file: from the cache, or fetched once and kept (built files never change under a name). */
+async function asset(path: string, request: Request): Promise<Response> {
+	const cache = await caches.open(APP_CACHE);
+	const hit = await cache.match(path);
+	if (hit) return hit;
+	const res = await fetch(request);
+	if (res.ok) await cache.put(path, res.clone());
+	return res;
+}
+
 /** A photo taken offline, shown from the phone until it is sent. */
 async function localPhoto(id: string): Promise<Response> {
 	const current = await openCurrent();
@@ -251,12 +264,7 @@ sw.addEventListener('fetch', (event) => {
 	}
 	if (request.method !== 'GET') return;
 	if (ASSETS.has(url.pathname)) {
-		event.respondWith(
-			caches
-				.open(APP_CACHE)
-				.then((c) => c.match(url.pathname))
-				.then((hit) => hit ?? fetch(request))
-		);
+		event.respondWith(asset(url.pathname, request));
 		return;
 	}
 	const photo = /^\/api\/attachments\/([0-9a-f-]{36})$/.exec(url.pathname);
