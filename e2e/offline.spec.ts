@@ -195,6 +195,74 @@ test('a technician with no signal: site taken offline, system, modules, checklis
 	await ctx.close();
 });
 
+test('a slot filled by a colleague while the phone was offline: the phone shows what differs and the technician chooses the next empty slot', async ({
+	browser
+}) => {
+	test.setTimeout(120_000);
+	const phone = { viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true };
+	const ctx = await browser.newContext({ storageState: stateFile('ridgelineTech'), ...phone });
+	const page = await ctx.newPage();
+	const units = await (
+		await page.request.get(
+			'/api/modules?model=TC-HC-48&state=shipped&sort=serial&dir=asc&pageSize=10'
+		)
+	).json();
+	const [mine, theirs] = units.items.slice(0, 2).map((i: { serial: string }) => i.serial);
+	await page.goto('/sites/new');
+	await page.getByLabel('Site name').fill('Tor End pump shed');
+	await page.getByText('Workshop, farm or yard').click();
+	await page.getByLabel('Owner’s name').fill('Elowen Marsk');
+	await page.getByLabel('Phone or e-mail').fill('elowen@tor-end.example');
+	await page.getByLabel('Address').fill('Tor End lane, Ridgeline hills');
+	await page.getByRole('button', { name: 'Save site' }).click();
+	await page.getByRole('link', { name: /Add a system/ }).click();
+	await page.getByLabel('Name', { exact: true }).fill('Pump bank');
+	await page.getByLabel('Module model').selectOption('TC-HC-48');
+	await page.getByLabel(/Modules per string/).fill('2');
+	await page.getByLabel(/Strings in parallel/).fill('1');
+	await page.getByLabel('Inverter make and model').fill('Invented 5 kW inverter');
+	await page.getByLabel(/Battery DC minimum/).fill('70');
+	await page.getByLabel(/Battery DC maximum/).fill('130');
+	await page.getByRole('button', { name: 'Save system' }).click();
+	await page.waitForURL(/\/systems\/\d+/);
+	const systemPath = new URL(page.url()).pathname;
+	await page.evaluate(() => navigator.serviceWorker.ready);
+	await page.getByTestId('take-offline').click();
+	await expect(page.getByText(/pages kept on this phone/)).toBeVisible();
+
+	await ctx.setOffline(true);
+	await page.goto(systemPath);
+	await page.getByTestId('place-scan').fill(mine);
+	await page.getByTestId('place-scan').press('Enter');
+	await expect(page.getByRole('status').filter({ hasText: mine })).toBeVisible();
+
+	// Meanwhile a colleague with a signal puts another module at string 1, position 1.
+	const other = await browser.newContext({ storageState: stateFile('ridgelineTech'), ...phone });
+	const colleague = await other.newPage();
+	await colleague.goto(systemPath);
+	await colleague.getByTestId('place-scan').fill(theirs);
+	await colleague.getByTestId('place-scan').press('Enter');
+	await expect(colleague.getByRole('status').filter({ hasText: theirs })).toBeVisible();
+	await other.close();
+
+	await ctx.setOffline(false);
+	await page.goto('/offline');
+	const op = page.getByTestId('queued-op').filter({ hasText: mine });
+	await expect(op).toHaveAttribute('data-status', 'rejected');
+	await expect(op.getByText('Changed in the register')).toBeVisible();
+	await expect(op).toContainText(`String 1, position 1 already holds ${theirs}.`);
+	await expect(op).toContainText(`${mine} into Pump bank, string 1 position 1`);
+	await expect(page.getByTestId('offline-badge')).toHaveText(/1 change waiting, 1 to check/);
+	await page.screenshot({ path: 'test-results/offline-conflict.png', fullPage: true });
+	await op.getByRole('button', { name: 'Place it in the next empty slot instead' }).click();
+	await expect(op).toHaveAttribute('data-status', 'applied');
+	const rec = await (await page.request.get(`/api/modules/${mine}`)).json();
+	expect(rec.state).toBe('installed');
+	await page.goto(systemPath);
+	await expect(page.getByText('2 of 2 placed')).toBeVisible();
+	await ctx.close();
+});
+
 test('sync answers 400 for a malformed request and 413 for an oversized one, and refuses other roles', async ({
 	as
 }) => {

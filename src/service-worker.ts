@@ -106,14 +106,17 @@ async function navigate(request: Request, url: URL): Promise<Response> {
 }
 
 /** SvelteKit's data request of a client-side navigation (`…/__data.json`). */
-async function pageData(request: Request, url: URL): Promise<Response> {
+async function pageData(event: FetchEvent, url: URL): Promise<Response> {
+	const { request } = event;
 	const path = dataUrlPath(url);
 	const isShell = path === OFFLINE_PREFIX || path.startsWith(OFFLINE_PREFIX + '/');
 	try {
 		const res = await network(request);
 		if (isShell && res.ok) {
-			const cache = await caches.open(LAYOUT_CACHE);
-			await cache.put(SHELL_URL + '/__data.json', res.clone());
+			const copy = res.clone();
+			event.waitUntil(
+				caches.open(LAYOUT_CACHE).then((c) => c.put(SHELL_URL + '/__data.json', copy))
+			);
 		}
 		return res;
 	} catch {
@@ -236,12 +239,13 @@ async function post(event: FetchEvent, url: URL): Promise<Response> {
 }
 
 /** A built file: from the cache, or fetched once and kept (built files never change under a name). */
-async function asset(path: string, request: Request): Promise<Response> {
+async function asset(event: FetchEvent, path: string): Promise<Response> {
 	const cache = await caches.open(APP_CACHE);
 	const hit = await cache.match(path);
 	if (hit) return hit;
-	const res = await fetch(request);
-	if (res.ok) await cache.put(path, res.clone());
+	const res = await fetch(event.request);
+	// Stored alongside, not before answering: awaiting the copy would stall the page's own read.
+	if (res.ok) event.waitUntil(cache.put(path, res.clone()));
 	return res;
 }
 
@@ -264,7 +268,7 @@ sw.addEventListener('fetch', (event) => {
 	}
 	if (request.method !== 'GET') return;
 	if (ASSETS.has(url.pathname)) {
-		event.respondWith(asset(url.pathname, request));
+		event.respondWith(asset(event, url.pathname));
 		return;
 	}
 	const photo = /^\/api\/attachments\/([0-9a-f-]{36})$/.exec(url.pathname);
@@ -273,7 +277,7 @@ sw.addEventListener('fetch', (event) => {
 		return;
 	}
 	if (url.pathname.endsWith('/__data.json')) {
-		event.respondWith(pageData(request, url));
+		event.respondWith(pageData(event, url));
 		return;
 	}
 	if (request.mode === 'navigate') event.respondWith(navigate(request, url));

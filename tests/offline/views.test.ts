@@ -243,7 +243,7 @@ describe('forms answered on the phone', () => {
 			opts()
 		);
 		expect(again.answer).toMatchObject({ type: 'failure', status: 409 });
-		expect((again.answer as { data: { message: string } }).data.message).toBe(
+		expect((again.answer as unknown as { data: { message: string } }).data.message).toBe(
 			`${S(101)} is already in this system (string 1, position 1).`
 		);
 		const taken = offlineAction(
@@ -253,7 +253,7 @@ describe('forms answered on the phone', () => {
 			form({ scan: S(102), stringNo: '1', position: '1' }),
 			opts()
 		);
-		expect((taken.answer as { data: { message: string } }).data.message).toBe(
+		expect((taken.answer as unknown as { data: { message: string } }).data.message).toBe(
 			`String 1, position 1 already holds ${S(101)}. Take it out first or choose an empty slot.`
 		);
 		// Taking out a module placed offline takes the change back off the queue.
@@ -285,7 +285,9 @@ describe('forms answered on the phone', () => {
 			opts()
 		);
 		expect(r.add).toBeUndefined();
-		expect((r.answer as { data: { issues: unknown } }).data.issues).toEqual(serverIssues);
+		expect((r.answer as unknown as { data: { issues: unknown } }).data.issues).toEqual(
+			serverIssues
+		);
 	});
 
 	it('keeps a passing checklist with the modules it was measured on, and refuses one with empty slots', () => {

@@ -3,7 +3,7 @@
  * to the queued operation. Nothing is dropped without being asked; every choice keeps
  * what was typed until the change is discarded on purpose.
  */
-import { CONFLICT_PATH, DEPENDENCY_PATH } from '$lib/schemas/sync';
+import { CONFLICT_PATH, DEPENDENCY_PATH } from '$lib/offline/contract';
 import type { QueuedOp } from './store';
 
 export type Choice = 'next-slot' | 'send-anyway' | 'send-again' | 'edit' | 'download' | 'discard';

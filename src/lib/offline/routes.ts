@@ -3,7 +3,7 @@
  * or — for one made on the phone and not yet sent — by the id of the operation that made it.
  * Offline, each is shown under `/offline{path}` from what the phone keeps.
  */
-import { isOperationId } from '$lib/schemas/sync';
+import { isOperationId } from '$lib/offline/contract';
 
 /** A record id (number) or the operation id (UUID) of a record made on the phone. */
 export type Ref = number | string;

@@ -14,7 +14,7 @@ import {
 	isPending,
 	type OfflineUser
 } from './store';
-import { syncNow, type SyncReport } from './sync';
+import type { SyncReport } from './sync';
 
 /** Roles that work on site; other people's pages are not kept on the phone. */
 const FIELD_ROLES = new Set(['field_tech', 'admin']);
@@ -48,8 +48,12 @@ export async function refreshCounts(): Promise<void> {
 /** Sends what waits, if there is a network and nothing is being sent already. */
 export async function runSync(): Promise<SyncReport | null> {
 	if (!offline.user || offline.syncing || !navigator.onLine) return null;
+	// The sending code is only fetched when something waits to be sent.
+	if (offline.pending === 0) await refreshCounts();
+	if (offline.pending === 0) return null;
 	offline.syncing = true;
 	try {
+		const { syncNow } = await import('./sync');
 		const db = await userDb(offline.user.id);
 		const report = await syncNow(db);
 		db.close();
@@ -58,6 +62,20 @@ export async function runSync(): Promise<SyncReport | null> {
 	} finally {
 		offline.syncing = false;
 		await refreshCounts();
+	}
+}
+
+/**
+ * Lets the service worker keep the offline shell's layout data, once it is in control (the
+ * answer is read to the end, so the page's network goes quiet).
+ */
+async function warmShell(): Promise<void> {
+	try {
+		if (!navigator.serviceWorker) return;
+		await navigator.serviceWorker.ready;
+		await (await fetch('/offline/__data.json')).arrayBuffer();
+	} catch {
+		/* no network: the copy kept earlier stands */
 	}
 }
 
@@ -72,7 +90,7 @@ export async function startOffline(user: OfflineUser | null): Promise<void> {
 		await setCurrentUser(user);
 		offline.user = user;
 		// The offline shell's layout data (this user's name and role), for opening pages offline.
-		if (navigator.onLine) fetch('/offline/__data.json').catch(() => undefined);
+		if (navigator.onLine) void warmShell();
 	}
 	await refreshCounts();
 	void runSync();
@@ -108,7 +126,8 @@ export async function takeSiteOffline(siteId: number): Promise<{ pages: number }
 		await tx.store.put({ path, data, savedAt: now, siteId });
 	await tx.done;
 	db.close();
-	fetch('/offline/__data.json').catch(() => undefined);
+	// The shell's layout data too, but never wait long for a service worker that is not there.
+	await Promise.race([warmShell(), new Promise((r) => setTimeout(r, 5000))]);
 	return { pages: Object.keys(pack.pages).length };
 }
 

@@ -6,7 +6,7 @@
  * pages and by the service worker alike; nothing here runs on the server.
  */
 import { openDB, deleteDB, type DBSchema, type IDBPDatabase } from 'idb';
-import type { SyncIssue, SyncOperationType } from '$lib/schemas/sync';
+import type { SyncIssue, SyncOperationType } from '$lib/offline/contract';
 
 export interface OfflineUser {
 	id: number;

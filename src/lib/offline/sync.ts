@@ -5,12 +5,8 @@
  * waits for the technician's choice. A change that depends on one not yet in the register
  * waits for it and is not sent.
  */
-import {
-	MAX_SYNC_OPERATIONS,
-	SYNC_BATCH_BYTES,
-	type SyncOperation,
-	type SyncResult
-} from '$lib/schemas/sync';
+import { MAX_SYNC_OPERATIONS, SYNC_BATCH_BYTES, type SyncResult } from '$lib/offline/contract';
+import type { SyncOperation } from '$lib/schemas/sync';
 import { allOps, type QueuedOp } from './store';
 import type { userDb } from './store';
 

@@ -9,25 +9,28 @@
  */
 import { z } from 'zod';
 
-export const SYNC_OPERATION_TYPES = [
-	'createSite',
-	'createSystem',
-	'placeModule',
-	'submitCommissioning',
-	'addPhoto'
-] as const;
-export type SyncOperationType = (typeof SYNC_OPERATION_TYPES)[number];
+import {
+	CONFLICT_PATH,
+	DEPENDENCY_PATH,
+	isOperationId,
+	MAX_SYNC_BYTES,
+	MAX_SYNC_OPERATIONS,
+	SYNC_BATCH_BYTES,
+	SYNC_OPERATION_TYPES,
+	UUID
+} from '$lib/offline/contract';
+import type { SyncOperationType } from '$lib/offline/contract';
 
-/** At most this many operations per request; the phone sends a longer queue in parts. */
-export const MAX_SYNC_OPERATIONS = 100;
-/** Largest request body: room for one full-size photo (10 MB, base64) with its envelope. */
-export const MAX_SYNC_BYTES = 16 * 1024 * 1024;
-/** The phone keeps each request below this, so a poor connection loses little when it drops. */
-export const SYNC_BATCH_BYTES = 4 * 1024 * 1024;
-
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
-export const isOperationId = (v: unknown): v is string =>
-	typeof v === 'string' && v.length === 36 && UUID.test(v);
+export {
+	CONFLICT_PATH,
+	DEPENDENCY_PATH,
+	isOperationId,
+	MAX_SYNC_BYTES,
+	MAX_SYNC_OPERATIONS,
+	SYNC_BATCH_BYTES,
+	SYNC_OPERATION_TYPES
+};
+export type { SyncIssue, SyncOperationType, SyncResult, SyncStatus } from '$lib/offline/contract';
 
 export const operationIdSchema = z
 	.string({ error: 'Each operation needs an id (a UUID made on the phone).' })
@@ -61,26 +64,6 @@ export const syncRequestSchema = z.object({
 			error: `Send at most ${MAX_SYNC_OPERATIONS} operations per request; send the rest in another request.`
 		})
 });
-
-export type SyncStatus = 'applied' | 'duplicate' | 'rejected';
-export interface SyncIssue {
-	path: string;
-	message: string;
-}
-export interface SyncResult {
-	id: string;
-	status: SyncStatus;
-	issues?: SyncIssue[];
-	ref?: number | string;
-}
-
-/**
- * Issue path of a refusal because the record changed on the server meanwhile (a slot now
- * taken, a system commissioned by someone else): the phone shows these as conflicts to decide.
- */
-export const CONFLICT_PATH = 'conflict';
-/** Issue path of a refusal because an operation it depends on was not applied. */
-export const DEPENDENCY_PATH = 'dependsOn';
 
 /** A photo inside an `addPhoto` payload: the file's bytes as base64. */
 export const syncPhotoSchema = z.object({
