@@ -35,7 +35,7 @@ export default defineConfig({
 	webServer: {
 		command: 'node scripts/e2e-server.js',
 		url: `${BASE}/signin`,
-		timeout: 240_000,
+		timeout: 600_000,
 		reuseExistingServer: false,
 		stdout: 'pipe',
 		env: { PORT: String(PORT), ORIGIN: BASE }

@@ -1,4 +1,4 @@
-import { test as base, expect, type Page } from '@playwright/test';
+import { test as base, expect, type Browser, type Page } from '@playwright/test';
 
 export const DEMO_PASSWORD = 'packledger-demo';
 export const ROLES = {
@@ -20,6 +20,19 @@ export async function signIn(page: Page, email: string, password = DEMO_PASSWORD
 	await page.getByLabel('Password').fill(password);
 	await page.getByRole('button', { name: 'Sign in' }).click();
 	await expect(page.getByTestId('home')).toBeVisible();
+}
+
+/**
+ * Signs a role in afresh and saves its storage state again: a test that ends a role's
+ * sessions (sign-out ends every session of that person) calls this so later tests still
+ * find a valid stored session.
+ */
+export async function refreshState(browser: Browser, role: DemoRole) {
+	const ctx = await browser.newContext();
+	const page = await ctx.newPage();
+	await signIn(page, ROLES[role]);
+	await ctx.storageState({ path: stateFile(role) });
+	await ctx.close();
 }
 
 /** A page already signed in as a demo role (storage state saved once by auth.setup.ts). */

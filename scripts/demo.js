@@ -32,24 +32,45 @@ function newest(dir) {
 	}
 	return t;
 }
-const run = (cmd, args) => {
-	const r = spawnSync(cmd, args, { stdio: 'inherit', env });
-	if (r.status !== 0) process.exit(r.status ?? 1);
+/** Runs a step quietly; its output is shown only when it fails. */
+const run = (what, cmd, args) => {
+	const r = spawnSync(cmd, args, { env, encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 });
+	if (r.status !== 0) {
+		process.stdout.write(r.stdout ?? '');
+		process.stderr.write(r.stderr ?? '');
+		console.error(`\n${what} failed (exit ${r.status ?? r.signal}); its output is above.`);
+		process.exit(r.status ?? 1);
+	}
 };
 
 if (!existsSync('build/handler.js') || newest('src') > statSync('build/handler.js').mtimeMs) {
-	console.log('Building the app…');
-	run('npm', ['run', 'build', '--silent']);
+	console.log('Building the app (a minute or two the first time)…');
+	run('The build', 'npm', ['run', 'build', '--silent']);
 }
-run('npm', ['run', 'db:seed', '--silent']);
+console.log('Loading the demo data…');
+run('The demo seed', 'npm', ['run', 'db:seed', '--silent']);
 
-console.log(
-	`\nPackledger is starting on ${origin}\nDemo sign-ins (password ${process.env.DEMO_PASSWORD ? 'from DEMO_PASSWORD' : '"packledger-demo"'}):`
-);
-for (const u of ['admin', 'workshop', 'tech', 'warranty']
-	.map((r) => `${r}@tidewater.example`)
-	.concat(['dealer@saltmarsh.example', 'dealer@ridgeline.example', 'tech@ridgeline.example']))
-	console.log(`  ${u}`);
-const server = spawn('node', ['build'], { stdio: 'inherit', env });
+const signIns = () => {
+	console.log(
+		`\nPackledger is running on ${origin}\nSign in with any of these (password ${process.env.DEMO_PASSWORD ? 'from DEMO_PASSWORD' : '"packledger-demo"'}):`
+	);
+	for (const u of ['admin', 'workshop', 'tech', 'warranty']
+		.map((r) => `${r}@tidewater.example`)
+		.concat(['dealer@saltmarsh.example', 'dealer@ridgeline.example', 'tech@ridgeline.example']))
+		console.log(`  ${u}`);
+	console.log('Stop it with Ctrl+C.');
+};
+const server = spawn('node', ['build'], { stdio: ['inherit', 'pipe', 'inherit'], env });
+let shown = false;
+server.stdout.setEncoding('utf8');
+server.stdout.on('data', (chunk) => {
+	// adapter-node announces "Listening on …"; the URL and sign-ins replace that line.
+	const rest = shown ? chunk : chunk.replace(/^Listening on [^\n]*\n?/m, '');
+	if (!shown && rest !== chunk) {
+		shown = true;
+		if (rest) process.stdout.write(rest);
+		signIns();
+	} else process.stdout.write(chunk);
+});
 server.on('exit', (code) => process.exit(code ?? 0));
 for (const sig of ['SIGINT', 'SIGTERM']) process.on(sig, () => server.kill(sig));

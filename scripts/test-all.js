@@ -1,4 +1,5 @@
-// The test command: type check (svelte-check), unit tests, then browser tests in Debian's Chromium.
+// The test command: lint (ESLint), format check (Prettier), type check (svelte-check), unit tests,
+// then browser tests in Debian's Chromium.
 // Makes sure the browser is there first (installs it with apt where it may).
 import { spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
@@ -29,6 +30,16 @@ if (!existsSync(CHROMIUM)) {
 	}
 }
 
+const lint = run('npx', ['eslint', '.']);
+if (lint !== 0) {
+	console.error('ESLint found problems (above). Fix them; `npx eslint --fix <file>` fixes some.');
+	process.exit(lint);
+}
+const format = run('npx', ['prettier', '--check', '.']);
+if (format !== 0) {
+	console.error('These files are not formatted: run `npx prettier --write <file>` on them.');
+	process.exit(format);
+}
 const types = run('npm', ['run', 'check', '--silent']);
 if (types !== 0) process.exit(types);
 const unit = run('npx', ['vitest', 'run']);

@@ -3,10 +3,19 @@ import type { ServerInit } from '@sveltejs/kit';
 import { authHandle, standardAuthEndpoints } from '$lib/server/auth';
 import { actorHandle, assertAuthSecret, contextHandle } from '$lib/server/hooks';
 import { getDb } from '$lib/server/db';
+import { securityHeaders } from '$lib/server/security-headers';
+import { originCheck } from '$lib/server/origin-check';
 
 export const init: ServerInit = async () => {
 	assertAuthSecret();
 	await getDb(); // applies pending migrations, so an empty database is ready at start-up
 };
 
-export const handle = sequence(contextHandle, standardAuthEndpoints, authHandle, actorHandle);
+export const handle = sequence(
+	securityHeaders,
+	originCheck,
+	contextHandle,
+	standardAuthEndpoints,
+	authHandle,
+	actorHandle
+);

@@ -8,7 +8,7 @@ import {
 	voltageDropV
 } from '../../src/lib/domain/electrical';
 
-describe('C-rate and energy (REFERENCES §2)', () => {
+describe('C-rate and energy (docs/references.md §2)', () => {
 	it('10C takes about 6 minutes, 1C 60 minutes (I_t = C_n / 1 h, IEC 61434; common practice)', () => {
 		expect(chargeMinutesAtC(10)).toBeCloseTo(6, 10);
 		expect(chargeMinutesAtC(1)).toBe(60);
@@ -25,7 +25,7 @@ describe('C-rate and energy (REFERENCES §2)', () => {
 	});
 });
 
-describe('Voltage drop (Cutnell & Johnson Table 20.1, REFERENCES §9)', () => {
+describe('Voltage drop (Cutnell & Johnson Table 20.1, docs/references.md §9)', () => {
 	it('5 m one way, 100 A, 35 mm² copper → 0.4914 V', () => {
 		const v = voltageDropV({ currentA: 100, oneWayLengthM: 5, areaMm2: 35 });
 		// Recomputed here from V = I × 2L × ρ / A with ρ_Cu = 1.72e-8 Ω·m and A in m².
@@ -45,7 +45,7 @@ describe('Voltage drop (Cutnell & Johnson Table 20.1, REFERENCES §9)', () => {
 	});
 });
 
-describe('Insulation test voltage and minimum, IEC 60364-6:2016 Table 6.1 (REFERENCES §4)', () => {
+describe('Insulation test voltage and minimum, IEC 60364-6:2016 Table 6.1 (docs/references.md §4)', () => {
 	it('SELV / PELV: 250 V DC, 0.5 MΩ', () => {
 		expect(insulationRequirement(48, { selvPelv: true })).toEqual({
 			testVoltageV: 250,
@@ -79,7 +79,7 @@ describe('Insulation test voltage and minimum, IEC 60364-6:2016 Table 6.1 (REFER
 	});
 });
 
-describe('Protection rules (REFERENCES §9, from memory)', () => {
+describe('Protection rules (docs/references.md §9, from memory)', () => {
 	it('overcurrent device ≥ 125 % of continuous current (NEC 210.20 / 706.30 style, from memory)', () => {
 		// From memory: not yet read in the code text; kept as the product's default rule.
 		expect(minOvercurrentRatingA(100)).toBe(125);

@@ -224,7 +224,7 @@ describe('parseFactoryCsv — file-level errors', () => {
 
 	it('a quote that is never closed ends the import with its row', () => {
 		expect(parseError(csv(HEADER, ROW, 'TW48-0002,"2026-03-12T08:15:00Z,46.2'))).toMatch(
-			/^Row 3 has a double quote \(\"\) that is never closed/
+			/^Row 3 has a double quote \("\) that is never closed/
 		);
 	});
 });
@@ -256,7 +256,7 @@ describe('validateRowValues — a valid row', () => {
 		});
 	});
 
-	it('computes DCIR from the pulse columns when dcir_mohm is empty (REFERENCES §3: 0.250 mΩ)', () => {
+	it('computes DCIR from the pulse columns when dcir_mohm is empty (docs/references.md §3: 0.250 mΩ)', () => {
 		const v = validateRowValues(
 			raw({
 				dcir_mohm: '',

@@ -3,7 +3,7 @@ import { dcirTwoPulse, evaluateResult } from '../../src/lib/domain/factory-test'
 import type { TestLimits } from '../../src/lib/domain/model';
 
 describe('dcirTwoPulse — IEC 61960-3 / IEC 62620 two-step pulse', () => {
-	it('REFERENCES §3 example: U1 3.300 V @ 56 A, U2 3.244 V @ 280 A → 0.250 mΩ', () => {
+	it('docs/references.md §3 example: U1 3.300 V @ 56 A, U2 3.244 V @ 280 A → 0.250 mΩ', () => {
 		// 280 Ah cell: I1 = 0.2 I_t = 56 A, I2 = 1.0 I_t = 280 A; (0.056 V / 224 A) = 0.25 mΩ [calc]
 		expect(dcirTwoPulse({ u1V: 3.3, i1A: 56, u2V: 3.244, i2A: 280 })).toBe(0.25);
 	});

@@ -10,7 +10,7 @@ import {
 	toGtin14
 } from '../../src/lib/domain/gs1';
 
-// GS1 character set 82 as listed in the GS1 General Specifications (REFERENCES.md §1).
+// GS1 character set 82 as listed in the GS1 General Specifications (docs/references.md §1).
 const CSET82 =
 	'!"%&\'()*+,-./' +
 	'0123456789' +
@@ -85,7 +85,7 @@ describe('AI 21 serial: GS1 character set 82, 1–20 characters (GS1 General Spe
 		}
 	});
 
-	it('rejects space, #, @ and é (the examples of REFERENCES §1)', () => {
+	it('rejects space, #, @ and é (the examples of docs/references.md §1)', () => {
 		for (const bad of ['AB 12', 'AB#12', 'AB@12', 'ABé12'])
 			expect(isValidGs1Serial(bad)).toBe(false);
 	});

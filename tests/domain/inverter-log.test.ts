@@ -123,7 +123,7 @@ describe('summariseLog', () => {
 		expect(s.problems).toEqual(['Row 4: negative interval energy -3 Wh was left out.']);
 	});
 
-	it('1 433 600 Wh of logged discharge over a 14 336 Wh battery is 100.0 EFC (REFERENCES §2, calc)', () => {
+	it('1 433 600 Wh of logged discharge over a 14 336 Wh battery is 100.0 EFC (docs/references.md §2, calc)', () => {
 		const csv = [
 			'Time,Battery Discharge Total (kWh),Battery Temp (°C)',
 			'2024-01-01,0,25',
@@ -176,7 +176,7 @@ describe('summariseLog', () => {
 		).toThrow('The file has a header row but no data rows.');
 	});
 
-	it('reads semicolon exports with decimal commas, a byte-order mark and CRLF (RFC 4180 line ends, REFERENCES §7)', () => {
+	it('reads semicolon exports with decimal commas, a byte-order mark and CRLF (RFC 4180 line ends, docs/references.md §7)', () => {
 		const csv =
 			'\uFEFFTime;Battery Discharge Total (kWh);Battery Temp (°C)\r\n2024-01-01 00:00;10,5;20,5\r\n2024-01-02 00:00;12,0;21,5\r\n';
 		const s = summariseLog(csv, cumulativeKWh);
@@ -185,7 +185,7 @@ describe('summariseLog', () => {
 		expect(s.avgTempC).toBe(21);
 	});
 
-	it('reads quoted fields with commas and doubled quotes (RFC 4180, REFERENCES §7)', () => {
+	it('reads quoted fields with commas and doubled quotes (RFC 4180, docs/references.md §7)', () => {
 		const csv =
 			'Time,Note,Energy (Wh)\n2024-01-01,"start, ""cold""",10\n2024-01-02,"line\nbreak",20\n';
 		const s = summariseLog(csv, {

@@ -23,7 +23,7 @@ async function roundTrip(payload: string): Promise<string | undefined> {
 }
 
 const BASE = 'https://register.tidewater.example';
-// GS1's example GTIN (REFERENCES §1), not a real product.
+// GS1's example GTIN (docs/references.md §1), not a real product.
 const GS1_EXAMPLE_GTIN = '09521234543213';
 const serial = formatSerial({ variant: '48', year: 2026, number: 123 });
 

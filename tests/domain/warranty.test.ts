@@ -32,7 +32,7 @@ const K = (c: number) => c + 273.15;
 const af = (ea: number, t1: number, t2: number) =>
 	Math.exp((ea / 8.314462618) * (1 / K(t1) - 1 / K(t2)));
 
-// 16 × 3.2 V × 280 Ah = 14 336 Wh (REFERENCES §2).
+// 16 × 3.2 V × 280 Ah = 14 336 Wh (docs/references.md §2).
 const usableWh = 16 * 3.2 * 280;
 
 const claim = (over: Partial<ClaimInput> = {}): ClaimInput => ({
@@ -48,12 +48,12 @@ const claim = (over: Partial<ClaimInput> = {}): ClaimInput => ({
 	...over
 });
 
-describe('Arrhenius (REFERENCES §5)', () => {
-	it('R is the CODATA 2018 value, exact in the 2019 SI (REFERENCES §5, pub)', () => {
+describe('Arrhenius (docs/references.md §5)', () => {
+	it('R is the CODATA 2018 value, exact in the 2019 SI (docs/references.md §5, pub)', () => {
 		expect(R_GAS).toBe(8.314462618);
 	});
 
-	it('25 → 55 °C: Ea 50 kJ/mol gives 6.3215, 60 kJ/mol gives 9.1408 (REFERENCES §5, calc)', () => {
+	it('25 → 55 °C: Ea 50 kJ/mol gives 6.3215, 60 kJ/mol gives 9.1408 (docs/references.md §5, calc)', () => {
 		expect(arrheniusFactor(50000, 25, 55)).toBeCloseTo(6.3215, 4);
 		expect(arrheniusFactor(60000, 25, 55)).toBeCloseTo(9.1408, 4);
 		expect(arrheniusFactor(50000, 25, 55)).toBeCloseTo(af(50000, 25, 55), 12);
@@ -64,7 +64,7 @@ describe('Arrhenius (REFERENCES §5)', () => {
 		expect(arrheniusFactor(50000, 55, 25)).toBeCloseTo(1 / 6.3215, 4);
 	});
 
-	it('"10 °C rule", from memory: life halves per 10 K, so ×8 from 25 to 55 °C; the Arrhenius fit needs Ea ≈ 56 kJ/mol for that (REFERENCES §5, calc)', () => {
+	it('"10 °C rule", from memory: life halves per 10 K, so ×8 from 25 to 55 °C; the Arrhenius fit needs Ea ≈ 56 kJ/mol for that (docs/references.md §5, calc)', () => {
 		const rule = 2 ** ((55 - 25) / 10);
 		expect(rule).toBe(8);
 		const ea = fitActivationEnergy(25, 8, 55, 1);
@@ -77,7 +77,7 @@ describe('Arrhenius (REFERENCES §5)', () => {
 		expect(arrheniusFactor(ea, 25, 35)).toBeGreaterThan(arrheniusFactor(ea, 45, 55));
 	});
 
-	it('common practice: titanate-type cells rated 20 000 cycles at 25 °C still give 4 000 at 55 °C; the fit gives Ea ≈ 43.6 kJ/mol (REFERENCES §5, calc)', () => {
+	it('common practice: titanate-type cells rated 20 000 cycles at 25 °C still give 4 000 at 55 °C; the fit gives Ea ≈ 43.6 kJ/mol (docs/references.md §5, calc)', () => {
 		const ea = fitActivationEnergy(25, 20000, 55, 4000);
 		// Ea = R ln(20000/4000) / (1/298.15 − 1/328.15); recomputed here: 43.641 kJ/mol.
 		const expected = (8.314462618 * Math.log(5)) / (1 / 298.15 - 1 / 328.15);
@@ -95,7 +95,7 @@ describe('Arrhenius (REFERENCES §5)', () => {
 	});
 });
 
-describe('deratedCycles (REFERENCES §5)', () => {
+describe('deratedCycles (docs/references.md §5)', () => {
 	it('at 40 °C the derated cycles lie between the two rated points: 8 606 (calc)', () => {
 		const d = deratedCycles(terms, 40);
 		const ea = (R_GAS * Math.log(5)) / (1 / K(25) - 1 / K(55));
@@ -140,13 +140,13 @@ describe('deratedCycles (REFERENCES §5)', () => {
 	});
 });
 
-describe('cycles and capacity (REFERENCES §2)', () => {
-	it('energy basis: 1 433 600 Wh over a 14 336 Wh battery = 100.0 EFC (REFERENCES §2, calc)', () => {
+describe('cycles and capacity (docs/references.md §2)', () => {
+	it('energy basis: 1 433 600 Wh over a 14 336 Wh battery = 100.0 EFC (docs/references.md §2, calc)', () => {
 		expect(usableWh).toBeCloseTo(14336, 9);
 		expect(equivalentFullCycles({ throughputWh: 1433600, usableWh: 14336 })).toBe(100);
 	});
 
-	it('charge basis, not used for assessment: (150 000 + 142 000) Ah / (2 × 280 Ah) = 521.43 (REFERENCES §2, calc)', () => {
+	it('charge basis, not used for assessment: (150 000 + 142 000) Ah / (2 × 280 Ah) = 521.43 (docs/references.md §2, calc)', () => {
 		expect(equivalentFullCyclesChargeBasis(150000, 142000, 280)).toBeCloseTo(521.43, 2);
 	});
 
@@ -156,7 +156,7 @@ describe('cycles and capacity (REFERENCES §2)', () => {
 		expect(() => equivalentFullCyclesChargeBasis(1, 1, 0)).toThrow(RangeError);
 	});
 
-	it('state of health by capacity: 252 Ah of 280 Ah = 90.0 %, fade 10.0 % (REFERENCES §2, calc)', () => {
+	it('state of health by capacity: 252 Ah of 280 Ah = 90.0 %, fade 10.0 % (docs/references.md §2, calc)', () => {
 		expect(capacityRetentionPct(252, 280)).toBeCloseTo(90.0, 10);
 		expect(100 - capacityRetentionPct(252, 280)).toBeCloseTo(10.0, 10);
 	});
@@ -248,7 +248,7 @@ describe('assessClaim', () => {
 		expect(a.deratedRatedCycles).toBe(Math.round(deratedCycles(terms, 40).cycles * 100) / 100);
 	});
 
-	it('declines when retention is at or above the promise: SoH 252/280 = 90.0 % against 90.0 % promised at 10 000 EFC (REFERENCES §2)', () => {
+	it('declines when retention is at or above the promise: SoH 252/280 = 90.0 % against 90.0 % promised at 10 000 EFC (docs/references.md §2)', () => {
 		const a = assessClaim(claim({ measuredCapacityAh: 252, throughputWh: 10000 * usableWh }));
 		expect(a.retentionPct).toBe(90);
 		expect(a.promisedRetentionPct).toBe(90);

@@ -398,6 +398,32 @@ describe('assessment from the warranty snapshot', () => {
 		expect(result.recommendation).toBe('cover');
 	});
 
+	it("derates with the mean kinetic temperature of the log's profile and weighs the capacity test's temperature", async () => {
+		const sys = await commissionedSystem();
+		const profile = [
+			{ tempC: 15, hours: 4000 },
+			{ tempC: 45, hours: 4000 }
+		];
+		const { id } = await fileClaim(
+			db,
+			saltmarsh,
+			{
+				serials: [sys.serials[3]],
+				fault: 'Fade',
+				evidence: { ...coverEvidence, measuredAtC: '9' },
+				log: { rows: 8000, firstAt: null, lastAt: null, problems: [], temperatureProfile: profile }
+			},
+			NOW
+		);
+		const result = await assessmentFor(db, await loadClaim(db, warranty, id));
+		expect(result.input.temperatureProfile).toEqual(profile);
+		expect(result.input.measuredAtC).toBe(9);
+		expect(result.temperatureBasis).toBe('profile');
+		// Haynes (1971) MKT of 15/45 °C at the terms' Ea 43.64 kJ/mol ≈ 35.13 °C (calc, see the domain tests).
+		expect(result.effectiveCellTempC).toBeCloseTo(35.13, 2);
+		expect(result.reasons.join(' ')).toMatch(/below the 20 ± 5 °C reference band/);
+	});
+
 	it('uses a per-module throughput as given, and reports an unproven stop-charge signal', async () => {
 		const sys = await commissionedSystem({ stopCharge: 'fail' });
 		const { id } = await fileClaim(

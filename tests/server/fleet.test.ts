@@ -201,7 +201,7 @@ describe('the view in the URL', () => {
 		expect(ok.success && ok.data).toEqual({ page: 2, pageSize: 50, sort: 'builtAt', dir: 'desc' });
 		const bad = parseFleetQuery(
 			new URLSearchParams(
-				'pageSize=5&sort=colour&state=lost&builtFrom=2026-02-30&dir=up&q=' + 'X'.repeat(41)
+				'pageSize=0&sort=colour&state=lost&builtFrom=2026-02-30&dir=up&q=' + 'X'.repeat(41)
 			)
 		);
 		expect(bad.success).toBe(false);
@@ -209,6 +209,15 @@ describe('the view in the URL', () => {
 		expect(paths).toEqual(
 			expect.arrayContaining(['pageSize', 'sort', 'state', 'builtFrom', 'dir', 'q'])
 		);
+		// Page size: 1 to 500 rows, both ends included (README, API).
+		for (const [size, ok] of [
+			['1', true],
+			['500', true],
+			['0', false],
+			['501', false],
+			['2.5', false]
+		] as const)
+			expect(parseFleetQuery(new URLSearchParams(`pageSize=${size}`)).success, size).toBe(ok);
 		const reversed = parseFleetQuery(
 			new URLSearchParams('builtFrom=2026-03-01&builtTo=2026-02-01')
 		);

@@ -63,7 +63,7 @@ describe('invitations and resets', () => {
 				{ email: 'x@tidewater.example', name: 'X Y', role: 'dealer', organisationId: 1 },
 				BASE
 			)
-		).rejects.toThrow(/does not fit/);
+		).rejects.toThrow(/A Dealer belongs to a dealer organisation, not to the assembler/);
 		await expect(
 			inviteUser(
 				db,

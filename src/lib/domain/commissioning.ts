@@ -303,6 +303,24 @@ function checkProtectiveDevice(ctx: Ctx): Outcome {
 }
 
 /** The ambient range that allows both charge and discharge: the overlap of the two ranges. */
+/**
+ * The continuous current a system is set up for: the inverter's larger charge or discharge
+ * limit where one is recorded, never above what the parallel strings can deliver at the
+ * model's maximum continuous C-rate (I = C × Ah per string). Undefined when the inverter
+ * records no limit.
+ */
+export function systemCurrentLimitA(s: {
+	maxContinuousC: number;
+	ratedAh: number;
+	parallel: number;
+	maxChargeA?: number | null;
+	maxDischargeA?: number | null;
+}): number | undefined {
+	const batteryA = currentForCRate(s.maxContinuousC, s.ratedAh) * s.parallel;
+	const inverterA = Math.max(s.maxChargeA ?? 0, s.maxDischargeA ?? 0);
+	return inverterA > 0 ? Math.min(inverterA, batteryA) : undefined;
+}
+
 export function operatingTempRange(model: CommissioningModel): { minC: number; maxC: number } {
 	return {
 		minC: Math.max(model.chargeTempMinC, model.dischargeTempMinC),

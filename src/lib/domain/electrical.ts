@@ -1,7 +1,7 @@
 /**
  * Small electrical formulas shared by the design check and commissioning evaluation.
  * Each names its source; rules of thumb say "common practice", unverified recollections
- * say "from memory" (see /work/shared/REFERENCES.md §2, §4, §9).
+ * say "from memory" (see docs/references.md §2, §4, §9).
  */
 
 function requirePositive(name: string, value: number): void {
@@ -20,7 +20,7 @@ export function chargeMinutesAtC(cRate: number): number {
 	return 60 / cRate;
 }
 
-/** Energy in Wh = V_nominal × Ah (REFERENCES §2: 16 × 3.2 V × 280 Ah = 14 336 Wh). */
+/** Energy in Wh = V_nominal × Ah (docs/references.md §2: 16 × 3.2 V × 280 Ah = 14 336 Wh). */
 export function energyWh(nominalV: number, ah: number): number {
 	requirePositive('Nominal voltage', nominalV);
 	requirePositive('Capacity', ah);

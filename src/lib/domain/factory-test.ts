@@ -20,9 +20,9 @@ export interface TwoPulseReading {
 /**
  * DC internal resistance in mΩ by the two-step pulse of IEC 61960-3 / IEC 62620:
  * R_dc = (U1 − U2) / (I2 − I1). The state-of-charge precondition (about 50 %) is the
- * rig's concern, not this function's (from memory, see REFERENCES §3).
+ * rig's concern, not this function's (from memory, see docs/references.md §3).
  *
- * Example (REFERENCES §3): U1 3.300 V at 56 A, U2 3.244 V at 280 A → 0.250 mΩ.
+ * Example (docs/references.md §3): U1 3.300 V at 56 A, U2 3.244 V at 280 A → 0.250 mΩ.
  *
  * @throws RangeError when a value is not a finite number, when I2 is not above I1 (the
  *   formula divides by I2 − I1) or when U2 is above U1, which would give a negative

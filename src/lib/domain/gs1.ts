@@ -1,7 +1,7 @@
 /**
  * GS1 keys and GS1 Digital Link URIs, as printed in the QR code on a module label.
  *
- * Sources (see /work/shared/REFERENCES.md §1):
+ * Sources (see docs/references.md §1):
  * - GS1 General Specifications: check digit (§7.9), character set 82 (§7.11)
  *   [section numbers from memory].
  * - GS1 Digital Link Standard: URI Syntax, grammar of release 1.2 (current 1.6.0).

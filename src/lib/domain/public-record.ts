@@ -7,8 +7,9 @@
  * health, cycles, events) are restricted there and are deliberately absent here.
  */
 import { deriveFigures, type ModelSpec, type WarrantyTerms } from './model';
+import { passportStatusOf, type PassportStatus } from './module-status';
 
-export type PassportStatus = 'original' | 'repurposed' | 're-used' | 'remanufactured' | 'waste';
+export type { PassportStatus };
 
 export interface PublicRecord {
 	identifier: string;
@@ -111,7 +112,7 @@ export function toPublicRecord(i: PublicRecordInput): PublicRecord {
 			commercialWarrantyYears: i.model.warrantyYears
 		},
 		buildMonth: i.builtAt ? i.builtAt.toISOString().slice(0, 7) : null,
-		status: i.state === 'scrapped' ? 'waste' : 'original',
+		status: passportStatusOf({ state: i.state }),
 		warranty,
 		contact: i.dealer
 			? { ...i.dealer, kind: 'dealer' }

@@ -39,6 +39,12 @@ export function describe(values: readonly number[]): Description {
 	};
 }
 
+/**
+ * Fewest results from which a capability index is shown as a judgement (coloured); below
+ * it the page cautions that the figure is too uncertain. Common practice (often 30–50).
+ */
+export const MIN_CAPABILITY_N = 30;
+
 export interface Capability {
 	/** (USL − LSL) / 6σ; needs both limits. */
 	cp: number | null;

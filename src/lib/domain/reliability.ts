@@ -181,15 +181,14 @@ export function fitWeibull(times: readonly number[], censored: readonly boolean[
 	let beta = Math.min(Math.max(1, lo), hi);
 	for (let iter = 0; iter < 200; iter++) {
 		const { value, slope } = g(beta);
+		if (value === 0) break;
 		if (value > 0) hi = beta;
 		else lo = beta;
 		let next = beta - value / slope;
 		if (!(next > lo && next < hi)) next = (lo + hi) / 2;
-		if (Math.abs(next - beta) <= 1e-13 * beta) {
-			beta = next;
-			break;
-		}
+		const done = Math.abs(next - beta) <= 1e-12 * beta || hi - lo <= 1e-12 * beta;
 		beta = next;
+		if (done) break;
 	}
 
 	const { b: sumW } = sums(beta);

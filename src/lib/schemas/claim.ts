@@ -5,52 +5,25 @@
  */
 import { z } from 'zod';
 import { claimEvidenceSchema, temperatureProfileSchema } from './warranty-assess';
+import {
+	AWAITING_DECISION,
+	CLAIM_DECISIONS,
+	CLAIM_MOVES,
+	CLAIM_STATE_LABELS,
+	CLAIM_STATES,
+	MIN_DECISION_REASON,
+	TARGET_RESPONSE_DAYS,
+	type ClaimState
+} from '$lib/domain/claim-workflow';
 
-export const CLAIM_STATE_NAMES = [
-	'filed',
-	'in_review',
-	'awaiting_evidence',
-	'covered',
-	'not_covered',
-	'replacement_sent',
-	'closed'
-] as const;
-export type ClaimStateName = (typeof CLAIM_STATE_NAMES)[number];
-
-export const CLAIM_STATE_LABELS: Record<ClaimStateName, string> = {
-	filed: 'Filed',
-	in_review: 'Under review',
-	awaiting_evidence: 'Waiting for evidence',
-	covered: 'Covered',
-	not_covered: 'Not covered',
-	replacement_sent: 'Replacement sent',
-	closed: 'Closed'
+export {
+	AWAITING_DECISION,
+	CLAIM_MOVES,
+	CLAIM_STATE_LABELS,
+	CLAIM_STATES as CLAIM_STATE_NAMES,
+	TARGET_RESPONSE_DAYS,
+	type ClaimState as ClaimStateName
 };
-
-/**
- * Moves a warranty officer may make by hand. Covered and not covered are reached only
- * through a decision (which stores the assessment and, where needed, the reason), and
- * replacement sent also follows on its own when the last replacement is scanned.
- */
-export const CLAIM_MOVES: Record<ClaimStateName, ClaimStateName[]> = {
-	filed: ['in_review'],
-	in_review: ['awaiting_evidence'],
-	awaiting_evidence: ['in_review'],
-	covered: ['replacement_sent'],
-	not_covered: ['closed'],
-	replacement_sent: ['closed'],
-	closed: []
-};
-
-/** States in which the claim still waits for the assembler's decision: the response-time target applies. */
-export const AWAITING_DECISION: readonly ClaimStateName[] = [
-	'filed',
-	'in_review',
-	'awaiting_evidence'
-];
-
-/** Target response time: a decision within 10 calendar days of filing (calendar, not working days, to keep it plain). */
-export const TARGET_RESPONSE_DAYS = 10;
 
 /** What the return inspection found to be the cause. Our own short list. */
 export const RETURN_CAUSES = {
@@ -64,8 +37,7 @@ export const RETURN_CAUSES = {
 } as const;
 export type ReturnCause = keyof typeof RETURN_CAUSES;
 
-/** The shortest reason accepted for a decision that departs from the recommendation. */
-export const MIN_DECISION_REASON = 20;
+export { MIN_DECISION_REASON };
 
 const blankToUndefined = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? undefined : v);
 
@@ -128,7 +100,7 @@ export const fileClaimFormSchema = z
 export type FileClaimForm = z.infer<typeof fileClaimFormSchema>;
 
 export const moveClaimSchema = z.object({
-	to: z.enum(CLAIM_STATE_NAMES, { error: 'Choose the state to move the claim to.' }),
+	to: z.enum(CLAIM_STATES, { error: 'Choose the state to move the claim to.' }),
 	comment: z.preprocess(
 		blankToUndefined,
 		z.string().trim().max(2000, { error: 'Keep the comment under 2000 characters.' }).optional()
@@ -145,7 +117,7 @@ export const commentSchema = z.object({
 });
 
 export const decideClaimSchema = z.object({
-	decision: z.enum(['covered', 'not_covered'], { error: 'Choose covered or not covered.' }),
+	decision: z.enum(CLAIM_DECISIONS, { error: 'Choose covered or not covered.' }),
 	reason: z.preprocess(
 		blankToUndefined,
 		z.string().trim().max(4000, { error: 'Keep the reason under 4000 characters.' }).optional()
@@ -248,7 +220,7 @@ const queryInt = (min: number, max: number, label: string) =>
 export const claimQuerySchema = z.object({
 	state: z.preprocess(
 		blankToUndefined,
-		z.enum(CLAIM_STATE_NAMES, { error: 'Unknown claim state.' }).optional()
+		z.enum(CLAIM_STATES, { error: 'Unknown claim state.' }).optional()
 	),
 	dealer: queryInt(1, Number.MAX_SAFE_INTEGER, 'Dealer'),
 	model: z.preprocess(blankToUndefined, z.string().trim().max(40).optional()),

@@ -10,7 +10,7 @@
 import { z } from 'zod';
 import type { CommissioningMeasurements } from '$lib/domain/commissioning';
 
-/** The cautions shown before any work on a battery (PRODUCT.md, Cautions), on the page and the certificate. */
+/** The cautions shown before any work on a battery (common practice for DC battery work; local codes and licensed practice prevail), on the page and the certificate. */
 export const COMMISSIONING_CAUTIONS: { title: string; text: string }[] = [
 	{
 		title: 'Isolate and lock off',

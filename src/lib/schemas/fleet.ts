@@ -20,6 +20,10 @@ const STATE_ORDER: Record<ModuleState, number> = {
 	replaced: 9,
 	scrapped: 10
 };
+
+/** Rows a page of the fleet (page and `GET /api/modules`) may hold; README documents the range. */
+export const PAGE_SIZE_MIN = 1;
+export const PAGE_SIZE_MAX = 500;
 export const FLEET_STATES = Object.keys(STATE_ORDER) as ModuleState[];
 
 export const FLEET_SORTS = [
@@ -74,10 +78,10 @@ export const fleetQuerySchema = z
 			.min(1, 'Pages start at 1.')
 			.default(1),
 		pageSize: z.coerce
-			.number({ message: 'Show 10 to 200 rows a page.' })
-			.int('Show 10 to 200 rows a page.')
-			.min(10, 'Show at least 10 rows a page.')
-			.max(200, 'Show at most 200 rows a page.')
+			.number({ message: `Show ${PAGE_SIZE_MIN} to ${PAGE_SIZE_MAX} rows a page.` })
+			.int(`Show ${PAGE_SIZE_MIN} to ${PAGE_SIZE_MAX} rows a page.`)
+			.min(PAGE_SIZE_MIN, `Show at least ${PAGE_SIZE_MIN} row a page.`)
+			.max(PAGE_SIZE_MAX, `Show at most ${PAGE_SIZE_MAX} rows a page.`)
 			.default(50),
 		sort: z
 			.enum(FLEET_SORTS, { message: `Sort by one of: ${FLEET_SORTS.join(', ')}.` })

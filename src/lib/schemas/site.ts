@@ -29,11 +29,11 @@ export type ClimateBand = (typeof DB_CLIMATE_BANDS)[number];
 
 /** Main climate groups of the Köppen–Geiger classification, in plain words. */
 export const CLIMATE_BAND_LABELS: Record<ClimateBand, string> = {
-	tropical: 'Tropical (hot and humid all year)',
-	arid: 'Arid (desert or steppe)',
+	tropical: 'Tropical (hot, humid)',
+	arid: 'Arid (desert, steppe)',
 	temperate: 'Temperate (mild winters)',
-	continental: 'Continental (cold winters, warm summers)',
-	polar: 'Polar or alpine (cold all year)'
+	continental: 'Continental (cold winters)',
+	polar: 'Polar or alpine'
 };
 export const CLIMATE_BANDS = Object.keys(CLIMATE_BAND_LABELS) as ClimateBand[];
 

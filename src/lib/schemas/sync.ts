@@ -19,7 +19,6 @@ import {
 	SYNC_OPERATION_TYPES,
 	UUID
 } from '$lib/offline/contract';
-import type { SyncOperationType } from '$lib/offline/contract';
 
 export {
 	CONFLICT_PATH,

@@ -1,8 +1,12 @@
 import { z } from 'zod';
+import { isCalendarDate } from './warranty-assess';
 
+/** A real calendar day: 2026-02-30 or 2026-99-99 is refused with a message, never read as another day. */
 const date = z
 	.string()
-	.regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date like 2026-11-30.')
+	.max(10, { error: 'Use a date like 2026-11-30.', abort: true })
+	.regex(/^\d{4}-\d{2}-\d{2}$/, { error: 'Use a date like 2026-11-30.', abort: true })
+	.refine(isCalendarDate, 'This date does not exist; check the month and day.')
 	.optional()
 	.or(z.literal('').transform(() => undefined));
 const text = (max: number) =>

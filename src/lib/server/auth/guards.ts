@@ -1,5 +1,11 @@
+/**
+ * The guards. Every load, action and `+server.ts` handler calls one of them as its first
+ * statement (`tests/server/guard-coverage.test.ts` checks it, and which capability each route
+ * names). What a capability lets whom do is in `$lib/policy`.
+ */
 import { error, redirect, type RequestEvent } from '@sveltejs/kit';
-import { hasRole, ROLE_LABELS, type RoleName } from '$lib/roles';
+import { can, rolesFor, type Capability } from '$lib/policy';
+import { ROLE_LABELS, type RoleName } from '$lib/roles';
 import type { Actor } from '$lib/server/actor';
 
 type Event = Pick<RequestEvent, 'locals' | 'url'>;
@@ -23,11 +29,13 @@ export function requireUser(event: Event): Actor {
 	redirect(303, `/signin?next=${encodeURIComponent(event.url.pathname + event.url.search)}`);
 }
 
-/** The signed-in user if the role is one of `roles`; otherwise a 403 that says who may enter. */
-export function requireRole(event: Event, ...roles: RoleName[]): Actor {
+/** The signed-in user if their role holds the capability; otherwise a 403 that says who may. */
+export function requireCan(event: Event, capability: Capability): Actor {
 	const user = requireUser(event);
-	if (!hasRole(user.role, roles)) {
-		const who = roles.map((r) => ROLE_LABELS[r]).join(', ');
+	if (!can(user.role, capability)) {
+		const who = rolesFor(capability)
+			.map((r) => ROLE_LABELS[r])
+			.join(', ');
 		error(
 			403,
 			`This area is for: ${who}. You are signed in as ${ROLE_LABELS[user.role as RoleName] ?? user.role}.`
@@ -43,18 +51,20 @@ export function allowAnonymous(event: Event): Actor | null {
 
 /**
  * For API routes that test rigs may call: a valid token with the scope, or a signed-in
- * user with one of the roles. A revoked or unknown token is refused with 401 and the reason.
+ * user whose role holds the capability. A revoked or unknown token is refused with 401 and
+ * the reason.
  */
 export function requireApiActor(
 	event: Event,
-	opts: { roles: RoleName[]; tokenScope?: 'imports' }
+	capability: Capability,
+	opts: { tokenScope?: 'imports' } = {}
 ): Actor {
 	const token = event.locals.token;
 	if (token) {
 		if ('error' in token) error(401, token.error);
-		if (token.scope !== opts.tokenScope)
+		if (!opts.tokenScope || token.scope !== opts.tokenScope)
 			error(403, 'This API token may only send factory test imports.');
 		return token.actor;
 	}
-	return requireRole(event, ...opts.roles);
+	return requireCan(event, capability);
 }

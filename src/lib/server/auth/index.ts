@@ -1,7 +1,7 @@
 import { SvelteKitAuth, CredentialsSignin, type SvelteKitAuthConfig } from '@auth/sveltekit';
 import { Auth } from '@auth/core';
 import { decode } from '@auth/core/jwt';
-import type { Handle } from '@sveltejs/kit';
+import { json, type Handle } from '@sveltejs/kit';
 import Credentials from '@auth/sveltekit/providers/credentials';
 import { randomBytes } from 'node:crypto';
 import { eq } from 'drizzle-orm';
@@ -11,7 +11,9 @@ import { signInSchema } from '$lib/schemas/auth';
 import { hashPassword, verifyPassword } from './password';
 import { claimSignInAttempt, signInSucceeded } from './rate-limit';
 import { currentClientAddress } from '$lib/server/request-context';
+import { safeNext } from '$lib/server/safe-redirect';
 import { endSessions } from '$lib/server/services/users';
+import { findActor } from '$lib/server/services/actors';
 
 class RateLimited extends CredentialsSignin {
 	code = 'rate_limited';
@@ -95,6 +97,11 @@ export const authConfig: SvelteKitAuthConfig = {
 		})
 	],
 	callbacks: {
+		/** After sign-in or sign-out: only a path on this site (see safeNext). */
+		redirect({ url, baseUrl }) {
+			const path = url.startsWith(baseUrl) ? url.slice(baseUrl.length) || '/' : url;
+			return baseUrl + safeNext(path, baseUrl);
+		},
 		jwt({ token, user }) {
 			if (user) {
 				const u = user as {
@@ -136,6 +143,15 @@ const STANDARD = new Set([
 ]);
 export const standardAuthEndpoints: Handle = async ({ event, resolve }) => {
 	const route = `${event.request.method} ${event.url.pathname}`;
+	if (route === 'GET /auth/session') {
+		// An ended session (older session version) reads as signed out here too.
+		const claims = await tokenClaims(event.cookies.getAll());
+		if (claims) {
+			const actor = await findActor(await getDb(), { id: claims.uid });
+			if (!actor || actor.sessionVersion !== claims.sv) return json(null);
+		}
+		return resolve(event);
+	}
 	if (!STANDARD.has(route)) return resolve(event);
 	const response = await Auth(event.request, {
 		...authConfig,
@@ -145,23 +161,23 @@ export const standardAuthEndpoints: Handle = async ({ event, resolve }) => {
 	});
 	// Auth.js only clears the cookie; a copy of the token must stop working too.
 	if (route === 'POST /auth/signout' && response.status < 400) {
-		const uid = await tokenUserId(event.cookies.getAll());
-		if (uid) await endSessions(await getDb(), uid);
+		const claims = await tokenClaims(event.cookies.getAll());
+		if (claims) await endSessions(await getDb(), claims.uid);
 	}
 	return response;
 };
 
-/** The user id inside a session cookie, or null (a token that does not decode counts as none). */
-export async function tokenUserId(
+/** The user id and session version inside a session cookie, or null (a token that does not decode counts as none). */
+export async function tokenClaims(
 	cookies: { name: string; value: string }[]
-): Promise<number | null> {
+): Promise<{ uid: number; sv: number } | null> {
 	for (const name of SESSION_COOKIES) {
 		const value = cookies.find((c) => c.name === name)?.value;
 		if (!value) continue;
 		try {
 			const token = await decode({ token: value, secret: process.env.AUTH_SECRET!, salt: name });
-			const id = Number(token?.uid);
-			if (Number.isInteger(id) && id > 0) return id;
+			const uid = Number(token?.uid);
+			if (Number.isInteger(uid) && uid > 0) return { uid, sv: Number(token?.sv) };
 		} catch {
 			/* not ours, or expired */
 		}

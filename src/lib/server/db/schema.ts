@@ -8,14 +8,17 @@ import {
 	text,
 	uniqueIndex
 } from 'drizzle-orm/sqlite-core';
+import { ROLE_NAMES, type RoleName } from '../../policy';
+import { MODULE_STATES, type ModuleState } from '../../domain/module-lifecycle';
+import { CLAIM_DECISIONS, CLAIM_STATES, type ClaimState } from '../../domain/claim-workflow';
 
 const createdAt = () =>
 	integer('created_at', { mode: 'timestamp_ms' })
 		.notNull()
 		.default(sql`(unixepoch('subsec') * 1000)`);
 
-export const ROLES = ['admin', 'workshop', 'field_tech', 'warranty', 'dealer'] as const;
-export type Role = (typeof ROLES)[number];
+export const ROLES = ROLE_NAMES;
+export type Role = RoleName;
 
 export const organisations = sqliteTable('organisations', {
 	id: integer('id').primaryKey({ autoIncrement: true }),
@@ -132,20 +135,7 @@ export const allocations = sqliteTable('allocations', {
 	createdAt: createdAt()
 });
 
-export const MODULE_STATES = [
-	'allocated',
-	'built',
-	'test_failed',
-	'in_stock',
-	'shipped',
-	'installed',
-	'commissioned',
-	'claim_open',
-	'returned',
-	'replaced',
-	'scrapped'
-] as const;
-export type ModuleState = (typeof MODULE_STATES)[number];
+export { MODULE_STATES, type ModuleState };
 
 export const modules = sqliteTable(
 	'modules',
@@ -537,16 +527,7 @@ export const attachments = sqliteTable(
 	(t) => [index('attachments_owner_idx').on(t.ownerKind, t.ownerId)]
 );
 
-export const CLAIM_STATES = [
-	'filed',
-	'in_review',
-	'awaiting_evidence',
-	'covered',
-	'not_covered',
-	'replacement_sent',
-	'closed'
-] as const;
-export type ClaimState = (typeof CLAIM_STATES)[number];
+export { CLAIM_STATES, type ClaimState };
 
 /** A warranty claim on one or more modules of a commissioned system. */
 export const claims = sqliteTable(
@@ -565,7 +546,7 @@ export const claims = sqliteTable(
 		evidence: text('evidence').notNull(),
 		/** The assessment computed when the claim was decided (JSON), kept for later reading. */
 		assessment: text('assessment'),
-		decision: text('decision', { enum: ['covered', 'not_covered'] }),
+		decision: text('decision', { enum: CLAIM_DECISIONS }),
 		decisionReason: text('decision_reason'),
 		decidedBy: integer('decided_by').references(() => users.id),
 		decidedAt: integer('decided_at', { mode: 'timestamp_ms' }),
@@ -623,6 +604,55 @@ export const logMappings = sqliteTable('log_mappings', {
 	mapping: text('mapping').notNull(),
 	updatedAt: integer('updated_at', { mode: 'timestamp_ms' }).notNull()
 });
+
+/**
+ * Battery passport items of a model that the admin enters (Regulation (EU) 2023/1542,
+ * Annex XIII §1): one row per item, its value as entered (JSON) and the unit it was
+ * entered in. An item without a row is "not yet provided"; nothing is filled in for it.
+ */
+export const modelPassportItems = sqliteTable(
+	'model_passport_items',
+	{
+		modelId: integer('model_id')
+			.notNull()
+			.references(() => moduleModels.id),
+		itemKey: text('item_key').notNull(),
+		value: text('value').notNull(),
+		unit: text('unit'),
+		updatedAt: integer('updated_at', { mode: 'timestamp_ms' }).notNull(),
+		updatedBy: integer('updated_by').references(() => users.id)
+	},
+	(t) => [primaryKey({ columns: [t.modelId, t.itemKey] })]
+);
+
+export const PASSPORT_GRANT_PARTIES = ['recycler', 'repairer', 'authority'] as const;
+
+/**
+ * A time-limited access link to the restricted part of battery passports, issued by the
+ * admin to a recycler, repairer or market-surveillance authority for one module or one
+ * cell lot. Only a hash of the secret is stored; revoking ends it at once.
+ */
+export const passportGrants = sqliteTable(
+	'passport_grants',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		tokenHash: text('token_hash').notNull().unique(),
+		prefix: text('prefix').notNull(),
+		partyKind: text('party_kind', { enum: PASSPORT_GRANT_PARTIES }).notNull(),
+		partyName: text('party_name').notNull(),
+		scopeKind: text('scope_kind', { enum: ['module', 'lot'] }).notNull(),
+		/** The module's serial or the cell lot code. */
+		scopeValue: text('scope_value').notNull(),
+		expiresAt: integer('expires_at', { mode: 'timestamp_ms' }).notNull(),
+		createdBy: integer('created_by')
+			.notNull()
+			.references(() => users.id),
+		createdAt: createdAt(),
+		revokedAt: integer('revoked_at', { mode: 'timestamp_ms' }),
+		lastUsedAt: integer('last_used_at', { mode: 'timestamp_ms' })
+	},
+	(t) => [index('passport_grants_scope_idx').on(t.scopeKind, t.scopeValue)]
+);
 
 /**
  * Operations sent by phones that worked offline (`POST /api/sync`), recorded in the same

@@ -1,8 +1,14 @@
 import { eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { moduleModels, organisations, users, type Role } from '$lib/server/db/schema';
+import {
+	modelPassportItems,
+	moduleModels,
+	organisations,
+	users,
+	type Role
+} from '$lib/server/db/schema';
 import { hashPassword } from '$lib/server/auth/password';
-import { DEMO_MODELS } from './demo-models';
+import { DEMO_MODELS, DEMO_PASSPORT_ITEMS } from './demo-models';
 
 export const DEMO_ORGS = [
 	{
@@ -97,5 +103,20 @@ export async function seedDemo(db: Db, password = 'packledger-demo') {
 	}
 	for (const m of DEMO_MODELS) await db.insert(moduleModels).values(m).onConflictDoNothing();
 	const [admin] = await db.select().from(users).where(eq(users.email, 'admin@tidewater.example'));
+	for (const [code, items] of Object.entries(DEMO_PASSPORT_ITEMS)) {
+		const [model] = await db.select().from(moduleModels).where(eq(moduleModels.code, code));
+		for (const [itemKey, item] of Object.entries(items))
+			await db
+				.insert(modelPassportItems)
+				.values({
+					modelId: model.id,
+					itemKey,
+					value: JSON.stringify(item.value),
+					unit: item.unit,
+					updatedAt: new Date('2026-09-01T00:00:00Z'),
+					updatedBy: admin.id
+				})
+				.onConflictDoNothing();
+	}
 	return { orgId, adminId: admin.id };
 }

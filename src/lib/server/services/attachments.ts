@@ -89,6 +89,27 @@ export function checkPhoto(file: { name: string; type: string; bytes: Uint8Array
 	throw new InvalidInputError(`${name} is not a JPEG, PNG or WebP image${claimed}; ${SEND}.`);
 }
 
+const EXTENSION: Record<string, string> = {
+	'image/jpeg': 'jpg',
+	'image/png': 'png',
+	'image/webp': 'webp'
+};
+
+/**
+ * The name a file is kept and served under: the sender's name without its extension(s),
+ * letters, digits, `-` and `_` only, then the extension of the type detected from the
+ * content. "poly.html" that is really a JPEG becomes "poly.jpg", so no saved copy opens as
+ * a page (OWASP File Upload Cheat Sheet: "Filename sanitization", "Extension validation").
+ */
+export function safeFileName(name: string | null | undefined, contentType: string): string {
+	const base = (name ?? '').slice(0, 200).split(/[/\\]/).pop() ?? '';
+	const stem = base
+		.split('.')[0]
+		.replace(/[^A-Za-z0-9_-]+/g, '_')
+		.replace(/^_+|_+$/g, '');
+	return `${stem.slice(0, 80) || 'photo'}.${EXTENSION[contentType] ?? 'bin'}`;
+}
+
 /** The dealer organisation responsible for an owner record (null: the assembler's own site), or NotFound. */
 async function ownerSite(
 	db: Db,
@@ -161,8 +182,7 @@ export async function savePhoto(
 	const contentType = checkPhoto(file);
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
 	const storageKey = `attachments/${owner.ownerKind}/${owner.ownerId}/${randomUUID()}`;
-	const fileName =
-		(file.name || 'photo').replace(/[\u0000-\u001f\u007f]/g, '').slice(0, 200) || 'photo';
+	const fileName = safeFileName(file.name, contentType);
 	await putObject(storageKey, file.bytes, contentType);
 	try {
 		return await writeTx(db, async (tx) => {
@@ -241,5 +261,8 @@ export async function readAttachment(db: Db, actor: Actor, id: number) {
 		throw new NotFoundError(
 			`The file of attachment ${id} (${row.fileName}) is missing from storage; tell an administrator.`
 		);
-	return { attachment: row, bytes: object.bytes, contentType: row.contentType };
+	// Served as what the bytes are, not as what the row (or the sender) says.
+	const kind = sniffImage(object.bytes);
+	const contentType = kind && 'accepted' in kind ? kind.accepted : 'application/octet-stream';
+	return { attachment: row, bytes: object.bytes, contentType };
 }

@@ -1,4 +1,4 @@
-import { and, desc, eq } from 'drizzle-orm';
+import { and, desc, eq, inArray } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import { moduleCellLots, moduleModels, modules, users } from '$lib/server/db/schema';
@@ -7,6 +7,7 @@ import { ConflictError } from '$lib/server/errors';
 import type { BuildInput } from '$lib/schemas/build';
 import { recordAudit, recordEvent } from './audit';
 import { findModule } from './modules';
+import { endOf, mayMove, statesFrom } from '$lib/domain/module-lifecycle';
 
 /**
  * Registers a module's build: cell lots (indexed for traceability), the confirmed
@@ -22,7 +23,7 @@ export async function registerBuild(
 ) {
 	const mod = await findModule(db, actor, serialText);
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mod.modelId));
-	if (mod.state !== 'allocated') {
+	if (!mayMove(mod.state, 'build')) {
 		const [by] = mod.builtBy
 			? await db.select({ name: users.name }).from(users).where(eq(users.id, mod.builtBy))
 			: [];
@@ -43,7 +44,7 @@ export async function registerBuild(
 		const updated = await tx
 			.update(modules)
 			.set({
-				state: 'built',
+				state: endOf('build'),
 				builtAt: now,
 				builtBy: actor.userId,
 				cellLots: JSON.stringify(input.cellLots),
@@ -51,7 +52,7 @@ export async function registerBuild(
 				buildNotes: input.notes || null,
 				updatedAt: now
 			})
-			.where(and(eq(modules.id, mod.id), eq(modules.state, 'allocated')))
+			.where(and(eq(modules.id, mod.id), inArray(modules.state, statesFrom('build'))))
 			.returning({ state: modules.state });
 		// A second bench scanning the same label at the same moment loses here, with the same message.
 		if (!updated.length) throw new ConflictError(`${mod.serial} is already built.`);
@@ -81,7 +82,7 @@ export async function registerBuild(
 export async function benchTarget(db: Db, actor: Actor, serial: string) {
 	const mod = await findModule(db, actor, serial);
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mod.modelId));
-	if (mod.state !== 'allocated') {
+	if (!mayMove(mod.state, 'build')) {
 		const [by] = mod.builtBy
 			? await db.select({ name: users.name }).from(users).where(eq(users.id, mod.builtBy))
 			: [];

@@ -13,7 +13,9 @@ import { assessClaim, type ClaimAssessment, type ClaimInput } from '$lib/domain/
 import type { WarrantyTerms } from '$lib/domain/model';
 import { warrantyTermsSchema, type ClaimEvidence } from '$lib/schemas/warranty-assess';
 import type { LogSummaryEvidence } from '$lib/schemas/claim';
-import type { Issue } from '$lib/server/validation';
+import { fmtNumber, implausibleEvidence, perModuleThroughput } from '$lib/domain/claim-evidence';
+
+export { fmtNumber, implausibleEvidence, perModuleThroughput };
 
 type Conn = Db | Tx;
 type ClaimRow = typeof claims.$inferSelect;
@@ -39,15 +41,7 @@ export interface ClaimAssessmentResult extends ClaimAssessment {
 	modules: { serial: string; assessment: ClaimAssessment }[];
 }
 
-const DAY_MS = 86_400_000;
 export const isoDay = (d: Date) => d.toISOString().slice(0, 10);
-
-/** Numbers as the assessment's sentences write them: grouped by spaces, at most `decimals`. */
-export function fmtNumber(x: number, decimals = 0): string {
-	const [int, frac] = Math.abs(x).toFixed(decimals).split('.');
-	const grouped = int.length > 3 ? int.replace(/\B(?=(\d{3})+(?!\d))/g, ' ') : int;
-	return (x < 0 ? '−' : '') + grouped + (frac && Number(frac) !== 0 ? `.${frac}` : '');
-}
 
 export function parseEvidence(json: string): StoredEvidence {
 	const e = JSON.parse(json) as StoredEvidence;
@@ -151,14 +145,6 @@ function eventsOf(evidence: StoredEvidence, model: ModelRow): string[] {
 		);
 	}
 	return listed;
-}
-
-/** Per-module throughput: the system's figure shared equally over its modules, or the module's own. */
-export function perModuleThroughput(evidence: StoredEvidence, moduleCount: number): number | null {
-	if (evidence.throughputWh === undefined) return null;
-	return evidence.throughputScope === 'system'
-		? evidence.throughputWh / Math.max(1, moduleCount)
-		: evidence.throughputWh;
 }
 
 function assessSafely(input: ClaimInput): ClaimAssessment {
@@ -291,49 +277,4 @@ function assessModule(
 		eventsOutsideLimits: events.length ? events : null
 	};
 	return { input, note, assessment: assessSafely(input) };
-}
-
-/**
- * Figures no module can have produced: more equivalent full cycles per day since the
- * warranty started than a full discharge and a full recharge at the model's maximum
- * continuous C-rate allow (each takes 1/C hours, so at most 12 × C cycles a day). A
- * log that ends after the claim date is refused too. Returns issues on the form's fields.
- */
-export function implausibleEvidence(
-	evidence: StoredEvidence,
-	ctx: { model: ModelRow; moduleCount: number; startsOn: string | null; now: Date }
-): Issue[] {
-	const issues: Issue[] = [];
-	const today = isoDay(ctx.now);
-	const start = ctx.startsOn ? Date.parse(`${ctx.startsOn}T00:00:00Z`) : NaN;
-	const days = Number.isFinite(start) ? Math.max(1, (ctx.now.getTime() - start) / DAY_MS) : null;
-	const maxPerDay = 12 * ctx.model.maxContinuousC;
-	const perModule = perModuleThroughput(evidence, ctx.moduleCount);
-	if (days !== null && perModule !== null) {
-		const perDay = perModule / ctx.model.usableWh / days;
-		if (perDay > maxPerDay) {
-			issues.push({
-				path: 'throughputWh',
-				message: `${fmtNumber(evidence.throughputWh!)} Wh would be ${fmtNumber(perDay, 1)} equivalent full cycles a day per module since ${ctx.startsOn}; a ${ctx.model.code} cannot do more than ${fmtNumber(maxPerDay)} a day at its ${fmtNumber(ctx.model.maxContinuousC, 1)} C maximum rate. Check the figure, its unit (Wh, not kWh) and whether it is for the whole system.`
-			});
-		}
-	}
-	if (
-		days !== null &&
-		evidence.cycleCount !== undefined &&
-		evidence.cycleCount / days > maxPerDay
-	) {
-		issues.push({
-			path: 'cycleCount',
-			message: `${fmtNumber(evidence.cycleCount)} cycles since ${ctx.startsOn} would be ${fmtNumber(evidence.cycleCount / days, 1)} a day; a ${ctx.model.code} cannot do more than ${fmtNumber(maxPerDay)} a day. Check the counter reading.`
-		});
-	}
-	const lastDay = evidence.log?.lastAt?.slice(0, 10);
-	if (lastDay && /^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > today) {
-		issues.push({
-			path: 'log',
-			message: `The inverter log runs to ${evidence.log!.lastAt}, after today (${today}): check the inverter's clock or the file.`
-		});
-	}
-	return issues;
 }

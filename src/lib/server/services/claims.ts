@@ -15,7 +15,7 @@ import {
 	systems,
 	users
 } from '$lib/server/db/schema';
-import { dealerScopeOf, type Actor } from '$lib/server/actor';
+import { assertCan, dealerScopeOf, type Actor } from '$lib/server/actor';
 import {
 	ConflictError,
 	ForbiddenError,
@@ -23,6 +23,7 @@ import {
 	NotFoundError
 } from '$lib/server/errors';
 import { sendMail } from '$lib/server/mail';
+import { claimFiled, type Mail } from '$lib/server/mail/templates/claims';
 import {
 	detectColumns,
 	InverterLogError,
@@ -49,13 +50,13 @@ import {
 	type ClaimAssessmentResult,
 	type StoredEvidence
 } from './claim-assessment';
+import { endOf, mayBeClaimed, statesFrom } from '$lib/domain/module-lifecycle';
 
 export { TARGET_RESPONSE_DAYS };
 type Conn = Db | Tx;
 export type ClaimRow = typeof claims.$inferSelect;
 
 const DAY_MS = 86_400_000;
-const FILERS = ['dealer', 'field_tech', 'warranty', 'admin'];
 
 /** The claim if the actor may see it: a dealer's people see their organisation's claims only. */
 export async function loadClaim(conn: Conn, actor: Actor, claimId: number): Promise<ClaimRow> {
@@ -69,18 +70,22 @@ export async function loadClaim(conn: Conn, actor: Actor, claimId: number): Prom
 
 /** Warranty officers and administrators of the assembler move and decide claims; nobody else. */
 export function requireOfficer(actor: Actor): void {
-	if (actor.dealerScoped || (actor.role !== 'warranty' && actor.role !== 'admin'))
+	if (actor.dealerScoped)
 		throw new ForbiddenError(
 			'Only a warranty officer or an administrator moves and decides claims.'
 		);
+	assertCan(
+		actor,
+		'decideClaim',
+		'Only a warranty officer or an administrator moves and decides claims.'
+	);
 }
 
 /** Tells the person who filed the claim what happened to it. */
 export async function mailFiler(
 	db: Db,
 	claim: ClaimRow,
-	subject: string,
-	body: string
+	{ subject, text: body }: Mail
 ): Promise<void> {
 	const [filer] = await db
 		.select({ email: users.email, name: users.name })
@@ -112,8 +117,9 @@ export interface FileClaimInput {
  * checked for form and for plausibility. Modules go to "Under claim"; the filer gets an e-mail.
  */
 export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now = new Date()) {
-	if (actor.userId === null || !FILERS.includes(actor.role))
+	if (actor.userId === null)
 		throw new ForbiddenError('Claims are filed by dealers, technicians and warranty staff.');
+	assertCan(actor, 'fileClaim', 'Claims are filed by dealers, technicians and warranty staff.');
 	const fault = (input.fault ?? '').trim();
 	if (fault.length < 3 || fault.length > 200)
 		throw new InvalidInputError('Name the fault in a few words (3 to 200 characters).', [
@@ -157,7 +163,7 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		);
 	}
 	for (const m of mods) {
-		if (m.state !== 'commissioned')
+		if (!mayBeClaimed(m.state))
 			throw new ConflictError(
 				`${m.serial} is ${STATE_LABELS[m.state].toLowerCase()}, not in service: only modules of a commissioned system can be claimed.`
 			);
@@ -189,14 +195,14 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		const reference = await nextReference(tx, now);
 		const taken = await tx
 			.update(modules)
-			.set({ state: 'claim_open', updatedAt: now })
+			.set({ state: endOf('openClaim'), updatedAt: now })
 			.where(
 				and(
 					inArray(
 						modules.id,
 						mods.map((m) => m.id)
 					),
-					eq(modules.state, 'commissioned')
+					inArray(modules.state, statesFrom('openClaim'))
 				)
 			)
 			.returning({ id: modules.id });
@@ -245,12 +251,15 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		});
 		return row;
 	});
-	const list = mods.map((m) => `  ${m.serial}`).join('\n');
 	await mailFiler(
 		db,
 		claim,
-		`Claim ${claim.reference} received`,
-		`We have received warranty claim ${claim.reference} (${fault}) for:\n${list}\n\nA warranty officer will review the evidence; we aim to decide within ${TARGET_RESPONSE_DAYS} calendar days. Keep the modules in place, isolated if they are unsafe, until we ask for them.`
+		claimFiled({
+			reference: claim.reference,
+			fault,
+			serials: mods.map((m) => m.serial),
+			targetDays: TARGET_RESPONSE_DAYS
+		})
 	);
 	return { id: claim.id, reference: claim.reference };
 }
@@ -543,6 +552,26 @@ export async function getClaim(db: Db, actor: Actor, claimId: number, now = new 
 		system: system ?? null,
 		modules: mods,
 		events,
-		assessment: await assessmentFor(db, claim)
+		assessment: await assessmentView(db, actor, claim)
 	};
+}
+
+/**
+ * What a dealer sees before the decision: the evidence facts the assessment derived
+ * (throughput per module, stop-charge proof), not its recommendation or reasons — those
+ * come with the officer's decision, so the filer is not promised what the officer may not
+ * grant. Assembler staff always see the live assessment.
+ */
+export type WithheldAssessment = Pick<ClaimAssessmentResult, 'throughputShare' | 'stopCharge'> & {
+	withheld: true;
+};
+
+async function assessmentView(
+	db: Db,
+	actor: Actor,
+	claim: Parameters<typeof assessmentFor>[1] & { decision: string | null }
+): Promise<ClaimAssessmentResult | WithheldAssessment> {
+	const live = await assessmentFor(db, claim);
+	if (dealerScopeOf(actor) === null || claim.decision) return live;
+	return { withheld: true, throughputShare: live.throughputShare, stopCharge: live.stopCharge };
 }

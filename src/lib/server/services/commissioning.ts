@@ -15,10 +15,10 @@ import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/err
 import { sendMail } from '$lib/server/mail';
 import {
 	evaluateCommissioning,
+	systemCurrentLimitA,
 	type CommissioningItem,
 	type CommissioningSystem
 } from '$lib/domain/commissioning';
-import { currentForCRate } from '$lib/domain/model';
 import { warrantyTermEnd } from '$lib/domain/warranty';
 import { STATE_LABELS } from '$lib/module-states';
 import {
@@ -30,6 +30,7 @@ import {
 } from '$lib/schemas/commissioning';
 import { recordAudit, recordEvent } from './audit';
 import { certificatePdf } from './certificate-pdf';
+import { endOf, mayMove, statesFrom } from '$lib/domain/module-lifecycle';
 
 const roundMv = (x: number) => Math.round(x * 1000) / 1000;
 
@@ -115,13 +116,16 @@ export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId:
 		.orderBy(desc(commissionings.id));
 
 	const cells = system.series * model.cellsSeries;
-	// The current the system is set up for: the inverter's limit where recorded, never above what the modules can deliver.
-	const batteryA = currentForCRate(model.maxContinuousC, model.ratedAh) * system.parallel;
-	const inverterA = Math.max(system.maxChargeA ?? 0, system.maxDischargeA ?? 0);
 	const evaluationSystem: CommissioningSystem = {
 		series: system.series,
 		parallel: system.parallel,
-		maxContinuousA: inverterA > 0 ? Math.min(inverterA, batteryA) : undefined,
+		maxContinuousA: systemCurrentLimitA({
+			maxContinuousC: model.maxContinuousC,
+			ratedAh: model.ratedAh,
+			parallel: system.parallel,
+			maxChargeA: system.maxChargeA,
+			maxDischargeA: system.maxDischargeA
+		}),
 		model: {
 			cellsSeries: model.cellsSeries,
 			cellMinV: model.cellMinV,
@@ -226,7 +230,7 @@ export async function submitCommissioning(
 		);
 	}
 	const placed = loaded.strings.flat().map((s) => ({ ...s, module: s.module! }));
-	const notInstalled = placed.filter((s) => s.module.state !== 'installed');
+	const notInstalled = placed.filter((s) => !mayMove(s.module.state, 'commission'));
 	if (notInstalled.length > 0) {
 		throw new ConflictError(
 			`Only installed modules can be commissioned: ${notInstalled.map((s) => `${s.module.serial} is “${STATE_LABELS[s.module.state] ?? s.module.state}”`).join('; ')}.`
@@ -297,14 +301,14 @@ export async function submitCommissioning(
 		const updated = await tx
 			.update(modules)
 			.set({
-				state: 'commissioned',
+				state: endOf('commission'),
 				commissionedAt: now,
 				warrantyStartsOn: commissionedOn,
 				warrantyEndsOn,
 				warrantyTerms: JSON.stringify(terms),
 				updatedAt: now
 			})
-			.where(and(inArray(modules.id, ids), eq(modules.state, 'installed')))
+			.where(and(inArray(modules.id, ids), inArray(modules.state, statesFrom('commission'))))
 			.returning({ id: modules.id });
 		if (updated.length !== ids.length)
 			throw new ConflictError(

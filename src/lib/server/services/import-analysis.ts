@@ -10,9 +10,10 @@ import { evaluateResult, type TestFailure } from '$lib/domain/factory-test';
 import { parseSerial } from '$lib/domain/serial';
 import { STATE_LABELS } from '$lib/module-states';
 import { InvalidInputError } from '$lib/server/errors';
+import { statesFrom } from '$lib/domain/module-lifecycle';
 
 /** States in which a module is still in the workshop and may receive (re)test results. */
-export const TESTABLE_STATES = new Set(['built', 'in_stock', 'test_failed']);
+export const TESTABLE_STATES: ReadonlySet<string> = new Set(statesFrom('factoryTest'));
 
 export interface AcceptedRow {
 	row: number;

@@ -8,6 +8,7 @@ import type { Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
 import type { RowError } from '$lib/domain/factory-csv';
 import { analyseFactoryFile, type AcceptedRow, type Analysis } from './import-analysis';
+import { sqlStateList, statesFrom } from '$lib/domain/module-lifecycle';
 
 export const MAX_IMPORT_BYTES = 25 * 1024 * 1024;
 const PREVIEW_ROWS = 200;
@@ -236,7 +237,7 @@ export async function commitImport(
 				        test_outcome = t.outcome, tested_at = t.tested_at, updated_at = ?
 				      FROM (SELECT module_id, outcome, tested_at, row_number() OVER (PARTITION BY module_id ORDER BY tested_at DESC, id DESC) AS rn
 				            FROM factory_tests WHERE import_id = ?) AS t
-				      WHERE t.rn = 1 AND modules.id = t.module_id AND modules.state IN ('built', 'in_stock', 'test_failed')
+				      WHERE t.rn = 1 AND modules.id = t.module_id AND modules.state IN (${sqlStateList(statesFrom('factoryTest'))})
 				        AND (modules.tested_at IS NULL OR modules.tested_at <= t.tested_at)`,
 				args: [now.getTime(), importId]
 			},

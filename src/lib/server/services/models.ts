@@ -1,7 +1,7 @@
 import { and, asc, count, eq, isNull, ne, sql } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
-import { allocations, moduleModels, modules } from '$lib/server/db/schema';
+import { allocations, modelPassportItems, moduleModels, modules } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import type { ModelInput } from '$lib/schemas/model';
@@ -241,6 +241,8 @@ export async function deleteModel(
 			throw new ConflictError(
 				`${before.code} has ${plural(alloc.n, 'serial allocation')} on record — retire it instead.`
 			);
+		// Passport items belong to the model alone; they go with it (the audit keeps the model).
+		await tx.delete(modelPassportItems).where(eq(modelPassportItems.modelId, id));
 		await tx.delete(moduleModels).where(eq(moduleModels.id, id));
 		await recordAudit(tx, actor, {
 			action: 'model.delete',

@@ -24,6 +24,7 @@ import { MAX_RANGE } from '$lib/schemas/shipment';
 import { sendMail } from '$lib/server/mail';
 import { recordAudit } from './audit';
 import { serialFromScan } from './modules';
+import { endOf, mayBeShipped, statesFrom } from '$lib/domain/module-lifecycle';
 
 type Conn = Db | Tx;
 type Shipment = typeof shipments.$inferSelect;
@@ -496,7 +497,7 @@ export async function dispatchShipment(db: Db, actor: Actor, shipmentId: number,
 			throw new ConflictError(
 				`${s.reference} has no modules on it yet; scan modules onto it before dispatch.`
 			);
-		const stale = items.filter((i) => i.state !== 'in_stock');
+		const stale = items.filter((i) => !mayBeShipped(i.state));
 		if (stale.length) {
 			const found = await candidates(
 				tx,
@@ -516,8 +517,8 @@ export async function dispatchShipment(db: Db, actor: Actor, shipmentId: number,
 			const chunk = ids.slice(i, i + 200);
 			const done = await tx
 				.update(modules)
-				.set({ state: 'shipped', dealerOrgId: dealer.id, shippedAt: now, updatedAt: now })
-				.where(and(inArray(modules.id, chunk), eq(modules.state, 'in_stock')))
+				.set({ state: endOf('ship'), dealerOrgId: dealer.id, shippedAt: now, updatedAt: now })
+				.where(and(inArray(modules.id, chunk), inArray(modules.state, statesFrom('ship'))))
 				.returning({ id: modules.id });
 			shipped += done.length;
 			await tx.insert(moduleEvents).values(

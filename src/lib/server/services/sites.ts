@@ -2,7 +2,7 @@ import { and, desc, eq, like, or, sql } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import { moduleModels, organisations, sites, systems, systemSlots } from '$lib/server/db/schema';
-import { dealerScopeOf, type Actor } from '$lib/server/actor';
+import { assertCan, dealerScopeOf, type Actor } from '$lib/server/actor';
 import { ForbiddenError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import type { SiteInput } from '$lib/schemas/site';
 import { recordAudit } from './audit';
@@ -14,15 +14,14 @@ export type SiteStatus = 'no_systems' | 'planned' | 'commissioned';
 
 const NO_SITE = (id: unknown) => `There is no site number ${String(id).slice(0, 12)}.`;
 
-/** Roles that record sites, systems and module placements (viewing is wider; routes guard both). */
-const EDITOR_ROLES = new Set<Actor['role']>(['field_tech', 'admin', 'system']);
-
-/** Refuses anyone but field technicians and administrators (the routes check this too). */
+/** Refuses anyone without the `install` capability (the routes check it too); the seed may. */
 export function assertMayChangeSites(actor: Actor): void {
-	if (!EDITOR_ROLES.has(actor.role))
-		throw new ForbiddenError(
-			'Only field technicians and administrators record sites, systems and installed modules.'
-		);
+	assertCan(
+		actor,
+		'install',
+		'Only field technicians and administrators record sites, systems and installed modules.',
+		{ allowSystem: true }
+	);
 }
 
 /** Where-clause limiting sites to the actor's dealer organisation (none for the assembler's staff). */

@@ -2,7 +2,7 @@ import { eq } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { withTxHook, writeTx } from '$lib/server/db';
 import { syncOperations } from '$lib/server/db/schema';
-import type { Actor } from '$lib/server/actor';
+import { assertCan, type Actor } from '$lib/server/actor';
 import { AppError, ConflictError, ForbiddenError } from '$lib/server/errors';
 import { toIssues } from '$lib/server/validation';
 import { placeModuleSchema, siteSchema, systemSchema } from '$lib/schemas/site';
@@ -22,7 +22,6 @@ import { createSite } from './sites';
 import { createSystem, placeModule } from './systems';
 import { loadSystemForCommissioning, submitCommissioning } from './commissioning';
 import { savePhoto } from './attachments';
-import { assertMayChangeSites } from './sites';
 
 type OpRow = typeof syncOperations.$inferSelect;
 
@@ -250,7 +249,11 @@ export async function applyOperations(
 	operations: SyncOperation[],
 	opts: { baseUrl?: string; now?: () => Date } = {}
 ): Promise<SyncResult[]> {
-	assertMayChangeSites(actor);
+	assertCan(
+		actor,
+		'workOffline',
+		'Only field technicians and administrators send work done offline.'
+	);
 	if (actor.userId === null)
 		throw new ForbiddenError('Changes made offline are sent by a signed-in person.');
 	const results: SyncResult[] = [];

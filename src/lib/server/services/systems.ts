@@ -3,10 +3,17 @@ import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import { moduleModels, modules, sites, systems, systemSlots } from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
-import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
+import { checkRule, ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
+import {
+	assertTransition,
+	endOf,
+	mayBeInstalled,
+	stateAfterRemoval
+} from '$lib/domain/module-lifecycle';
 import { checkDesign, type DesignCheckResult, type DesignModule } from '$lib/domain/design-check';
 import { toInverterWindow, type DesignCheckRequest, type SystemInput } from '$lib/schemas/site';
 import { STATE_LABELS } from '$lib/module-states';
+import { nextEmptySlot, type SlotRef } from '$lib/domain/system-slots';
 import { recordAudit, recordEvent } from './audit';
 import { findModule, serialFromScan } from './modules';
 import { assertMayChangeSites, dealerName, findSite } from './sites';
@@ -16,10 +23,8 @@ type ModelRow = typeof moduleModels.$inferSelect;
 type ModuleRow = typeof modules.$inferSelect;
 export type SystemRow = typeof systems.$inferSelect;
 export type SiteRow = typeof sites.$inferSelect;
-export interface SlotRef {
-	stringNo: number;
-	position: number;
-}
+export type { SlotRef };
+export { nextEmptySlot };
 
 const NO_SYSTEM = (id: unknown) => `There is no system number ${String(id).slice(0, 12)}.`;
 const where = (s: SlotRef) => `string ${s.stringNo}, position ${s.position}`;
@@ -167,15 +172,6 @@ export async function createSystem(
 	});
 }
 
-/** The first empty slot, filling string 1 from position 1, then string 2, and so on; null when full. */
-export function nextEmptySlot(series: number, parallel: number, taken: SlotRef[]): SlotRef | null {
-	const used = new Set(taken.map((t) => `${t.stringNo}/${t.position}`));
-	for (let stringNo = 1; stringNo <= parallel; stringNo++)
-		for (let position = 1; position <= series; position++)
-			if (!used.has(`${stringNo}/${position}`)) return { stringNo, position };
-	return null;
-}
-
 async function placedIn(conn: Conn, systemId: number) {
 	return conn
 		.select({
@@ -285,6 +281,8 @@ async function whyNot(
 		const systemModel = await modelById(conn, system.modelId);
 		return `${mod.serial} is a ${model.code}; this system is built from ${systemModel.code}.`;
 	}
+	if (!mayBeInstalled(mod.state))
+		return `${mod.serial} is ${(STATE_LABELS[mod.state] ?? mod.state).toLowerCase()}: only modules in stock or at the dealer can be installed.`;
 	const siteDealer = await dealerName(conn, site.dealerOrgId);
 	if (mod.state === 'shipped') {
 		if (mod.dealerOrgId === site.dealerOrgId) return null;
@@ -298,7 +296,7 @@ async function whyNot(
 			? null
 			: `${mod.serial} is still in stock at the workshop: ship it to ${siteDealer} before installing it here.`;
 	}
-	return `${mod.serial} is ${(STATE_LABELS[mod.state] ?? mod.state).toLowerCase()}: only modules in stock or at the dealer can be installed.`;
+	return null;
 }
 
 function assertOpen(system: SystemRow) {
@@ -363,7 +361,7 @@ export async function placeModule(
 
 		await tx
 			.update(modules)
-			.set({ state: 'installed', systemId: system.id, updatedAt: now })
+			.set({ state: endOf('install'), systemId: system.id, updatedAt: now })
 			.where(eq(modules.id, mod.id));
 		await tx.insert(systemSlots).values({
 			systemId: system.id,
@@ -419,7 +417,8 @@ export async function removeModule(
 			.from(systemSlots)
 			.where(and(eq(systemSlots.systemId, system.id), eq(systemSlots.moduleId, mod.id)));
 		if (!slot) throw new NotFoundError(`${mod.serial} is not in ${system.name}.`);
-		const state = mod.dealerOrgId === null ? ('in_stock' as const) : ('shipped' as const);
+		checkRule(() => assertTransition(mod.state, 'uninstall', stateAfterRemoval(mod.dealerOrgId)));
+		const state = stateAfterRemoval(mod.dealerOrgId);
 		await tx
 			.delete(systemSlots)
 			.where(and(eq(systemSlots.systemId, system.id), eq(systemSlots.moduleId, mod.id)));

@@ -9,18 +9,13 @@ import { hashPassword } from '$lib/server/auth/password';
 import { queueMailWork, sendMail } from '$lib/server/mail';
 import { claimResetRequest } from '$lib/server/auth/rate-limit';
 import { recordAudit } from './audit';
+import { membershipProblem } from '$lib/domain/membership';
+import { ROLE_LABELS } from '$lib/roles';
 
 export const INVITE_VALID_HOURS = 72;
 export const RESET_VALID_HOURS = 1;
 
 const sha256 = (s: string) => createHash('sha256').update(s).digest('hex');
-
-/** Staff roles belong to the assembler; dealers to a dealer; technicians to either. */
-function roleFitsOrganisation(role: Role, kind: 'assembler' | 'dealer'): boolean {
-	if (role === 'dealer') return kind === 'dealer';
-	if (role === 'field_tech') return true;
-	return kind === 'assembler';
-}
 
 async function issueToken(
 	db: Db,
@@ -58,15 +53,10 @@ export async function inviteUser(
 		throw new InvalidInputError('That organisation does not exist.', [
 			{ path: 'organisationId', message: 'Choose an organisation from the list.' }
 		]);
-	if (!roleFitsOrganisation(input.role, org.kind))
-		throw new InvalidInputError(`The role ${input.role} does not fit ${org.name} (${org.kind}).`, [
-			{
-				path: 'role',
-				message:
-					input.role === 'dealer'
-						? 'Dealer users belong to a dealer organisation.'
-						: 'Assembler staff belong to the assembler.'
-			}
+	const problem = membershipProblem(input.role, org.kind);
+	if (problem)
+		throw new InvalidInputError(`${problem} Choose another role or organisation.`, [
+			{ path: 'role', message: problem }
 		]);
 	const [existing] = await db
 		.select({ id: users.id })
@@ -94,11 +84,71 @@ export async function inviteUser(
 		to: input.email,
 		subject: 'Your Packledger account',
 		text:
-			`Hello ${input.name},\n\n${actor.label} has given you access to Packledger, the module register of Tidewater Cellworks, as ${input.role} for ${org.name}.\n\n` +
+			`Hello ${input.name},\n\n${actor.label} has given you access to Packledger, the module register of Tidewater Cellworks, as ${ROLE_LABELS[input.role]} for ${org.name}.\n\n` +
 			`Choose your password here (the link works once, for ${INVITE_VALID_HOURS} hours):\n${link}\n`,
 		oneTimeLinks: [link]
 	});
 	return userId;
+}
+
+/**
+ * Sends a new invitation link to someone who has not yet set a password; the earlier links
+ * stop working. Audited.
+ */
+export async function resendInvitation(
+	db: Db,
+	actor: Actor,
+	userId: number,
+	baseUrl: string,
+	now = new Date()
+): Promise<void> {
+	const [u] = await db
+		.select({
+			id: users.id,
+			email: users.email,
+			name: users.name,
+			role: users.role,
+			active: users.active,
+			passwordHash: users.passwordHash,
+			organisation: organisations.name
+		})
+		.from(users)
+		.innerJoin(organisations, eq(users.organisationId, organisations.id))
+		.where(eq(users.id, userId));
+	if (!u) throw new NotFoundError(`There is no person number ${userId}.`);
+	if (u.passwordHash)
+		throw new ConflictError(
+			`${u.email} has already set a password; they can use “Forgot password” to choose a new one.`
+		);
+	if (!u.active) throw new ConflictError(`${u.email} is switched off. Reactivate them first.`);
+	await writeTx(db, async (tx) => {
+		await tx
+			.update(userTokens)
+			.set({ usedAt: now })
+			.where(
+				and(
+					eq(userTokens.userId, u.id),
+					eq(userTokens.purpose, 'invite'),
+					isNull(userTokens.usedAt)
+				)
+			);
+		await recordAudit(tx, actor, {
+			action: 'user.resend_invite',
+			entity: 'user',
+			entityId: u.id,
+			at: now
+		});
+	});
+	const token = await issueToken(db, u.id, 'invite', INVITE_VALID_HOURS, now);
+	const link = `${baseUrl}/welcome/${token}`;
+	await sendMail(db, {
+		to: u.email,
+		subject: 'Your Packledger account (new link)',
+		text:
+			`Hello ${u.name},\n\n${actor.label} has sent you a new link to Packledger, the module register of Tidewater Cellworks, as ${ROLE_LABELS[u.role]} for ${u.organisation}. Earlier links no longer work.\n\n` +
+			`Choose your password here (the link works once, for ${INVITE_VALID_HOURS} hours):\n${link}\n`,
+		oneTimeLinks: [link]
+	});
 }
 
 /** Sends a reset link when the address belongs to an active account; says nothing either way. */

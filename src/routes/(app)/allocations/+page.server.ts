@@ -1,5 +1,5 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { allocationSchema } from '$lib/schemas/allocation';
 import { parseForm } from '$lib/server/validation';
@@ -9,7 +9,7 @@ import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'workshop', 'admin');
+	requireCan(event, 'allocateSerials');
 	const db = await getDb();
 	return {
 		allocations: await listAllocations(db),
@@ -19,7 +19,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	allocate: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'allocateSerials');
 		const parsed = await parseForm(allocationSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		let id: number;

@@ -1,6 +1,6 @@
 import { fail } from '@sveltejs/kit';
 import { z } from 'zod';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { buildSchema } from '$lib/schemas/build';
 import { parseForm } from '$lib/server/validation';
@@ -12,7 +12,7 @@ import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'workshop', 'admin');
+	const actor = requireCan(event, 'build');
 	const db = await getDb();
 	const scan = event.url.searchParams.get('scan');
 	let target = null;
@@ -40,7 +40,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	build: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'build');
 		const parsed = await parseForm(
 			buildSchema.extend({ serial: z.string().min(1) }),
 			event.request

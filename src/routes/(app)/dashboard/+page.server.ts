@@ -1,9 +1,9 @@
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { dashboardFigures } from '$lib/server/services/dashboard';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin', 'workshop', 'warranty');
+	requireCan(event, 'viewDashboard');
 	return { figures: await dashboardFigures(await getDb()) };
 };

@@ -1,4 +1,4 @@
-import { requireUser } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { fleetFilterOptions, getColumnPrefs } from '$lib/server/services/fleet';
 import { DEFAULT_FLEET_COLUMNS } from '$lib/schemas/fleet';
@@ -6,7 +6,7 @@ import type { PageServerLoad } from './$types';
 
 /** Filter choices and saved columns only: the rows are fetched by the page from /api/modules as the view changes. */
 export const load: PageServerLoad = async (event) => {
-	const actor = requireUser(event);
+	const actor = requireCan(event, 'viewFleet');
 	const db = await getDb();
 	const options = await fleetFilterOptions(db, actor);
 	const saved = actor.userId === null ? null : await getColumnPrefs(db, actor.userId);

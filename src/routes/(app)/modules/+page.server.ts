@@ -1,12 +1,12 @@
 import { redirect } from '@sveltejs/kit';
-import { requireUser } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { searchModules } from '$lib/server/services/modules';
 import { parseSerial } from '$lib/domain/serial';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireUser(event);
+	const actor = requireCan(event, 'lookUpModules');
 	const q = (event.url.searchParams.get('q') ?? '').trim();
 	const exact = q ? parseSerial(q) : null;
 	const results = q ? await searchModules(await getDb(), actor, q) : [];

@@ -1,9 +1,10 @@
 import { error } from '@sveltejs/kit';
 import { z } from 'zod';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { errorFrom } from '$lib/server/http';
 import { QUALITY_GROUP_BY, qualityFilters, qualityReport } from '$lib/server/services/quality';
+import { qualityTrend } from '$lib/server/services/quality-trend';
 import type { PageServerLoad } from './$types';
 
 // The filters live in the URL (a GET form), so a view can be shared as a link. An empty
@@ -38,7 +39,7 @@ const filterSchema = z.object({
 });
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'workshop', 'admin', 'warranty');
+	requireCan(event, 'viewQuality');
 	const parsed = filterSchema.safeParse(Object.fromEntries(event.url.searchParams));
 	if (!parsed.success)
 		error(
@@ -59,9 +60,11 @@ export const load: PageServerLoad = async (event) => {
 						week: q.week,
 						latestOnly: q.latest === '1'
 					});
+		const trend = filters.modelId === null ? null : await qualityTrend(db, filters.modelId);
 		return {
 			filters,
 			report,
+			trend,
 			query: {
 				model: filters.modelId,
 				group: q.group,

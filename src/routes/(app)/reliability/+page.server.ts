@@ -1,5 +1,5 @@
 import { error } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { errorFrom } from '$lib/server/http';
 import { reliabilityQuerySchema } from '$lib/schemas/reliability';
@@ -8,7 +8,7 @@ import type { PageServerLoad } from './$types';
 
 // Filters live in the URL (a GET form), so a view can be shared as a link.
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'warranty', 'admin');
+	const actor = requireCan(event, 'viewReliability');
 	const parsed = reliabilityQuerySchema.safeParse({
 		by: 'lot',
 		...Object.fromEntries(event.url.searchParams)

@@ -1,5 +1,5 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { newShipmentSchema } from '$lib/schemas/shipment';
 import { parseForm } from '$lib/server/validation';
@@ -9,14 +9,14 @@ import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'workshop', 'admin');
+	const actor = requireCan(event, 'ship');
 	const db = await getDb();
 	return { shipments: await listShipments(db, actor), dealers: await listActiveDealers(db) };
 };
 
 export const actions: Actions = {
 	create: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'ship');
 		const parsed = await parseForm(newShipmentSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		let id: number;

@@ -1,5 +1,5 @@
 import { fail } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { noticeSchema, traceQuerySchema } from '$lib/schemas/trace';
 import { parseForm, toIssues } from '$lib/server/validation';
@@ -10,7 +10,7 @@ import type { Actions, PageServerLoad } from './$types';
 const SHOWN = 500;
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin', 'workshop', 'warranty');
+	requireCan(event, 'trace');
 	const params = Object.fromEntries(event.url.searchParams);
 	if (!Object.keys(params).length) return { query: null, result: null, issues: [] };
 	const parsed = traceQuerySchema.safeParse(params);
@@ -26,7 +26,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	notice: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'sendServiceNotice');
 		const query = traceQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
 		if (!query.success)
 			return fail(400, { message: 'The trace criteria are missing; run the trace again.' });

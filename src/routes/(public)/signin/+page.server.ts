@@ -6,15 +6,15 @@ import { signInBlockedFor } from '$lib/server/auth/rate-limit';
 import { signInSchema } from '$lib/schemas/auth';
 import { parseForm } from '$lib/server/validation';
 import { getDb } from '$lib/server/db';
+import { safeNext } from '$lib/server/safe-redirect';
 import type { Actions, PageServerLoad } from './$types';
 
-const safeNext = (v: unknown) =>
-	typeof v === 'string' && v.startsWith('/') && !v.startsWith('//') ? v : '/';
-
 export const load: PageServerLoad = (event) => {
-	if (allowAnonymous(event)) redirect(303, safeNext(event.url.searchParams.get('next')));
+	const user = allowAnonymous(event);
+	const next = safeNext(event.url.searchParams.get('next'), event.url.origin);
+	if (user) redirect(303, next);
 	return {
-		next: safeNext(event.url.searchParams.get('next')),
+		next,
 		done: event.url.searchParams.get('done')
 	};
 };
@@ -44,6 +44,7 @@ export const actions: Actions = {
 };
 
 function tooMany(minutes: number, email: string) {
+	console.warn('sign-in refused: too many attempts for this account or client');
 	return fail(429, {
 		message: `Too many failed attempts. Try again in ${minutes} minute${minutes === 1 ? '' : 's'}, or reset your password.`,
 		values: { email }

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { jsonFrom } from '$lib/server/http';
 import { toIssues } from '$lib/server/validation';
@@ -9,7 +9,7 @@ import type { RequestHandler } from './$types';
 
 /** The claims queue as JSON: `?state=&dealer=&model=&minAgeDays=&page=&pageSize=&sort=&dir=`. A dealer gets own claims only. */
 export const GET: RequestHandler = async (event) => {
-	const actor = requireRole(event, 'warranty', 'admin', 'dealer', 'field_tech');
+	const actor = requireCan(event, 'viewClaims');
 	const parsed = claimQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
 	if (!parsed.success) {
 		const issues = toIssues(parsed.error);

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireUser } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { designCheckRequestSchema } from '$lib/schemas/site';
 import { parseJson } from '$lib/server/validation';
@@ -14,7 +14,7 @@ import type { RequestHandler } from './$types';
  * (with `model`) suggestions. Nothing is stored.
  */
 export const POST: RequestHandler = async (event) => {
-	requireUser(event);
+	requireCan(event, 'checkDesign');
 	const parsed = await parseJson(designCheckRequestSchema, event.request);
 	if (!parsed.ok)
 		return json(

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { toIssues } from '$lib/server/validation';
 import { reliabilityQuerySchema } from '$lib/schemas/reliability';
@@ -13,7 +13,7 @@ import type { RequestHandler } from './$types';
  * plus the probability plot, the assumptions and the slices.
  */
 export const GET: RequestHandler = async (event) => {
-	const actor = requireRole(event, 'warranty', 'admin');
+	const actor = requireCan(event, 'viewReliability');
 	const parsed = reliabilityQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
 	if (!parsed.success) {
 		const issues = toIssues(parsed.error);

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { baseUrl } from '$lib/server/base-url';
 import { jsonFrom } from '$lib/server/http';
@@ -11,7 +11,7 @@ import type { RequestHandler } from './$types';
 
 /** Changes a phone made offline, each applied once, in order: see `src/lib/schemas/sync.ts`. */
 export const POST: RequestHandler = async (event) => {
-	const actor = requireRole(event, 'field_tech', 'admin');
+	const actor = requireCan(event, 'workOffline');
 	const body = await readJsonBounded(event.request, MAX_SYNC_BYTES, 'a sync request');
 	if (!body.ok) return json({ message: body.message, issues: [] }, { status: body.status });
 	const parsed = syncRequestSchema.safeParse(body.value);

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { traceQuerySchema } from '$lib/schemas/trace';
 import { toIssues } from '$lib/server/validation';
@@ -8,12 +8,13 @@ import type { RequestHandler } from './$types';
 
 /** The traced modules and where each is now, as CSV. */
 export const GET: RequestHandler = async (event) => {
-	requireRole(event, 'admin', 'workshop', 'warranty');
+	requireCan(event, 'trace');
 	const parsed = traceQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
 	if (!parsed.success)
 		return json(
 			{
-				message: 'Give a cell lot, model, build date range or import.',
+				message:
+					parsed.error.issues[0]?.message ?? 'Give a cell lot, model, build date range or import.',
 				issues: toIssues(parsed.error)
 			},
 			{ status: 400 }

@@ -1,10 +1,16 @@
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { listAudit } from '$lib/server/services/audit';
+import { auditQuerySchema } from '$lib/schemas/audit';
+import { toIssues } from '$lib/server/validation';
+import { auditFacets, searchAudit } from '$lib/server/services/audit';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
-	const entity = event.url.searchParams.get('entity') ?? undefined;
-	return { entries: await listAudit(await getDb(), { entity }), entity };
+	requireCan(event, 'viewAudit');
+	const db = await getDb();
+	const raw = Object.fromEntries(event.url.searchParams);
+	const parsed = auditQuerySchema.safeParse(raw);
+	const facets = await auditFacets(db);
+	if (!parsed.success) return { ...facets, raw, issues: toIssues(parsed.error), result: null };
+	return { ...facets, raw, issues: [], result: await searchAudit(db, parsed.data) };
 };

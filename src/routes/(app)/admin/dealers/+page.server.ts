@@ -1,5 +1,5 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { dealerSchema } from '$lib/schemas/dealer';
 import { parseForm } from '$lib/server/validation';
@@ -8,13 +8,13 @@ import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
+	requireCan(event, 'manageDealers');
 	return { dealers: await listDealers(await getDb()) };
 };
 
 export const actions: Actions = {
 	create: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageDealers');
 		const parsed = await parseForm(dealerSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		let id: number;

@@ -1,5 +1,5 @@
 import { fail } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { createToken, listTokens, revokeToken } from '$lib/server/services/tokens';
 import { revokeSchema, tokenSchema } from '$lib/schemas/token';
@@ -8,20 +8,20 @@ import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
+	requireCan(event, 'manageTokens');
 	return { tokens: await listTokens(await getDb()) };
 };
 
 export const actions: Actions = {
 	create: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageTokens');
 		const parsed = await parseForm(tokenSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		const { secret } = await createToken(await getDb(), actor, parsed.data.name);
 		return { secret, name: parsed.data.name };
 	},
 	revoke: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageTokens');
 		const parsed = await parseForm(revokeSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues });
 		try {

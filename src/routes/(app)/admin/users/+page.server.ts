@@ -1,22 +1,35 @@
 import { fail } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { z } from 'zod';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { inviteSchema } from '$lib/schemas/auth';
-import { parseForm } from '$lib/server/validation';
-import { inviteUser, listOrganisations, listUsers } from '$lib/server/services/users';
+import { peopleQuerySchema, personPatchSchema } from '$lib/schemas/people';
+import { parseForm, toIssues } from '$lib/server/validation';
+import { inviteUser, listOrganisations, resendInvitation } from '$lib/server/services/users';
+import { searchPeople, updatePerson } from '$lib/server/services/people';
 import { baseUrl } from '$lib/server/base-url';
 import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
+const personId = z.object({ id: z.coerce.number().int().positive('Choose a person.') });
+const updateForm = personPatchSchema.and(personId);
+
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
+	requireCan(event, 'manageUsers');
 	const db = await getDb();
-	return { users: await listUsers(db), organisations: await listOrganisations(db) };
+	const raw = Object.fromEntries(event.url.searchParams);
+	const parsed = peopleQuerySchema.safeParse(raw);
+	return {
+		raw,
+		issues: parsed.success ? [] : toIssues(parsed.error),
+		users: await searchPeople(db, parsed.success ? parsed.data : {}),
+		organisations: await listOrganisations(db)
+	};
 };
 
 export const actions: Actions = {
 	invite: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageUsers');
 		const parsed = await parseForm(inviteSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {
@@ -25,5 +38,28 @@ export const actions: Actions = {
 			return failFrom(e, parsed.data);
 		}
 		return { invited: parsed.data.email };
+	},
+	update: async (event) => {
+		const actor = requireCan(event, 'manageUsers');
+		const parsed = await parseForm(updateForm, event.request);
+		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
+		const { id, ...patch } = parsed.data;
+		try {
+			const r = await updatePerson(await getDb(), actor, id, patch);
+			return { updated: id, changed: r.changed };
+		} catch (e) {
+			return failFrom(e, { ...parsed.data, editing: id });
+		}
+	},
+	resend: async (event) => {
+		const actor = requireCan(event, 'manageUsers');
+		const parsed = await parseForm(personId, event.request);
+		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
+		try {
+			await resendInvitation(await getDb(), actor, parsed.data.id, baseUrl(event.url));
+		} catch (e) {
+			return failFrom(e, parsed.data);
+		}
+		return { resent: parsed.data.id };
 	}
 };

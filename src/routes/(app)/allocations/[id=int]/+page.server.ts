@@ -1,5 +1,5 @@
 import { error } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { labelsForAllocation } from '$lib/server/services/labels';
 import { baseUrl } from '$lib/server/base-url';
@@ -7,7 +7,7 @@ import { errorFrom } from '$lib/server/http';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'workshop', 'admin');
+	requireCan(event, 'allocateSerials');
 	const id = Number(event.params.id);
 	if (!Number.isInteger(id)) error(404, 'No such allocation.');
 	try {

@@ -1,5 +1,6 @@
 import { error, fail, type RequestEvent } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
+import { can } from '$lib/policy';
 import { getDb } from '$lib/server/db';
 import { parseForm } from '$lib/server/validation';
 import { errorFrom, failFrom } from '$lib/server/http';
@@ -25,8 +26,6 @@ import {
 } from '$lib/server/services/claim-workflow';
 import type { Actions, PageServerLoad } from './$types';
 
-const VIEWERS = ['warranty', 'admin', 'dealer', 'field_tech'] as const;
-
 function claimId(event: Pick<RequestEvent, 'params'>): number {
 	const id = Number(event.params.id);
 	if (!Number.isInteger(id) || id < 1) error(404, 'There is no such claim.');
@@ -40,7 +39,7 @@ function failed(form: string, e: unknown) {
 }
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, ...VIEWERS);
+	const actor = requireCan(event, 'viewClaims');
 	try {
 		const db = await getDb();
 		const detail = await getClaim(db, actor, claimId(event));
@@ -48,12 +47,12 @@ export const load: PageServerLoad = async (event) => {
 			ownerKind: 'claim',
 			ownerId: claimId(event)
 		});
-		const officer = !actor.dealerScoped && (actor.role === 'warranty' || actor.role === 'admin');
+		const officer = !actor.dealerScoped && can(actor.role, 'decideClaim');
 		return {
 			...detail,
 			photos,
 			officer,
-			canReplace: officer || actor.role === 'field_tech',
+			canReplace: can(actor.role, 'replaceModule'),
 			isFiler: actor.userId === null ? false : detail.claim.filedBy?.id === actor.userId
 		};
 	} catch (e) {
@@ -63,7 +62,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	photo: async (event) => {
-		const actor = requireRole(event, ...VIEWERS);
+		const actor = requireCan(event, 'addClaimEvidence');
 		const parsed = await parseForm(photoSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, { form: 'photo', message: parsed.issues[0].message, issues: parsed.issues });
@@ -87,7 +86,7 @@ export const actions: Actions = {
 		}
 	},
 	move: async (event) => {
-		const actor = requireRole(event, 'warranty', 'admin');
+		const actor = requireCan(event, 'decideClaim');
 		const parsed = await parseForm(moveClaimSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, { form: 'move', message: parsed.issues[0].message, issues: parsed.issues });
@@ -101,7 +100,7 @@ export const actions: Actions = {
 		}
 	},
 	decide: async (event) => {
-		const actor = requireRole(event, 'warranty', 'admin');
+		const actor = requireCan(event, 'decideClaim');
 		const parsed = await parseForm(decideClaimSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, {
@@ -119,7 +118,7 @@ export const actions: Actions = {
 		}
 	},
 	comment: async (event) => {
-		const actor = requireRole(event, ...VIEWERS);
+		const actor = requireCan(event, 'addClaimEvidence');
 		const parsed = await parseForm(commentSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, {
@@ -135,7 +134,7 @@ export const actions: Actions = {
 		}
 	},
 	evidence: async (event) => {
-		const actor = requireRole(event, ...VIEWERS);
+		const actor = requireCan(event, 'addClaimEvidence');
 		const parsed = await parseForm(addEvidenceSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, {
@@ -153,7 +152,7 @@ export const actions: Actions = {
 		}
 	},
 	replace: async (event) => {
-		const actor = requireRole(event, 'warranty', 'admin', 'field_tech');
+		const actor = requireCan(event, 'replaceModule');
 		const parsed = await parseForm(replacementSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, {
@@ -179,7 +178,7 @@ export const actions: Actions = {
 		}
 	},
 	inspect: async (event) => {
-		const actor = requireRole(event, 'warranty', 'admin');
+		const actor = requireCan(event, 'inspectReturn');
 		const parsed = await parseForm(returnInspectionSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, {

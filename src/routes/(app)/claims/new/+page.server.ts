@@ -1,5 +1,5 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { parseForm, toIssues } from '$lib/server/validation';
 import { failFrom } from '$lib/server/http';
@@ -8,16 +8,14 @@ import { fileClaimFormSchema, logMappingSchema, MAX_LOG_BYTES } from '$lib/schem
 import { fileClaim, logDealerFor, readInverterLog } from '$lib/server/services/claims';
 import type { Actions, PageServerLoad } from './$types';
 
-const FILERS = ['dealer', 'field_tech', 'warranty', 'admin'] as const;
-
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, ...FILERS);
+	const actor = requireCan(event, 'fileClaim');
 	return { dealerScoped: actor.dealerScoped, serial: event.url.searchParams.get('serial') ?? '' };
 };
 
 export const actions: Actions = {
 	file: async (event) => {
-		const actor = requireRole(event, ...FILERS);
+		const actor = requireCan(event, 'fileClaim');
 		const parsed = await parseForm(fileClaimFormSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, {
@@ -43,7 +41,7 @@ export const actions: Actions = {
 	},
 	/** Also used by the claim page's "add evidence" step: it posts here. */
 	log: async (event) => {
-		const actor = requireRole(event, ...FILERS);
+		const actor = requireCan(event, 'fileClaim');
 		const form = await event.request.formData();
 		const file = form.get('file');
 		if (!(file instanceof File) || file.size === 0)

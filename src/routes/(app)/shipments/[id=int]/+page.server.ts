@@ -1,5 +1,5 @@
 import { error, fail, redirect, type RequestEvent } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import {
 	shipmentDeleteSchema,
@@ -41,7 +41,7 @@ const invalid = (
 	});
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'workshop', 'admin');
+	const actor = requireCan(event, 'ship');
 	try {
 		return await getShipment(await getDb(), actor, shipmentId(event));
 	} catch (e) {
@@ -51,7 +51,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	scan: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'ship');
 		const parsed = await parseForm(shipmentScanSchema, event.request);
 		if (!parsed.ok) return invalid('scan', parsed);
 		try {
@@ -69,7 +69,7 @@ export const actions: Actions = {
 		}
 	},
 	range: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'ship');
 		const parsed = await parseForm(shipmentRangeSchema, event.request);
 		if (!parsed.ok) return invalid('range', parsed);
 		try {
@@ -87,7 +87,7 @@ export const actions: Actions = {
 		}
 	},
 	remove: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'ship');
 		const parsed = await parseForm(shipmentRemoveSchema, event.request);
 		if (!parsed.ok) return invalid('remove', parsed);
 		try {
@@ -104,7 +104,7 @@ export const actions: Actions = {
 		}
 	},
 	note: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'ship');
 		const parsed = await parseForm(shipmentNoteSchema, event.request);
 		if (!parsed.ok) return invalid('note', parsed);
 		try {
@@ -121,7 +121,7 @@ export const actions: Actions = {
 		}
 	},
 	dispatch: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'ship');
 		const parsed = await parseForm(shipmentDispatchSchema, event.request);
 		if (!parsed.ok) return invalid('dispatch', parsed);
 		try {
@@ -131,7 +131,7 @@ export const actions: Actions = {
 		}
 	},
 	delete: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'ship');
 		const parsed = await parseForm(shipmentDeleteSchema, event.request);
 		if (!parsed.ok) return invalid('delete', parsed);
 		let reference: string;

@@ -1,17 +1,17 @@
-import { requireRole } from '$lib/server/auth/guards';
-import { hasRole } from '$lib/roles';
+import { requireCan } from '$lib/server/auth/guards';
+import { can } from '$lib/policy';
 import { getDb } from '$lib/server/db';
 import { errorFrom } from '$lib/server/http';
 import { getSite } from '$lib/server/services/sites';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'field_tech', 'dealer', 'admin', 'warranty');
+	const actor = requireCan(event, 'viewInstallations');
 	try {
 		const site = await getSite(await getDb(), actor, Number(event.params.id));
 		return {
 			...site,
-			canChange: hasRole(actor.role, ['field_tech', 'admin']),
+			canChange: can(actor.role, 'install'),
 			created: event.url.searchParams.has('created')
 		};
 	} catch (e) {

@@ -1,5 +1,5 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { siteSchema } from '$lib/schemas/site';
 import { parseForm } from '$lib/server/validation';
@@ -8,13 +8,13 @@ import { createSite, siteFormOptions } from '$lib/server/services/sites';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'field_tech', 'admin');
+	const actor = requireCan(event, 'install');
 	return siteFormOptions(await getDb(), actor);
 };
 
 export const actions: Actions = {
 	create: async (event) => {
-		const actor = requireRole(event, 'field_tech', 'admin');
+		const actor = requireCan(event, 'install');
 		const parsed = await parseForm(siteSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		let id: number;

@@ -1,6 +1,6 @@
 import { fail } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
-import { hasRole } from '$lib/roles';
+import { requireCan } from '$lib/server/auth/guards';
+import { can } from '$lib/policy';
 import { getDb } from '$lib/server/db';
 import { placeModuleSchema, removeModuleSchema } from '$lib/schemas/site';
 import { parseForm } from '$lib/server/validation';
@@ -10,12 +10,12 @@ import { getSystem, placeModule, removeModule } from '$lib/server/services/syste
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'field_tech', 'dealer', 'admin', 'warranty');
+	const actor = requireCan(event, 'viewInstallations');
 	try {
 		const view = await getSystem(await getDb(), actor, Number(event.params.id));
 		return {
 			...view,
-			canChange: hasRole(actor.role, ['field_tech', 'admin']),
+			canChange: can(actor.role, 'install'),
 			created: event.url.searchParams.has('created')
 		};
 	} catch (e) {
@@ -25,7 +25,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	place: async (event) => {
-		const actor = requireRole(event, 'field_tech', 'admin');
+		const actor = requireCan(event, 'install');
 		const parsed = await parseForm(placeModuleSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, {
@@ -48,7 +48,7 @@ export const actions: Actions = {
 		}
 	},
 	remove: async (event) => {
-		const actor = requireRole(event, 'field_tech', 'admin');
+		const actor = requireCan(event, 'install');
 		const parsed = await parseForm(removeModuleSchema, event.request);
 		if (!parsed.ok)
 			return fail(400, {

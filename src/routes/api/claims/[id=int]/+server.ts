@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { jsonFrom } from '$lib/server/http';
 import { getClaim } from '$lib/server/services/claims';
@@ -7,7 +7,7 @@ import type { RequestHandler } from './$types';
 
 /** One claim with its modules, timeline and live assessment; another dealer's claim answers 404 like a missing one. */
 export const GET: RequestHandler = async (event) => {
-	const actor = requireRole(event, 'warranty', 'admin', 'dealer', 'field_tech');
+	const actor = requireCan(event, 'viewClaims');
 	try {
 		return json(await getClaim(await getDb(), actor, Number(event.params.id)));
 	} catch (e) {

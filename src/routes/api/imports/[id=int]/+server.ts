@@ -6,7 +6,7 @@ import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
 
 export const GET: RequestHandler = async (event) => {
-	requireApiActor(event, { roles: ['workshop', 'admin'], tokenScope: 'imports' });
+	requireApiActor(event, 'importResults', { tokenScope: 'imports' });
 	try {
 		return json(await getImport(await getDb(), Number(event.params.id)));
 	} catch (e) {

@@ -8,10 +8,11 @@ import type { RequestHandler } from './$types';
 
 /**
  * Sends a rig CSV (body `text/csv`, or multipart field `file`). Answers the preview;
- * with `?commit=accepted` it also stores the accepted rows in the same call.
+ * with `?commit=accepted` it also stores the accepted rows in the same call, and the answer's
+ * `storedNow` says whether this call stored them (`alreadySent`: they were stored before).
  */
 export const POST: RequestHandler = async (event) => {
-	const actor = requireApiActor(event, { roles: ['workshop', 'admin'], tokenScope: 'imports' });
+	const actor = requireApiActor(event, 'importResults', { tokenScope: 'imports' });
 	const file = await readUploadedText(event.request, event.url, MAX_IMPORT_BYTES);
 	const db = await getDb();
 	try {
@@ -19,7 +20,12 @@ export const POST: RequestHandler = async (event) => {
 		if (event.url.searchParams.get('commit') !== 'accepted')
 			return json(preview, { status: preview.alreadySent ? 200 : 201 });
 		const committed = await commitImport(db, actor, preview.import.id);
-		return json({ ...committed, alreadySent: preview.alreadySent || committed.alreadySent });
+		// Say what this call did: alreadySent only when the rows had been stored before and
+		// nothing was stored now; a file previewed earlier and stored now is not "already sent".
+		return json(
+			{ ...committed, storedNow: !committed.alreadySent },
+			{ status: committed.alreadySent ? 200 : 201 }
+		);
 	} catch (e) {
 		return jsonFrom(e);
 	}

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireUser } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { getModuleRecord, getPublicRecord } from '$lib/server/services/modules';
 import { jsonFrom } from '$lib/server/http';
@@ -7,7 +7,7 @@ import type { RequestHandler } from './$types';
 
 /** A module as the caller may see it; another dealer's serial answers 404 like an unknown one. */
 export const GET: RequestHandler = async (event) => {
-	const actor = requireUser(event);
+	const actor = requireCan(event, 'lookUpModules');
 	const db = await getDb();
 	try {
 		const record = await getModuleRecord(db, actor, event.params.serial);

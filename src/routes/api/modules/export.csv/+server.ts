@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireUser } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { exportModules } from '$lib/server/services/fleet';
 import { fleetQueryProblem, parseFleetQuery } from '$lib/schemas/fleet';
@@ -8,7 +8,7 @@ import type { RequestHandler } from './$types';
 
 /** Every module of the view (same filters, scope and order as the table) as a CSV download. */
 export const GET: RequestHandler = async (event) => {
-	const actor = requireUser(event);
+	const actor = requireCan(event, 'viewFleet');
 	const query = parseFleetQuery(event.url.searchParams);
 	if (!query.success) return json(fleetQueryProblem(query.error), { status: 400 });
 	try {

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireUser } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { getColumnPrefs, setColumnPrefs } from '$lib/server/services/fleet';
 import { DEFAULT_FLEET_COLUMNS, fleetColumnsSchema } from '$lib/schemas/fleet';
@@ -14,7 +14,7 @@ const NO_PERSON = {
 
 /** The fleet table's visible columns for the signed-in person (the defaults until they choose). */
 export const GET: RequestHandler = async (event) => {
-	const { userId } = requireUser(event);
+	const { userId } = requireCan(event, 'viewFleet');
 	if (userId === null) return json(NO_PERSON, { status: 403 });
 	const saved = await getColumnPrefs(await getDb(), userId);
 	return json({ columns: saved ?? DEFAULT_FLEET_COLUMNS, saved: saved !== null });
@@ -22,7 +22,7 @@ export const GET: RequestHandler = async (event) => {
 
 /** Keeps the visible columns: `{ "columns": ["serial", "state", …] }`. */
 export const PUT: RequestHandler = async (event) => {
-	const { userId } = requireUser(event);
+	const { userId } = requireCan(event, 'viewFleet');
 	if (userId === null) return json(NO_PERSON, { status: 403 });
 	const body = await parseJson(fleetColumnsSchema, event.request);
 	if (!body.ok)

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { parseJson } from '$lib/server/validation';
 import { rateRequestSchema } from '$lib/schemas/reliability';
 import { claimRate } from '$lib/domain/reliability';
@@ -10,7 +10,7 @@ import type { RequestHandler } from './$types';
  * the exact Poisson (Garwood) 95 % interval.
  */
 export const POST: RequestHandler = async (event) => {
-	requireRole(event, 'warranty', 'admin');
+	requireCan(event, 'viewReliability');
 	const parsed = await parseJson(rateRequestSchema, event.request);
 	if (!parsed.ok)
 		return json(

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { parseJson } from '$lib/server/validation';
 import { weibullRequestSchema } from '$lib/schemas/reliability';
 import { fitWeibull, readShape, WEIBULL_BOUNDS_METHOD } from '$lib/domain/reliability';
@@ -11,7 +11,7 @@ import type { RequestHandler } from './$types';
  * the bounds' method and a sentence on β. Fewer than two failures: 422 with the reason.
  */
 export const POST: RequestHandler = async (event) => {
-	requireRole(event, 'warranty', 'admin');
+	requireCan(event, 'viewReliability');
 	const parsed = await parseJson(weibullRequestSchema, event.request);
 	if (!parsed.ok)
 		return json(

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { parseJson } from '$lib/server/validation';
 import { assessRequestSchema } from '$lib/schemas/warranty-assess';
 import { assessClaim } from '$lib/domain/warranty';
@@ -11,7 +11,7 @@ import type { RequestHandler } from './$types';
  * result: recommendation, term, cycles, retention and every reason sentence.
  */
 export const POST: RequestHandler = async (event) => {
-	requireRole(event, 'warranty', 'admin', 'dealer', 'field_tech');
+	requireCan(event, 'viewClaims');
 	const parsed = await parseJson(assessRequestSchema, event.request);
 	if (!parsed.ok)
 		return json(

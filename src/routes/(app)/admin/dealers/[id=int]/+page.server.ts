@@ -1,5 +1,5 @@
 import { error, fail, type RequestEvent } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { dealerSchema } from '$lib/schemas/dealer';
 import { parseForm } from '$lib/server/validation';
@@ -14,7 +14,7 @@ function dealerId(event: Pick<RequestEvent, 'params'>): number {
 }
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
+	requireCan(event, 'manageDealers');
 	try {
 		return await getDealer(await getDb(), dealerId(event));
 	} catch (e) {
@@ -24,7 +24,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	save: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageDealers');
 		const parsed = await parseForm(dealerSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {
@@ -35,7 +35,7 @@ export const actions: Actions = {
 		return { saved: true };
 	},
 	deactivate: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageDealers');
 		try {
 			await setDealerActive(await getDb(), actor, dealerId(event), false);
 		} catch (e) {
@@ -44,7 +44,7 @@ export const actions: Actions = {
 		return { deactivated: true };
 	},
 	activate: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageDealers');
 		try {
 			await setDealerActive(await getDb(), actor, dealerId(event), true);
 		} catch (e) {

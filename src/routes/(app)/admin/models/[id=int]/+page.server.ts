@@ -1,5 +1,5 @@
 import { error, fail, redirect, type RequestEvent } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { modelInputSchema } from '$lib/schemas/model';
 import { parseForm } from '$lib/server/validation';
@@ -20,7 +20,7 @@ function modelId(event: Pick<RequestEvent, 'params'>): number {
 }
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
+	requireCan(event, 'manageModels');
 	try {
 		return { model: await getModel(await getDb(), modelId(event)) };
 	} catch (e) {
@@ -30,7 +30,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	save: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageModels');
 		const parsed = await parseForm(modelInputSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {
@@ -46,7 +46,7 @@ export const actions: Actions = {
 		}
 	},
 	retire: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageModels');
 		try {
 			await retireModel(await getDb(), actor, modelId(event));
 			return { retired: true };
@@ -55,7 +55,7 @@ export const actions: Actions = {
 		}
 	},
 	reinstate: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageModels');
 		try {
 			await reinstateModel(await getDb(), actor, modelId(event));
 			return { reinstated: true };
@@ -64,7 +64,7 @@ export const actions: Actions = {
 		}
 	},
 	delete: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageModels');
 		const form = await event.request.formData();
 		if (form.get('sure') !== 'yes')
 			return fail(400, { message: 'Tick the box to confirm the deletion first.' });

@@ -1,5 +1,5 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { modelInputSchema } from '$lib/schemas/model';
 import { parseForm } from '$lib/server/validation';
@@ -8,13 +8,13 @@ import { createModel } from '$lib/server/services/models';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
+	requireCan(event, 'manageModels');
 	return {};
 };
 
 export const actions: Actions = {
 	create: async (event) => {
-		const actor = requireRole(event, 'admin');
+		const actor = requireCan(event, 'manageModels');
 		const parsed = await parseForm(modelInputSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		let id: number;

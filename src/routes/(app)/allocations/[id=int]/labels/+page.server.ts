@@ -1,5 +1,5 @@
 import { error, fail } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { labelsForAllocation, recordSheetPrinted } from '$lib/server/services/labels';
 import { printedSchema } from '$lib/schemas/allocation';
@@ -9,7 +9,7 @@ import { errorFrom, failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'workshop', 'admin');
+	requireCan(event, 'allocateSerials');
 	const id = Number(event.params.id);
 	if (!Number.isInteger(id)) error(404, 'No such allocation.');
 	const format = event.url.searchParams.get('format') === 'roll' ? 'roll' : 'a4';
@@ -23,7 +23,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	printed: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'allocateSerials');
 		const parsed = await parseForm(printedSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues });
 		try {

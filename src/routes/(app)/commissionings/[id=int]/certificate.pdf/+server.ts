@@ -1,4 +1,4 @@
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { certificateData, certificatePdf } from '$lib/server/services/commissioning';
 import { errorFrom } from '$lib/server/http';
@@ -6,7 +6,7 @@ import type { RequestHandler } from './$types';
 
 /** The commissioning certificate as a PDF; another dealer's certificate answers 404 like a missing one. */
 export const GET: RequestHandler = async (event) => {
-	const actor = requireRole(event, 'field_tech', 'dealer', 'admin', 'warranty');
+	const actor = requireCan(event, 'viewInstallations');
 	try {
 		const data = await certificateData(await getDb(), actor, Number(event.params.id));
 		const pdf = await certificatePdf(data);

@@ -1,12 +1,12 @@
 import { error } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { getShipment } from '$lib/server/services/shipments';
 import { errorFrom } from '$lib/server/http';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'workshop', 'admin');
+	const actor = requireCan(event, 'ship');
 	const id = Number(event.params.id);
 	if (!Number.isInteger(id) || id < 1) error(404, 'There is no such shipment.');
 	try {

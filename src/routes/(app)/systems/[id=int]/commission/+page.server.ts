@@ -1,7 +1,7 @@
 import { fail } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { hasRole } from '$lib/roles';
+import { can } from '$lib/policy';
 import { commissioningSchema, photoSchema } from '$lib/schemas/commissioning';
 import { parseForm } from '$lib/server/validation';
 import {
@@ -14,7 +14,7 @@ import { errorFrom, failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'field_tech', 'dealer', 'admin', 'warranty');
+	const actor = requireCan(event, 'viewInstallations');
 	const db = await getDb();
 	try {
 		const target = await loadSystemForCommissioning(db, actor, Number(event.params.id));
@@ -22,7 +22,7 @@ export const load: PageServerLoad = async (event) => {
 			ownerKind: 'system',
 			ownerId: target.system.id
 		});
-		return { target, photos, canSubmit: hasRole(actor.role, ['field_tech', 'admin']) };
+		return { target, photos, canSubmit: can(actor.role, 'commission') };
 	} catch (e) {
 		errorFrom(e);
 	}
@@ -30,7 +30,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	submit: async (event) => {
-		const actor = requireRole(event, 'field_tech', 'admin');
+		const actor = requireCan(event, 'commission');
 		const parsed = await parseForm(commissioningSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {
@@ -47,7 +47,7 @@ export const actions: Actions = {
 		}
 	},
 	photo: async (event) => {
-		const actor = requireRole(event, 'field_tech', 'admin');
+		const actor = requireCan(event, 'commission');
 		const parsed = await parseForm(photoSchema, event.request);
 		if (!parsed.ok) return fail(400, { photoError: parsed.issues[0].message });
 		const { photo, caption } = parsed.data;

@@ -1,6 +1,6 @@
 import { fail } from '@sveltejs/kit';
 import { eq } from 'drizzle-orm';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { moduleModels } from '$lib/server/db/schema';
 import { findModule } from '$lib/server/services/modules';
@@ -12,7 +12,7 @@ import { errorFrom, failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'workshop', 'admin');
+	const actor = requireCan(event, 'allocateSerials');
 	const db = await getDb();
 	try {
 		const mod = await findModule(db, actor, event.params.serial);
@@ -25,7 +25,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	reprint: async (event) => {
-		const actor = requireRole(event, 'workshop', 'admin');
+		const actor = requireCan(event, 'allocateSerials');
 		const parsed = await parseForm(reprintSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		try {

@@ -7,7 +7,7 @@ import type { RequestHandler } from './$types';
 
 /** Stores the accepted rows of a previewed import: all or none. Committing twice stores nothing twice. */
 export const POST: RequestHandler = async (event) => {
-	const actor = requireApiActor(event, { roles: ['workshop', 'admin'], tokenScope: 'imports' });
+	const actor = requireApiActor(event, 'importResults', { tokenScope: 'imports' });
 	try {
 		return json(await commitImport(await getDb(), actor, Number(event.params.id)));
 	} catch (e) {

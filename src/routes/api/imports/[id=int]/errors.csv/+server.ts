@@ -7,7 +7,7 @@ import type { RequestHandler } from './$types';
 
 /** The rejected rows of an import as a CSV a spreadsheet opens safely. */
 export const GET: RequestHandler = async (event) => {
-	requireApiActor(event, { roles: ['workshop', 'admin'], tokenScope: 'imports' });
+	requireApiActor(event, 'importResults', { tokenScope: 'imports' });
 	try {
 		const result = await getImport(await getDb(), Number(event.params.id));
 		const base = result.import.fileName.replace(/\.[^.]+$/, '').replace(/[^A-Za-z0-9._-]+/g, '_');

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { buildSchema } from '$lib/schemas/build';
 import { parseJson } from '$lib/server/validation';
@@ -9,7 +9,7 @@ import type { RequestHandler } from './$types';
 
 /** Registers a build; body `{ cellLots: string[], checks: string[], notes? }`, the same schema as the bench form. */
 export const POST: RequestHandler = async (event) => {
-	const actor = requireRole(event, 'workshop', 'admin');
+	const actor = requireCan(event, 'build');
 	const parsed = await parseJson(buildSchema, event.request);
 	if (!parsed.ok) return json({ message: 'The build could not be registered.', issues: parsed.issues }, { status: 400 });
 	try {

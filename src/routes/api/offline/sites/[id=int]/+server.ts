@@ -1,5 +1,5 @@
 import { stringify } from 'devalue';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { offlinePack } from '$lib/server/offline-pack';
 import type { RequestHandler } from './$types';
 
@@ -8,7 +8,7 @@ import type { RequestHandler } from './$types';
  * Each page's own load runs with its own guard and dealer scope: another dealer's site is a 404.
  */
 export const GET: RequestHandler = async (event) => {
-	requireRole(event, 'field_tech', 'admin');
+	requireCan(event, 'workOffline');
 	const pack = await offlinePack(event, Number(event.params.id));
 	return new Response(stringify(pack), {
 		headers: { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' }

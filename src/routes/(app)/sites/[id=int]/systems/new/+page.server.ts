@@ -1,5 +1,5 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth/guards';
+import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { systemSchema } from '$lib/schemas/site';
 import { parseForm } from '$lib/server/validation';
@@ -8,7 +8,7 @@ import { createSystem, systemFormOptions } from '$lib/server/services/systems';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	const actor = requireRole(event, 'field_tech', 'admin');
+	const actor = requireCan(event, 'install');
 	try {
 		return await systemFormOptions(await getDb(), actor, Number(event.params.id));
 	} catch (e) {
@@ -18,7 +18,7 @@ export const load: PageServerLoad = async (event) => {
 
 export const actions: Actions = {
 	create: async (event) => {
-		const actor = requireRole(event, 'field_tech', 'admin');
+		const actor = requireCan(event, 'install');
 		const parsed = await parseForm(systemSchema, event.request);
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		let id: number;

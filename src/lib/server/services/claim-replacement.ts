@@ -1,0 +1,254 @@
+/** Use cases after a covered decision: the replacement module and the returned module's inspection. */
+import { and, eq, isNull } from 'drizzle-orm';
+import type { Db } from '$lib/server/db';
+import { writeTx } from '$lib/server/db';
+import { claimModules, modules, systemSlots, systems } from '$lib/server/db/schema';
+import { assertCan, type Actor } from '$lib/server/actor';
+import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
+import { mayRecordReplacement, stateAfterReplacement } from '$lib/domain/claim-workflow';
+import { endOf, mayReplace } from '$lib/domain/module-lifecycle';
+import { RETURN_CAUSES, type ReturnInspectionInput } from '$lib/schemas/claim';
+import { STATE_LABELS } from '$lib/module-states';
+import { recordAudit, recordEvent } from './audit';
+import { findModule, serialFromScan } from './modules';
+import { loadClaim, mailFiler, requireOfficer } from './claims';
+
+import { label, logStep, setState } from './claim-steps';
+import { replacementRecorded } from '$lib/server/mail/templates/claims';
+
+/**
+ * Puts a replacement module into the failed module's place under a covered claim. The
+ * replacement must be of the same model and in stock (or already shipped to the claim's
+ * dealer); it takes the failed module's slot and system and inherits the remainder of the
+ * original warranty (start, end and terms copied, not a fresh term). The failed module is
+ * returned. When every claimed module has its replacement, the claim moves to replacement sent.
+ */
+export async function replaceModule(
+	db: Db,
+	actor: Actor,
+	claimId: number,
+	failedSerial: string,
+	replacementScan: string,
+	baseUrl?: string,
+	now = new Date()
+) {
+	assertCan(
+		actor,
+		'replaceModule',
+		'Replacements are recorded by warranty staff or a field technician.'
+	);
+	const claim = await loadClaim(db, actor, claimId);
+	if (!mayRecordReplacement(claim.state))
+		throw new ConflictError(
+			`Replacements are recorded for a covered claim; ${claim.reference} is ${label(claim.state)}.`
+		);
+	const failed = await findModule(db, actor, failedSerial);
+	const [link] = await db
+		.select()
+		.from(claimModules)
+		.where(and(eq(claimModules.claimId, claim.id), eq(claimModules.moduleId, failed.id)));
+	if (!link) throw new NotFoundError(`${failed.serial} is not on claim ${claim.reference}.`);
+	if (link.replacementModuleId !== null)
+		throw new ConflictError(`${failed.serial} already has its replacement.`);
+	const repl = await findModule(
+		db,
+		actor,
+		await serialFromScan(db, actor, replacementScan, baseUrl)
+	);
+	if (repl.id === failed.id)
+		throw new InvalidInputError('That is the failed module itself: scan the replacement.');
+	if (repl.modelId !== failed.modelId)
+		throw new ConflictError(
+			`${repl.serial} is of another model than ${failed.serial}: a replacement must be the same model.`
+		);
+	const usable =
+		mayReplace(repl.state) &&
+		(repl.state === 'in_stock' ||
+			(repl.dealerOrgId !== null && repl.dealerOrgId === claim.dealerOrgId));
+	if (!usable)
+		throw new ConflictError(
+			`${repl.serial} is ${STATE_LABELS[repl.state].toLowerCase()}: a replacement must be in stock, or shipped to this claim's dealer and not yet installed.`
+		);
+	const [slot] = await db.select().from(systemSlots).where(eq(systemSlots.moduleId, failed.id));
+	const [sys] = await db
+		.select({ name: systems.name })
+		.from(systems)
+		.where(eq(systems.id, claim.systemId));
+	const where = slot
+		? `string ${slot.stringNo}, position ${slot.position} of ${sys?.name ?? 'the system'}`
+		: (sys?.name ?? 'the system');
+
+	const allReplaced = await writeTx(db, async (tx) => {
+		if (slot)
+			await tx
+				.update(systemSlots)
+				.set({ moduleId: repl.id })
+				.where(
+					and(
+						eq(systemSlots.systemId, slot.systemId),
+						eq(systemSlots.stringNo, slot.stringNo),
+						eq(systemSlots.position, slot.position),
+						eq(systemSlots.moduleId, failed.id)
+					)
+				);
+		const moved = await tx
+			.update(modules)
+			.set({
+				state: endOf('fitAsReplacement'),
+				systemId: failed.systemId ?? claim.systemId,
+				dealerOrgId: failed.dealerOrgId,
+				shippedAt: repl.shippedAt ?? now,
+				commissionedAt: now,
+				warrantyStartsOn: failed.warrantyStartsOn,
+				warrantyEndsOn: failed.warrantyEndsOn,
+				warrantyTerms: failed.warrantyTerms,
+				updatedAt: now
+			})
+			.where(and(eq(modules.id, repl.id), eq(modules.state, repl.state)))
+			.returning({ id: modules.id });
+		if (!moved.length) throw new ConflictError(`${repl.serial} changed meanwhile; scan it again.`);
+		await tx
+			.update(modules)
+			.set({ state: endOf('returnFailed'), systemId: null, updatedAt: now })
+			.where(eq(modules.id, failed.id));
+		await tx
+			.update(claimModules)
+			.set({ replacementModuleId: repl.id })
+			.where(
+				and(
+					eq(claimModules.claimId, claim.id),
+					eq(claimModules.moduleId, failed.id),
+					isNull(claimModules.replacementModuleId)
+				)
+			);
+		const warranty = failed.warrantyEndsOn
+			? `; warranty to ${failed.warrantyEndsOn}, the remainder of the original`
+			: '';
+		await recordEvent(tx, actor, {
+			moduleId: repl.id,
+			kind: 'replaced',
+			summary: `Replaces ${failed.serial} under claim ${claim.reference}, in ${where}${warranty}`,
+			detail: { claim: claim.reference, replaces: failed.serial, slot: slot ?? null },
+			at: now
+		});
+		await recordEvent(tx, actor, {
+			moduleId: failed.id,
+			kind: 'replaced',
+			summary: `Replaced by ${repl.serial} under claim ${claim.reference}`,
+			detail: { claim: claim.reference, replacement: repl.serial },
+			at: now
+		});
+		await recordEvent(tx, actor, {
+			moduleId: failed.id,
+			kind: 'returned',
+			summary: `Taken out of ${where} for return under claim ${claim.reference}`,
+			detail: { claim: claim.reference },
+			at: now
+		});
+		const open = await tx
+			.select({ id: claimModules.moduleId })
+			.from(claimModules)
+			.where(and(eq(claimModules.claimId, claim.id), isNull(claimModules.replacementModuleId)));
+		await logStep(
+			tx,
+			actor,
+			claim,
+			claim.state,
+			`${failed.serial} replaced by ${repl.serial} in ${where}.`,
+			now
+		);
+		const next = stateAfterReplacement(claim.state, !open.length);
+		if (next !== claim.state) {
+			await setState(tx, claim, { state: next }, now);
+			await logStep(tx, actor, claim, next, 'Every claimed module has its replacement.', now);
+		}
+		await recordAudit(tx, actor, {
+			action: 'claim.replace',
+			entity: 'claim',
+			entityId: claim.reference,
+			after: {
+				failed: failed.serial,
+				replacement: repl.serial,
+				slot: slot ?? null,
+				warrantyEndsOn: failed.warrantyEndsOn
+			},
+			at: now
+		});
+		return !open.length;
+	});
+	await mailFiler(
+		db,
+		claim,
+		replacementRecorded({
+			reference: claim.reference,
+			failedSerial: failed.serial,
+			replacementSerial: repl.serial,
+			where,
+			warrantyEndsOn: failed.warrantyEndsOn,
+			allReplaced
+		})
+	);
+	return {
+		replacement: repl.serial,
+		state: allReplaced ? ('replacement_sent' as const) : claim.state
+	};
+}
+
+/** Records what the inspection of a returned module found and its cause (one of RETURN_CAUSES). */
+export async function recordReturnInspection(
+	db: Db,
+	actor: Actor,
+	claimId: number,
+	serial: string,
+	input: Pick<ReturnInspectionInput, 'findings' | 'cause'>,
+	now = new Date()
+) {
+	requireOfficer(actor);
+	const claim = await loadClaim(db, actor, claimId);
+	if (!(input.cause in RETURN_CAUSES))
+		throw new InvalidInputError('Choose the cause from the list.', [
+			{ path: 'cause', message: 'Choose the cause from the list.' }
+		]);
+	const findings = input.findings.trim();
+	if (findings.length < 10)
+		throw new InvalidInputError('Write what the inspection found (at least 10 characters).', [
+			{ path: 'findings', message: 'Write what the inspection found (at least 10 characters).' }
+		]);
+	const mod = await findModule(db, actor, serial);
+	const [link] = await db
+		.select()
+		.from(claimModules)
+		.where(and(eq(claimModules.claimId, claim.id), eq(claimModules.moduleId, mod.id)));
+	if (!link) throw new NotFoundError(`${mod.serial} is not on claim ${claim.reference}.`);
+	const cause = RETURN_CAUSES[input.cause];
+	await writeTx(db, async (tx) => {
+		await tx
+			.update(claimModules)
+			.set({ returnFindings: findings, returnCause: input.cause })
+			.where(and(eq(claimModules.claimId, claim.id), eq(claimModules.moduleId, mod.id)));
+		await recordEvent(tx, actor, {
+			moduleId: mod.id,
+			kind: 'claim_updated',
+			summary: `Return inspection under claim ${claim.reference}: ${cause}`,
+			detail: { claim: claim.reference, cause: input.cause, findings },
+			at: now
+		});
+		await logStep(
+			tx,
+			actor,
+			claim,
+			claim.state,
+			`Return inspection of ${mod.serial}: ${cause}. ${findings}`,
+			now
+		);
+		await recordAudit(tx, actor, {
+			action: 'claim.inspect',
+			entity: 'claim',
+			entityId: claim.reference,
+			before: { returnCause: link.returnCause, returnFindings: link.returnFindings },
+			after: { serial: mod.serial, returnCause: input.cause, returnFindings: findings },
+			at: now
+		});
+	});
+	return { serial: mod.serial, cause: input.cause };
+}

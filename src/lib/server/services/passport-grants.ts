@@ -1,0 +1,168 @@
+import { createHash, randomBytes } from 'node:crypto';
+import { and, desc, eq, sql } from 'drizzle-orm';
+import type { Db } from '$lib/server/db';
+import { moduleCellLots, modules, passportGrants, users } from '$lib/server/db/schema';
+import type { Actor } from '$lib/server/actor';
+import { SYSTEM_ACTOR } from '$lib/server/actor';
+import { ConflictError, ForbiddenError, NotFoundError } from '$lib/server/errors';
+import type { PassportGrantInput } from '$lib/schemas/passport';
+import { findModule } from './modules';
+import { recordAudit } from './audit';
+
+const sha256 = (s: string) => createHash('sha256').update(s).digest('hex');
+export const GRANT_PREFIX = 'ppa_';
+const DAY_MS = 86_400_000;
+
+type ModuleRow = typeof modules.$inferSelect;
+
+/**
+ * Issues an access link to the restricted passport data of one module or one cell lot
+ * for a recycler, repairer or authority. The secret is returned once; only its hash is
+ * kept. Audited.
+ */
+export async function issueGrant(
+	db: Db,
+	actor: Actor,
+	input: PassportGrantInput,
+	now = new Date()
+) {
+	let scopeValue = input.scopeValue.trim();
+	if (input.scopeKind === 'module') scopeValue = (await findModule(db, null, scopeValue)).serial;
+	else {
+		scopeValue = scopeValue.toUpperCase();
+		const [hit] = await db
+			.select({ n: sql<number>`1` })
+			.from(moduleCellLots)
+			.where(eq(moduleCellLots.lotCode, scopeValue))
+			.limit(1);
+		if (!hit) throw new NotFoundError(`No module carries cells from lot ${scopeValue}.`);
+	}
+	const secret = GRANT_PREFIX + randomBytes(24).toString('base64url');
+	const expiresAt = new Date(now.getTime() + input.days * DAY_MS);
+	const [row] = await db
+		.insert(passportGrants)
+		.values({
+			tokenHash: sha256(secret),
+			prefix: secret.slice(0, 10),
+			partyKind: input.partyKind,
+			partyName: input.partyName,
+			scopeKind: input.scopeKind,
+			scopeValue,
+			expiresAt,
+			createdBy: actor.userId!,
+			createdAt: now
+		})
+		.returning({ id: passportGrants.id });
+	await recordAudit(db, actor, {
+		action: 'passport_grant.issue',
+		entity: 'passport_grant',
+		entityId: row.id,
+		after: {
+			partyKind: input.partyKind,
+			partyName: input.partyName,
+			scopeKind: input.scopeKind,
+			scopeValue,
+			expiresAt
+		},
+		at: now
+	});
+	return { id: row.id, secret, expiresAt, scopeValue };
+}
+
+export async function listGrants(db: Db, limit = 200) {
+	return db
+		.select({
+			id: passportGrants.id,
+			prefix: passportGrants.prefix,
+			partyKind: passportGrants.partyKind,
+			partyName: passportGrants.partyName,
+			scopeKind: passportGrants.scopeKind,
+			scopeValue: passportGrants.scopeValue,
+			expiresAt: passportGrants.expiresAt,
+			createdAt: passportGrants.createdAt,
+			revokedAt: passportGrants.revokedAt,
+			lastUsedAt: passportGrants.lastUsedAt,
+			createdBy: users.name
+		})
+		.from(passportGrants)
+		.innerJoin(users, eq(passportGrants.createdBy, users.id))
+		.orderBy(desc(passportGrants.id))
+		.limit(limit);
+}
+
+export async function revokeGrant(db: Db, actor: Actor, id: number, now = new Date()) {
+	const [row] = await db.select().from(passportGrants).where(eq(passportGrants.id, id));
+	if (!row) throw new NotFoundError('That access link does not exist.');
+	if (row.revokedAt) throw new ConflictError(`The link for ${row.partyName} was already revoked.`);
+	await db.update(passportGrants).set({ revokedAt: now }).where(eq(passportGrants.id, id));
+	await recordAudit(db, actor, {
+		action: 'passport_grant.revoke',
+		entity: 'passport_grant',
+		entityId: id,
+		before: { revokedAt: null },
+		after: { revokedAt: now },
+		at: now
+	});
+}
+
+/**
+ * Checks an access link for a module and records its use (last used, and one audit entry
+ * per use, so the assembler can show an authority who read what). Throws ForbiddenError
+ * with the reason when the link is unknown, revoked, expired or for another module or lot.
+ */
+export async function useGrant(
+	db: Db,
+	secret: string,
+	mod: ModuleRow,
+	actor: Actor | null,
+	now = new Date()
+) {
+	const [row] =
+		secret.length <= 100
+			? await db
+					.select()
+					.from(passportGrants)
+					.where(eq(passportGrants.tokenHash, sha256(secret)))
+			: [];
+	if (!row)
+		throw new ForbiddenError(
+			'This passport access link is not known. Ask the assembler for a new link.'
+		);
+	if (row.revokedAt)
+		throw new ForbiddenError(
+			`This passport access link was revoked on ${row.revokedAt.toISOString().slice(0, 10)}. Ask the assembler for a new link.`
+		);
+	if (row.expiresAt.getTime() <= now.getTime())
+		throw new ForbiddenError(
+			`This passport access link expired on ${row.expiresAt.toISOString().slice(0, 10)}. Ask the assembler for a new link.`
+		);
+	const covers =
+		row.scopeKind === 'module'
+			? row.scopeValue === mod.serial
+			: (
+					await db
+						.select({ n: sql<number>`1` })
+						.from(moduleCellLots)
+						.where(
+							and(eq(moduleCellLots.moduleId, mod.id), eq(moduleCellLots.lotCode, row.scopeValue))
+						)
+						.limit(1)
+				).length > 0;
+	if (!covers)
+		throw new ForbiddenError(
+			`This access link is for ${row.scopeKind === 'module' ? 'module' : 'cell lot'} ${row.scopeValue}, not for module ${mod.serial}.`
+		);
+	await db.update(passportGrants).set({ lastUsedAt: now }).where(eq(passportGrants.id, row.id));
+	await recordAudit(
+		db,
+		actor ?? { ...SYSTEM_ACTOR, label: `access link ${row.prefix}… (${row.partyName})` },
+		{
+			action: 'passport_grant.use',
+			entity: 'passport_grant',
+			entityId: row.id,
+			after: { serial: mod.serial, party: row.partyName },
+			at: now
+		}
+	);
+	return row;
+}
