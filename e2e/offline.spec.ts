@@ -50,6 +50,9 @@ test('a technician with no signal: site taken offline, system, modules, checklis
 	await page.goto(sitePath);
 	await expect(page).toHaveURL(new RegExp(`/offline${sitePath}$`));
 	await expect(page.getByTestId('offline-note')).toContainText('No connection');
+	// The badge says the phone is offline, then counts what waits on it, one change at a time.
+	const badge = page.getByTestId('offline-badge');
+	await expect(badge).toHaveText(/^\s*Offline\s*$/);
 	await expect(page.getByRole('heading', { name: 'Cairn Ridge relay hut' })).toBeVisible();
 	await page.screenshot({ path: 'test-results/offline-site.png', fullPage: true });
 
@@ -63,12 +66,14 @@ test('a technician with no signal: site taken offline, system, modules, checklis
 	await page.getByLabel(/Battery DC maximum/).fill('130');
 	await page.getByRole('button', { name: 'Save system' }).click();
 	await expect(page.getByText('System saved. Scan the modules into their places.')).toBeVisible();
+	await expect(badge).toHaveText(/^\s*1 change waiting\s*$/);
 
 	const scan = page.getByTestId('place-scan');
-	for (const s of serials) {
+	for (const [i, s] of serials.entries()) {
 		await scan.fill(s);
 		await scan.press('Enter');
 		await expect(page.getByRole('status').filter({ hasText: s })).toBeVisible();
+		await expect(badge).toHaveText(new RegExp(`^\\s*${2 + i} changes waiting\\s*$`));
 	}
 	await expect(page.getByText('2 of 2 placed')).toBeVisible();
 	await page.screenshot({ path: 'test-results/offline-system.png', fullPage: true });
@@ -103,6 +108,7 @@ test('a technician with no signal: site taken offline, system, modules, checklis
 			.locator('input[name="photo"]')
 			.setInputFiles({ name: `photo-${i}.png`, mimeType: 'image/png', buffer: photo(90 + i * 80) });
 		await expect(page.locator('img[src^="/api/attachments/"]')).toHaveCount(i + 1);
+		await expect(badge).toHaveText(new RegExp(`^\\s*${4 + i} changes waiting\\s*$`));
 	}
 	await byName('technicianName').fill('Joss Carrow');
 	await byName('licenceNumber').fill('EL-55120');
