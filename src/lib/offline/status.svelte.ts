@@ -126,6 +126,9 @@ export async function takeSiteOffline(siteId: number): Promise<{ pages: number }
 		await tx.store.put({ path, data, savedAt: now, siteId });
 	await tx.done;
 	db.close();
+	// Ask the browser to keep this origin's storage under pressure (Storage Standard §4.4
+	// "persist()"): without it a full phone may clear the kept pages and the queue.
+	void navigator.storage?.persist?.().catch(() => false);
 	// The shell's layout data too, but never wait long for a service worker that is not there.
 	await Promise.race([warmShell(), new Promise((r) => setTimeout(r, 5000))]);
 	return { pages: Object.keys(pack.pages).length };
