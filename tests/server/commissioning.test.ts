@@ -258,6 +258,8 @@ describe('submitCommissioning', () => {
 		const outbox = await listOutbox(db);
 		const mail = outbox.find((m) => m.subject.includes(r.certificateNo!));
 		expect(mail?.toAddr).toBe('dealer@saltmarsh.example');
+		// Every e-mail leads to its record: the certificate's own page.
+		expect(mail?.text).toContain(`/commissionings/${r.id}\n`);
 
 		await expect(submitCommissioning(db, tech, system.id, form(), DAY)).rejects.toThrow(
 			/already commissioned/

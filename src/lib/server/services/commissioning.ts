@@ -394,6 +394,7 @@ async function mailCertificate(
 				`${data.system.name} at ${data.site.name} (${data.site.address}) was commissioned on ${data.commissionedOn} by ${data.technicianName} (licence ${data.licenceNumber}).\n\n` +
 				`${data.modules.length} modules of ${data.system.modelCode}, ${data.system.series} in series × ${data.system.parallel} in parallel. ` +
 				`Warranty from ${data.warranty.startsOn} to ${data.warranty.endsOn}.\n\nThe certificate ${data.certificateNo} is attached as a PDF.\n\n${data.codesNote}\n`,
+			about: `/commissionings/${commissioningId}`,
 			attachments: [
 				{
 					filename: `${data.certificateNo}.pdf`,

@@ -9,6 +9,7 @@ import { neutraliseCell } from '$lib/domain/factory-csv';
 import { STATE_LABELS } from '$lib/module-states';
 import type { TraceQuery } from '$lib/schemas/trace';
 import { sendMail } from '$lib/server/mail';
+import { fleetSearch } from '$lib/schemas/fleet';
 
 export const TRACE_LIMIT = 50_000;
 
@@ -171,7 +172,9 @@ export async function sendServiceNotice(
 		await sendMail(db, {
 			to: org.contactEmail,
 			subject: `Service notice from Tidewater Cellworks: ${notice.subject}`,
-			text: `${notice.body}\n\nThis notice concerns ${units.length} module${units.length === 1 ? '' : 's'} shipped to ${org.name}:\n\n${units.map((u) => `  ${u.serial}  ${u.model}  ${u.site ? `installed at ${u.site}` : 'not installed yet'}`).join('\n')}\n\n(Selected by ${criteria}.)\nWork on battery systems only by licensed electricians, isolated and locked off; local codes and installation standards take precedence.`
+			text: `${notice.body}\n\nThis notice concerns ${units.length} module${units.length === 1 ? '' : 's'} shipped to ${org.name}:\n\n${units.map((u) => `  ${u.serial}  ${u.model}  ${u.site ? `installed at ${u.site}` : 'not installed yet'}`).join('\n')}\n\n(Selected by ${criteria}.)\nWork on battery systems only by licensed electricians, isolated and locked off; local codes and installation standards take precedence.`,
+			// The same selection in the dealer's own fleet view (dealer scope applies there).
+			about: `/fleet?${fleetSearch({ lot: q.lot, model: q.model, builtFrom: q.builtFrom, builtTo: q.builtTo, importId: q.importId })}`
 		});
 	}
 	return { dealers: groups.size, modules: shipped.length };
