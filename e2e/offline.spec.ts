@@ -288,3 +288,43 @@ test('sync answers 400 for a malformed request and 413 for an oversized one, and
 	});
 	expect(refused.status()).toBe(403);
 });
+
+test('a field page opened with a signal opens again without one; a page never opened says it is not on the phone', async ({
+	browser
+}) => {
+	const phone = { viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true };
+	const ctx = await browser.newContext({ storageState: stateFile('ridgelineTech'), ...phone });
+	const page = await ctx.newPage();
+	await page.goto('/sites');
+	await page.evaluate(() => navigator.serviceWorker.ready);
+	const first = page.getByTestId('site-card').first();
+	const sitePath = (await first.getAttribute('href'))!;
+	const name = (await first.locator('span.text-lg').first().innerText()).trim();
+	await page.goto(sitePath);
+	await expect(page.getByRole('heading', { name, exact: true })).toBeVisible();
+	// Kept as it was opened: nothing was taken offline on this phone.
+	await expect
+		.poll(() =>
+			page.evaluate(async (path) => {
+				const names = (await indexedDB.databases()).map((d) => d.name ?? '');
+				const name = names.find((n) => /^packledger-offline-u\d+$/.test(n));
+				if (!name) return false;
+				const open = indexedDB.open(name);
+				const db: IDBDatabase = await new Promise((r) => (open.onsuccess = () => r(open.result)));
+				return await new Promise<boolean>((r) => {
+					const q = db.transaction('pages').objectStore('pages').get(path);
+					q.onsuccess = () => r(!!q.result);
+				});
+			}, sitePath)
+		)
+		.toBe(true);
+
+	await ctx.setOffline(true);
+	await page.goto(sitePath);
+	await expect(page).toHaveURL(new RegExp(`/offline${sitePath}$`));
+	await expect(page.getByRole('heading', { name, exact: true })).toBeVisible();
+	await page.goto('/sites/999999');
+	await expect(page.getByRole('heading', { name: 'Not on this phone' })).toBeVisible();
+	await page.screenshot({ path: 'test-results/offline-not-kept.png', fullPage: true });
+	await ctx.close();
+});

@@ -79,8 +79,18 @@ async function warmShell(): Promise<void> {
 	}
 }
 
+// Settles when the latest start has; before the first start, when that one has. A page's
+// first load calls keepPage before the layout has said who is signed in.
+let firstStarted: () => void = () => {};
+let starting: Promise<void> = new Promise((r) => (firstStarted = r));
+
 /** Called by the root layout with the signed-in user (or null). */
-export async function startOffline(user: OfflineUser | null): Promise<void> {
+export function startOffline(user: OfflineUser | null): Promise<void> {
+	starting = start(user).finally(firstStarted);
+	return starting;
+}
+
+async function start(user: OfflineUser | null): Promise<void> {
 	offline.online = navigator.onLine;
 	if (!user || !worksOffline(user.role)) {
 		offline.user = null;
@@ -98,6 +108,7 @@ export async function startOffline(user: OfflineUser | null): Promise<void> {
 
 /** Keeps the data of a field page the technician opened online, so it opens offline too. */
 export async function keepPage(pathname: string, data: Record<string, unknown>): Promise<void> {
+	await starting.catch(() => undefined);
 	if (!offline.user || !parseFieldPath(pathname) || pathname.startsWith('/offline')) return;
 	const db = await userDb(offline.user.id);
 	const old = await db.get('pages', pathname);
