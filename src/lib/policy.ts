@@ -80,6 +80,8 @@ export const POLICY = {
 	manageUsers: ADMIN,
 	/** Dealer organisations. */
 	manageDealers: ADMIN,
+	/** The assembler's calendar: the time zone business dates are counted in, the locale pages print in. */
+	manageCalendar: ADMIN,
 	/** API tokens of the test rigs. */
 	manageTokens: ADMIN,
 	/** Every e-mail the register has sent. */

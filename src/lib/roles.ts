@@ -151,6 +151,13 @@ export const NAV: NavItem[] = [
 		blurb: 'Dealer organisations, their contact address and region; who may receive shipments.'
 	},
 	{
+		href: '/admin/organisation',
+		group: 'admin',
+		label: 'Calendar',
+		capability: 'manageCalendar',
+		blurb: 'The time zone business dates are counted in, and the locale pages print in.'
+	},
+	{
 		href: '/admin/tokens',
 		group: 'admin',
 		label: 'Rig tokens',

@@ -52,6 +52,7 @@ const EXPECTED: Record<string, string[]> = {
 	manageModels: [A],
 	manageUsers: [A],
 	manageDealers: [A],
+	manageCalendar: [A],
 	manageTokens: [A],
 	viewOutbox: [A],
 	viewAudit: [A]

@@ -285,6 +285,53 @@ describe('submitCommissioning', () => {
 		expect(ra.mail?.to).toBe('office@tidewater.example');
 	});
 
+	it('dates the commissioning, warranty start and certificate by the assembler’s calendar (Etc/GMT-10)', async () => {
+		// The demo assembler keeps Etc/GMT-10 (UTC+10). 22:00 UTC on 30 November is 08:00 on
+		// 1 December there (hand-computed offset), so every business date is 1 December.
+		const { system, serials } = await makeSystem();
+		const at = new Date('2026-11-30T22:00:00Z');
+		const r = await submitCommissioning(db, tech, system.id, form(), at);
+		expect(r.commissionedOn).toBe('2026-12-01');
+		const mods = await db.select().from(modules).where(inArray(modules.serial, serials));
+		for (const m of mods) expect(m.warrantyStartsOn).toBe('2026-12-01');
+		// One second before local midnight is still 30 November there.
+		const other = await makeSystem();
+		const before = await submitCommissioning(
+			db,
+			tech,
+			other.system.id,
+			form(),
+			new Date('2026-11-30T13:59:59Z')
+		);
+		expect(before.commissionedOn).toBe('2026-11-30');
+	});
+
+	it('numbers certificates past 99,999 in a year by number, not by text', async () => {
+		// Text order would put PLC-2031-100000 before PLC-2031-99999 and hand out 100000 twice.
+		const { system } = await makeSystem();
+		await db.insert(commissionings).values(
+			['PLC-2031-99999', 'PLC-2031-100000'].map((certificateNo) => ({
+				systemId: system.id,
+				certificateNo,
+				overall: 'pass' as const,
+				technicianUserId: tech.userId!,
+				technicianName: 'Ilse Fenwick',
+				licenceNumber: 'EL-40917',
+				measurements: '{}',
+				items: '[]',
+				commissionedOn: '2031-06-01'
+			}))
+		);
+		const r = await submitCommissioning(
+			db,
+			tech,
+			system.id,
+			form(),
+			new Date('2031-06-02T01:00:00Z')
+		);
+		expect(r.certificateNo).toBe('PLC-2031-100001');
+	});
+
 	it('refuses a system with an empty slot', async () => {
 		const { system } = await makeSystem({ leaveEmpty: 1 });
 		await expect(submitCommissioning(db, tech, system.id, form(), DAY)).rejects.toThrow(

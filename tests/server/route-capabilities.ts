@@ -24,6 +24,8 @@ export const ROUTE_CAPABILITIES: Record<string, string> = {
 	'(app)/admin/models/[id=int]/+page.server.ts actions.delete': 'manageModels',
 	'(app)/admin/models/new/+page.server.ts load': 'manageModels',
 	'(app)/admin/models/new/+page.server.ts actions.create': 'manageModels',
+	'(app)/admin/organisation/+page.server.ts load': 'manageCalendar',
+	'(app)/admin/organisation/+page.server.ts actions.default': 'manageCalendar',
 	'(app)/admin/outbox/+page.server.ts load': 'viewOutbox',
 	'(app)/admin/tokens/+page.server.ts load': 'manageTokens',
 	'(app)/admin/tokens/+page.server.ts actions.create': 'manageTokens',

@@ -3,6 +3,7 @@
  * claims came out month by month. Pure: the caller passes the rows, `now` and the time zone.
  */
 import { TARGET_RESPONSE_DAYS } from './claim-workflow';
+import { calendarDay } from './calendar';
 
 const DAY_MS = 86_400_000;
 
@@ -46,13 +47,7 @@ export function openClaimAges(filed: readonly Date[], now: Date): AgeBand[] {
 
 /** `YYYY-MM` of an instant as the calendar shows it in `timeZone` (an IANA name). */
 export function monthIn(d: Date, timeZone: string): string {
-	const parts = new Intl.DateTimeFormat('en-CA', {
-		timeZone,
-		year: 'numeric',
-		month: '2-digit'
-	}).formatToParts(d);
-	const get = (t: string) => parts.find((p) => p.type === t)!.value;
-	return `${get('year')}-${get('month')}`;
+	return calendarDay(d, timeZone).slice(0, 7);
 }
 
 /** The `count` months ending with the one containing `now` in `timeZone`, oldest first. */

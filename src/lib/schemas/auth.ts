@@ -27,7 +27,7 @@ export const passwordSchema = z
 			.string()
 			.min(10, 'Use at least 10 characters.')
 			.max(200, 'Use at most 200 characters.'),
-		confirm: z.string()
+		confirm: z.string().max(200, 'Use at most 200 characters.')
 	})
 	.refine((v) => v.password === v.confirm, {
 		message: 'The two passwords differ.',

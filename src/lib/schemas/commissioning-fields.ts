@@ -35,16 +35,8 @@ export const COMMISSIONING_CAUTIONS: { title: string; text: string }[] = [
 export const CODES_TAKE_PRECEDENCE =
 	'Local electrical codes and installation standards take precedence over anything the application computes.';
 
-/** Form text to a number: blank → null, "0,4" → 0.4, anything else unreadable → 'invalid'. */
-export function readDecimal(v: unknown): number | null | 'invalid' {
-	if (v === undefined || v === null) return null;
-	if (typeof v === 'number') return Number.isFinite(v) ? v : 'invalid';
-	if (typeof v !== 'string') return 'invalid';
-	const s = v.trim().replace(/\s+/g, '');
-	if (s === '') return null;
-	if (!/^[+-]?(\d+([.,]\d*)?|[.,]\d+)$/.test(s)) return 'invalid';
-	return Number(s.replace(',', '.'));
-}
+/** Form text to a number: the one decimal rule, shared with every form. */
+export { readDecimal } from '$lib/domain/decimal';
 
 const GRID = /^moduleOcvV\.(\d{1,2})\.(\d{1,2})$/;
 const STRING = /^stringVoltageV\.(\d{1,2})$/;

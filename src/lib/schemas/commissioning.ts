@@ -8,45 +8,27 @@
  * blank. A JSON body may instead send `moduleOcvV` and `stringVoltageV` as arrays.
  */
 import { z } from 'zod';
+import { decimal, nullableText, readDecimal, yesNo } from './fields';
 import type { CommissioningMeasurements } from '$lib/domain/commissioning';
 
-import { nestForm, readDecimal } from './commissioning-fields';
+import { nestForm } from './commissioning-fields';
 
-export {
-	CODES_TAKE_PRECEDENCE,
-	COMMISSIONING_CAUTIONS,
-	nestForm,
-	readDecimal
-} from './commissioning-fields';
+export { CODES_TAKE_PRECEDENCE, COMMISSIONING_CAUTIONS, nestForm } from './commissioning-fields';
+
+/** Form text to a number: the one decimal rule (`domain/decimal.ts`), re-exported for the page. */
+export { readDecimal };
 
 function measured(label: string, unit: string, min: number, max: number) {
 	const range = `${label} must be between ${min} and ${max} ${unit}; leave it blank if not measured.`;
-	return z.preprocess(
-		(v) => {
-			const n = readDecimal(v);
-			return n === 'invalid' ? v : n;
-		},
+	return decimal(
 		z
 			.number({
 				error: `${label} must be a number in ${unit}, e.g. 51,2; leave it blank if not measured.`
 			})
 			.min(min, { error: range })
 			.max(max, { error: range })
-			.nullable()
-	);
-}
-
-function yesNo(label: string) {
-	return z.preprocess(
-		(v) =>
-			v === 'yes' || v === true || v === 'true'
-				? true
-				: v === 'no' || v === false || v === 'false'
-					? false
-					: v === '' || v == null
-						? null
-						: v,
-		z.boolean({ error: `${label}: answer yes or no, or leave it open if not checked.` }).nullable()
+			.nullable(),
+		{ blank: 'null' }
 	);
 }
 
@@ -86,14 +68,7 @@ export const measurementsSchema = z.preprocess(nestForm, measurementsObject);
 export const draftMeasurementsSchema = z.preprocess(nestForm, z.object(measurementFields(true)));
 
 const optionalText = (max: number, label: string) =>
-	z.preprocess(
-		(v) => (typeof v === 'string' && v.trim() === '' ? null : (v ?? null)),
-		z
-			.string()
-			.trim()
-			.max(max, { error: `Keep the ${label} under ${max} characters.` })
-			.nullable()
-	);
+	nullableText(max, `Keep the ${label} under ${max} characters.`);
 
 /** The whole submission: measurements, who signs, handover, and the cautions acknowledged. */
 export const commissioningSchema = z.preprocess(

@@ -42,6 +42,26 @@ export async function parseForm<S extends z.ZodType>(
 	return { ok: false, issues: toIssues(result.error), values: echo(form) };
 }
 
+/**
+ * Parses a URL's query with the input's one schema (a page's load, an API GET); repeated
+ * keys become arrays. Failures carry the issues and the values to show again.
+ */
+export function parseQuery<S extends z.ZodType>(
+	schema: S,
+	params: URLSearchParams
+): Parsed<z.infer<S>> {
+	const raw: Record<string, string | string[]> = {};
+	for (const key of new Set(params.keys())) {
+		const all = params.getAll(key);
+		raw[key] = all.length > 1 ? all : all[0];
+	}
+	const result = schema.safeParse(raw);
+	if (result.success) return { ok: true, data: result.data };
+	const values: Record<string, string> = {};
+	for (const [k, v] of params) if (!SECRET_FIELDS.has(k)) values[k] = v.slice(0, 300);
+	return { ok: false, issues: toIssues(result.error), values };
+}
+
 /** Parses a JSON body with the input's one schema. */
 export async function parseJson<S extends z.ZodType>(
 	schema: S,

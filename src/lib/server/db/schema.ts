@@ -27,6 +27,10 @@ export const organisations = sqliteTable('organisations', {
 	contactEmail: text('contact_email'),
 	region: text('region'),
 	active: integer('active', { mode: 'boolean' }).notNull().default(true),
+	/** IANA time zone of the organisation's calendar (business dates are days in it), e.g. Etc/GMT-10. */
+	timeZone: text('time_zone').notNull().default('UTC'),
+	/** BCP 47 locale its pages print dates and numbers in, e.g. en-GB. */
+	locale: text('locale').notNull().default('en-GB'),
 	createdAt: createdAt()
 });
 

@@ -13,6 +13,8 @@ import { assessClaim, type ClaimAssessment, type ClaimInput } from '$lib/domain/
 import type { WarrantyTerms } from '$lib/domain/model';
 import { warrantyTermsSchema, type ClaimEvidence } from '$lib/schemas/warranty-assess';
 import type { LogSummaryEvidence } from '$lib/schemas/claim';
+import { calendarDay } from '$lib/domain/calendar';
+import { assemblerCalendar } from './calendar';
 import { fmtNumber, implausibleEvidence, perModuleThroughput } from '$lib/domain/claim-evidence';
 
 export { fmtNumber, implausibleEvidence, perModuleThroughput };
@@ -40,8 +42,6 @@ export interface ClaimAssessmentResult extends ClaimAssessment {
 	stopCharge: { proven: boolean; certificateNo: string | null; commissionedOn: string } | null;
 	modules: { serial: string; assessment: ClaimAssessment }[];
 }
-
-export const isoDay = (d: Date) => d.toISOString().slice(0, 10);
 
 export function parseEvidence(json: string): StoredEvidence {
 	const e = JSON.parse(json) as StoredEvidence;
@@ -189,7 +189,9 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 		.orderBy(asc(modules.serial));
 	const moduleCount = await modulesInSystem(conn, claim.systemId);
 	const stopCharge = await stopChargeProof(conn, claim.systemId);
-	const claimedOn = isoDay(claim.filedAt);
+	const { timeZone } = await assemblerCalendar(conn);
+	// The claim is dated by the assembler's calendar, as is the warranty start it is compared with.
+	const claimedOn = calendarDay(claim.filedAt, timeZone);
 	const perModuleWh = perModuleThroughput(evidence, moduleCount);
 
 	const preface: string[] = [];
@@ -219,7 +221,7 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 	const assessed = rows.map(({ module, model }) => ({
 		module,
 		model,
-		...assessModule(module, model, evidence, perModuleWh, stopCharge, claimedOn)
+		...assessModule(module, model, evidence, perModuleWh, stopCharge, claimedOn, timeZone)
 	}));
 	if (!assessed.length) throw new Error(`Claim ${claim.reference} has no modules.`);
 	const [first] = assessed;
@@ -254,14 +256,16 @@ function assessModule(
 	evidence: StoredEvidence,
 	perModuleWh: number | null,
 	stopCharge: ClaimAssessmentResult['stopCharge'],
-	claimedOn: string
+	claimedOn: string,
+	timeZone: string
 ) {
 	const { terms, note } = termsOf(module.warrantyTerms, model);
 	const events = eventsOf(evidence, model);
 	const input: ClaimInput = {
 		terms,
 		commissionedOn:
-			module.warrantyStartsOn ?? (module.commissionedAt ? isoDay(module.commissionedAt) : null),
+			module.warrantyStartsOn ??
+			(module.commissionedAt ? calendarDay(module.commissionedAt, timeZone) : null),
 		claimedOn,
 		ratedCapacityAh: model.ratedAh,
 		measuredCapacityAh: evidence.measuredCapacityAh ?? null,

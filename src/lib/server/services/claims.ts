@@ -1,4 +1,4 @@
-import { and, asc, count, desc, eq, inArray, like, lte, ne, sql, type SQL } from 'drizzle-orm';
+import { and, asc, count, desc, eq, inArray, lte, ne, sql, type SQL } from 'drizzle-orm';
 import { alias } from 'drizzle-orm/sqlite-core';
 import Papa from 'papaparse';
 import type { Db, Tx } from '$lib/server/db';
@@ -30,7 +30,7 @@ import {
 	summariseLog,
 	type LogMapping
 } from '$lib/domain/inverter-log';
-import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
+import type { ClaimEvidence } from '$lib/schemas/warranty-assess';
 import {
 	AWAITING_DECISION,
 	CLAIM_STATE_LABELS,
@@ -39,7 +39,6 @@ import {
 	type LogSummaryEvidence
 } from '$lib/schemas/claim';
 import { STATE_LABELS } from '$lib/module-states';
-import { toIssues } from '$lib/server/validation';
 import { recordAudit, recordEvent } from './audit';
 import { findModule, serialFromScan } from './modules';
 import {
@@ -50,6 +49,9 @@ import {
 	type ClaimAssessmentResult,
 	type StoredEvidence
 } from './claim-assessment';
+import { isCalendarDate } from '$lib/domain/calendar';
+import { assemblerCalendar, businessDay, businessYear } from './calendar';
+import { nextYearlyReference } from './sequences';
 import { endOf, mayBeClaimed, statesFrom } from '$lib/domain/module-lifecycle';
 
 export { TARGET_RESPONSE_DAYS };
@@ -104,8 +106,8 @@ export interface FileClaimInput {
 	/** As scanned or typed: bare serials, our label URLs or GS1 Digital Links. */
 	serials: string[];
 	fault: string;
-	/** Checked here with claimEvidenceSchema (form strings or numbers). */
-	evidence: unknown;
+	/** Parsed with claimEvidenceSchema (part of fileClaimFormSchema). */
+	evidence: ClaimEvidence;
 	throughputScope?: 'system' | 'module';
 	log?: LogSummaryEvidence | null;
 	baseUrl?: string;
@@ -121,22 +123,10 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 	if (actor.userId === null)
 		throw new ForbiddenError('Claims are filed by dealers, technicians and warranty staff.');
 	assertCan(actor, 'fileClaim', 'Claims are filed by dealers, technicians and warranty staff.');
-	const fault = (input.fault ?? '').trim();
-	if (fault.length < 3 || fault.length > 200)
-		throw new InvalidInputError('Name the fault in a few words (3 to 200 characters).', [
-			{ path: 'fault', message: 'Name the fault in a few words (3 to 200 characters).' }
-		]);
-	const parsed = claimEvidenceSchema.safeParse(input.evidence);
-	if (!parsed.success) {
-		const issues = toIssues(parsed.error);
-		throw new InvalidInputError(`Check the evidence: ${issues[0].message}`, issues);
-	}
-	const texts = [...new Set(input.serials.map((s) => s.trim()).filter(Boolean))];
-	if (!texts.length)
-		throw new InvalidInputError('Scan or type the serial of at least one module.', [
-			{ path: 'serials', message: 'Scan or type the serial of at least one module.' }
-		]);
-	if (texts.length > 50) throw new InvalidInputError('One claim covers at most 50 modules.');
+	// The input was parsed with fileClaimFormSchema (serials, fault, evidence); only what needs
+	// the register is checked here.
+	const { fault } = input;
+	const texts = [...new Set(input.serials)];
 
 	const mods: (typeof modules.$inferSelect)[] = [];
 	for (const text of texts) {
@@ -180,7 +170,7 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mods[0].modelId));
 	const moduleCount = await modulesInSystem(db, systemId);
 	const evidence: StoredEvidence = {
-		...parsed.data,
+		...input.evidence,
 		throughputScope: input.throughputScope ?? 'system',
 		log: input.log ?? null
 	};
@@ -188,7 +178,8 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 		model,
 		moduleCount,
 		startsOn: mods[0].warrantyStartsOn,
-		now
+		now,
+		calendar: await assemblerCalendar(db)
 	});
 	if (implausible.length) throw new InvalidInputError(implausible[0].message, implausible);
 
@@ -265,17 +256,10 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 	return { id: claim.id, reference: claim.reference };
 }
 
-/** CL-{year}-{NNNN}: the next number of the year, read and written inside the caller's write transaction. */
+/** CL-{year}-{NNNN}: the next number of the assembler's calendar year, inside the caller's write transaction. */
 async function nextReference(tx: Tx, now: Date): Promise<string> {
-	const prefix = `CL-${now.getUTCFullYear()}-`;
-	const [last] = await tx
-		.select({ reference: claims.reference })
-		.from(claims)
-		.where(like(claims.reference, `${prefix}%`))
-		.orderBy(desc(sql`length(${claims.reference})`), desc(claims.reference))
-		.limit(1);
-	const next = last ? Number(last.reference.slice(prefix.length)) + 1 : 1;
-	return prefix + String(next).padStart(4, '0');
+	const year = await businessYear(tx, now);
+	return nextYearlyReference(tx, claims, claims.reference, { code: 'CL', year, width: 4 });
 }
 
 /** The dealer whose remembered log mapping applies when staff file for a module (null: the assembler's own). */
@@ -350,7 +334,7 @@ export async function readInverterLog(
 		throw e;
 	}
 	const lastDay = summary.lastAt?.slice(0, 10) ?? '';
-	if (/^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > now.toISOString().slice(0, 10))
+	if (isCalendarDate(lastDay) && lastDay > (await businessDay(db, now)))
 		summary.problems.push(
 			`The last row is dated ${summary.lastAt}, after today: check the inverter's clock.`
 		);

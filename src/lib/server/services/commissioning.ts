@@ -1,4 +1,4 @@
-import { and, asc, desc, eq, inArray, like } from 'drizzle-orm';
+import { and, asc, desc, eq, inArray } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import {
@@ -30,6 +30,8 @@ import {
 } from '$lib/schemas/commissioning';
 import { recordAudit, recordEvent } from './audit';
 import { certificatePdf } from './certificate-pdf';
+import { businessDay } from './calendar';
+import { nextYearlyReference } from './sequences';
 import { endOf, mayMove, statesFrom } from '$lib/domain/module-lifecycle';
 
 const roundMv = (x: number) => Math.round(x * 1000) / 1000;
@@ -172,16 +174,12 @@ export function evaluateDraft(
 }
 
 /** Next certificate number of a year: PLC-{YYYY}-{NNNNN}. Call inside the write transaction. */
-async function nextCertificateNo(tx: Tx, year: string): Promise<string> {
-	const prefix = `PLC-${year}-`;
-	const [last] = await tx
-		.select({ no: commissionings.certificateNo })
-		.from(commissionings)
-		.where(like(commissionings.certificateNo, `${prefix}%`))
-		.orderBy(desc(commissionings.certificateNo))
-		.limit(1);
-	const n = last?.no ? Number(last.no.slice(prefix.length)) + 1 : 1;
-	return `${prefix}${String(n).padStart(5, '0')}`;
+function nextCertificateNo(tx: Tx, year: number): Promise<string> {
+	return nextYearlyReference(tx, commissionings, commissionings.certificateNo, {
+		code: 'PLC',
+		year,
+		width: 5
+	});
 }
 
 export interface SubmitResult {
@@ -239,7 +237,8 @@ export async function submitCommissioning(
 
 	const measurements = toMeasurements(input);
 	const result = evaluateCommissioning(loaded.evaluationSystem, measurements);
-	const commissionedOn = now.toISOString().slice(0, 10);
+	// The day on the assembler's calendar: a commissioning at 08:00 in UTC+10 is dated that day.
+	const commissionedOn = await businessDay(db, now);
 	const passed = result.overall === 'pass';
 	const warrantyEndsOn = warrantyTermEnd(commissionedOn, model.warrantyYears);
 	const terms = {
@@ -263,7 +262,9 @@ export async function submitCommissioning(
 			throw new ConflictError(
 				`${label} has just been commissioned by someone else; it cannot be commissioned again.`
 			);
-		const certificateNo = passed ? await nextCertificateNo(tx, commissionedOn.slice(0, 4)) : null;
+		const certificateNo = passed
+			? await nextCertificateNo(tx, Number(commissionedOn.slice(0, 4)))
+			: null;
 		const [row] = await tx
 			.insert(commissionings)
 			.values({

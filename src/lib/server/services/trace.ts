@@ -10,20 +10,23 @@ import { STATE_LABELS } from '$lib/module-states';
 import type { TraceQuery } from '$lib/schemas/trace';
 import { sendMail } from '$lib/server/mail';
 import { fleetSearch } from '$lib/schemas/fleet';
+import { addCalendarDays, startOfCalendarDay } from '$lib/domain/calendar';
+import { assemblerCalendar } from './calendar';
 
 export const TRACE_LIMIT = 50_000;
 
-const dayMs = (d: string) => Date.parse(`${d}T00:00:00Z`);
-
-function conditions(q: TraceQuery): SQL[] {
+function conditions(q: TraceQuery, timeZone: string): SQL[] {
 	const where: SQL[] = [];
 	if (q.lot)
 		where.push(
 			sql`${modules.id} IN (SELECT module_id FROM module_cell_lots WHERE lot_code = ${q.lot})`
 		);
 	if (q.model) where.push(eq(moduleModels.code, q.model));
-	if (q.builtFrom) where.push(gte(modules.builtAt, new Date(dayMs(q.builtFrom))));
-	if (q.builtTo) where.push(lt(modules.builtAt, new Date(dayMs(q.builtTo) + 86_400_000)));
+	// Build dates are days on the assembler's calendar: a range runs from the first day's
+	// start to the end of the last day in its time zone.
+	if (q.builtFrom) where.push(gte(modules.builtAt, startOfCalendarDay(q.builtFrom, timeZone)));
+	if (q.builtTo)
+		where.push(lt(modules.builtAt, startOfCalendarDay(addCalendarDays(q.builtTo, 1), timeZone)));
 	if (q.importId)
 		where.push(
 			sql`${modules.id} IN (SELECT module_id FROM factory_tests WHERE import_id = ${q.importId})`
@@ -36,6 +39,7 @@ function conditions(q: TraceQuery): SQL[] {
  * each is now: in the workshop, at which dealer, at which site. For the assembler's staff.
  */
 export async function traceModules(db: Db, q: TraceQuery) {
+	const { timeZone } = await assemblerCalendar(db);
 	const rows = await db
 		.select({
 			id: modules.id,
@@ -53,7 +57,7 @@ export async function traceModules(db: Db, q: TraceQuery) {
 		.leftJoin(organisations, eq(modules.dealerOrgId, organisations.id))
 		.leftJoin(systems, eq(modules.systemId, systems.id))
 		.leftJoin(sites, eq(systems.siteId, sites.id))
-		.where(and(...conditions(q)))
+		.where(and(...conditions(q, timeZone)))
 		.orderBy(modules.serial)
 		.limit(TRACE_LIMIT + 1);
 	const truncated = rows.length > TRACE_LIMIT;

@@ -6,13 +6,13 @@ import { errorFrom } from '$lib/server/http';
 import { QUALITY_GROUP_BY, qualityFilters, qualityReport } from '$lib/server/services/quality';
 import { qualityTrend } from '$lib/server/services/quality-trend';
 import type { PageServerLoad } from './$types';
+import { blankToUndefined } from '$lib/schemas/fields';
 
 // The filters live in the URL (a GET form), so a view can be shared as a link. An empty
 // select sends "", which means "not chosen".
-const blank = (v: unknown) => (v === '' ? undefined : v);
 const id = (what: string) =>
 	z.preprocess(
-		blank,
+		blankToUndefined,
 		z.coerce
 			.number({ message: `Choose a ${what}.` })
 			.int()
@@ -22,20 +22,21 @@ const id = (what: string) =>
 const filterSchema = z.object({
 	model: id('model'),
 	group: z.preprocess(
-		blank,
+		blankToUndefined,
 		z
 			.enum(QUALITY_GROUP_BY, { message: 'Group by rig file, week or the whole model.' })
 			.default('import')
 	),
 	import: id('rig file'),
 	week: z.preprocess(
-		blank,
+		blankToUndefined,
 		z
 			.string()
+			.max(8, { error: 'Write the week as 2026-W07.', abort: true })
 			.regex(/^\d{4}-W\d{2}$/, 'Write the week as 2026-W07.')
 			.optional()
 	),
-	latest: z.preprocess(blank, z.literal('1').optional())
+	latest: z.preprocess(blankToUndefined, z.literal('1').optional())
 });
 
 export const load: PageServerLoad = async (event) => {

@@ -5,6 +5,7 @@ import { traceQuerySchema } from '$lib/schemas/trace';
 import { toIssues } from '$lib/server/validation';
 import { traceCsv } from '$lib/server/services/trace';
 import type { RequestHandler } from './$types';
+import { businessDay } from '$lib/server/services/calendar';
 
 /** The traced modules and where each is now, as CSV. */
 export const GET: RequestHandler = async (event) => {
@@ -19,11 +20,13 @@ export const GET: RequestHandler = async (event) => {
 			},
 			{ status: 400 }
 		);
-	const csv = await traceCsv(await getDb(), parsed.data);
+	const db = await getDb();
+	const csv = await traceCsv(db, parsed.data);
+	const today = await businessDay(db, new Date());
 	return new Response(csv, {
 		headers: {
 			'content-type': 'text/csv; charset=utf-8',
-			'content-disposition': `attachment; filename="packledger-trace-${new Date().toISOString().slice(0, 10)}.csv"`
+			'content-disposition': `attachment; filename="packledger-trace-${today}.csv"`
 		}
 	});
 };
