@@ -51,6 +51,11 @@ export const POLICY = {
 	install: INSTALLERS,
 	/** Fill in and submit a commissioning checklist. */
 	commission: INSTALLERS,
+	/**
+	 * Take a site's field pages onto the phone and send the work done offline
+	 * (`POST /api/sync`); each operation is then checked as its own form is.
+	 */
+	workOffline: INSTALLERS,
 	/** See warranty claims (a dealer's people see their organisation's only) and assess one. */
 	viewClaims: CLAIM_PARTIES,
 	/** File a warranty claim. */

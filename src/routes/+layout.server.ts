@@ -6,7 +6,12 @@ import type { LayoutServerLoad } from './$types';
 export const load: LayoutServerLoad = async (event) => {
 	const user = allowAnonymous(event);
 	return {
-		user: user && { label: user.label, role: user.role, dealerScoped: user.dealerScoped },
+		user: user && {
+			id: user.userId,
+			label: user.label,
+			role: user.role,
+			dealerScoped: user.dealerScoped
+		},
 		calendar: await assemblerCalendar(await getDb())
 	};
 };

@@ -39,6 +39,7 @@ const EXPECTED: Record<string, string[]> = {
 	viewInstallations: [A, F, O, D],
 	install: [A, F],
 	commission: [A, F],
+	workOffline: [A, F],
 	viewClaims: [A, F, O, D],
 	fileClaim: [A, F, O, D],
 	addClaimEvidence: [A, F, O, D],

@@ -21,7 +21,12 @@ import {
 } from '$lib/server/services/commissioning';
 import { certificateData, certificatePdf } from '$lib/server/services/certificates';
 import { closeMailer, listOutbox } from '$lib/server/mail';
-import { commissioningSchema, draftMeasurementsSchema } from '$lib/schemas/commissioning';
+import {
+	commissioningSchema,
+	draftMeasurements,
+	draftMeasurementsSchema
+} from '$lib/schemas/commissioning';
+import { evaluateCommissioning } from '$lib/domain/commissioning';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
 import { makeModules } from '../factories/modules';
@@ -164,6 +169,34 @@ describe('commissioning input', () => {
 		expect(
 			draftMeasurementsSchema.parse({ insulationMohm: 'lots', 'stringVoltageV.1': '101,2' })
 		).toMatchObject({ insulationMohm: null, stringVoltageV: [101.2] });
+	});
+
+	it('gives the same preview for an untouched checklist with or without the form reader', async () => {
+		// The page fetches the reader with the first reading typed, so before that it shows
+		// the verdicts of "nothing measured": they must be those of a blank form read fully.
+		const { system } = await makeSystem({ series: 3, parallel: 2 });
+		const sys = (await loadSystemForCommissioning(db, tech, system.id)).evaluationSystem;
+		const blank: Record<string, string> = {
+			interStringDiffV: '',
+			insulationTestV: '',
+			insulationMohm: '',
+			polarityChecked: '',
+			torqueConfirmed: '',
+			deviceRatingA: '',
+			deviceDcRatingV: '',
+			ambientC: '',
+			stopChargeProven: '',
+			technicianName: 'Ilse Fenwick',
+			licenceNumber: 'EL-40917',
+			handoverName: 'Wren Tamsin'
+		};
+		for (let s = 1; s <= 2; s++) {
+			blank[`stringVoltageV.${s}`] = '';
+			for (let p = 1; p <= 3; p++) blank[`moduleOcvV.${s}.${p}`] = '';
+		}
+		const withReader = evaluateCommissioning(sys, draftMeasurements(blank));
+		expect(evaluateCommissioning(sys, {})).toEqual(withReader);
+		expect(withReader.items.every((i) => i.status === 'not_measured')).toBe(true);
 	});
 });
 

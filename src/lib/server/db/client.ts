@@ -1,3 +1,4 @@
+import { AsyncLocalStorage } from 'node:async_hooks';
 import { createClient, type Client, type InStatement } from '@libsql/client';
 import { drizzle, type LibSQLDatabase } from 'drizzle-orm/libsql';
 import { migrate } from 'drizzle-orm/libsql/migrator';
@@ -70,9 +71,47 @@ export async function withWriteLock<T>(db: Db, fn: () => Promise<T>): Promise<T>
 	}
 }
 
+/** Work to do inside the first write transaction a piece of code opens (see `withTxHook`). */
+export interface TxHook {
+	/** Runs first in the transaction; throwing rolls it back before anything is written. */
+	before?: (tx: Tx) => Promise<void>;
+	/** Runs after the transaction's own work, before COMMIT; throwing rolls everything back. */
+	after: (tx: Tx, result: unknown) => Promise<void>;
+}
+const txHooks = new AsyncLocalStorage<{ hook: TxHook; used: boolean }>();
+
+/**
+ * Runs `fn` so that the first write transaction it opens (through `writeTx`) also runs
+ * `hook` — e.g. the sync endpoint records an operation id in the same transaction as the
+ * write a service makes, without the service knowing about sync. Returns whether it ran.
+ */
+export async function withTxHook<T>(
+	hook: TxHook,
+	fn: () => Promise<T>
+): Promise<{ value: T; hooked: boolean }> {
+	const state = { hook, used: false };
+	const value = await txHooks.run(state, fn);
+	return { value, hooked: state.used };
+}
+
 /** Runs `fn` in a write transaction (BEGIN IMMEDIATE), one at a time per database handle. */
 export function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T> {
-	return withWriteLock(db, () => db.transaction(fn, { behavior: 'immediate' }));
+	const state = txHooks.getStore();
+	if (!state || state.used)
+		return withWriteLock(db, () => db.transaction(fn, { behavior: 'immediate' }));
+	state.used = true;
+	const { hook } = state;
+	return withWriteLock(db, () =>
+		db.transaction(
+			async (tx) => {
+				await hook.before?.(tx);
+				const result = await fn(tx);
+				await hook.after(tx, result);
+				return result;
+			},
+			{ behavior: 'immediate' }
+		)
+	);
 }
 
 /**

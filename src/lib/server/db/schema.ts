@@ -709,3 +709,24 @@ export const passportGrants = sqliteTable(
 	},
 	(t) => [index('passport_grants_scope_idx').on(t.scopeKind, t.scopeValue)]
 );
+
+/**
+ * Operations sent by phones that worked offline (`POST /api/sync`), recorded in the same
+ * transaction as the write they caused, so a replayed operation id is answered from here
+ * and stores nothing twice. Only applied operations are kept; a rejected one may be sent again.
+ */
+export const syncOperations = sqliteTable(
+	'sync_operations',
+	{
+		/** The client-made UUID of the operation. */
+		id: text('id').primaryKey(),
+		userId: integer('user_id')
+			.notNull()
+			.references(() => users.id),
+		type: text('type').notNull(),
+		/** What the write made: a site, system, commissioning or attachment id, or a module serial. */
+		ref: text('ref').notNull(),
+		createdAt: createdAt()
+	},
+	(t) => [index('sync_operations_user_idx').on(t.userId)]
+);
