@@ -60,7 +60,7 @@ describe('calendarDate', () => {
 			const r = d.safeParse(s);
 			expect(r.success, s).toBe(false);
 			expect(r.error?.issues[0].message).toBe(
-				'Built from: this date does not exist; check the month and day.'
+				'Built from: this date does not exist; give a real date, checking the month and day.'
 			);
 		}
 		for (const s of ['30/11/2026', '2026-1-1', 'x'.repeat(200_000)]) {

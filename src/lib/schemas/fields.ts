@@ -99,7 +99,7 @@ export function queryInt(min: number, max: number, label: string) {
  */
 export function calendarDate(label: string) {
 	const shape = `${label}: write the date as YYYY-MM-DD, like 2026-11-30.`;
-	const missing = `${label}: this date does not exist; check the month and day.`;
+	const missing = `${label}: this date does not exist; give a real date, checking the month and day.`;
 	return z
 		.string({ error: shape })
 		.trim()

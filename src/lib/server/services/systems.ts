@@ -78,11 +78,13 @@ async function modelById(conn: Conn, id: number): Promise<ModelRow> {
 /** What the new-system form needs: the site (scoped) and the models in production to build from. */
 export async function systemFormOptions(db: Db, actor: Actor, siteId: number) {
 	const site = await findSite(db, actor, siteId);
-	const models = await db
-		.select({ code: moduleModels.code, name: moduleModels.name })
+	const rows = await db
+		.select()
 		.from(moduleModels)
 		.where(isNull(moduleModels.retiredAt))
 		.orderBy(asc(moduleModels.code));
+	// The figures go with each model so the form's design check runs in the browser.
+	const models = rows.map((m) => ({ code: m.code, name: m.name, module: designModuleOf(m) }));
 	return { site: { id: site.id, name: site.name }, models };
 }
 
