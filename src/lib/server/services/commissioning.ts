@@ -6,11 +6,10 @@ import {
 	moduleModels,
 	modules,
 	organisations,
-	sites,
 	systems,
 	systemSlots
 } from '$lib/server/db/schema';
-import { dealerScopeOf, type Actor } from '$lib/server/actor';
+import type { Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import { sendMail } from '$lib/server/mail';
 import {
@@ -32,6 +31,8 @@ import { recordAudit, recordEvent } from './audit';
 import { certificatePdf } from './certificate-pdf';
 import { businessDay } from './calendar';
 import { nextYearlyReference } from './sequences';
+import { findSystem } from './systems';
+import { warrantyTermsOf } from '$lib/domain/model';
 import { endOf, mayMove, statesFrom } from '$lib/domain/module-lifecycle';
 
 const roundMv = (x: number) => Math.round(x * 1000) / 1000;
@@ -59,7 +60,7 @@ export interface CertificateData {
 	licenceNumber: string;
 	handoverName: string | null;
 	warranty: { startsOn: string; endsOn: string; years: number };
-	cautions: { title: string; text: string }[];
+	cautions: readonly { title: string; text: string }[];
 	codesNote: string;
 }
 
@@ -70,17 +71,9 @@ export interface CertificateData {
  * other system answers exactly like one that does not exist.
  */
 export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId: number) {
-	const notFound = new NotFoundError(`System ${systemId} is not in the register.`);
-	if (!Number.isInteger(systemId) || systemId < 1) throw notFound;
-	const [row] = await db
-		.select({ system: systems, site: sites, model: moduleModels })
-		.from(systems)
-		.innerJoin(sites, eq(systems.siteId, sites.id))
-		.innerJoin(moduleModels, eq(systems.modelId, moduleModels.id))
-		.where(eq(systems.id, systemId));
-	const scope = dealerScopeOf(actor);
-	if (!row || (scope !== null && row.site.dealerOrgId !== scope)) throw notFound;
-	const { system, site, model } = row;
+	// The one dealer-scoped lookup: another dealer's system answers like a missing one.
+	const { system, site } = await findSystem(db, actor, systemId);
+	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, system.modelId));
 
 	const slots = await db
 		.select({
@@ -242,12 +235,7 @@ export async function submitCommissioning(
 	const passed = result.overall === 'pass';
 	const warrantyEndsOn = warrantyTermEnd(commissionedOn, model.warrantyYears);
 	const terms = {
-		years: model.warrantyYears,
-		ratedCycles: model.ratedCycles,
-		endRetentionPct: model.endRetentionPct,
-		referenceTempC: model.referenceTempC,
-		hotTempC: model.hotTempC,
-		hotRatedCycles: model.hotRatedCycles,
+		...warrantyTermsOf(model),
 		usableWh: model.usableWh,
 		ratedAh: model.ratedAh
 	};

@@ -26,7 +26,7 @@ export type SiteRow = typeof sites.$inferSelect;
 export type { SlotRef };
 export { nextEmptySlot };
 
-const NO_SYSTEM = (id: unknown) => `There is no system number ${String(id).slice(0, 12)}.`;
+const NO_SYSTEM = (id: unknown) => `System ${String(id).slice(0, 12)} is not in the register.`;
 const where = (s: SlotRef) => `string ${s.stringNo}, position ${s.position}`;
 
 /** The figures the design check needs, from a stored model. */
