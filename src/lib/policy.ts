@@ -77,6 +77,8 @@ export const POLICY = {
 	manageDealers: ADMIN,
 	/** The assembler's calendar: the time zone business dates are counted in, the locale pages print in. */
 	manageCalendar: ADMIN,
+	/** Commissioning rule sets per market (limits, citations, effective date) and each dealer's market. */
+	manageRuleSets: ADMIN,
 	/** API tokens of the test rigs. */
 	manageTokens: ADMIN,
 	/** Every e-mail the register has sent. */

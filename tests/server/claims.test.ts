@@ -17,6 +17,7 @@ import {
 } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { closeMailer } from '$lib/server/mail';
+import { claimFigures } from '$lib/server/services/dashboard';
 import { UNKNOWN_SERIAL } from '$lib/server/services/modules';
 import {
 	fileClaim,
@@ -873,5 +874,28 @@ describe('POST /api/warranty/assess', () => {
 		);
 		await expect(assessPost(event(workshop, input))).rejects.toMatchObject({ status: 403 });
 		await expect(assessPost(event(null, input))).rejects.toMatchObject({ status: 401 });
+	});
+});
+
+describe('claims on the dashboard', () => {
+	it('counts a claim filed 12 days ago as past the 10-day target, and its e-mail links to it', async () => {
+		const before = await claimFigures(db, NOW, 'Etc/GMT-10');
+		const sys = await commissionedSystem();
+		const { id } = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [sys.serials[0]], fault: 'Capacity fade', evidence: coverEvidence },
+			new Date(NOW.getTime() - 12 * DAY)
+		);
+		const after = await claimFigures(db, NOW, 'Etc/GMT-10');
+		expect(after.open).toBe(before.open + 1);
+		const band = (f: typeof after) => f.ages.find((b) => b.label === '11–30 days')!;
+		expect(band(after).n).toBe(band(before).n + 1);
+		expect(band(after).late).toBe(true);
+		const [mail] = await db
+			.select()
+			.from(mailOutbox)
+			.where(like(mailOutbox.text, `%/claims/${id}\n%`));
+		expect(mail?.toAddr).toBe('dealer@saltmarsh.example');
 	});
 });

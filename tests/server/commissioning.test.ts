@@ -103,9 +103,21 @@ async function makeSystem(
 	return { system, site, serials };
 }
 
-// TC-HC-48 (invented): 22 cells of 1.8 / 2.35 / 2.75 V, 46.5 Ah, 3C. Two in series: string 79.2 to 121 V,
-// nominal 103.4 V, so IEC 60364-6 Table 6.1 asks 500 V DC and 1.0 MΩ. Continuous 3 × 46.5 = 139.5 A,
-// device ≥ 174.4 A (125 %, from memory). Values typed as a phone sends them, decimal commas included.
+// TC-HC-48 (invented): 22 cells of 1.8 / 2.35 / 2.75 V, 46.5 Ah, 3C, 6.0 mΩ. Two in series: string 79.2
+// to 121 V, nominal 103.4 V, so IEC 60364-6 Table 6.1 asks 500 V DC and 1.0 MΩ (by the 121 V maximum).
+// Continuous 3 × 46.5 = 139.5 A, device ≥ 174.4 A (125 %, from memory); fault current per string
+// 60.5 V / 6.0 mΩ = 10 083 A. Values typed as a phone sends them, decimal commas included.
+const SIG = JSON.stringify({
+	w: 300,
+	h: 120,
+	strokes: [
+		Array.from({ length: 12 }, (_, i) => [20 + i * 20, 60 + (i % 2 ? 25 : -25)]),
+		[
+			[40, 100],
+			[260, 100]
+		]
+	]
+});
 const form = (over: Record<string, string> = {}) =>
 	commissioningSchema.parse({
 		'moduleOcvV.1.1': '50,60',
@@ -118,11 +130,15 @@ const form = (over: Record<string, string> = {}) =>
 		torqueConfirmed: 'yes',
 		deviceRatingA: '200',
 		deviceDcRatingV: '150',
+		deviceBreakingKA: '25',
+		stringProtection: 'yes',
 		ambientC: '18,5',
 		stopChargeProven: 'yes',
 		technicianName: 'Ilse Fenwick',
 		licenceNumber: 'EL-40917',
 		handoverName: 'Wren Tamsin',
+		technicianSignature: SIG,
+		ownerSignature: SIG,
 		cautionsAcknowledged: 'yes',
 		...over
 	});
@@ -166,7 +182,7 @@ describe('submitCommissioning', () => {
 		const insulation = r.items.find((i) => i.key === 'insulation')!;
 		expect(insulation.status).toBe('fail');
 		expect(insulation.reason).toMatch(
-			/0\.4 MΩ at 500 V is below the 1\.0 MΩ minimum of IEC 60364-6 Table 6\.1/
+			/0\.4 MΩ at 500 V is below the 1\.0 MΩ minimum of IEC 60364-6:2016 Table 6\.1/
 		);
 		const [row] = await db.select().from(commissionings).where(eq(commissionings.id, r.id));
 		expect(row.overall).toBe('fail');
@@ -188,7 +204,11 @@ describe('submitCommissioning', () => {
 		const r = await submitCommissioning(db, tech, system.id, form(), DAY);
 		expect(r.overall).toBe('pass');
 		expect(r.certificateNo).toMatch(/^PLC-2026-\d{5}$/);
-		expect(r.mail).toEqual({ to: 'dealer@saltmarsh.example', sent: true });
+		expect(r.mail).toEqual({
+			to: 'dealer@saltmarsh.example',
+			sent: true,
+			owner: { to: 'wren@heron.example', sent: true }
+		});
 
 		const [sys] = await db.select().from(systems).where(eq(systems.id, system.id));
 		expect(sys.status).toBe('commissioned');
@@ -223,8 +243,13 @@ describe('submitCommissioning', () => {
 		expect(audit.filter((a) => a.action === 'module.commission')).toHaveLength(2);
 
 		const outbox = await listOutbox(db);
-		const mail = outbox.find((m) => m.subject.includes(r.certificateNo!));
-		expect(mail?.toAddr).toBe('dealer@saltmarsh.example');
+		const mails = outbox.filter((m) => m.subject.includes(r.certificateNo!));
+		expect(mails.map((m) => m.toAddr).sort()).toEqual([
+			'dealer@saltmarsh.example',
+			'wren@heron.example'
+		]);
+		// Every e-mail leads to its record: the certificate's own page.
+		for (const m of mails) expect(m.text).toContain(`/commissionings/${r.id}\n`);
 
 		await expect(submitCommissioning(db, tech, system.id, form(), DAY)).rejects.toThrow(
 			/already commissioned/

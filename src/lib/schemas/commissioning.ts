@@ -10,6 +10,7 @@
 import { z } from 'zod';
 import { decimal, nullableText, readDecimal, yesNo } from './fields';
 import type { CommissioningMeasurements } from '$lib/domain/commissioning';
+import { signatureField } from './signature';
 
 /** The cautions shown before any work on a battery, on the page and the certificate: `$lib/safety`. */
 export { CAUTIONS as COMMISSIONING_CAUTIONS, CODES_TAKE_PRECEDENCE } from '$lib/safety';
@@ -72,21 +73,25 @@ function measurementFields(lenient: boolean) {
 		lenient ? measured(label, unit, min, max).catch(null) : measured(label, unit, min, max);
 	const yn = (label: string) => (lenient ? yesNo(label).catch(null) : yesNo(label));
 	return {
+		// Wide bounds on purpose: a typo such as 5165 for 51.65 must reach the evaluation,
+		// which calls it implausible against what the system can produce.
 		moduleOcvV: z
-			.array(z.array(m('Module open-circuit voltage', 'V', 0, 1000)).max(64))
+			.array(z.array(m('Module open-circuit voltage', 'V', 0, 1_000_000)).max(64))
 			.max(64)
 			.default([]),
 		stringVoltageV: z
-			.array(m('String voltage', 'V', 0, 2000))
+			.array(m('String voltage', 'V', 0, 1_000_000))
 			.max(64)
 			.default([]),
-		interStringDiffV: m('Difference between strings', 'V', 0, 1000).default(null),
+		interStringDiffV: m('Difference between strings', 'V', 0, 1_000_000).default(null),
 		insulationTestV: m('Insulation test voltage', 'V', 0, 5000).default(null),
 		insulationMohm: m('Insulation resistance', 'MΩ', 0, 1_000_000).default(null),
 		polarityChecked: yn('Polarity').default(null),
 		torqueConfirmed: yn('Terminal torque').default(null),
 		deviceRatingA: m('Protective device rating', 'A', 0, 100_000).default(null),
 		deviceDcRatingV: m('Protective device DC voltage rating', 'V', 0, 10_000).default(null),
+		deviceBreakingKA: m('Protective device breaking capacity', 'kA', 0, 1000).default(null),
+		stringProtection: yn('Overcurrent device per string').default(null),
 		ambientC: m('Ambient temperature', '°C', -60, 100).default(null),
 		stopChargeProven: yn('Stop-charge signal').default(null)
 	};
@@ -122,6 +127,8 @@ export const commissioningSchema = z.preprocess(
 			})
 			.max(60, { error: 'Keep the licence number under 60 characters.' }),
 		handoverName: optionalText(120, 'handover name'),
+		technicianSignature: signatureField('Technician’s signature'),
+		ownerSignature: signatureField('Owner’s signature'),
 		cautionsAcknowledged: z.preprocess(
 			(v) => v === true || v === 'yes' || v === 'on' || v === 'true',
 			z.literal(true, {
@@ -141,10 +148,12 @@ export function toMeasurements(input: MeasurementsInput): CommissioningMeasureme
 		insulation: { testVoltageV: input.insulationTestV, measuredMohm: input.insulationMohm },
 		polarityChecked: input.polarityChecked,
 		torqueConfirmed: input.torqueConfirmed,
-		protectiveDevice:
-			input.deviceRatingA !== null && input.deviceDcRatingV !== null
-				? { ratingA: input.deviceRatingA, dcVoltageRatingV: input.deviceDcRatingV }
-				: null,
+		protectiveDevice: {
+			ratingA: input.deviceRatingA,
+			dcVoltageRatingV: input.deviceDcRatingV,
+			breakingCapacityKA: input.deviceBreakingKA
+		},
+		stringProtection: input.stringProtection,
 		ambientC: input.ambientC,
 		stopChargeProven: input.stopChargeProven
 	};

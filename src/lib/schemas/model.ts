@@ -122,6 +122,16 @@ const fields = z.object({
 	maxContinuousC: positive('Maximum continuous C-rate', 'C', 100),
 	burstC: positive('Burst C-rate', 'C', 200),
 	burstSeconds: whole('Burst duration', 's', 1, 3600),
+	/** Data-sheet DC internal resistance of one module; blank = use the factory-test mean. */
+	internalResistanceMohm: z.preprocess(
+		(v) => (v === '' || v === undefined ? null : fromText(v)),
+		numberIn('Module DC internal resistance', 'mΩ')
+			.positive({ error: 'Module DC internal resistance must be above 0 mΩ.' })
+			.max(10_000, {
+				error: 'Module DC internal resistance must be at most 10000 mΩ; check the unit.'
+			})
+			.nullable()
+	),
 	// Temperature ranges
 	chargeTempMinC: temperature('Lowest charging temperature'),
 	chargeTempMaxC: temperature('Highest charging temperature'),

@@ -26,6 +26,8 @@ export const organisations = sqliteTable('organisations', {
 	name: text('name').notNull().unique(),
 	contactEmail: text('contact_email'),
 	region: text('region'),
+	/** The market whose commissioning rule set applies to this organisation's sites; null = the default set. */
+	market: text('market'),
 	active: integer('active', { mode: 'boolean' }).notNull().default(true),
 	/** IANA time zone of the organisation's calendar (business dates are days in it), e.g. Etc/GMT-10. */
 	timeZone: text('time_zone').notNull().default('UTC'),
@@ -108,6 +110,8 @@ export const moduleModels = sqliteTable('module_models', {
 	endRetentionPct: real('end_retention_pct').notNull(),
 	hotTempC: real('hot_temp_c').notNull(),
 	hotRatedCycles: integer('hot_rated_cycles').notNull(),
+	/** DC internal resistance of one module, mΩ (data sheet); the bank's fault current follows from it. */
+	internalResistanceMohm: real('internal_resistance_mohm'),
 	/** What replacing one module under warranty costs, entered by the admin (currency of the books); null until entered. */
 	replacementCost: real('replacement_cost'),
 	retiredAt: integer('retired_at', { mode: 'timestamp_ms' }),
@@ -504,9 +508,40 @@ export const commissionings = sqliteTable(
 		items: text('items').notNull(),
 		handoverName: text('handover_name'),
 		commissionedOn: text('commissioned_on').notNull(),
+		/** The rule set (and its version) the checklist was judged by. */
+		ruleSetId: integer('rule_set_id').references(() => commissioningRuleSets.id),
+		ruleSetVersion: integer('rule_set_version'),
+		/** Signatures drawn on the phone: JSON { w, h, strokes: [[x, y], …][] } in canvas pixels. */
+		technicianSignature: text('technician_signature'),
+		ownerSignature: text('owner_signature'),
+		/** SHA-256 (hex) of the certificate's canonical content (RFC 8785 JSON), fixed at issue. */
+		contentHash: text('content_hash'),
 		createdAt: createdAt()
 	},
 	(t) => [index('commissionings_system_idx').on(t.systemId)]
+);
+
+/**
+ * A commissioning rule set of a market: limits and the text each verdict cites. Never
+ * changed in place: an edit adds the next version, so every commissioning keeps the
+ * version it was judged by.
+ */
+export const commissioningRuleSets = sqliteTable(
+	'commissioning_rule_sets',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		market: text('market').notNull(),
+		name: text('name').notNull(),
+		version: integer('version').notNull(),
+		/** ISO calendar day from which this version applies. */
+		effectiveFrom: text('effective_from').notNull(),
+		/** JSON CommissioningLimits and CommissioningCitations (src/lib/domain/commissioning.ts). */
+		limits: text('limits').notNull(),
+		citations: text('citations').notNull(),
+		createdBy: integer('created_by').references(() => users.id),
+		createdAt: createdAt()
+	},
+	(t) => [uniqueIndex('rule_sets_market_version_uq').on(t.market, t.version)]
 );
 
 /** Files attached to records (commissioning photos, claim evidence), stored through the storage module. */

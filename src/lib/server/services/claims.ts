@@ -97,7 +97,8 @@ export async function mailFiler(
 	await sendMail(db, {
 		to: filer.email,
 		subject,
-		text: `Hello ${filer.name},\n\n${body}\n\nOpen the claim in Packledger under Claims → ${claim.reference}.\n\nTidewater Cellworks warranty`
+		text: `Hello ${filer.name},\n\n${body}\n\nTidewater Cellworks warranty`,
+		about: `/claims/${claim.id}`
 	});
 }
 

@@ -1,5 +1,8 @@
-import { sql } from 'drizzle-orm';
+import { and, gte, inArray, isNotNull, sql } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
+import { claims } from '$lib/server/db/schema';
+import { AWAITING_DECISION } from '$lib/domain/claim-workflow';
+import { openClaimAges, outcomesByMonth } from '$lib/domain/claim-figures';
 import { tzOffset } from '@date-fns/tz';
 import {
 	addCalendarDays,
@@ -62,5 +65,43 @@ export async function dashboardFigures(db: Db, now = new Date()) {
 		})),
 		builds: series(builds),
 		shipments: series(shipments)
+	};
+}
+
+/**
+ * Claims on the dashboard: open claims by how long they have waited, and decisions of the
+ * last twelve months by month and outcome, months read in the assembler's time zone.
+ */
+export async function claimFigures(db: Db, now = new Date(), timeZone?: string) {
+	const zone = timeZone ?? (await assemblerCalendar(db)).timeZone;
+	const [open, decided] = await Promise.all([
+		db
+			.select({ filedAt: claims.filedAt })
+			.from(claims)
+			.where(inArray(claims.state, [...AWAITING_DECISION])),
+		db
+			.select({ decidedAt: claims.decidedAt, decision: claims.decision })
+			.from(claims)
+			.where(
+				and(
+					isNotNull(claims.decision),
+					// 13 months back is enough for twelve calendar months in any time zone.
+					gte(claims.decidedAt, new Date(now.getTime() - 397 * 86_400_000))
+				)
+			)
+	]);
+	return {
+		open: open.length,
+		ages: openClaimAges(
+			open.map((o) => o.filedAt),
+			now
+		),
+		outcomes: outcomesByMonth(
+			decided.flatMap((d) =>
+				d.decidedAt && d.decision ? [{ decidedAt: d.decidedAt, decision: d.decision }] : []
+			),
+			now,
+			zone
+		)
 	};
 }

@@ -26,7 +26,9 @@ export async function buildLabel(model: ModelRow, serial: string, baseUrl: strin
 	const qrSvg = await QRCode.toString(payload, {
 		type: 'svg',
 		errorCorrectionLevel: 'M',
-		margin: 0
+		// The quiet zone is part of the symbol: 4 modules of light on every side (ISO/IEC 18004).
+		margin: 4,
+		color: { dark: '#000000', light: '#ffffff' }
 	});
 	return {
 		serial,

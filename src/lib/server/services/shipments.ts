@@ -22,6 +22,7 @@ import { parseSerial, serialRun } from '$lib/domain/serial';
 import { deriveFigures } from '$lib/domain/model';
 import { MAX_RANGE } from '$lib/schemas/shipment';
 import { sendMail } from '$lib/server/mail';
+import { fleetSearch } from '$lib/schemas/fleet';
 import { recordAudit } from './audit';
 import { serialFromScan } from './modules';
 import { businessDay, businessYear } from './calendar';
@@ -591,7 +592,9 @@ export async function dispatchShipment(db: Db, actor: Actor, shipmentId: number,
 				items.map((i) => `${i.serial.padEnd(width)}  ${i.modelCode}  ${i.modelName}`).join('\n') +
 				(s.note ? `\n\nNote: ${s.note}` : '') +
 				`\n\nPlease check each serial against this list when the shipment arrives and tell us at once if anything is missing or damaged.` +
-				`\nA damaged battery module must not be installed; keep it apart and ask us how to return it under the dangerous-goods rules that apply.\n`
+				`\nA damaged battery module must not be installed; keep it apart and ask us how to return it under the dangerous-goods rules that apply.\n`,
+			// The dealer's own view of what has reached it: the shipped modules of its fleet.
+			about: `/fleet?${fleetSearch({ state: 'shipped' })}`
 		});
 	} catch (e) {
 		result.mail.error = `${s.reference} is dispatched, but the e-mail to ${to.join(', ')} could not be sent: ${(e as Error).message}`;

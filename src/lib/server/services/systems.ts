@@ -39,7 +39,8 @@ export function designModuleOf(m: ModelRow): DesignModule {
 		ratedAh,
 		usableWh,
 		maxContinuousC,
-		burstC
+		burstC,
+		internalResistanceMohm
 	} = m;
 	return {
 		cellsSeries,
@@ -49,7 +50,8 @@ export function designModuleOf(m: ModelRow): DesignModule {
 		ratedAh,
 		usableWh,
 		maxContinuousC,
-		burstC
+		burstC,
+		...(internalResistanceMohm ? { internalResistanceMOhm: internalResistanceMohm } : {})
 	};
 }
 
@@ -113,7 +115,8 @@ export async function designCheck(db: Db, req: DesignCheckRequest): Promise<Desi
 		parallel: req.parallel,
 		inverter: req.inverter,
 		targetEnergyKWh: req.targetEnergyKWh,
-		variants
+		variants,
+		protection: req.protection
 	});
 }
 

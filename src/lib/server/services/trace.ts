@@ -10,6 +10,7 @@ import { neutraliseCell } from '$lib/domain/factory-csv';
 import { STATE_LABELS } from '$lib/module-states';
 import type { TraceQuery } from '$lib/schemas/trace';
 import { sendMail } from '$lib/server/mail';
+import { fleetSearch } from '$lib/schemas/fleet';
 import { addCalendarDays, startOfCalendarDay } from '$lib/domain/calendar';
 import { assemblerCalendar } from './calendar';
 
@@ -176,7 +177,9 @@ export async function sendServiceNotice(
 		await sendMail(db, {
 			to: org.contactEmail,
 			subject: `Service notice from Tidewater Cellworks: ${notice.subject}`,
-			text: `${notice.body}\n\nThis notice concerns ${units.length} module${units.length === 1 ? '' : 's'} shipped to ${org.name}:\n\n${units.map((u) => `  ${u.serial}  ${u.model}  ${u.site ? `installed at ${u.site}` : 'not installed yet'}`).join('\n')}\n\n(Selected by ${criteria}.)\n${CAUTIONS_IN_BRIEF}`
+			text: `${notice.body}\n\nThis notice concerns ${units.length} module${units.length === 1 ? '' : 's'} shipped to ${org.name}:\n\n${units.map((u) => `  ${u.serial}  ${u.model}  ${u.site ? `installed at ${u.site}` : 'not installed yet'}`).join('\n')}\n\n(Selected by ${criteria}.)\n${CAUTIONS_IN_BRIEF}`,
+			// The same selection in the dealer's own fleet view (dealer scope applies there).
+			about: `/fleet?${fleetSearch({ lot: q.lot, model: q.model, builtFrom: q.builtFrom, builtTo: q.builtTo, importId: q.importId })}`
 		});
 	}
 	return { dealers: groups.size, modules: shipped.length };
