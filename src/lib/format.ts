@@ -36,6 +36,8 @@ export interface Format {
 	number(value: number | null | undefined, digits?: number): string;
 	/** A number with exactly `digits` fraction digits (tables of statistics line up). */
 	fixed(value: number | null | undefined, digits: number): string;
+	/** A number to `digits` significant digits (chart axes and their ticks). */
+	significant(value: number | null | undefined, digits: number): string;
 	/** A number and its unit (`10,115,300 Wh`); digits default by unit. */
 	unit(value: number | null | undefined, unit: string, digits?: number): string;
 }
@@ -89,6 +91,16 @@ export function createFormat(settings: Partial<CalendarSettings> = {}): Format {
 		return f;
 	};
 
+	const significantFormats = new Map<number, Intl.NumberFormat>();
+	const significantFormat = (digits: number) => {
+		let f = significantFormats.get(digits);
+		if (!f) {
+			f = new Intl.NumberFormat(locale, { maximumSignificantDigits: digits });
+			significantFormats.set(digits, f);
+		}
+		return f;
+	};
+
 	const format: Format = {
 		locale,
 		timeZone,
@@ -111,6 +123,10 @@ export function createFormat(settings: Partial<CalendarSettings> = {}): Format {
 		fixed(value, digits) {
 			if (value === null || value === undefined || !Number.isFinite(value)) return EMPTY;
 			return fixedFormat(digits).format(value);
+		},
+		significant(value, digits) {
+			if (value === null || value === undefined || !Number.isFinite(value)) return EMPTY;
+			return significantFormat(digits).format(value);
 		},
 		unit(value, unit, digits) {
 			if (value === null || value === undefined || !Number.isFinite(value)) return EMPTY;

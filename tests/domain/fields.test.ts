@@ -1,7 +1,18 @@
 import { describe, expect, it } from 'vitest';
 import { z } from 'zod';
 import { readDecimal } from '$lib/domain/decimal';
-import { calendarDate, optionalText, queryInt, yesNo } from '$lib/schemas/fields';
+import {
+	calendarDate,
+	optionalChoice,
+	optionalText,
+	queryInt,
+	recordId,
+	trueFalse,
+	yesNo
+} from '$lib/schemas/fields';
+import { auditQuerySchema } from '$lib/schemas/audit';
+import { peopleQuerySchema } from '$lib/schemas/people';
+import { passportGrantSchema } from '$lib/schemas/passport';
 import { siteSchema, systemSchema, placeModuleSchema } from '$lib/schemas/site';
 import { fileClaimFormSchema, moveClaimSchema, returnInspectionSchema } from '$lib/schemas/claim';
 import { commissioningSchema } from '$lib/schemas/commissioning';
@@ -49,7 +60,7 @@ describe('calendarDate', () => {
 			const r = d.safeParse(s);
 			expect(r.success, s).toBe(false);
 			expect(r.error?.issues[0].message).toBe(
-				'Built from: this date does not exist; check the month and day.'
+				'Built from: this date does not exist; give a real date, checking the month and day.'
 			);
 		}
 		for (const s of ['30/11/2026', '2026-1-1', 'x'.repeat(200_000)]) {
@@ -60,6 +71,31 @@ describe('calendarDate', () => {
 				'Built from: write the date as YYYY-MM-DD, like 2026-11-30.'
 			);
 		}
+	});
+});
+
+describe('record ids, choices and true/false', () => {
+	it('a record id is a positive whole number; 0, 1.5, text and 21 digits are refused', () => {
+		const id = recordId('Choose a dealer.');
+		expect(id.parse('7')).toBe(7);
+		for (const bad of ['0', '-3', '1.5', 'abc', '9'.repeat(21), '']) {
+			const r = id.safeParse(bad);
+			expect(r.success, bad).toBe(false);
+			expect(r.error?.issues[0].message).toBe('Choose a dealer.');
+		}
+	});
+	it('a choice: blank → undefined, a listed value passes, anything else has the message', () => {
+		const c = optionalChoice(['active', 'invited'], 'Choose active or invited.');
+		expect(c.parse('')).toBeUndefined();
+		expect(c.parse('invited')).toBe('invited');
+		expect(c.safeParse('x'.repeat(200_000)).error?.issues[0].message).toBe(
+			'Choose active or invited.'
+		);
+	});
+	it('true/false from JSON or a select', () => {
+		const f = trueFalse();
+		expect([f.parse(true), f.parse('false')]).toEqual([true, false]);
+		expect(f.safeParse('yes').success).toBe(false);
 	});
 });
 
@@ -119,7 +155,10 @@ describe('a 200 KB string in any field', () => {
 		['invite', inviteSchema],
 		['calendar', calendarSettingsSchema],
 		['token', tokenSchema],
-		['build', buildSchema]
+		['build', buildSchema],
+		['audit query', auditQuerySchema],
+		['people query', peopleQuerySchema],
+		['passport link', passportGrantSchema]
 	];
 	for (const [name, schema] of schemas) {
 		it(`${name}: every field is refused with a message`, () => {

@@ -4,36 +4,8 @@
  * these, so it does not wait for zod (`./commissioning` re-exports them). Safe for the browser.
  */
 
-/** The cautions shown before any work on a battery (common practice for DC battery work; local codes and licensed practice prevail), on the page and the certificate. */
-export const COMMISSIONING_CAUTIONS: { title: string; text: string }[] = [
-	{
-		title: 'Isolate and lock off',
-		text: 'Open every battery and inverter isolator, lock and tag them off, and prove the circuit dead before you touch a conductor.'
-	},
-	{
-		title: 'Insulated tools and suitable PPE',
-		text: 'Use insulated tools, take off rings and watches, and wear eye protection and insulating gloves rated for the voltage.'
-	},
-	{
-		title: 'DC arc and short-circuit hazard',
-		text: 'A battery is always live: a short circuit delivers very high currents, and a DC arc does not go out by itself. Keep terminals covered until you connect them.'
-	},
-	{
-		title: 'Polarity',
-		text: 'Check the polarity of every connection before closing an isolator; reversed polarity can destroy the inverter and the protective devices.'
-	},
-	{
-		title: 'Work by a licensed electrician',
-		text: 'Installation and commissioning are done by a licensed electrician.'
-	},
-	{
-		title: 'Local codes take precedence',
-		text: 'Local electrical codes and installation standards take precedence over anything the application computes.'
-	}
-];
-
-export const CODES_TAKE_PRECEDENCE =
-	'Local electrical codes and installation standards take precedence over anything the application computes.';
+/** The cautions shown before any work on a battery, on the page and the certificate: `$lib/safety`. */
+export { CAUTIONS as COMMISSIONING_CAUTIONS, CODES_TAKE_PRECEDENCE } from '$lib/safety';
 
 /** Form text to a number: the one decimal rule, shared with every form. */
 export { readDecimal } from '$lib/domain/decimal';

@@ -99,7 +99,7 @@ export function queryInt(min: number, max: number, label: string) {
  */
 export function calendarDate(label: string) {
 	const shape = `${label}: write the date as YYYY-MM-DD, like 2026-11-30.`;
-	const missing = `${label}: this date does not exist; check the month and day.`;
+	const missing = `${label}: this date does not exist; give a real date, checking the month and day.`;
 	return z
 		.string({ error: shape })
 		.trim()
@@ -111,3 +111,34 @@ export function calendarDate(label: string) {
 /** An optional calendar day: blank or absent → undefined. */
 export const optionalCalendarDate = (label: string) =>
 	z.preprocess(blankToUndefined, calendarDate(label).optional());
+
+/** One of a fixed list, from a form's select or a query string; blank or absent → undefined. */
+export function optionalChoice<const T extends readonly [string, ...string[]]>(
+	values: T,
+	message: string
+) {
+	return z.preprocess(blankToUndefined, z.enum(values, { error: message }).optional());
+}
+
+/** True or false from JSON, or "true"/"false" from a form's select. */
+export function trueFalse(message = 'Say true or false.') {
+	return z.union([
+		z.boolean({ error: message }),
+		z.enum(['true', 'false'], { error: message }).transform((v) => v === 'true')
+	]);
+}
+
+/**
+ * The id of a record chosen in a form (a select's value) or named in a URL: a positive whole
+ * number. Text longer than 20 characters is refused before it is read as a number.
+ */
+export function recordId(message: string) {
+	return z.preprocess(
+		(v) => (typeof v === 'string' && v.length > 20 ? 'x' : v),
+		z.coerce
+			.number({ error: message })
+			.int({ error: message })
+			.positive({ error: message })
+			.max(Number.MAX_SAFE_INTEGER, { error: message })
+	);
+}

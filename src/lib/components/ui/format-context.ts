@@ -21,6 +21,7 @@ export function provideFormat(settings: () => Partial<CalendarSettings>): void {
 		dateTime: (v) => current().dateTime(v),
 		number: (v, d) => current().number(v, d),
 		fixed: (v, d) => current().fixed(v, d),
+		significant: (v, d) => current().significant(v, d),
 		unit: (v, u, d) => current().unit(v, u, d)
 	};
 	setContext(KEY, format);

@@ -65,7 +65,7 @@ export interface CertificateData {
 	licenceNumber: string;
 	handoverName: string | null;
 	warranty: { startsOn: string; endsOn: string; years: number };
-	cautions: { title: string; text: string }[];
+	cautions: readonly { title: string; text: string }[];
 	codesNote: string;
 	/** The assembler, and the company that installed the system (the site's dealer, or the assembler itself). */
 	assemblerName: string;

@@ -10,7 +10,7 @@ import {
 	systems
 } from '$lib/server/db/schema';
 import { assessClaim, type ClaimAssessment, type ClaimInput } from '$lib/domain/warranty';
-import type { WarrantyTerms } from '$lib/domain/model';
+import { warrantyTermsOf, type WarrantyTerms } from '$lib/domain/model';
 import { warrantyTermsSchema, type ClaimEvidence } from '$lib/schemas/warranty-assess';
 import type { LogSummaryEvidence } from '$lib/schemas/claim';
 import { calendarDay } from '$lib/domain/calendar';
@@ -57,14 +57,7 @@ export function termsOf(
 	snapshot: string | null,
 	model: ModelRow
 ): { terms: WarrantyTerms; note: string | null } {
-	const current: WarrantyTerms = {
-		years: model.warrantyYears,
-		ratedCycles: model.ratedCycles,
-		endRetentionPct: model.endRetentionPct,
-		referenceTempC: model.referenceTempC,
-		hotTempC: model.hotTempC,
-		hotRatedCycles: model.hotRatedCycles
-	};
+	const current = warrantyTermsOf(model);
 	if (!snapshot)
 		return {
 			terms: current,

@@ -7,12 +7,11 @@ import {
 	factoryTests,
 	moduleModels,
 	modules,
-	sites,
 	systems,
 	systemSlots
 } from '$lib/server/db/schema';
-import { dealerScopeOf, type Actor } from '$lib/server/actor';
-import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
+import type { Actor } from '$lib/server/actor';
+import { ConflictError, InvalidInputError } from '$lib/server/errors';
 import {
 	evaluateCommissioning,
 	systemCurrentLimitA,
@@ -38,6 +37,8 @@ import {
 	type CertificateMail,
 	type Snapshot
 } from './certificates';
+import { findSystem } from './systems';
+import { warrantyTermsOf } from '$lib/domain/model';
 import { endOf, mayMove, statesFrom } from '$lib/domain/module-lifecycle';
 
 const roundMv = (x: number) => Math.round(x * 1000) / 1000;
@@ -54,17 +55,9 @@ export async function loadSystemForCommissioning(
 	systemId: number,
 	now = new Date()
 ) {
-	const notFound = new NotFoundError(`System ${systemId} is not in the register.`);
-	if (!Number.isInteger(systemId) || systemId < 1) throw notFound;
-	const [row] = await db
-		.select({ system: systems, site: sites, model: moduleModels })
-		.from(systems)
-		.innerJoin(sites, eq(systems.siteId, sites.id))
-		.innerJoin(moduleModels, eq(systems.modelId, moduleModels.id))
-		.where(eq(systems.id, systemId));
-	const scope = dealerScopeOf(actor);
-	if (!row || (scope !== null && row.site.dealerOrgId !== scope)) throw notFound;
-	const { system, site, model } = row;
+	// The one dealer-scoped lookup: another dealer's system answers like a missing one.
+	const { system, site } = await findSystem(db, actor, systemId);
+	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, system.modelId));
 
 	const slots = await db
 		.select({
@@ -275,12 +268,7 @@ export async function submitCommissioning(
 	};
 	const warrantyEndsOn = warrantyTermEnd(commissionedOn, model.warrantyYears);
 	const terms = {
-		years: model.warrantyYears,
-		ratedCycles: model.ratedCycles,
-		endRetentionPct: model.endRetentionPct,
-		referenceTempC: model.referenceTempC,
-		hotTempC: model.hotTempC,
-		hotRatedCycles: model.hotRatedCycles,
+		...warrantyTermsOf(model),
 		usableWh: model.usableWh,
 		ratedAh: model.ratedAh
 	};

@@ -1,4 +1,5 @@
 import { and, eq, gte, lt, sql, type SQL } from 'drizzle-orm';
+import { CAUTIONS_IN_BRIEF } from '$lib/safety';
 import Papa from 'papaparse';
 import type { Db } from '$lib/server/db';
 import { withWriteLock } from '$lib/server/db';
@@ -208,7 +209,7 @@ export async function sendServiceNotice(
 		await sendMail(db, {
 			to: org.contactEmail,
 			subject: `Service notice from Tidewater Cellworks: ${notice.subject}`,
-			text: `${notice.body}\n\nThis notice concerns ${units.length} module${units.length === 1 ? '' : 's'} shipped to ${org.name}:\n\n${units.map((u) => `  ${u.serial}  ${u.model}  ${u.site ? `installed at ${u.site}` : 'not installed yet'}`).join('\n')}\n\n(Selected by ${criteria}.)\nWork on battery systems only by licensed electricians, isolated and locked off; local codes and installation standards take precedence.`,
+			text: `${notice.body}\n\nThis notice concerns ${units.length} module${units.length === 1 ? '' : 's'} shipped to ${org.name}:\n\n${units.map((u) => `  ${u.serial}  ${u.model}  ${u.site ? `installed at ${u.site}` : 'not installed yet'}`).join('\n')}\n\n(Selected by ${criteria}.)\n${CAUTIONS_IN_BRIEF}`,
 			// The same selection in the dealer's own fleet view (dealer scope applies there).
 			about: `/fleet?${fleetSearch({ lot: q.lot, model: q.model, builtFrom: q.builtFrom, builtTo: q.builtTo, importId: q.importId })}`
 		});

@@ -6,28 +6,20 @@ import { errorFrom } from '$lib/server/http';
 import { QUALITY_GROUP_BY, qualityFilters, qualityReport } from '$lib/server/services/quality';
 import { qualityTrend } from '$lib/server/services/quality-trend';
 import type { PageServerLoad } from './$types';
-import { blankToUndefined } from '$lib/schemas/fields';
+import { blankToUndefined, queryInt } from '$lib/schemas/fields';
+import { parseQuery } from '$lib/server/validation';
 
 // The filters live in the URL (a GET form), so a view can be shared as a link. An empty
 // select sends "", which means "not chosen".
-const id = (what: string) =>
-	z.preprocess(
-		blankToUndefined,
-		z.coerce
-			.number({ message: `Choose a ${what}.` })
-			.int()
-			.positive(`Choose a ${what}.`)
-			.optional()
-	);
 const filterSchema = z.object({
-	model: id('model'),
+	model: queryInt(1, Number.MAX_SAFE_INTEGER, 'The model'),
 	group: z.preprocess(
 		blankToUndefined,
 		z
 			.enum(QUALITY_GROUP_BY, { message: 'Group by rig file, week or the whole model.' })
 			.default('import')
 	),
-	import: id('rig file'),
+	import: queryInt(1, Number.MAX_SAFE_INTEGER, 'The rig file'),
 	week: z.preprocess(
 		blankToUndefined,
 		z
@@ -41,12 +33,9 @@ const filterSchema = z.object({
 
 export const load: PageServerLoad = async (event) => {
 	requireCan(event, 'viewQuality');
-	const parsed = filterSchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success)
-		error(
-			400,
-			`These filters cannot be read: ${parsed.error.issues.map((i) => i.message).join(' ')}`
-		);
+	const parsed = parseQuery(filterSchema, event.url.searchParams);
+	if (!parsed.ok)
+		error(400, `These filters cannot be read: ${parsed.issues.map((i) => i.message).join(' ')}`);
 	const q = parsed.data;
 	const db = await getDb();
 	try {
