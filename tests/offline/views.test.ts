@@ -290,6 +290,12 @@ describe('forms answered on the phone', () => {
 		);
 	});
 
+	// A signature as the phone's pad sends it: strokes of points in a 300 × 120 box.
+	const SIG = JSON.stringify({
+		w: 300,
+		h: 120,
+		strokes: [Array.from({ length: 12 }, (_, i) => [20 + i * 20, 60 + (i % 2 ? 25 : -25)])]
+	});
 	it('keeps a passing checklist with the modules it was measured on, and refuses one with empty slots', () => {
 		const sys = system();
 		const fields = {
@@ -302,8 +308,12 @@ describe('forms answered on the phone', () => {
 			torqueConfirmed: 'yes',
 			deviceRatingA: '200',
 			deviceDcRatingV: '150',
+			deviceBreakingKA: '25',
+			stringProtection: 'yes',
 			ambientC: '18',
 			stopChargeProven: 'yes',
+			technicianSignature: SIG,
+			ownerSignature: SIG,
 			technicianName: 'Ilse Fenwick',
 			licenceNumber: 'EL-40917',
 			handoverName: '',

@@ -75,6 +75,18 @@ const systemPayload = (siteId: number | string, name = 'Croft bank') => ({
 	maxChargeA: '',
 	maxDischargeA: ''
 });
+// A signature as the phone's pad sends it: strokes of points in a 300 × 120 box.
+const SIG = JSON.stringify({
+	w: 300,
+	h: 120,
+	strokes: [
+		Array.from({ length: 12 }, (_, i) => [20 + i * 20, 60 + (i % 2 ? 25 : -25)]),
+		[
+			[40, 100],
+			[260, 100]
+		]
+	]
+});
 // A passing checklist for 2 × TC-HC-48 (same figures as tests/server/commissioning.test.ts):
 // IEC 60364-6 Table 6.1 asks 500 V DC and ≥ 1.0 MΩ for a circuit up to 500 V.
 const checklist = (systemId: number | string) => ({
@@ -89,13 +101,18 @@ const checklist = (systemId: number | string) => ({
 	torqueConfirmed: 'yes',
 	deviceRatingA: '200',
 	deviceDcRatingV: '150',
+	// One string of TC-HC-48: about 10 kA prospective (module maximum over its 6 mΩ); 25 kA breaks it.
+	deviceBreakingKA: '25',
 	ambientC: '18,5',
 	stopChargeProven: 'yes',
 	technicianName: 'Ilse Fenwick',
 	licenceNumber: 'EL-40917',
 	handoverName: 'Tamsin Reed',
+	technicianSignature: SIG,
+	ownerSignature: SIG,
 	cautionsAcknowledged: 'yes'
 });
+
 // The smallest valid PNG (1 × 1), as a phone would send a photo: bytes in base64.
 const PNG =
 	'iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR42mNk+M9QDwADhgGAWjR9awAAAABJRU5ErkJggg==';
@@ -291,7 +308,7 @@ describe('sync: rejection', () => {
 		const [hidden] = await applyOperations(db, ridgeTech, [
 			op('placeModule', { systemId: saltSystem, scan: ridgeModule })
 		]);
-		expect(hidden.issues?.[0].message).toBe(`There is no system number ${saltSystem}.`);
+		expect(hidden.issues?.[0].message).toBe(`System ${saltSystem} is not in the register.`);
 		// And the assembler's technician cannot put Ridgeline's module into a Saltmarsh site.
 		const [wrongDealer] = await applyOperations(db, tech, [
 			op('placeModule', { systemId: saltSystem, scan: ridgeModule })

@@ -5,13 +5,13 @@
  * page carries on as it does online. Nothing is sent from here.
  */
 import { evaluateCommissioning } from '$lib/domain/commissioning';
-import { checkDesign, type DesignModule } from '$lib/domain/design-check';
+import { checkDesign } from '$lib/domain/design-check';
 import { commissioningSchema, toMeasurements } from '$lib/schemas/commissioning';
 import { placeModuleSchema, siteSchema, systemSchema, toInverterWindow } from '$lib/schemas/site';
 import type { SyncOperationType } from '$lib/schemas/sync';
 import type { FieldRoute } from './routes';
 import type { QueuedOp } from './store';
-import { MODELS_KEY, offlineView, serialOfScan, type OfflineState } from './views';
+import { designModule, MODELS_KEY, offlineView, serialOfScan, type OfflineState } from './views';
 
 type Fields = Record<string, string>;
 export type ActionAnswer =
@@ -72,16 +72,16 @@ export function offlineAction(
 		const parsed = systemSchema.safeParse(fields);
 		if (!parsed.success) return fail(400, { issues: issuesOf(parsed.error), values: fields });
 		const s = parsed.data;
-		const models = (state.pages.get(MODELS_KEY)?.data.models ?? []) as (DesignModule & {
-			code: string;
-		})[];
+		const models = (state.pages.get(MODELS_KEY)?.data.models ?? []) as Parameters<
+			typeof designModule
+		>[0][];
 		const model = models.find((m) => m.code === s.modelCode);
 		if (!model) {
 			const message = `There is no module model ${s.modelCode} on this phone; choose one from the list.`;
 			return fail(400, { message, issues: [{ path: 'modelCode', message }], values: fields });
 		}
 		const result = checkDesign({
-			module: model,
+			module: designModule(model),
 			series: s.series,
 			parallel: s.parallel,
 			inverter: toInverterWindow(s)
@@ -262,6 +262,7 @@ function submit(
 		strings: { stringNo: number; position: number; module: { serial: string } | null }[][];
 		emptySlots: { stringNo: number; position: number }[];
 		evaluationSystem: Parameters<typeof evaluateCommissioning>[0];
+		ruleSet?: Parameters<typeof evaluateCommissioning>[2];
 	};
 	if (target.system.status === 'commissioned')
 		return fail(409, { message: `${target.system.name} is already commissioned.` });
@@ -269,7 +270,11 @@ function submit(
 		return fail(409, {
 			message: `No module is recorded at ${target.emptySlots.map((s) => `string ${s.stringNo} position ${s.position}`).join(', ')}. Scan every module of the system before commissioning it.`
 		});
-	const result = evaluateCommissioning(target.evaluationSystem, toMeasurements(parsed.data));
+	const result = evaluateCommissioning(
+		target.evaluationSystem,
+		toMeasurements(parsed.data),
+		target.ruleSet ?? undefined
+	);
 	return {
 		add: {
 			id: opts.id,

@@ -8,7 +8,7 @@
 import { checkDesign, type DesignModule } from '$lib/domain/design-check';
 import { currentForCRate } from '$lib/domain/model';
 import { extractSerialFromScan } from '$lib/domain/serial';
-import type { CommissioningSystem } from '$lib/domain/commissioning';
+import { DEFAULT_RULE_SET, type CommissioningSystem } from '$lib/domain/commissioning';
 import { systemSchema, toInverterWindow } from '$lib/schemas/site';
 import { fieldPath, type FieldRoute, type Ref } from './routes';
 import type { QueuedOp, StoredPage } from './store';
@@ -33,6 +33,7 @@ type ModelRow = Record<string, unknown> & {
 	usableWh: number;
 	maxContinuousC: number;
 	burstC: number;
+	internalResistanceMohm?: number | null;
 };
 
 export interface OfflineState {
@@ -83,7 +84,8 @@ function models(state: OfflineState): ModelRow[] {
 	return (state.pages.get(MODELS_KEY)?.data.models as ModelRow[] | undefined) ?? [];
 }
 
-const designModule = (m: ModelRow): DesignModule => ({
+/** The design check's figures of a kept model row, as the server's `designModuleOf` gives them. */
+export const designModule = (m: ModelRow): DesignModule => ({
 	cellsSeries: m.cellsSeries,
 	cellMinV: m.cellMinV,
 	cellNominalV: m.cellNominalV,
@@ -91,7 +93,8 @@ const designModule = (m: ModelRow): DesignModule => ({
 	ratedAh: m.ratedAh,
 	usableWh: m.usableWh,
 	maxContinuousC: m.maxContinuousC,
-	burstC: m.burstC
+	burstC: m.burstC,
+	...(m.internalResistanceMohm ? { internalResistanceMOhm: m.internalResistanceMohm } : {})
 });
 
 /** The site page of a site made on the phone. */
@@ -255,12 +258,31 @@ export function evaluationSystemOf(
 			chargeTempMinC: m.chargeTempMinC,
 			chargeTempMaxC: m.chargeTempMaxC,
 			dischargeTempMinC: m.dischargeTempMinC,
-			dischargeTempMaxC: m.dischargeTempMaxC
+			dischargeTempMaxC: m.dischargeTempMaxC,
+			// The data sheet's figure; where a model has none the server falls back on the mean of
+			// its factory tests, which the phone does not keep (the server judges again on sync).
+			...(model.internalResistanceMohm
+				? { internalResistanceMOhm: model.internalResistanceMohm }
+				: {})
 		}
 	};
 }
 
 const roundMv = (x: number) => Math.round(x * 1000) / 1000;
+
+/**
+ * The rule set a checklist made on the phone is judged by: the one of a checklist kept from
+ * the server (a technician's sites all belong to their own organisation, so its market's
+ * set), else the default set. The server judges again by its own set when the work is sent.
+ */
+function keptRuleSet(state: OfflineState): unknown {
+	for (const [path, page] of state.pages) {
+		if (!path.startsWith('/systems/') || !path.endsWith('/commission')) continue;
+		const ruleSet = (page.data?.target as Data | undefined)?.ruleSet;
+		if (ruleSet) return ruleSet;
+	}
+	return DEFAULT_RULE_SET;
+}
 
 function localCommission(state: OfflineState, op: QueuedOp): Data | null {
 	const built = localSystem(state, op);
@@ -301,6 +323,7 @@ function localCommission(state: OfflineState, op: QueuedOp): Data | null {
 				maxV: roundMv(cells * model.cellMaxV)
 			},
 			evaluationSystem: evaluationSystemOf(system, model),
+			ruleSet: keptRuleSet(state),
 			attempts: []
 		},
 		photos: [],

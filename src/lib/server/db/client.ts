@@ -94,6 +94,14 @@ export async function withTxHook<T>(
 	return { value, hooked: state.used };
 }
 
+/**
+ * Runs `fn` outside any `withTxHook`: for housekeeping writes (storing a default the first
+ * time it is asked for) that must not take the hook meant for the caller's own write.
+ */
+export function withoutTxHook<T>(fn: () => Promise<T>): Promise<T> {
+	return txHooks.exit(fn);
+}
+
 /** Runs `fn` in a write transaction (BEGIN IMMEDIATE), one at a time per database handle. */
 export function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T> {
 	const state = txHooks.getStore();
