@@ -16,4 +16,13 @@ export function getDb(): Promise<Db> {
 }
 
 export type { Db, Tx } from './client';
-export { writeTx, withWriteLock, withTxHook, withoutTxHook, runBatch, dataVersion } from './client';
+export {
+	writeTx,
+	withWriteLock,
+	withTxHook,
+	withoutTxHook,
+	runBatch,
+	dataVersion,
+	dataVersionSql,
+	readerOf
+} from './client';
