@@ -34,7 +34,8 @@ describe('claim workflow', () => {
 
 	it('lets an officer make exactly these moves by hand', () => {
 		expect(CLAIM_MOVES).toEqual({
-			filed: ['in_review'],
+			// "Ask for evidence" is one step from a filed claim (issue 13, item 5).
+			filed: ['in_review', 'awaiting_evidence'],
 			in_review: ['awaiting_evidence'],
 			awaiting_evidence: ['in_review'],
 			covered: ['replacement_sent'],
@@ -60,7 +61,7 @@ describe('claim workflow', () => {
 
 	it('refuses a move the state does not allow, naming where it can go', () => {
 		expect(() => assertTransition('C-7', 'filed', 'closed')).toThrow(
-			'Claim C-7 is Filed and cannot move to Closed. From Filed it can go to Under review.'
+			'Claim C-7 is Filed and cannot move to Closed. From Filed it can go to Under review or Waiting for evidence.'
 		);
 		expect(() => assertTransition('C-7', 'closed', 'in_review')).toThrow(/It is closed\./);
 		expect(() => assertTransition('C-7', 'filed', 'in_review')).not.toThrow();

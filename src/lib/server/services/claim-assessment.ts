@@ -85,7 +85,9 @@ export function termsOf(
 }
 
 /** Modules in a system: its slots, else the modules pointing at it, else series × parallel. */
-export async function modulesInSystem(conn: Conn, systemId: number): Promise<number> {
+export async function modulesInSystem(conn: Conn, systemId: number | null): Promise<number> {
+	// A claim on delivery has no system: its modules stand alone.
+	if (systemId === null) return 1;
 	const [slots] = await conn
 		.select({ n: count() })
 		.from(systemSlots)
@@ -106,8 +108,9 @@ export async function modulesInSystem(conn: Conn, systemId: number): Promise<num
 /** Whether the latest passing commissioning of the system proved the stop-charge signal. */
 export async function stopChargeProof(
 	conn: Conn,
-	systemId: number
+	systemId: number | null
 ): Promise<ClaimAssessmentResult['stopCharge']> {
+	if (systemId === null) return null;
 	const [c] = await conn
 		.select({
 			items: commissionings.items,

@@ -481,20 +481,23 @@ export async function claimFilterOptions(db: Db, actor: Actor) {
 /** A claim as its page shows it: context, modules with their replacements, timeline and the live assessment. */
 export async function getClaim(db: Db, actor: Actor, claimId: number, now = new Date()) {
 	const claim = await loadClaim(db, actor, claimId);
-	const [system] = await db
-		.select({
-			id: systems.id,
-			name: systems.name,
-			siteName: sites.name,
-			series: systems.series,
-			parallel: systems.parallel,
-			inverterName: systems.inverterName,
-			modelCode: moduleModels.code
-		})
-		.from(systems)
-		.innerJoin(sites, eq(systems.siteId, sites.id))
-		.innerJoin(moduleModels, eq(systems.modelId, moduleModels.id))
-		.where(eq(systems.id, claim.systemId));
+	const [system] =
+		claim.systemId === null
+			? []
+			: await db
+					.select({
+						id: systems.id,
+						name: systems.name,
+						siteName: sites.name,
+						series: systems.series,
+						parallel: systems.parallel,
+						inverterName: systems.inverterName,
+						modelCode: moduleModels.code
+					})
+					.from(systems)
+					.innerJoin(sites, eq(systems.siteId, sites.id))
+					.innerJoin(moduleModels, eq(systems.modelId, moduleModels.id))
+					.where(eq(systems.id, claim.systemId));
 	const [dealer] = claim.dealerOrgId
 		? await db
 				.select({ name: organisations.name })
