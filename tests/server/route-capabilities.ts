@@ -105,6 +105,7 @@ export const ROUTE_CAPABILITIES: Record<string, string> = {
 	'+layout.server.ts load': ANONYMOUS,
 	'api/attachments/[id=int]/+server.ts GET': 'viewInstallations',
 	'api/claims/+server.ts GET': 'viewClaims',
+	'api/claims/+server.ts POST': 'fileClaim',
 	'api/claims/[id=int]/+server.ts GET': 'viewClaims',
 	'api/design-check/+server.ts POST': 'checkDesign',
 	'api/imports/[id=int]/+server.ts GET': 'importResults',

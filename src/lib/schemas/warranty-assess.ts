@@ -139,37 +139,48 @@ const formText = (max: number) =>
 		z.string().trim().max(max).optional()
 	);
 
+const evidenceFields = z.object({
+	measuredCapacityAh: formNumber(nonNegative('Measured capacity', 'Ah')),
+	measuredAtC: formNumber(temperature('Test temperature')),
+	throughputWh: formNumber(nonNegative('Throughput', 'Wh')),
+	cycleCount: formNumber(
+		nonNegative('Cycle count', 'cycles').int({ error: 'Cycle count must be a whole number.' })
+	),
+	avgCellTempC: formNumber(temperature('Average cell temperature')),
+	maxCellTempC: formNumber(temperature('Maximum cell temperature')),
+	/** Measured at the terminals with the module isolated (a module with no output). */
+	terminalVoltageV: formNumber(
+		nonNegative('Terminal voltage', 'V').max(1500, {
+			error: 'Terminal voltage must be at most 1500 V.'
+		})
+	),
+	eventsOutsideLimits: formText(2000),
+	description: z
+		.string({ error: 'Describe the fault.' })
+		.trim()
+		.min(10, { error: 'Describe the fault in at least 10 characters.' })
+		.max(2000, { error: 'Keep the fault description under 2000 characters.' })
+});
+
+const temperaturesInOrder = (e: { avgCellTempC?: number; maxCellTempC?: number }) =>
+	e.avgCellTempC === undefined || e.maxCellTempC === undefined || e.maxCellTempC >= e.avgCellTempC;
+const TEMPERATURE_ORDER = {
+	error: 'The maximum cell temperature cannot be below the average.',
+	path: ['maxCellTempC']
+};
+
 /** Evidence a dealer files with a claim. Throughput or a cycle count is required. */
-export const claimEvidenceSchema = z
-	.object({
-		measuredCapacityAh: formNumber(nonNegative('Measured capacity', 'Ah')),
-		measuredAtC: formNumber(temperature('Test temperature')),
-		throughputWh: formNumber(nonNegative('Throughput', 'Wh')),
-		cycleCount: formNumber(
-			nonNegative('Cycle count', 'cycles').int({ error: 'Cycle count must be a whole number.' })
-		),
-		avgCellTempC: formNumber(temperature('Average cell temperature')),
-		maxCellTempC: formNumber(temperature('Maximum cell temperature')),
-		eventsOutsideLimits: formText(2000),
-		description: z
-			.string({ error: 'Describe the fault.' })
-			.trim()
-			.min(10, { error: 'Describe the fault in at least 10 characters.' })
-			.max(2000, { error: 'Keep the fault description under 2000 characters.' })
-	})
+export const claimEvidenceSchema = evidenceFields
 	.refine((e) => e.throughputWh !== undefined || e.cycleCount !== undefined, {
 		error: 'Give the energy throughput (Wh) or the cycle count.',
 		path: ['throughputWh']
 	})
-	.refine(
-		(e) =>
-			e.avgCellTempC === undefined ||
-			e.maxCellTempC === undefined ||
-			e.maxCellTempC >= e.avgCellTempC,
-		{
-			error: 'The maximum cell temperature cannot be below the average.',
-			path: ['maxCellTempC']
-		}
-	);
+	.refine(temperaturesInOrder, TEMPERATURE_ORDER);
+
+/**
+ * Evidence of a claim the cycle-life figures do not decide (on delivery, or a module with
+ * no output at all): throughput is not needed.
+ */
+export const faultEvidenceSchema = evidenceFields.refine(temperaturesInOrder, TEMPERATURE_ORDER);
 
 export type ClaimEvidence = z.infer<typeof claimEvidenceSchema>;

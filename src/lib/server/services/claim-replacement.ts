@@ -73,10 +73,7 @@ export async function replaceModule(
 	const [sys] =
 		claim.systemId === null
 			? []
-			: await db
-					.select({ name: systems.name })
-					.from(systems)
-					.where(eq(systems.id, claim.systemId));
+			: await db.select({ name: systems.name }).from(systems).where(eq(systems.id, claim.systemId));
 	const where = slot
 		? `string ${slot.stringNo}, position ${slot.position} of ${sys?.name ?? 'the system'}`
 		: (sys?.name ?? 'the system');
