@@ -72,6 +72,12 @@ export const NAV: NavItem[] = [
 		blurb: 'Warranty claims: file one, follow the evidence, the assessment and the decision.'
 	},
 	{
+		href: '/campaigns',
+		label: 'Campaigns',
+		capability: 'followCampaigns',
+		blurb: 'Service campaigns: affected modules followed per dealer to their remedy.'
+	},
+	{
 		href: '/fleet',
 		label: 'Fleet',
 		capability: 'viewFleet',
