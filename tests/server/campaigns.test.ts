@@ -4,7 +4,7 @@
  * modules, acknowledging twice and resolving another dealer's module store nothing.
  */
 import { beforeAll, describe, expect, it } from 'vitest';
-import { count, eq } from 'drizzle-orm';
+import { count } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { campaigns, campaignSteps, mailOutbox } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';

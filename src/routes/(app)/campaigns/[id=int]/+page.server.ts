@@ -2,7 +2,6 @@ import { fail } from '@sveltejs/kit';
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { campaignActionSchema } from '$lib/schemas/campaign';
-import { parseForm } from '$lib/server/validation';
 import { errorFrom, failFrom } from '$lib/server/http';
 import {
 	actOnCampaignModule,
