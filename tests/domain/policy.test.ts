@@ -99,11 +99,12 @@ describe('navigation follows the policy', () => {
 	it('every area names a capability of the policy', () =>
 		expect(NAV.filter((n) => !isCapability(n.capability))).toEqual([]));
 
-	it('a dealer sees home, sites, claims, fleet and module lookup only', () =>
+	it('a dealer sees home, sites, claims, its campaigns, fleet and module lookup only', () =>
 		expect(navFor('dealer').map((n) => n.href)).toEqual([
 			'/',
 			'/sites',
 			'/claims',
+			'/campaigns',
 			'/fleet',
 			'/modules'
 		]));
