@@ -40,7 +40,9 @@ const config = {
 				'frame-ancestors': ['none']
 			}
 		},
-		alias: { $domain: 'src/lib/domain' }
+		alias: { $domain: 'src/lib/domain' },
+		// Absolute asset paths: the service worker serves one offline shell at every page's address.
+		paths: { relative: false }
 	}
 };
 

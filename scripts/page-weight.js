@@ -37,6 +37,8 @@ try {
 	const sum = (t, k) =>
 		[...files.values()].filter((f) => f.type === t).reduce((a, f) => a + f[k], 0);
 	const kb = (n) => `${(n / 1024).toFixed(1)} KB`;
+	if (process.env.PAGE_WEIGHT_FILES)
+		for (const [u, f] of files) console.log(f.type, f.gz, u.replace(server.origin, ''));
 	console.log(`${path} as ${email} (390×844): ${files.size} files`);
 	console.log(`  JavaScript ${kb(sum('script', 'raw'))} raw, ${kb(sum('script', 'gz'))} gzip`);
 	console.log(

@@ -1,7 +1,12 @@
 import { sequence } from '@sveltejs/kit/hooks';
 import type { ServerInit } from '@sveltejs/kit';
 import { authHandle, standardAuthEndpoints } from '$lib/server/auth';
-import { actorHandle, assertAuthSecret, contextHandle } from '$lib/server/hooks';
+import {
+	actorHandle,
+	assertAuthSecret,
+	contextHandle,
+	publicRevalidation
+} from '$lib/server/hooks';
 import { getDb } from '$lib/server/db';
 import { securityHeaders } from '$lib/server/security-headers';
 import { originCheck } from '$lib/server/origin-check';
@@ -17,5 +22,6 @@ export const handle = sequence(
 	contextHandle,
 	standardAuthEndpoints,
 	authHandle,
-	actorHandle
+	actorHandle,
+	publicRevalidation
 );

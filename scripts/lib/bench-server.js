@@ -10,7 +10,9 @@ export async function startBenchServer({
 	keep = false,
 	env: extra = {}
 } = {}) {
-	if (!existsSync('build/handler.js')) {
+	// BENCH_BUILD serves a copy of the build, so a rebuild during a long run does not change it.
+	const build = process.env.BENCH_BUILD || 'build';
+	if (!existsSync(`${build}/handler.js`)) {
 		const b = spawnSync('npm', ['run', 'build', '--silent'], { stdio: 'inherit' });
 		if (b.status !== 0) throw new Error('build failed');
 	}
@@ -33,7 +35,15 @@ export async function startBenchServer({
 		const s = spawnSync('npm', ['run', 'db:seed', '--silent'], { stdio: 'inherit', env });
 		if (s.status !== 0) throw new Error('seed failed');
 	}
-	const proc = spawn('node', ['build'], { stdio: ['ignore', 'ignore', 'inherit'], env });
+	const proc = spawn('node', [build], { stdio: ['ignore', 'ignore', 'inherit'], env });
+	let stopping = false;
+	// A server that dies under load says so (and how), rather than surfacing as a client's ECONNRESET.
+	proc.once('exit', (code, signal) => {
+		if (!stopping)
+			console.error(
+				`\nThe benchmark's server (pid ${proc.pid}) exited unexpectedly: ${signal ? `signal ${signal}` : `exit code ${code}`}.`
+			);
+	});
 	for (let i = 0; i < 100; i++) {
 		try {
 			if ((await fetch(`${origin}/signin`)).ok) break;
@@ -42,7 +52,15 @@ export async function startBenchServer({
 		}
 		await new Promise((r) => setTimeout(r, 200));
 	}
-	return { origin, env, proc, stop: () => proc.kill('SIGTERM') };
+	return {
+		origin,
+		env,
+		proc,
+		stop: () => {
+			stopping = true;
+			proc.kill('SIGTERM');
+		}
+	};
 }
 
 /** Signs in through Auth.js's standard endpoints; returns a Cookie header value. */

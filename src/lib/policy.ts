@@ -51,6 +51,11 @@ export const POLICY = {
 	install: INSTALLERS,
 	/** Fill in and submit a commissioning checklist. */
 	commission: INSTALLERS,
+	/**
+	 * Take a site's field pages onto the phone and send the work done offline
+	 * (`POST /api/sync`); each operation is then checked as its own form is.
+	 */
+	workOffline: INSTALLERS,
 	/** See warranty claims (a dealer's people see their organisation's only) and assess one. */
 	viewClaims: CLAIM_PARTIES,
 	/** File a warranty claim. */
@@ -87,6 +92,10 @@ export const POLICY = {
 	manageUsers: ADMIN,
 	/** Dealer organisations. */
 	manageDealers: ADMIN,
+	/** The assembler's calendar: the time zone business dates are counted in, the locale pages print in. */
+	manageCalendar: ADMIN,
+	/** Commissioning rule sets per market (limits, citations, effective date) and each dealer's market. */
+	manageRuleSets: ADMIN,
 	/** API tokens of the test rigs. */
 	manageTokens: ADMIN,
 	/** Every e-mail the register has sent. */

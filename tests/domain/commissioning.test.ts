@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import {
 	evaluateCommissioning,
 	operatingTempRange,
+	type CommissioningLimits,
 	type CommissioningMeasurements,
 	type CommissioningSystem
 } from '../../src/lib/domain/commissioning';
@@ -17,11 +18,13 @@ const model = {
 	chargeTempMinC: -10,
 	chargeTempMaxC: 45,
 	dischargeTempMinC: -30,
-	dischargeTempMaxC: 55
+	dischargeTempMaxC: 55,
+	internalResistanceMOhm: 3.0
 };
 const system: CommissioningSystem = { series: 2, parallel: 2, model };
 
-// String max 22 × 2.75 = 60.5 V; continuous 2 × 2C × 93 Ah = 372 A → device ≥ 465 A (125 %, from memory).
+// String max 22 × 2.75 = 60.5 V; continuous 2 × 2C × 93 Ah = 372 A → device ≥ 465 A (125 %, from memory);
+// fault current 2 strings × 30.25 V / 3.0 mΩ = 20 166.7 A (IEC 61660-1 source model, from memory).
 const good: CommissioningMeasurements = {
 	moduleOcvV: [
 		[25.41, 25.43],
@@ -31,13 +34,18 @@ const good: CommissioningMeasurements = {
 	insulation: { testVoltageV: 500, measuredMohm: 50 },
 	polarityChecked: true,
 	torqueConfirmed: true,
-	protectiveDevice: { ratingA: 500, dcVoltageRatingV: 80 },
+	protectiveDevice: { ratingA: 500, dcVoltageRatingV: 80, breakingCapacityKA: 25 },
+	stringProtection: true,
 	ambientC: 20,
 	stopChargeProven: true
 };
 
-const item = (m: CommissioningMeasurements, key: string, sys = system, t = {}) =>
-	evaluateCommissioning(sys, m, t).items.find((i) => i.key === key)!;
+const item = (
+	m: CommissioningMeasurements,
+	key: string,
+	sys = system,
+	t: { limits?: Partial<CommissioningLimits> } = {}
+) => evaluateCommissioning(sys, m, t).items.find((i) => i.key === key)!;
 
 describe('evaluateCommissioning: overall', () => {
 	it('passes when every item passes', () => {
@@ -50,6 +58,7 @@ describe('evaluateCommissioning: overall', () => {
 			['polarity', 'pass'],
 			['torque', 'pass'],
 			['protective_device', 'pass'],
+			['string_protection', 'pass'],
 			['ambient_temperature', 'pass'],
 			['stop_charge', 'pass']
 		]);
@@ -65,6 +74,7 @@ describe('evaluateCommissioning: overall', () => {
 	it('is incomplete with no measurements at all', () => {
 		const r = evaluateCommissioning(system, {});
 		expect(r.items.every((i) => i.status === 'not_measured')).toBe(true);
+		expect(r.implausible).toEqual([]);
 		expect(r.overall).toBe('incomplete');
 	});
 
@@ -79,11 +89,11 @@ describe('Insulation against IEC 60364-6:2016 Table 6.1', () => {
 		const i = item({ ...good, insulation: { testVoltageV: 500, measuredMohm: 0.4 } }, 'insulation');
 		expect(i.status).toBe('fail');
 		expect(i.reason).toContain(
-			'Insulation 0.4 MΩ at 500 V is below the 1.0 MΩ minimum of IEC 60364-6 Table 6.1'
+			'Insulation 0.4 MΩ at 500 V is below the 1.0 MΩ minimum of IEC 60364-6:2016 Table 6.1'
 		);
 	});
 
-	it('a test at 250 V is too low for a 51.7 V circuit not built as SELV/PELV (needs 500 V)', () => {
+	it('a test at 250 V is too low for a 60.5 V circuit not built as SELV/PELV (needs 500 V)', () => {
 		const i = item({ ...good, insulation: { testVoltageV: 250, measuredMohm: 50 } }, 'insulation');
 		expect(i.status).toBe('fail');
 		expect(i.reason).toContain('tested at 250 V, below the 500 V DC test voltage');
@@ -99,10 +109,10 @@ describe('Insulation against IEC 60364-6:2016 Table 6.1', () => {
 		expect(i.reason).toContain('0.5 MΩ');
 	});
 
-	it('a 600 V circuit needs a 1000 V test (above 500 V row)', () => {
+	it('a circuit reaching 600 V needs a 1000 V test (above 500 V row)', () => {
 		const i = item({ ...good, insulation: { testVoltageV: 500, measuredMohm: 50 } }, 'insulation', {
 			...system,
-			circuitNominalV: 600
+			circuitMaxV: 600
 		});
 		expect(i.status).toBe('fail');
 		expect(i.reason).toContain('1000 V');
@@ -128,7 +138,9 @@ describe('Module OCV spread (50 mV default, common practice)', () => {
 			'module_ocv_spread'
 		);
 		expect(i.status).toBe('fail');
-		expect(i.reason).toContain('a spread of 60 mV, above the 50 mV limit (common practice)');
+		expect(i.reason).toContain(
+			'a spread of 60 mV, above the 50 mV limit between any two modules (common practice)'
+		);
 	});
 
 	it('the limit is a parameter', () => {
@@ -139,7 +151,9 @@ describe('Module OCV spread (50 mV default, common practice)', () => {
 				[25.41, 25.42]
 			]
 		};
-		expect(item(m, 'module_ocv_spread', system, { maxModuleOcvSpreadV: 0.1 }).status).toBe('pass');
+		expect(
+			item(m, 'module_ocv_spread', system, { limits: { moduleOcvToleranceV: 0.1 } }).status
+		).toBe('pass');
 	});
 
 	it('a partial set is not measured, unless what was measured already fails', () => {
@@ -196,18 +210,29 @@ describe('String voltage against the sum of its modules (1 % or 0.5 V, common pr
 	});
 });
 
-describe('Difference between parallel strings (1.0 V default, common practice)', () => {
-	it('derives 1.1 V from the string voltages and fails it', () => {
+describe('Difference between parallel strings: series × 50 mV, the module rule (common practice)', () => {
+	it('derives 1.1 V from the string voltages and fails it against 2 × 50 mV = 0.1 V', () => {
 		const m = { ...good, moduleOcvV: null, stringVoltageV: [50.8, 51.9] };
 		const i = item(m, 'inter_string_difference');
 		expect(i.status).toBe('fail');
 		expect(i.reason).toContain('Strings differ by 1.1 V (from the string voltages)');
+		expect(i.reason).toContain('0.1 V limit before paralleling: 2 modules per string × 50 mV');
 	});
 
-	it('uses a measured difference when given', () => {
-		const i = item({ ...good, interStringDiffV: 0.3 }, 'inter_string_difference');
-		expect(i.status).toBe('pass');
-		expect(i.reason).toContain('0.3 V (measured)');
+	it('uses a measured difference when given: 0.08 V passes, 0.3 V fails, 0.1 V (a tie) passes', () => {
+		const ok = item({ ...good, interStringDiffV: 0.08 }, 'inter_string_difference');
+		expect(ok.status).toBe('pass');
+		expect(ok.reason).toContain('0.08 V (measured)');
+		expect(item({ ...good, interStringDiffV: 0.3 }, 'inter_string_difference').status).toBe('fail');
+		expect(item({ ...good, interStringDiffV: 0.1 }, 'inter_string_difference').status).toBe('pass');
+	});
+
+	it('one-module strings: the string limit equals the module limit (no contradiction)', () => {
+		const one = { ...system, series: 1 };
+		const r = evaluateCommissioning(one, {});
+		expect(r.interStringLimitV).toBe(0.05);
+		// 20 modules per string give the 1.0 V the old separate rule used.
+		expect(evaluateCommissioning({ ...system, series: 20 }, {}).interStringLimitV).toBe(1);
 	});
 
 	it('a single string has nothing to join', () => {
@@ -219,25 +244,25 @@ describe('Difference between parallel strings (1.0 V default, common practice)',
 describe('Protective device (≥ 125 % continuous, from memory; DC rating ≥ string maximum)', () => {
 	it('fails 400 A against 465 A = 125 % of 372 A', () => {
 		const i = item(
-			{ ...good, protectiveDevice: { ratingA: 400, dcVoltageRatingV: 80 } },
+			{ ...good, protectiveDevice: { ratingA: 400, dcVoltageRatingV: 80, breakingCapacityKA: 25 } },
 			'protective_device'
 		);
 		expect(i.status).toBe('fail');
-		expect(i.reason).toContain('rated 400.0 A, below 465.0 A');
+		expect(i.reason).toContain('rated 400 A, below 465 A (125 % of 372 A continuous)');
 	});
 
 	it('fails a 48 V DC rating against the 60.5 V string maximum', () => {
 		const i = item(
-			{ ...good, protectiveDevice: { ratingA: 500, dcVoltageRatingV: 48 } },
+			{ ...good, protectiveDevice: { ratingA: 500, dcVoltageRatingV: 48, breakingCapacityKA: 25 } },
 			'protective_device'
 		);
 		expect(i.status).toBe('fail');
-		expect(i.reason).toContain('DC voltage rating 48.0 V is below the string maximum 60.5 V');
+		expect(i.reason).toContain('DC voltage rating 48 V, below the 60.5 V string maximum');
 	});
 
 	it('uses the system current limit when given: 100 A → 125 A', () => {
 		const i = item(
-			{ ...good, protectiveDevice: { ratingA: 125, dcVoltageRatingV: 80 } },
+			{ ...good, protectiveDevice: { ratingA: 125, dcVoltageRatingV: 80, breakingCapacityKA: 25 } },
 			'protective_device',
 			{
 				...system,

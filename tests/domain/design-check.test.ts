@@ -131,14 +131,15 @@ describe('checkDesign: suggestions fit a target', () => {
 			targetEnergyKWh: 9,
 			variants
 		});
-		expect(r.suggestions).toEqual([
+		expect(r.suggestions).toMatchObject([
 			{
 				code: 'TC-HC-24',
 				series: 2,
 				parallel: 2,
 				energyKWh: 9.2,
 				stringVoltage: { min: 39.6, nominal: 51.7, max: 60.5 },
-				fitsPreferred: true
+				fitsPreferred: true,
+				nominalInPreferred: true
 			},
 			{
 				code: 'TC-HC-48',
@@ -146,12 +147,22 @@ describe('checkDesign: suggestions fit a target', () => {
 				parallel: 4,
 				energyKWh: 9.2,
 				stringVoltage: { min: 39.6, nominal: 51.7, max: 60.5 },
-				fitsPreferred: true
+				fitsPreferred: true,
+				nominalInPreferred: true
 			}
 		]);
+		// Worked by hand: preferred 39–62 V has its middle at 50.5 V and half-width 11.5 V, so
+		// 51.7 V sits 1.2 / 11.5 = 10 % of the way to its edge; 9.2 − 9.0 = 0.20 kWh surplus.
+		expect(r.suggestions[0].reason).toBe(
+			'nominal 51.7 V inside the preferred 39.0 V to 62.0 V, 10 % of the way from its middle to its edge; ' +
+				'9.2 kWh, 0.20 kWh above the 9.0 kWh target; 4 modules.'
+		);
+		expect(r.suggestionRanking).toContain(
+			'nominal string voltage inside the preferred window first'
+		);
 	});
 
-	it('high-voltage inverter 120–450 V (preferred 200–420 V), 40 kWh: preferred fit first, then least surplus', () => {
+	it('high-voltage inverter 120–450 V (preferred 200–420 V), 40 kWh: nominal in the preferred window, then least surplus, then centred', () => {
 		const hv: InverterWindow = { minV: 120, maxV: 450, preferredMinV: 200, preferredMaxV: 420 };
 		const r = checkDesign({
 			module: HC48,
@@ -161,19 +172,24 @@ describe('checkDesign: suggestions fit a target', () => {
 			targetEnergyKWh: 40,
 			variants
 		});
-		// Worked by hand: 6 × TC-HC-48 (237.6–363 V) × 3 = 18 modules = 41.4 kWh is the closest preferred fit;
-		// 18 × TC-HC-12 × 1 = 41.4 kWh too, but its 194.4 V minimum misses the preferred 200 V.
-		// Then 19, 20, 21, 22 × TC-HC-12 (43.7, 46.0, 48.3, 50.6 kWh); 11 × TC-HC-24 × 2 = 50.6 kWh
-		// ties the last on surplus and modules and loses on variant order.
+		// Worked by hand (preferred middle 310 V, half-width 110 V): three designs reach 41.4 kWh
+		// (1.4 kWh surplus) with the nominal voltage inside 200–420 V: 6 × TC-HC-48 × 3 (nominal
+		// 310.2 V, 0.2 % off centre), 18 × TC-HC-12 (253.8 V, 51 %), 9 × TC-HC-24 × 2 (232.65 V,
+		// 70 %); the last two span 194.4 / 178.2 V at their minimum, so their whole range misses the
+		// preferred window (fitsPreferred stays false). Then 19 × TC-HC-12 = 43.7 kWh, then at
+		// 46.0 kWh 20 × TC-HC-12 (282 V, 25 % off centre) before 10 × TC-HC-24 × 2 and 5 × TC-HC-48 × 4.
 		expect(
 			r.suggestions.map((s) => [s.code, s.series, s.parallel, s.energyKWh, s.fitsPreferred])
 		).toEqual([
 			['TC-HC-48', 6, 3, 41.4, true],
+			['TC-HC-12', 18, 1, 41.4, false],
+			['TC-HC-24', 9, 2, 41.4, false],
 			['TC-HC-12', 19, 1, 43.7, true],
-			['TC-HC-12', 20, 1, 46, true],
-			['TC-HC-12', 21, 1, 48.3, true],
-			['TC-HC-12', 22, 1, 50.6, true]
+			['TC-HC-12', 20, 1, 46, true]
 		]);
+		expect(r.suggestions[1].reason).toContain(
+			'nominal 253.8 V inside the preferred 200.0 V to 420.0 V, 51 %'
+		);
 		for (const s of r.suggestions) {
 			expect(s.energyKWh).toBeGreaterThanOrEqual(40);
 			expect(s.stringVoltage.min).toBeGreaterThanOrEqual(hv.minV);

@@ -481,3 +481,88 @@ describe('error report CSV — OWASP CSV injection (from memory) and RFC 4180 wr
 		expect(toErrorReportCsv([], { bom: false })).toBe('row,column,message\r\n');
 	});
 });
+
+describe('validateFactoryCsv — the one-pass reader agrees with the row checker', () => {
+	// Independent check: every row is also judged alone by validateRowValues (the regular
+	// expression reader with all its messages); the file reader's fast path must agree.
+	// Dates: leap days by the Gregorian rule (ISO 8601 / ISO 8601-1:2019 §4.3.2.1 calendar).
+	const cases: Record<string, string>[] = [
+		{},
+		{ tested_at: '2028-02-29T23:59:59Z' }, // leap year
+		{ tested_at: '2027-02-29T08:00:00Z' }, // not a leap year
+		{ tested_at: '2000-02-29T00:00:00Z' }, // divisible by 400: leap
+		{ tested_at: '2100-02-29T00:00:00Z' }, // divisible by 100 only: not leap (and in the future)
+		{ tested_at: '2000-01-01T00:00:00Z' }, // the earliest accepted instant
+		{ tested_at: '1999-12-31T23:59:59Z' },
+		{ tested_at: '2026-03-12T12:05:00Z' }, // now + 5 min of clock skew: accepted
+		{ tested_at: '2026-03-12T12:05:00.001Z' }, // 1 ms past it
+		{ tested_at: '2026-03-12T08:15:00.5Z' },
+		{ tested_at: '2026-03-12T08:15:00.123456Z' },
+		{ tested_at: '2026-03-12t08:15:00z' },
+		{ tested_at: '2026-03-12T24:00:00Z' },
+		{ tested_at: '2026-04-31T08:00:00Z' },
+		{ tested_at: '2026-03-12T09:15:00+01:00' },
+		{ capacity_ah: '0' },
+		{ capacity_ah: '10000' },
+		{ capacity_ah: '10000.0001' },
+		{ cell_spread_mv: '0' },
+		{ ambient_c: '-40' },
+		{ ambient_c: '-40.1' },
+		{ ambient_c: '' },
+		{ energy_wh: '' },
+		{ dcir_mohm: '' },
+		{ dcir_mohm: '1e1' },
+		{ dcir_mohm: '0x10' },
+		{ insulation_mohm: ' 550 ' },
+		{ serial: 'tw48-0002' },
+		{ serial: 'TW48\u00070003' },
+		{ rig: '' },
+		{ operator: '  ' }
+	];
+	it('gives the same value or the same errors for each row', () => {
+		const cols = HEADER.split(',');
+		const lines = cases.map((c, i) => {
+			const r = raw({ serial: `TW48-${String(i + 10).padStart(4, '0')}`, ...c });
+			return cols.map((k) => (r as Record<string, string>)[k]).join(',');
+		});
+		const file = validateFactoryCsv(csv(HEADER, ...lines) + '\r\n', NOW);
+		if (!file.ok) throw new Error(file.error);
+		lines.forEach((_, i) => {
+			const alone = validateRowValues(
+				raw({ serial: `TW48-${String(i + 10).padStart(4, '0')}`, ...cases[i] }),
+				i + 2,
+				NOW
+			);
+			const got = file.rows.find((r) => r.row === i + 2);
+			if (alone.ok) expect(got?.value).toEqual(alone.value);
+			else {
+				expect(got).toBeUndefined();
+				expect(file.errors.filter((e) => e.row === i + 2).map((e) => e.message)).toEqual(
+					alone.errors.map((e) => e.message)
+				);
+			}
+		});
+	});
+
+	it('reads a file of many slices with quoted line breaks at every position the same as whole', () => {
+		// More than two 256 KB slices; a quoted operator name with a CRLF inside on every 7th row.
+		const lines: string[] = [];
+		for (let i = 0; i < 9000; i++) {
+			const op = i % 7 === 0 ? '"J. ""Jo"" Vale\r\nnight shift"' : 'jm';
+			lines.push(
+				`TW48-${String(i).padStart(5, '0')},2026-03-12T08:15:00Z,46.2,,2.1,,12,550,,RIG-2,${op}`
+			);
+		}
+		const text = csv(HEADER, ...lines) + '\r\n';
+		expect(text.length).toBeGreaterThan(2 * 256 * 1024);
+		const file = validateFactoryCsv(text, NOW);
+		if (!file.ok) throw new Error(file.error);
+		// Papa Parse on the whole text at once is the reference for where records start.
+		const whole = Papa.parse<string[]>(text, { delimiter: ',' }).data;
+		expect(file.rows).toHaveLength(9000);
+		expect(file.rows[7].row).toBe(9);
+		expect(file.rows[8999].value.serial).toBe(whole[9000][0]);
+		expect(file.rows[7].value.operator).toBe(whole[8][10].trim());
+		expect(file.errors).toEqual([]);
+	});
+});

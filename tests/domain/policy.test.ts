@@ -14,7 +14,7 @@ import {
 	ROLE_NAMES,
 	rolesFor
 } from '../../src/lib/policy';
-import { NAV, navFor } from '../../src/lib/roles';
+import { NAV, NAV_GROUPS, navFor, navGroupsFor } from '../../src/lib/roles';
 
 const A = 'admin',
 	W = 'workshop',
@@ -39,6 +39,7 @@ const EXPECTED: Record<string, string[]> = {
 	viewInstallations: [A, F, O, D],
 	install: [A, F],
 	commission: [A, F],
+	workOffline: [A, F],
 	viewClaims: [A, F, O, D],
 	fileClaim: [A, F, O, D],
 	addClaimEvidence: [A, F, O, D],
@@ -57,6 +58,8 @@ const EXPECTED: Record<string, string[]> = {
 	manageModels: [A],
 	manageUsers: [A],
 	manageDealers: [A],
+	manageCalendar: [A],
+	manageRuleSets: [A],
 	manageTokens: [A],
 	viewOutbox: [A],
 	viewAudit: [A]
@@ -113,5 +116,39 @@ describe('navigation follows the policy', () => {
 		const hrefs = navFor('workshop').map((n) => n.href);
 		expect(hrefs).toContain('/shipments');
 		expect(hrefs.filter((h) => h.startsWith('/admin') || h === '/claims')).toEqual([]);
+	});
+
+	it('every area belongs to one of the groups', () => {
+		const keys = new Set<string>(NAV_GROUPS.map((g) => g.key));
+		expect(NAV.filter((n) => !keys.has(n.group))).toEqual([]);
+	});
+
+	it('groups keep their fixed order and leave out the empty ones (dealer)', () =>
+		expect(navGroupsFor('dealer').map((g) => g.key)).toEqual([
+			'home',
+			'field',
+			'warranty',
+			'register'
+		]));
+
+	// Common practice (menu design): about seven top-level entries is what fits one row on a
+	// 1024 px screen and what people scan at a glance; the admin, who sees every area, gets six.
+	it('no role has more than seven top-level menu entries', () => {
+		for (const role of ['admin', 'workshop', 'field_tech', 'warranty', 'dealer'] as const)
+			expect(navGroupsFor(role).length, role).toBeLessThanOrEqual(7);
+		expect(navGroupsFor('admin').length).toBe(NAV_GROUPS.length);
+	});
+
+	it('grouping neither adds nor drops an area a role may open', () => {
+		for (const role of ['admin', 'workshop', 'field_tech', 'warranty', 'dealer'] as const)
+			expect(
+				navGroupsFor(role)
+					.flatMap((g) => g.items.map((i) => i.href))
+					.sort()
+			).toEqual(
+				navFor(role)
+					.map((n) => n.href)
+					.sort()
+			);
 	});
 });

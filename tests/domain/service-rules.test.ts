@@ -15,7 +15,8 @@ import { systemCurrentLimitA } from '../../src/lib/domain/commissioning';
 describe('implausible evidence', () => {
 	const model = { code: 'TC-HC-48', maxContinuousC: 0.5, usableWh: 1000 };
 	const now = new Date('2026-03-11T00:00:00Z');
-	const ctx = { model, moduleCount: 1, startsOn: '2026-03-01', now }; // 10 days
+	const calendar = { timeZone: 'UTC', locale: 'en-GB' };
+	const ctx = { model, moduleCount: 1, startsOn: '2026-03-01', now, calendar }; // 10 days
 	const ev = (o: object) => ({ throughputScope: 'module' as const, ...o });
 
 	it('accepts exactly 12 × C cycles a day and refuses one watt-hour more', () => {
@@ -53,6 +54,16 @@ describe('implausible evidence', () => {
 		const later = ev({ log: { lastAt: '2026-03-12T00:10:00Z' } });
 		expect(implausibleEvidence(later, ctx).map((i) => i.path)).toEqual(['log']);
 		expect(implausibleEvidence(ev({ log: { lastAt: '2026-03-11T00:00:00Z' } }), ctx)).toEqual([]);
+	});
+
+	it("reads today on the assembler's calendar: in Etc/GMT-10 (UTC+10) 14:00 UTC is already the next day", () => {
+		// IANA tz database: Etc/GMT-10 is ten hours ahead of UTC (the sign is inverted by POSIX convention).
+		const east = { timeZone: 'Etc/GMT-10', locale: 'en-GB' };
+		const log = ev({ log: { lastAt: '2026-03-12T00:10:00Z' } });
+		const before = { ...ctx, now: new Date('2026-03-11T13:59:59Z'), calendar: east }; // 23:59:59 on the 11th
+		const after = { ...ctx, now: new Date('2026-03-11T14:00:00Z'), calendar: east }; // 00:00 on the 12th
+		expect(implausibleEvidence(log, before).map((i) => i.path)).toEqual(['log']);
+		expect(implausibleEvidence(log, after)).toEqual([]);
 	});
 
 	it('cannot judge a rate without a warranty start', () => {

@@ -439,7 +439,9 @@ describe('assessRequestSchema', () => {
 
 	it('rejects dates that are not real calendar days', () => {
 		const r = assessRequestSchema.safeParse({ ...body, claimedOn: '2023-02-29' });
-		expect(messages(r)).toContain('Claim date must be a real date written YYYY-MM-DD.');
+		expect(messages(r)).toContain(
+			'Claim date: this date does not exist; give a real date, checking the month and day.'
+		);
 		expect(assessRequestSchema.safeParse({ ...body, commissionedOn: '2020-3-1' }).success).toBe(
 			false
 		);

@@ -17,6 +17,7 @@ import {
 } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { closeMailer } from '$lib/server/mail';
+import { claimFigures } from '$lib/server/services/dashboard';
 import { UNKNOWN_SERIAL } from '$lib/server/services/modules';
 import {
 	fileClaim,
@@ -35,6 +36,7 @@ import {
 } from '$lib/server/services/claim-workflow';
 import { assessmentFor } from '$lib/server/services/claim-assessment';
 import { assessClaim } from '$lib/domain/warranty';
+import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
 import { formatSerial } from '$lib/domain/serial';
 import { POST as assessPost } from '../../src/routes/api/warranty/assess/+server';
 import { actorFor, createSeededDb } from '../factories/db';
@@ -159,7 +161,7 @@ async function spares(code = 'TC-HC-48', n = 1, shippedTo?: string) {
 }
 
 /** 3 000 equivalent full cycles per module over 4 modules of 2 300 Wh, 40 Ah of 46.5 Ah left: below the promise, so cover. */
-const coverEvidence = {
+const rawCoverEvidence = {
 	measuredCapacityAh: '40',
 	measuredAtC: '25',
 	throughputWh: String(4 * 2300 * 3000),
@@ -167,6 +169,13 @@ const coverEvidence = {
 	maxCellTempC: '31',
 	description: 'Capacity dropped sharply over the winter.'
 };
+/** Evidence as a form sends it, read with the filing form's schema (the service takes parsed input). */
+const evidenceOf = (raw: Record<string, string>) => {
+	const r = claimEvidenceSchema.safeParse(raw);
+	if (!r.success) throw new Error(r.error.issues.map((i) => i.message).join(' '));
+	return r.data;
+};
+const coverEvidence = evidenceOf(rawCoverEvidence);
 
 const mailsAbout = async (reference: string) =>
 	(
@@ -319,14 +328,14 @@ describe('filing a claim', () => {
 	it('refuses nonsense evidence with clear words and stores nothing', async () => {
 		const sys = await commissionedSystem();
 		const before = await counts();
-		const file = (evidence: object, extra: object = {}) =>
+		const file = async (evidence: Record<string, string>, extra: object = {}) =>
 			fileClaim(
 				db,
 				saltmarsh,
 				{
 					serials: [sys.serials[0]],
 					fault: 'Fade',
-					evidence: { ...coverEvidence, ...evidence },
+					evidence: evidenceOf({ ...rawCoverEvidence, ...evidence }),
 					...extra
 				},
 				NOW
@@ -410,7 +419,7 @@ describe('assessment from the warranty snapshot', () => {
 			{
 				serials: [sys.serials[3]],
 				fault: 'Fade',
-				evidence: { ...coverEvidence, measuredAtC: '9' },
+				evidence: { ...coverEvidence, measuredAtC: 9 },
 				log: { rows: 8000, firstAt: null, lastAt: null, problems: [], temperatureProfile: profile }
 			},
 			NOW
@@ -432,7 +441,7 @@ describe('assessment from the warranty snapshot', () => {
 			{
 				serials: [sys.serials[0]],
 				fault: 'Fade',
-				evidence: { ...coverEvidence, throughputWh: '6900000' },
+				evidence: evidenceOf({ ...rawCoverEvidence, throughputWh: '6900000' }),
 				throughputScope: 'module'
 			},
 			NOW
@@ -482,14 +491,14 @@ describe('workflow', () => {
 			db,
 			saltmarsh,
 			id,
-			{ measuredCapacityAh: '39.5', comment: 'Report attached by post.' },
+			{ measuredCapacityAh: 39.5, comment: 'Report attached by post.' },
 			NOW
 		);
 		const claim = await loadClaim(db, warranty, id);
 		expect(claim.state).toBe('in_review');
 		expect(JSON.parse(claim.evidence).measuredCapacityAh).toBe(39.5);
 		await expect(
-			addEvidence(db, ridgeline, id, { measuredCapacityAh: '1' }, NOW)
+			addEvidence(db, ridgeline, id, { measuredCapacityAh: 1 }, NOW)
 		).rejects.toMatchObject({ status: 404 });
 		await commentOnClaim(db, saltmarsh, id, 'The owner asks how long this takes.', NOW);
 
@@ -865,5 +874,28 @@ describe('POST /api/warranty/assess', () => {
 		);
 		await expect(assessPost(event(workshop, input))).rejects.toMatchObject({ status: 403 });
 		await expect(assessPost(event(null, input))).rejects.toMatchObject({ status: 401 });
+	});
+});
+
+describe('claims on the dashboard', () => {
+	it('counts a claim filed 12 days ago as past the 10-day target, and its e-mail links to it', async () => {
+		const before = await claimFigures(db, NOW, 'Etc/GMT-10');
+		const sys = await commissionedSystem();
+		const { id } = await fileClaim(
+			db,
+			saltmarsh,
+			{ serials: [sys.serials[0]], fault: 'Capacity fade', evidence: coverEvidence },
+			new Date(NOW.getTime() - 12 * DAY)
+		);
+		const after = await claimFigures(db, NOW, 'Etc/GMT-10');
+		expect(after.open).toBe(before.open + 1);
+		const band = (f: typeof after) => f.ages.find((b) => b.label === '11–30 days')!;
+		expect(band(after).n).toBe(band(before).n + 1);
+		expect(band(after).late).toBe(true);
+		const [mail] = await db
+			.select()
+			.from(mailOutbox)
+			.where(like(mailOutbox.text, `%/claims/${id}\n%`));
+		expect(mail?.toAddr).toBe('dealer@saltmarsh.example');
 	});
 });

@@ -15,14 +15,18 @@ import {
 	users
 } from '$lib/server/db/schema';
 import {
-	certificateData,
-	certificatePdf,
 	evaluateDraft,
 	loadSystemForCommissioning,
 	submitCommissioning
 } from '$lib/server/services/commissioning';
+import { certificateData, certificatePdf } from '$lib/server/services/certificates';
 import { closeMailer, listOutbox } from '$lib/server/mail';
-import { commissioningSchema, draftMeasurementsSchema } from '$lib/schemas/commissioning';
+import {
+	commissioningSchema,
+	draftMeasurements,
+	draftMeasurementsSchema
+} from '$lib/schemas/commissioning';
+import { evaluateCommissioning } from '$lib/domain/commissioning';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
 import { makeModules } from '../factories/modules';
@@ -103,9 +107,21 @@ async function makeSystem(
 	return { system, site, serials };
 }
 
-// TC-HC-48 (invented): 22 cells of 1.8 / 2.35 / 2.75 V, 46.5 Ah, 3C. Two in series: string 79.2 to 121 V,
-// nominal 103.4 V, so IEC 60364-6 Table 6.1 asks 500 V DC and 1.0 MΩ. Continuous 3 × 46.5 = 139.5 A,
-// device ≥ 174.4 A (125 %, from memory). Values typed as a phone sends them, decimal commas included.
+// TC-HC-48 (invented): 22 cells of 1.8 / 2.35 / 2.75 V, 46.5 Ah, 3C, 6.0 mΩ. Two in series: string 79.2
+// to 121 V, nominal 103.4 V, so IEC 60364-6 Table 6.1 asks 500 V DC and 1.0 MΩ (by the 121 V maximum).
+// Continuous 3 × 46.5 = 139.5 A, device ≥ 174.4 A (125 %, from memory); fault current per string
+// 60.5 V / 6.0 mΩ = 10 083 A. Values typed as a phone sends them, decimal commas included.
+const SIG = JSON.stringify({
+	w: 300,
+	h: 120,
+	strokes: [
+		Array.from({ length: 12 }, (_, i) => [20 + i * 20, 60 + (i % 2 ? 25 : -25)]),
+		[
+			[40, 100],
+			[260, 100]
+		]
+	]
+});
 const form = (over: Record<string, string> = {}) =>
 	commissioningSchema.parse({
 		'moduleOcvV.1.1': '50,60',
@@ -118,11 +134,15 @@ const form = (over: Record<string, string> = {}) =>
 		torqueConfirmed: 'yes',
 		deviceRatingA: '200',
 		deviceDcRatingV: '150',
+		deviceBreakingKA: '25',
+		stringProtection: 'yes',
 		ambientC: '18,5',
 		stopChargeProven: 'yes',
 		technicianName: 'Ilse Fenwick',
 		licenceNumber: 'EL-40917',
 		handoverName: 'Wren Tamsin',
+		technicianSignature: SIG,
+		ownerSignature: SIG,
 		cautionsAcknowledged: 'yes',
 		...over
 	});
@@ -150,6 +170,34 @@ describe('commissioning input', () => {
 			draftMeasurementsSchema.parse({ insulationMohm: 'lots', 'stringVoltageV.1': '101,2' })
 		).toMatchObject({ insulationMohm: null, stringVoltageV: [101.2] });
 	});
+
+	it('gives the same preview for an untouched checklist with or without the form reader', async () => {
+		// The page fetches the reader with the first reading typed, so before that it shows
+		// the verdicts of "nothing measured": they must be those of a blank form read fully.
+		const { system } = await makeSystem({ series: 3, parallel: 2 });
+		const sys = (await loadSystemForCommissioning(db, tech, system.id)).evaluationSystem;
+		const blank: Record<string, string> = {
+			interStringDiffV: '',
+			insulationTestV: '',
+			insulationMohm: '',
+			polarityChecked: '',
+			torqueConfirmed: '',
+			deviceRatingA: '',
+			deviceDcRatingV: '',
+			ambientC: '',
+			stopChargeProven: '',
+			technicianName: 'Ilse Fenwick',
+			licenceNumber: 'EL-40917',
+			handoverName: 'Wren Tamsin'
+		};
+		for (let s = 1; s <= 2; s++) {
+			blank[`stringVoltageV.${s}`] = '';
+			for (let p = 1; p <= 3; p++) blank[`moduleOcvV.${s}.${p}`] = '';
+		}
+		const withReader = evaluateCommissioning(sys, draftMeasurements(blank));
+		expect(evaluateCommissioning(sys, {})).toEqual(withReader);
+		expect(withReader.items.every((i) => i.status === 'not_measured')).toBe(true);
+	});
 });
 
 describe('submitCommissioning', () => {
@@ -166,7 +214,7 @@ describe('submitCommissioning', () => {
 		const insulation = r.items.find((i) => i.key === 'insulation')!;
 		expect(insulation.status).toBe('fail');
 		expect(insulation.reason).toMatch(
-			/0\.4 MΩ at 500 V is below the 1\.0 MΩ minimum of IEC 60364-6 Table 6\.1/
+			/0\.4 MΩ at 500 V is below the 1\.0 MΩ minimum of IEC 60364-6:2016 Table 6\.1/
 		);
 		const [row] = await db.select().from(commissionings).where(eq(commissionings.id, r.id));
 		expect(row.overall).toBe('fail');
@@ -188,7 +236,11 @@ describe('submitCommissioning', () => {
 		const r = await submitCommissioning(db, tech, system.id, form(), DAY);
 		expect(r.overall).toBe('pass');
 		expect(r.certificateNo).toMatch(/^PLC-2026-\d{5}$/);
-		expect(r.mail).toEqual({ to: 'dealer@saltmarsh.example', sent: true });
+		expect(r.mail).toEqual({
+			to: 'dealer@saltmarsh.example',
+			sent: true,
+			owner: { to: 'wren@heron.example', sent: true }
+		});
 
 		const [sys] = await db.select().from(systems).where(eq(systems.id, system.id));
 		expect(sys.status).toBe('commissioned');
@@ -223,8 +275,18 @@ describe('submitCommissioning', () => {
 		expect(audit.filter((a) => a.action === 'module.commission')).toHaveLength(2);
 
 		const outbox = await listOutbox(db);
-		const mail = outbox.find((m) => m.subject.includes(r.certificateNo!));
-		expect(mail?.toAddr).toBe('dealer@saltmarsh.example');
+		const mails = outbox.filter((m) => m.subject.includes(r.certificateNo!));
+		expect(mails.map((m) => m.toAddr).sort()).toEqual([
+			'dealer@saltmarsh.example',
+			'wren@heron.example'
+		]);
+		// Every e-mail leads to its record: the dealer's copy to the certificate's own page; the
+		// owner, who has no account, gets the public verification address instead.
+		const dealerMail = mails.find((m) => m.toAddr === 'dealer@saltmarsh.example');
+		expect(dealerMail?.text).toContain(`/commissionings/${r.id}\n`);
+		const ownerMail = mails.find((m) => m.toAddr === 'wren@heron.example');
+		expect(ownerMail?.text).not.toContain('/commissionings/');
+		expect(ownerMail?.text).toContain(`/verify/${r.certificateNo}`);
 
 		await expect(submitCommissioning(db, tech, system.id, form(), DAY)).rejects.toThrow(
 			/already commissioned/
@@ -248,6 +310,53 @@ describe('submitCommissioning', () => {
 			.sort((x, y) => x - y);
 		expect(nums[1] - nums[0]).toBe(1);
 		expect(ra.mail?.to).toBe('office@tidewater.example');
+	});
+
+	it('dates the commissioning, warranty start and certificate by the assembler’s calendar (Etc/GMT-10)', async () => {
+		// The demo assembler keeps Etc/GMT-10 (UTC+10). 22:00 UTC on 30 November is 08:00 on
+		// 1 December there (hand-computed offset), so every business date is 1 December.
+		const { system, serials } = await makeSystem();
+		const at = new Date('2026-11-30T22:00:00Z');
+		const r = await submitCommissioning(db, tech, system.id, form(), at);
+		expect(r.commissionedOn).toBe('2026-12-01');
+		const mods = await db.select().from(modules).where(inArray(modules.serial, serials));
+		for (const m of mods) expect(m.warrantyStartsOn).toBe('2026-12-01');
+		// One second before local midnight is still 30 November there.
+		const other = await makeSystem();
+		const before = await submitCommissioning(
+			db,
+			tech,
+			other.system.id,
+			form(),
+			new Date('2026-11-30T13:59:59Z')
+		);
+		expect(before.commissionedOn).toBe('2026-11-30');
+	});
+
+	it('numbers certificates past 99,999 in a year by number, not by text', async () => {
+		// Text order would put PLC-2031-100000 before PLC-2031-99999 and hand out 100000 twice.
+		const { system } = await makeSystem();
+		await db.insert(commissionings).values(
+			['PLC-2031-99999', 'PLC-2031-100000'].map((certificateNo) => ({
+				systemId: system.id,
+				certificateNo,
+				overall: 'pass' as const,
+				technicianUserId: tech.userId!,
+				technicianName: 'Ilse Fenwick',
+				licenceNumber: 'EL-40917',
+				measurements: '{}',
+				items: '[]',
+				commissionedOn: '2031-06-01'
+			}))
+		);
+		const r = await submitCommissioning(
+			db,
+			tech,
+			system.id,
+			form(),
+			new Date('2031-06-02T01:00:00Z')
+		);
+		expect(r.certificateNo).toBe('PLC-2031-100001');
 	});
 
 	it('refuses a system with an empty slot', async () => {

@@ -8,6 +8,7 @@ import {
 	findModule,
 	getModuleRecord,
 	getPublicRecord,
+	publicRecordEtag,
 	serialFromScan
 } from '$lib/server/services/modules';
 import { labelsForAllocation, recordReprint } from '$lib/server/services/labels';
@@ -184,6 +185,28 @@ describe('scans, scope and the public record', () => {
 		});
 		expect(rec.warranty.state).toBe('not-started');
 		expect(JSON.stringify(rec)).not.toMatch(/site|owner|address/i);
+	});
+
+	it('a cached public record follows every write, inside or outside the write lock, and its validator with it', async () => {
+		const [serial] = await makeModules(db, workshop, { count: 1, built: 1 });
+		const first = await getPublicRecord(db, serial, '2026-12-01');
+		expect(first.contact.kind).toBe('assembler');
+		expect(await getPublicRecord(db, serial, '2026-12-01')).toBe(first); // the same object: cached
+		// A write that bypasses withWriteLock (as a script or another tool might) still counts.
+		await db.$client.execute({
+			sql: "UPDATE modules SET warranty_starts_on = '2026-01-05', warranty_ends_on = '2036-01-05' WHERE serial = ?",
+			args: [serial]
+		});
+		const after = await getPublicRecord(db, serial, '2026-12-01');
+		expect(after.warranty).toMatchObject({ state: 'active', endsOn: '2036-01-05' });
+		expect(publicRecordEtag(after, 'b1')).not.toBe(publicRecordEtag(first, 'b1'));
+		expect(publicRecordEtag(after, 'b1')).toBe(publicRecordEtag(after, 'b1'));
+		expect(publicRecordEtag(after, 'b2')).not.toBe(publicRecordEtag(after, 'b1'));
+		// The day is part of the key: the same module read for the day after the warranty ends.
+		expect((await getPublicRecord(db, serial, '2036-01-06')).warranty.state).toBe('ended');
+		await expect(getPublicRecord(db, 'PL48-26-999998Z', '2026-12-01')).rejects.toThrow(
+			/not a module serial/
+		);
 	});
 
 	it('labels carry the Digital Link for GTIN models and /m/ otherwise; a reprint is on the timeline', async () => {

@@ -85,7 +85,7 @@ describe('reliabilityReport on the demo fleet', () => {
 		expect(bad.success).toBe(false);
 		if (!bad.success) {
 			const msgs = bad.error.issues.map((i) => i.message).join(' ');
-			expect(msgs).toMatch(/real date/);
+			expect(msgs).toMatch(/date does not exist/);
 			expect(msgs).toMatch(/by must be one of/);
 		}
 	});

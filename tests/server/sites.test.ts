@@ -294,7 +294,7 @@ describe('placing modules', () => {
 			`${serial} was shipped to Ridgeline Off-Grid Supply, not to this site's dealer (Saltmarsh Solar).`
 		);
 		await expect(placeModule(db, ridgeTech, systemId, null, serial)).rejects.toThrow(
-			`There is no system number ${systemId}.`
+			`System ${systemId} is not in the register.`
 		);
 	});
 

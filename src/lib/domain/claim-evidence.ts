@@ -3,8 +3,10 @@
  * inverter log's throughput, and figures no module can have produced. Pure (pass `now`).
  */
 
+import { calendarDay, isCalendarDate, type CalendarSettings } from './calendar';
+import { createFormat } from '$lib/format';
+
 const DAY_MS = 86_400_000;
-const isoDay = (d: Date) => d.toISOString().slice(0, 10);
 
 /** A problem with one field of the evidence form. */
 export interface Issue {
@@ -21,11 +23,9 @@ export interface EvidenceFigures {
 	log?: { lastAt?: string | null } | null;
 }
 
-/** Numbers as the assessment's sentences write them: grouped by spaces, at most `decimals`. */
-export function fmtNumber(x: number, decimals = 0): string {
-	const [int, frac] = Math.abs(x).toFixed(decimals).split('.');
-	const grouped = int.length > 3 ? int.replace(/\B(?=(\d{3})+(?!\d))/g, ' ') : int;
-	return (x < 0 ? '−' : '') + grouped + (frac && Number(frac) !== 0 ? `.${frac}` : '');
+/** Numbers in the assessment's sentences, printed by the one formatting module (`$lib/format`). */
+export function fmtNumber(x: number, decimals = 0, locale?: string): string {
+	return createFormat({ locale }).number(x, decimals);
 }
 
 /** Per-module throughput: the system's figure shared equally over its modules, or the module's own. */
@@ -52,10 +52,13 @@ export function implausibleEvidence(
 		moduleCount: number;
 		startsOn: string | null;
 		now: Date;
+		/** The assembler's calendar: "today" is its wall-calendar day, numbers in its locale. */
+		calendar: CalendarSettings;
 	}
 ): Issue[] {
 	const issues: Issue[] = [];
-	const today = isoDay(ctx.now);
+	const today = calendarDay(ctx.now, ctx.calendar.timeZone);
+	const fmtNumber = (x: number, d = 0) => createFormat(ctx.calendar).number(x, d);
 	const start = ctx.startsOn ? Date.parse(`${ctx.startsOn}T00:00:00Z`) : NaN;
 	const days = Number.isFinite(start) ? Math.max(1, (ctx.now.getTime() - start) / DAY_MS) : null;
 	const maxPerDay = 12 * ctx.model.maxContinuousC;
@@ -80,7 +83,7 @@ export function implausibleEvidence(
 		});
 	}
 	const lastDay = evidence.log?.lastAt?.slice(0, 10);
-	if (lastDay && /^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > today) {
+	if (lastDay && isCalendarDate(lastDay) && lastDay > today) {
 		issues.push({
 			path: 'log',
 			message: `The inverter log runs to ${evidence.log!.lastAt}, after today (${today}): check the inverter's clock or the file.`

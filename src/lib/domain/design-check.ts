@@ -5,8 +5,9 @@
  * `designCheckInputSchema` (src/lib/schemas/design-check.ts) before they reach here.
  */
 import { currentForCRate, type ModelSpec } from './model';
+import { bankShortCircuitA, judgeProtection, type ProtectiveDevice } from './electrical';
 
-/** The module data the check needs; a subset of ModelSpec. */
+/** The module data the check needs; a subset of ModelSpec, plus its DC internal resistance. */
 export type DesignModule = Pick<
 	ModelSpec,
 	| 'cellsSeries'
@@ -17,7 +18,10 @@ export type DesignModule = Pick<
 	| 'usableWh'
 	| 'maxContinuousC'
 	| 'burstC'
->;
+> & {
+	/** DC internal resistance of one module, mΩ (data sheet or factory-test mean); needed for the fault current. */
+	internalResistanceMOhm?: number;
+};
 
 export interface InverterWindow {
 	/** DC window the inverter operates in. */
@@ -42,6 +46,8 @@ export interface DesignCheckInput {
 	inverter: InverterWindow;
 	targetEnergyKWh?: number;
 	variants?: DesignVariant[];
+	/** The protective device planned for the battery circuit, judged when given. */
+	protection?: ProtectiveDevice;
 }
 
 export interface StringVoltage {
@@ -58,6 +64,10 @@ export interface DesignSuggestion {
 	energyKWh: number;
 	stringVoltage: StringVoltage;
 	fitsPreferred: boolean;
+	/** Whether the nominal string voltage lies inside the preferred window (or the window). */
+	nominalInPreferred: boolean;
+	/** Why this suggestion ranks where it does, in words with its numbers. */
+	reason: string;
 }
 
 export interface DesignCheckResult {
@@ -73,6 +83,18 @@ export interface DesignCheckResult {
 	fitsPreferred: boolean;
 	problems: string[];
 	suggestions: DesignSuggestion[];
+	/**
+	 * The bank's prospective short-circuit current, A: strings in parallel × module maximum
+	 * voltage ÷ module internal resistance (cable resistance neglected); null when the module's
+	 * internal resistance is not known.
+	 */
+	shortCircuitCurrentA: number | null;
+	/** The planned protective device judged by current, DC voltage and breaking capacity; null when none was given. */
+	protection: { fits: boolean; problems: string[] } | null;
+	/** With parallel strings: why each string needs its own overcurrent device; null for one string. */
+	stringProtectionNote: string | null;
+	/** How the suggestions are ranked, in one sentence. */
+	suggestionRanking: string;
 }
 
 export interface DesignCheckOptions {
@@ -182,6 +204,25 @@ export function checkDesign(
 				`check the module maker's limit and the fault current, or choose a higher-energy arrangement.`
 		);
 	}
+	const shortCircuitA =
+		module.internalResistanceMOhm !== undefined && module.internalResistanceMOhm > 0
+			? round(
+					bankShortCircuitA({
+						parallel,
+						series,
+						moduleMaxV: module.cellsSeries * module.cellMaxV,
+						moduleInternalResistanceMOhm: module.internalResistanceMOhm
+					}),
+					0
+				)
+			: null;
+	const protection = input.protection
+		? judgeProtection(input.protection, {
+				continuousA,
+				stringMaxV: stringVoltage.max,
+				shortCircuitA
+			})
+		: null;
 	const target = input.targetEnergyKWh;
 	if (target !== undefined && energyKWh < target) {
 		problems.push(
@@ -200,15 +241,46 @@ export function checkDesign(
 		fitsWindow,
 		fitsPreferred,
 		problems,
-		suggestions: suggestDesigns(input.variants ?? [], inverter, target ?? energyKWh, options)
+		suggestions: suggestDesigns(input.variants ?? [], inverter, target ?? energyKWh, options),
+		shortCircuitCurrentA: shortCircuitA,
+		protection: protection ? { fits: protection.fits, problems: protection.problems } : null,
+		stringProtectionNote: parallel > 1 ? stringProtectionNote(parallel, shortCircuitA) : null,
+		suggestionRanking: SUGGESTION_RANKING
 	};
+}
+
+/** Why paralleled strings each need an own overcurrent device (common practice). */
+export function stringProtectionNote(parallel: number, shortCircuitA: number | null): string {
+	const fed =
+		shortCircuitA === null
+			? 'the other strings'
+			: `the other ${parallel - 1} string${parallel === 2 ? '' : 's'} (up to ${Math.round(((parallel - 1) / parallel) * shortCircuitA)} A of the ${Math.round(shortCircuitA)} A)`;
+	return (
+		`Give each of the ${parallel} strings its own overcurrent device: a fault inside one string is fed by ${fed}, ` +
+		`and only a device in that string separates it from them (common practice).`
+	);
+}
+
+export const SUGGESTION_RANKING =
+	'Ranked by: nominal string voltage inside the preferred window first, then the smallest energy surplus over the target, ' +
+	'then the nominal voltage nearest the middle of the preferred window, then the fewest modules.';
+
+/** Where the nominal voltage sits in a range: 0 in the middle, 1 at either end, above 1 outside. */
+export function offCentre(nominal: number, lo: number, hi: number): number {
+	const mid = (lo + hi) / 2;
+	const half = (hi - lo) / 2;
+	return half > 0 ? Math.abs(nominal - mid) / half : nominal === mid ? 0 : Infinity;
 }
 
 /**
  * Every variant × series (1 up to what the window's maximum allows) × parallel
  * (1..16 by default) that fits the inverter window and reaches the target usable energy,
- * ranked: preferred-range fit first, then smallest energy surplus, then fewest modules.
- * Without a target the checked design's own energy is used.
+ * ranked as an installer would pick (SUGGESTION_RANKING): the nominal voltage inside the
+ * preferred window, then the smallest energy surplus, then the nominal voltage nearest the
+ * middle of the preferred window, then the fewest modules. The whole min-to-max range of a
+ * titanate string spans about 1.5 : 1, so it rarely fits a narrow preferred window; the
+ * nominal voltage is where it runs most of the time. Without a target the checked design's
+ * own energy is used.
  */
 export function suggestDesigns(
 	variants: DesignVariant[],
@@ -218,7 +290,8 @@ export function suggestDesigns(
 ): DesignSuggestion[] {
 	const maxP = options.maxSuggestionParallel ?? 16;
 	const count = options.suggestionCount ?? 5;
-	const found: (DesignSuggestion & { modules: number })[] = [];
+	const found: (DesignSuggestion & { modules: number; centre: number })[] = [];
+	const [plo, phi] = preferredRange(inverter);
 	for (const { code, module } of variants) {
 		for (let s = 1; s <= MAX_SERIES; s++) {
 			const stringVoltage = stringVoltageOf(module, s);
@@ -234,7 +307,10 @@ export function suggestDesigns(
 					energyKWh,
 					stringVoltage,
 					fitsPreferred: fitsPreferredRange(stringVoltage, inverter),
-					modules: s * p
+					nominalInPreferred: stringVoltage.nominal >= plo && stringVoltage.nominal <= phi,
+					reason: '',
+					modules: s * p,
+					centre: offCentre(stringVoltage.nominal, plo, phi)
 				});
 				// Larger p for the same variant and series only adds surplus and modules,
 				// so it would never outrank this one; listing it would crowd out real choices.
@@ -242,12 +318,37 @@ export function suggestDesigns(
 			}
 		}
 	}
-	// Array.prototype.sort is stable, so ties keep variant order, then series.
+	// Surplus compared to the watt-hour, so float noise cannot reorder equal energies.
+	const surplusWh = (x: { energyKWh: number }) =>
+		Math.round((x.energyKWh - targetEnergyKWh) * 1000);
+	// Array.prototype.sort is stable, so full ties keep variant order, then series.
 	found.sort(
 		(a, b) =>
-			Number(b.fitsPreferred) - Number(a.fitsPreferred) ||
-			a.energyKWh - targetEnergyKWh - (b.energyKWh - targetEnergyKWh) ||
+			Number(b.nominalInPreferred) - Number(a.nominalInPreferred) ||
+			surplusWh(a) - surplusWh(b) ||
+			a.centre - b.centre ||
 			a.modules - b.modules
 	);
-	return found.slice(0, count).map(({ modules: _modules, ...s }) => s);
+	return found.slice(0, count).map(({ modules, centre, ...s }) => ({
+		...s,
+		reason: suggestionReason(s, modules, centre, [plo, phi], targetEnergyKWh)
+	}));
+}
+
+function suggestionReason(
+	s: DesignSuggestion,
+	modules: number,
+	centre: number,
+	[lo, hi]: [number, number],
+	targetKWh: number
+): string {
+	const where = s.nominalInPreferred
+		? `nominal ${v1(s.stringVoltage.nominal)} inside the preferred ${v1(lo)} to ${v1(hi)}, ${Math.round(centre * 100)} % of the way from its middle to its edge`
+		: `nominal ${v1(s.stringVoltage.nominal)} outside the preferred ${v1(lo)} to ${v1(hi)}`;
+	const surplus = s.energyKWh - targetKWh;
+	const energy =
+		Math.abs(surplus) < 0.0005
+			? `${s.energyKWh.toFixed(1)} kWh, exactly the target`
+			: `${s.energyKWh.toFixed(1)} kWh, ${surplus.toFixed(2)} kWh above the ${targetKWh.toFixed(1)} kWh target`;
+	return `${where}; ${energy}; ${modules} module${modules === 1 ? '' : 's'}.`;
 }

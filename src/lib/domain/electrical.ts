@@ -66,44 +66,181 @@ export interface InsulationRequirement {
 	testVoltageV: number;
 	minMohm: number;
 	band: InsulationBand;
+	/** The voltage the band was chosen by: the highest the circuit reaches in service. */
+	byVoltageV: number;
+	/** Set when the circuit was called SELV/PELV but reaches more than 120 V DC, so that row was refused. */
+	selvRefused?: string;
 }
 
+/** Highest ripple-free DC voltage of an extra-low-voltage (SELV/PELV) circuit (IEC 60364-4-41 §414, IEC 61140; from memory). */
+export const SELV_DC_LIMIT_V = 120;
+
 /**
- * Minimum insulation resistance and DC test voltage by circuit, IEC 60364-6:2016
- * Table 6.1 (same as BS 7671:2018 Table 64):
- * SELV/PELV 250 V / 0.5 MΩ; up to and including 500 V: 500 V / 1.0 MΩ;
- * above 500 V: 1000 V / 1.0 MΩ. The band follows the circuit type, so SELV/PELV is a
- * flag, not a voltage; 500 V is in the middle row and 501 V in the last.
+ * Before any insulation test on a battery circuit (common practice): it cannot be made dead,
+ * and the test voltage destroys or falsifies through electronics and surge protection.
+ */
+export const INSULATION_TEST_PRECAUTIONS = [
+	'A battery circuit cannot be made dead: its conductors stay live against each other while the test runs, so test each pole against earth with the battery isolator open.',
+	'Disconnect the inverter, battery management electronics and surge protective devices before the test: the test voltage can destroy them, and they falsify the reading.'
+];
+
+/**
+ * Minimum insulation resistance and DC test voltage, IEC 60364-6:2016 Table 6.1 (same as
+ * BS 7671:2018 Table 64): SELV/PELV 250 V / 0.5 MΩ; up to and including 500 V: 500 V /
+ * 1.0 MΩ; above 500 V: 1000 V / 1.0 MΩ. The row is chosen by the highest voltage the
+ * circuit reaches in service (the string maximum, not its nominal voltage): the
+ * conservative reading, since a 465 V nominal string reaches 545 V. The SELV/PELV row is a
+ * matter of how the circuit is built, and is accepted only up to 120 V DC.
  */
 export function insulationRequirement(
-	circuitNominalV: number,
+	circuitMaxV: number,
 	options: { selvPelv?: boolean } = {}
 ): InsulationRequirement {
-	requirePositive('Circuit nominal voltage', circuitNominalV);
-	if (options.selvPelv) return { testVoltageV: 250, minMohm: 0.5, band: 'selv_pelv' };
-	if (circuitNominalV <= 500) return { testVoltageV: 500, minMohm: 1.0, band: 'up_to_500v' };
-	return { testVoltageV: 1000, minMohm: 1.0, band: 'above_500v' };
+	requirePositive('Circuit maximum voltage', circuitMaxV);
+	let selvRefused: string | undefined;
+	if (options.selvPelv) {
+		if (circuitMaxV <= SELV_DC_LIMIT_V)
+			return { testVoltageV: 250, minMohm: 0.5, band: 'selv_pelv', byVoltageV: circuitMaxV };
+		selvRefused = `The circuit reaches ${circuitMaxV} V DC, above the ${SELV_DC_LIMIT_V} V limit of SELV/PELV, so the SELV/PELV row does not apply.`;
+	}
+	const row =
+		circuitMaxV <= 500
+			? { testVoltageV: 500, minMohm: 1.0, band: 'up_to_500v' as const }
+			: { testVoltageV: 1000, minMohm: 1.0, band: 'above_500v' as const };
+	return { ...row, byVoltageV: circuitMaxV, ...(selvRefused ? { selvRefused } : {}) };
 }
 
 /**
- * Smallest overcurrent device rating for a continuous current: 125 % of it.
+ * Smallest overcurrent device rating for a continuous current: `factor` (1.25) times it.
  * US NEC 210.20 / 706.30 style rule, FROM MEMORY (not yet read in the code text);
- * local codes take precedence.
+ * local codes take precedence, and the rule set may set another factor.
  */
-export function minOvercurrentRatingA(continuousA: number): number {
+export function minOvercurrentRatingA(continuousA: number, factor = 1.25): number {
 	if (!Number.isFinite(continuousA) || continuousA < 0) {
 		throw new RangeError(`Continuous current must be zero or positive, got ${continuousA}`);
 	}
-	return 1.25 * continuousA;
+	requirePositive('Overcurrent factor', factor);
+	return factor * continuousA;
 }
 
 /**
- * Prospective short-circuit current of a battery ≈ U / R_internal, from memory; it
- * ignores cable and connection resistance, so it is the upper bound a device's breaking
- * capacity must exceed.
+ * Prospective short-circuit current of a battery ≈ U / R_internal: the battery as a voltage
+ * source behind its internal resistance (IEC 61660-1, from memory until read). It ignores
+ * cable and connection resistance, so it is the upper bound a device's breaking capacity
+ * must reach.
  */
 export function prospectiveShortCircuitA(voltageV: number, internalResistanceOhm: number): number {
 	requirePositive('Voltage', voltageV);
 	requirePositive('Internal resistance', internalResistanceOhm);
 	return voltageV / internalResistanceOhm;
+}
+
+/**
+ * The bank's prospective short-circuit current at its terminals: P strings of S modules,
+ * each string S × U_max behind S × R_module, all strings in parallel, so
+ * I_k = P × U_module,max / R_module (S cancels; cable resistance neglected: conservative).
+ * Worked example: 2 strings of modules with 16.5 V maximum and 2.0 mΩ → 16 500 A.
+ */
+export function bankShortCircuitA(bank: {
+	parallel: number;
+	series: number;
+	moduleMaxV: number;
+	moduleInternalResistanceMOhm: number;
+}): number {
+	requirePositive('Strings in parallel', bank.parallel);
+	requirePositive('Modules in series', bank.series);
+	const stringV = bank.series * bank.moduleMaxV;
+	const stringOhm = (bank.series * bank.moduleInternalResistanceMOhm) / 1000;
+	return bank.parallel * prospectiveShortCircuitA(stringV, stringOhm);
+}
+
+export interface ProtectiveDevice {
+	ratedCurrentA: number;
+	ratedVoltageDcV: number;
+	breakingCapacityKA: number;
+}
+
+export interface ProtectionDuty {
+	/** Continuous current the device carries. */
+	continuousA: number;
+	/** Highest string voltage (all cells at their maximum). */
+	stringMaxV: number;
+	/** Prospective short-circuit current the device must break; null when the module's internal resistance is unknown. */
+	shortCircuitA: number | null;
+	/** Factor on the continuous current (1.25 by default). */
+	overcurrentFactor?: number;
+}
+
+export interface ProtectionVerdict {
+	fits: boolean;
+	/** Each failure in words with its numbers; empty when the device fits. */
+	problems: string[];
+	/** The three checks, each with its numbers, for a certificate or a screen. */
+	checks: { key: 'current' | 'voltage' | 'breaking'; ok: boolean; text: string }[];
+}
+
+const f1 = (x: number) => (Math.round(x * 10) / 10).toString();
+const kA = (a: number) => `${(Math.round(a / 100) / 10).toFixed(1)} kA`;
+
+/**
+ * Judges a protective device against its duty: current rating at least the factor × the
+ * continuous current (NEC 210.20 / 706.30 style, from memory), DC voltage rating at or above
+ * the string maximum, and breaking capacity at or above the prospective short-circuit
+ * current (IEC 60947-2 / IEC 60269 DC ratings, from memory). Ties pass.
+ */
+export function judgeProtection(device: ProtectiveDevice, duty: ProtectionDuty): ProtectionVerdict {
+	const factor = duty.overcurrentFactor ?? 1.25;
+	const minA = minOvercurrentRatingA(duty.continuousA, factor);
+	const checks: ProtectionVerdict['checks'] = [];
+	const pct = `${f1(factor * 100)} %`;
+	checks.push(
+		device.ratedCurrentA + 1e-9 >= minA
+			? {
+					key: 'current',
+					ok: true,
+					text: `rated ${f1(device.ratedCurrentA)} A, at least ${f1(minA)} A (${pct} of ${f1(duty.continuousA)} A continuous)`
+				}
+			: {
+					key: 'current',
+					ok: false,
+					text: `rated ${f1(device.ratedCurrentA)} A, below ${f1(minA)} A (${pct} of ${f1(duty.continuousA)} A continuous): choose a device rated ${f1(minA)} A or more`
+				}
+	);
+	checks.push(
+		device.ratedVoltageDcV + 1e-9 >= duty.stringMaxV
+			? {
+					key: 'voltage',
+					ok: true,
+					text: `DC voltage rating ${f1(device.ratedVoltageDcV)} V, at or above the ${f1(duty.stringMaxV)} V string maximum`
+				}
+			: {
+					key: 'voltage',
+					ok: false,
+					text: `DC voltage rating ${f1(device.ratedVoltageDcV)} V, below the ${f1(duty.stringMaxV)} V string maximum: choose a device rated for at least ${f1(duty.stringMaxV)} V DC`
+				}
+	);
+	if (duty.shortCircuitA === null) {
+		checks.push({
+			key: 'breaking',
+			ok: false,
+			text: `breaking capacity ${f1(device.breakingCapacityKA)} kA cannot be judged: the module's internal resistance is not on record`
+		});
+	} else {
+		const breakingA = device.breakingCapacityKA * 1000;
+		checks.push(
+			breakingA + 1e-6 >= duty.shortCircuitA
+				? {
+						key: 'breaking',
+						ok: true,
+						text: `breaking capacity ${f1(device.breakingCapacityKA)} kA, at or above the ${kA(duty.shortCircuitA)} (${Math.round(duty.shortCircuitA)} A) prospective short-circuit current`
+					}
+				: {
+						key: 'breaking',
+						ok: false,
+						text: `breaking capacity ${f1(device.breakingCapacityKA)} kA, below the ${kA(duty.shortCircuitA)} (${Math.round(duty.shortCircuitA)} A) the bank can deliver into a short circuit: the device could fail to break the fault; choose one rated to break at least ${kA(duty.shortCircuitA)} DC`
+					}
+		);
+	}
+	const problems = checks.filter((c) => !c.ok).map((c) => `Protective device ${c.text}.`);
+	return { fits: problems.length === 0, problems, checks };
 }

@@ -228,7 +228,14 @@ function binaryReason(text: string): string | null {
  * compares field counts over the first rows; reading the header is simpler to predict.)
  */
 function detectDelimiter(text: string): ',' | ';' {
-	const firstLine = text.split(/\r\n|\n|\r/).find((l) => l.trim() !== '') ?? '';
+	// The first non-blank line, found without splitting the whole file into lines.
+	let firstLine = '';
+	for (let at = 0; at < text.length && firstLine.trim() === '';) {
+		let end = at;
+		while (end < text.length && text[end] !== '\n' && text[end] !== '\r') end++;
+		firstLine = text.slice(at, end);
+		at = end + 1;
+	}
 	let commas = 0;
 	let semicolons = 0;
 	let quoted = false;
@@ -240,32 +247,20 @@ function detectDelimiter(text: string): ',' | ';' {
 	return semicolons > commas ? ';' : ',';
 }
 
-/** Split a rig file into header and rows; file-level problems end the import with one message. */
-export function parseFactoryCsv(text: string): ParseResult {
-	const body = text.replace(/^\uFEFF/, '');
-	if (body.trim() === '') return { ok: false, error: 'The file is empty.' };
-	const binary = binaryReason(body);
-	if (binary) return { ok: false, error: binary };
-
-	const delimiter = detectDelimiter(body);
-	const parsed = Papa.parse<string[]>(body, { delimiter, skipEmptyLines: false });
-	const unclosed = parsed.errors.find((e) => e.code === 'MissingQuotes');
-	if (unclosed) {
+/** The header's columns: which column each cell names, where each sits, or why the file cannot be read. */
+function readHeader(header: string[]):
+	| { ok: false; error: string }
+	| {
+			ok: true;
+			headerMap: Partial<Record<FactoryColumn, string>>;
+			positions: Partial<Record<FactoryColumn, number>>;
+			ignoredColumns: string[];
+	  } {
+	if (header.length > MAX_COLUMNS)
 		return {
 			ok: false,
-			error: `Row ${(unclosed.row ?? 0) + 1} has a double quote (") that is never closed, so the rest of the file cannot be read. Remove the stray quote or double it ("").`
+			error: `The header row has ${header.length} columns; a factory test file has at most ${MAX_COLUMNS}. Check that this is the rig's results file.`
 		};
-	}
-	const records = parsed.data;
-	const headerIndex = records.findIndex((r) => !isBlankRecord(r));
-	if (headerIndex < 0) return { ok: false, error: 'The file is empty.' };
-	if (records[headerIndex].length > MAX_COLUMNS)
-		return {
-			ok: false,
-			error: `The header row has ${records[headerIndex].length} columns; a factory test file has at most ${MAX_COLUMNS}. Check that this is the rig's results file.`
-		};
-	const header = records[headerIndex].map((h) => h.trim());
-
 	const headerMap: Partial<Record<FactoryColumn, string>> = {};
 	const positions: Partial<Record<FactoryColumn, number>> = {};
 	const ignoredColumns: string[] = [];
@@ -307,6 +302,57 @@ export function parseFactoryCsv(text: string): ParseResult {
 		};
 	}
 
+	return { ok: true, headerMap, positions, ignoredColumns };
+}
+
+/** Why a record cannot be split into the header's columns, or null. */
+function recordProblem(
+	record: string[],
+	columns: number,
+	delimiter: ',' | ';',
+	badQuote: boolean
+): string | null {
+	if (badQuote)
+		return 'A quoted value has text after its closing quote; put the whole value in quotes and double any quote inside it ("").';
+	// Spreadsheets sometimes write trailing empty cells; only non-empty extras are a problem.
+	if (record.length <= columns) return null;
+	for (let k = columns; k < record.length; k++) {
+		if (record[k].trim() !== '') {
+			const hint =
+				delimiter === ','
+					? ' A decimal comma or an unquoted comma inside a value splits it in two; write numbers with a decimal point.'
+					: ' A semicolon inside a value must be quoted.';
+			return `This row has ${record.length} values but the header has ${columns} columns.${hint}`;
+		}
+	}
+	return null;
+}
+
+/** Split a rig file into header and rows; file-level problems end the import with one message. */
+export function parseFactoryCsv(text: string): ParseResult {
+	const body = text.replace(/^\uFEFF/, '');
+	if (body.trim() === '') return { ok: false, error: 'The file is empty.' };
+	const binary = binaryReason(body);
+	if (binary) return { ok: false, error: binary };
+
+	const delimiter = detectDelimiter(body);
+	const parsed = Papa.parse<string[]>(body, { delimiter, skipEmptyLines: false });
+	const unclosed = parsed.errors.find((e) => e.code === 'MissingQuotes');
+	if (unclosed) {
+		return {
+			ok: false,
+			error: `Row ${(unclosed.row ?? 0) + 1} has a double quote (") that is never closed, so the rest of the file cannot be read. Remove the stray quote or double it ("").`
+		};
+	}
+	const records = parsed.data;
+	const headerIndex = records.findIndex((r) => !isBlankRecord(r));
+	if (headerIndex < 0) return { ok: false, error: 'The file is empty.' };
+	const header = records[headerIndex].map((h) => h.trim());
+
+	const head = readHeader(header);
+	if (!head.ok) return head;
+	const { headerMap, positions, ignoredColumns } = head;
+
 	const columnPositions = Object.entries(positions) as [FactoryColumn, number][];
 	const badQuotes = new Set(
 		parsed.errors.filter((e) => e.code === 'InvalidQuotes').map((e) => e.row)
@@ -317,29 +363,9 @@ export function parseFactoryCsv(text: string): ParseResult {
 		const record = records[i];
 		if (isBlankRecord(record)) continue;
 		const row = i + 1;
-		if (badQuotes.has(i)) {
-			rowErrors.push({
-				row,
-				column: '',
-				message:
-					'A quoted value has text after its closing quote; put the whole value in quotes and double any quote inside it ("").'
-			});
-			continue;
-		}
-		// Spreadsheets sometimes write trailing empty cells; only non-empty extras are a problem.
-		if (
-			record.length > header.length &&
-			!record.slice(header.length).every((c) => c.trim() === '')
-		) {
-			const hint =
-				delimiter === ','
-					? ' A decimal comma or an unquoted comma inside a value splits it in two; write numbers with a decimal point.'
-					: ' A semicolon inside a value must be quoted.';
-			rowErrors.push({
-				row,
-				column: '',
-				message: `This row has ${record.length} values but the header has ${header.length} columns.${hint}`
-			});
+		const problem = recordProblem(record, header.length, delimiter, badQuotes.has(i));
+		if (problem) {
+			rowErrors.push({ row, column: '', message: problem });
 			continue;
 		}
 		const raw: Partial<Record<FactoryColumn, string>> = {};
@@ -694,46 +720,309 @@ export type FileValidation =
 			errors: RowError[];
 	  };
 
-/**
- * Parse and check a whole file: the usual entry point for an import. A row repeating an
- * earlier row's key (`rowKey`) is reported as an error on the later row.
- */
-export function validateFactoryCsv(text: string, now: Date): FileValidation {
-	const parsed = parseFactoryCsv(text);
-	if (!parsed.ok) return parsed;
-	const errors: RowError[] = [...parsed.rowErrors];
-	const rows: { row: number; value: FactoryTestRow }[] = [];
-	const seen = new Map<string, number>();
-	const shown = (column: string) => parsed.headerMap[column as FactoryColumn] ?? column;
-	for (let i = 0; i < parsed.rows.length; i++) {
-		const p = parsed.rows[i];
-		// Each raw row is dropped once judged, so raw and validated rows are not all held at once.
-		(parsed.rows as unknown[])[i] = undefined;
-		const v = validateRowValues(p.raw, p.row, now, { decimalComma: parsed.decimalComma });
-		if (!v.ok) {
-			errors.push(...v.errors.map((e) => ({ ...e, column: shown(e.column) })));
-			continue;
-		}
-		const key = rowKey(v.value);
-		const first = seen.get(key);
-		if (first !== undefined) {
-			errors.push({
-				row: p.row,
-				column: shown('serial'),
-				message: `Same serial, test time and rig as row ${first}; remove the duplicate row.`
-			});
-			continue;
-		}
-		seen.set(key, p.row);
-		rows.push({ row: p.row, value: v.value });
+/** A checked row as `scanFactoryCsv` hands it over: the instant in epoch milliseconds. */
+export interface ScannedRow extends Omit<FactoryTestRow, 'testedAt'> {
+	testedAtMs: number;
+	/** The serial in capitals, as the register stores it. */
+	serialKey: string;
+	/** `rowKey` of the row, with the serial in capitals. */
+	key: string;
+}
+
+export type FileScan =
+	| { ok: false; error: string }
+	| {
+			ok: true;
+			headerMap: Partial<Record<FactoryColumn, string>>;
+			ignoredColumns: string[];
+			/** Data rows that are not blank, accepted or not. */
+			rowsTotal: number;
+			/** Sorted by row; `column` is the header as written in the file. */
+			errors: RowError[];
+	  };
+
+/** About this many characters are split and checked at a time. */
+const SLICE_CHARS = 256 * 1024;
+
+/** The file's line break, from its first one (Papa Parse is told it, so every slice agrees). */
+function lineBreak(text: string): '\r\n' | '\n' | '\r' {
+	for (let i = 0; i < text.length && i < 1 << 20; i++) {
+		const c = text.charCodeAt(i);
+		if (c === 10) return '\n';
+		if (c === 13) return text.charCodeAt(i + 1) === 10 ? '\r\n' : '\r';
 	}
+	return '\r\n';
+}
+
+/**
+ * Where the slice starting at `from` ends: just after the first line break at or past
+ * `from + size` that is outside a quoted value (RFC 4180: a quote opens a value only at
+ * its start; `""` inside is a quote; a quote followed by a delimiter or line break closes).
+ */
+function sliceEnd(text: string, from: number, size: number, delimiter: string, nl: string): number {
+	const d = delimiter.charCodeAt(0);
+	const last = nl.charCodeAt(nl.length - 1);
+	const crlf = nl.length === 2;
+	let quoted = false;
+	let fieldStart = true;
+	for (let i = from; i < text.length; i++) {
+		const c = text.charCodeAt(i);
+		if (quoted) {
+			if (c !== 34) continue;
+			const n = text.charCodeAt(i + 1);
+			if (n === 34) i++;
+			else if (n === d || n === 13 || n === 10 || Number.isNaN(n)) quoted = false;
+			continue;
+		}
+		if (c === 34 && fieldStart) {
+			quoted = true;
+			fieldStart = false;
+		} else if (c === d) fieldStart = true;
+		else if (c === last && (!crlf || text.charCodeAt(i - 1) === 13)) {
+			fieldStart = true;
+			if (i >= from + size) return i + 1;
+		} else fieldStart = crlf && c === 13;
+	}
+	return text.length;
+}
+
+type Positions = Record<FactoryColumn, number>;
+
+const isDigit = (c: number) => c >= 48 && c <= 57;
+const DAYS = [31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31];
+
+/**
+ * The common form "2026-11-01T06:00:00Z" (optional fraction) as epoch ms, or NaN for
+ * anything else, which `parseTestedAt` then reads with its explanations. Reads the
+ * characters directly: no regular expression, no Date object.
+ */
+function quickInstant(s: string): number {
+	if (s.length < 20 || s.length > 40 || s.charCodeAt(s.length - 1) !== 90) return NaN;
+	const at = (i: number, n: number) => {
+		let v = 0;
+		for (let k = i; k < i + n; k++) {
+			const c = s.charCodeAt(k);
+			if (!isDigit(c)) return NaN;
+			v = v * 10 + c - 48;
+		}
+		return v;
+	};
+	if (s[4] !== '-' || s[7] !== '-' || s[10] !== 'T' || s[13] !== ':' || s[16] !== ':') return NaN;
+	const y = at(0, 4);
+	const mo = at(5, 2);
+	const d = at(8, 2);
+	const h = at(11, 2);
+	const mi = at(14, 2);
+	const sec = at(17, 2);
+	let ms = 0;
+	if (s.length > 20) {
+		if (s[19] !== '.' && s[19] !== ',') return NaN;
+		const digits = s.length - 21;
+		if (digits < 1 || digits > 3) return NaN;
+		ms = at(20, digits) * 10 ** (3 - digits);
+	}
+	if (!(y >= 2000) || !(mo >= 1 && mo <= 12) || !(h <= 23) || !(mi <= 59) || !(sec <= 59))
+		return NaN;
+	const leap = mo === 2 && y % 4 === 0 && (y % 100 !== 0 || y % 400 === 0) ? 1 : 0;
+	if (!(d >= 1 && d <= DAYS[mo - 1] + leap)) return NaN;
+	return Date.UTC(y, mo - 1, d, h, mi, sec, ms);
+}
+
+/** A plain number in range, null when empty, undefined when `readNumber` must explain. */
+function quickNumber(s: string, rule: NumberRule): number | null | undefined {
+	if (s === '') return null;
+	if (!POINT_NUMBER.test(s)) return undefined;
+	const v = Number(s);
+	if ((rule.minExclusive ? v <= rule.min : v < rule.min) || v > rule.max) return undefined;
+	return v;
+}
+
+/**
+ * The usual row, checked without building a row object: true with `out` filled when every
+ * value is plainly valid, false when anything needs `validateRowValues` and its messages.
+ * It accepts only rows `validateRowValues` accepts, with the same values.
+ */
+function quickRow(rec: string[], at: Positions, nowMs: number, out: ScannedRow): boolean {
+	const cell = (c: FactoryColumn) => (at[c] < 0 ? '' : (rec[at[c]] ?? '').trim());
+	const serial = cell('serial');
+	if (serial === '') return false;
+	for (let i = 0; i < serial.length; i++) {
+		const c = serial.charCodeAt(i);
+		if (c < 32 || c === 127) return false;
+	}
+	const t = quickInstant(cell('tested_at'));
+	if (!(t <= nowMs + CLOCK_SKEW_MS)) return false;
+	const capacityAh = quickNumber(cell('capacity_ah'), RULES.capacity_ah);
+	const energyWh = quickNumber(cell('energy_wh'), RULES.energy_wh);
+	const ocvV = quickNumber(cell('ocv_v'), RULES.ocv_v);
+	const cellSpreadMv = quickNumber(cell('cell_spread_mv'), RULES.cell_spread_mv);
+	const insulationMohm = quickNumber(cell('insulation_mohm'), RULES.insulation_mohm);
+	const ambientC = quickNumber(cell('ambient_c'), RULES.ambient_c);
+	const dcirMohm = quickNumber(cell('dcir_mohm'), RULES.dcir_mohm);
+	if (
+		capacityAh == null ||
+		cellSpreadMv == null ||
+		insulationMohm == null ||
+		dcirMohm == null ||
+		energyWh === undefined ||
+		ocvV === undefined ||
+		ambientC === undefined
+	)
+		return false;
+	out.serial = serial;
+	out.testedAtMs = t;
+	out.capacityAh = capacityAh;
+	out.energyWh = energyWh;
+	out.dcirMohm = dcirMohm;
+	out.dcirSource = 'measured';
+	out.ocvV = ocvV;
+	out.cellSpreadMv = cellSpreadMv;
+	out.insulationMohm = insulationMohm;
+	out.ambientC = ambientC;
+	out.rig = cell('rig') || null;
+	out.operator = cell('operator') || null;
+	out.pulse = null;
+	return true;
+}
+
+/**
+ * Reads and checks a whole rig file in one pass, slice by slice: each slice (about 256 KB,
+ * ending at a line break outside quotes) is split by Papa Parse and its rows checked at
+ * once, so the file's records, raw rows and values are never all held together. Each valid
+ * row that does not repeat an earlier row's key goes to `accept` in one object reused for
+ * every row (copy what you keep). The generator yields after each slice, so a server can
+ * let other requests run; `validateFactoryCsv` runs it to the end at once.
+ */
+export function* scanFactoryCsv(
+	text: string,
+	now: Date,
+	accept: (row: number, value: ScannedRow) => void
+): Generator<void, FileScan, void> {
+	const body = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
+	if (body.trim() === '') return { ok: false, error: 'The file is empty.' };
+	const binary = binaryReason(body);
+	if (binary) return { ok: false, error: binary };
+	const delimiter = detectDelimiter(body);
+	const newline = lineBreak(body);
+	const decimalComma = delimiter === ';';
+	const nowMs = now.getTime();
+
+	const errors: RowError[] = [];
+	const seen = new Map<string, number>();
+	const out = {} as ScannedRow;
+	let head: Extract<ReturnType<typeof readHeader>, { ok: true }> | null = null;
+	let columns = 0;
+	const at = Object.fromEntries(COLUMNS.map((c) => [c, -1])) as Positions;
+	const shown = (column: string) => head?.headerMap[column as FactoryColumn] ?? column;
+	let rowsTotal = 0;
+	let base = 0;
+
+	for (let start = 0; start < body.length;) {
+		let end = sliceEnd(body, start, SLICE_CHARS, delimiter, newline);
+		const parse = () =>
+			Papa.parse<string[]>(body.slice(start, end), { delimiter, newline, skipEmptyLines: false });
+		let parsed = parse();
+		let unclosed = parsed.errors.find((e) => e.code === 'MissingQuotes');
+		if (unclosed && end < body.length) {
+			// The slice was cut inside a value after all: read the rest of the file as one.
+			end = body.length;
+			parsed = parse();
+			unclosed = parsed.errors.find((e) => e.code === 'MissingQuotes');
+		}
+		if (unclosed) {
+			return {
+				ok: false,
+				error: `Row ${base + (unclosed.row ?? 0) + 1} has a double quote (") that is never closed, so the rest of the file cannot be read. Remove the stray quote or double it ("").`
+			};
+		}
+		const records = parsed.data;
+		let count = records.length;
+		// Papa Parse reads an empty record after a slice's final line break: not a line of the file.
+		const last = records[count - 1];
+		if (end > start && body.endsWith(newline, end) && last?.length === 1 && last[0] === '') count--;
+		const badQuotes = new Set(
+			parsed.errors.filter((e) => e.code === 'InvalidQuotes').map((e) => e.row)
+		);
+		for (let i = 0; i < count; i++) {
+			const record = records[i];
+			if (isBlankRecord(record)) continue;
+			const row = base + i + 1;
+			if (!head) {
+				const header = record.map((h) => h.trim());
+				const h = readHeader(header);
+				if (!h.ok) return h;
+				head = h;
+				columns = header.length;
+				for (const [c, p] of Object.entries(h.positions)) at[c as FactoryColumn] = p;
+				continue;
+			}
+			rowsTotal++;
+			const problem = recordProblem(record, columns, delimiter, badQuotes.has(i));
+			if (problem) {
+				errors.push({ row, column: '', message: problem });
+				continue;
+			}
+			if (!quickRow(record, at, nowMs, out)) {
+				const raw: Partial<Record<FactoryColumn, string>> = {};
+				for (const c of COLUMNS) if (at[c] >= 0) raw[c] = record[at[c]] ?? '';
+				const v = validateRowValues(raw, row, now, { decimalComma });
+				if (!v.ok) {
+					for (const e of v.errors) errors.push({ ...e, column: shown(e.column) });
+					continue;
+				}
+				const { testedAt, ...rest } = v.value;
+				Object.assign(out, rest, { testedAtMs: testedAt.getTime() });
+			}
+			out.serialKey = out.serial.toUpperCase();
+			out.key = `${out.serialKey}\u001f${out.testedAtMs}\u001f${out.rig ?? ''}`;
+			const first = seen.get(out.key);
+			if (first !== undefined) {
+				errors.push({
+					row,
+					column: shown('serial'),
+					message: `Same serial, test time and rig as row ${first}; remove the duplicate row.`
+				});
+				continue;
+			}
+			seen.set(out.key, row);
+			accept(row, out);
+		}
+		base += count;
+		start = end;
+		yield;
+	}
+	if (!head) return { ok: false, error: 'The file is empty.' };
+	if (rowsTotal === 0) return { ok: false, error: 'The file has a header but no data rows.' };
 	errors.sort((a, b) => a.row - b.row);
 	return {
 		ok: true,
-		headerMap: parsed.headerMap,
-		ignoredColumns: parsed.ignoredColumns,
-		rows,
+		headerMap: head.headerMap,
+		ignoredColumns: head.ignoredColumns,
+		rowsTotal,
 		errors
+	};
+}
+
+/**
+ * Parse and check a whole file at once (`scanFactoryCsv` run to its end). A row repeating
+ * an earlier row's key (`rowKey`, serial compared in capitals) is an error on the later row.
+ */
+export function validateFactoryCsv(text: string, now: Date): FileValidation {
+	const rows: { row: number; value: FactoryTestRow }[] = [];
+	const scan = scanFactoryCsv(text, now, (row, v) => {
+		const { testedAtMs, serialKey: _s, key: _k, ...rest } = v;
+		rows.push({ row, value: { ...rest, testedAt: new Date(testedAtMs) } });
+	});
+	let step = scan.next();
+	while (!step.done) step = scan.next();
+	const file = step.value;
+	if (!file.ok) return file;
+	return {
+		ok: true,
+		headerMap: file.headerMap,
+		ignoredColumns: file.ignoredColumns,
+		rows,
+		errors: file.errors
 	};
 }
 

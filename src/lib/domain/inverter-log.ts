@@ -4,6 +4,7 @@
  * Pure: the text comes in, a summary goes out.
  */
 import Papa from 'papaparse';
+import { readDecimal } from './decimal';
 
 /** A fatal problem with the file or the mapping; row-level problems go in `problems`. */
 export class InverterLogError extends Error {
@@ -125,11 +126,15 @@ export function detectColumns(headers: string[]): ColumnGuess {
 	return guess;
 }
 
-/** A numeric cell: "12.5", "-3", and "12,5" (decimal comma, as in semicolon exports). */
+/**
+ * A numeric cell by the one decimal rule ("12.5", "-3", "12,5" as in semicolon exports);
+ * machine exponent notation ("1.5E3") is read as well, since loggers write it.
+ */
 function readNumber(raw: string | undefined): number | null {
-	if (raw === undefined) return null;
-	const s = raw.trim().replace(/^(-?\d+),(\d+)$/, '$1.$2');
-	if (s === '') return null;
+	const d = readDecimal(raw);
+	if (d !== 'invalid') return d;
+	const s = (raw ?? '').trim();
+	if (s.length > 40 || !/[eE]/.test(s)) return null;
 	const n = Number(s);
 	return Number.isFinite(n) ? n : null;
 }

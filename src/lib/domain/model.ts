@@ -42,6 +42,20 @@ export interface WarrantyTerms {
 	hotRatedCycles: number;
 }
 
+/** A model's current warranty terms: the one lookup commissioning (snapshot) and claims (fallback) use. */
+export function warrantyTermsOf(
+	model: { warrantyYears: number } & Omit<WarrantyTerms, 'years'>
+): WarrantyTerms {
+	return {
+		years: model.warrantyYears,
+		ratedCycles: model.ratedCycles,
+		endRetentionPct: model.endRetentionPct,
+		referenceTempC: model.referenceTempC,
+		hotTempC: model.hotTempC,
+		hotRatedCycles: model.hotRatedCycles
+	};
+}
+
 export interface DerivedFigures {
 	nominalV: number;
 	minV: number;

@@ -6,6 +6,7 @@
  * to the unit the data model states for the attribute. An item left empty is stored as
  * nothing and shown as "not yet provided": no value is ever filled in for it.
  */
+import { readDecimal } from './decimal';
 
 export type PassportSection =
 	| 'generalProductInformation'
@@ -390,11 +391,10 @@ export type ItemParse = { ok: true; item: StoredItem | null } | { ok: false; mes
 const MAX_TEXT = 500;
 const MAX_ROWS = 40;
 
+/** A typed number by the register's one decimal rule (`./decimal`); blank or unreadable → null. */
 function num(raw: string): number | null {
-	const t = raw.trim().replace(',', '.');
-	if (t === '' || t.length > 30) return null;
-	const n = Number(t);
-	return Number.isFinite(n) ? n : null;
+	const n = readDecimal(raw);
+	return typeof n === 'number' ? n : null;
 }
 
 /** Http(s) URL or URN, as the data model's ResourcePath (xsd:anyURI) is used for links. */

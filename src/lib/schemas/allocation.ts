@@ -1,7 +1,8 @@
 import { z } from 'zod';
+import { recordId } from './fields';
 
 export const allocationSchema = z.object({
-	modelId: z.coerce.number({ message: 'Choose a model.' }).int().positive('Choose a model.'),
+	modelId: recordId('Choose a model.'),
 	count: z.coerce
 		.number({ message: 'Enter how many serials to reserve.' })
 		.int('Enter a whole number.')

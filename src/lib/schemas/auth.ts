@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { recordId } from './fields';
 import { ROLE_NAMES } from '$lib/roles';
 
 /** RFC 5321 §4.5.3.1.3: a path holds at most 256 octets, so an address at most 254. */
@@ -27,7 +28,7 @@ export const passwordSchema = z
 			.string()
 			.min(10, 'Use at least 10 characters.')
 			.max(200, 'Use at most 200 characters.'),
-		confirm: z.string()
+		confirm: z.string().max(200, 'Use at most 200 characters.')
 	})
 	.refine((v) => v.password === v.confirm, {
 		message: 'The two passwords differ.',
@@ -42,5 +43,5 @@ export const inviteSchema = z.object({
 	email: emailField('Enter a valid e-mail address.'),
 	name: z.string().trim().min(2, 'Enter the person’s name.').max(120),
 	role: z.enum(ROLE_NAMES, { message: 'Choose a role.' }),
-	organisationId: z.coerce.number().int().positive('Choose an organisation.')
+	organisationId: recordId('Choose an organisation.')
 });

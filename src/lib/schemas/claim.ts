@@ -4,7 +4,12 @@
  * pages, their actions and the API routes.
  */
 import { z } from 'zod';
-import { isCalendarDate, temperatureProfileSchema } from './warranty-assess';
+import {
+	claimEvidenceFields,
+	temperatureProfileSchema
+} from './warranty-assess';
+import { isCalendarDate } from '$lib/domain/calendar';
+import { blankToUndefined, optionalText, queryInt } from './fields';
 import {
 	AWAITING_DECISION,
 	CLAIM_DECISIONS,
@@ -19,31 +24,19 @@ import {
 	type ClaimFault,
 	type ClaimState
 } from '$lib/domain/claim-workflow';
+import { RETURN_CAUSES, type ReturnCause } from '$lib/claim-states';
 
 export {
 	AWAITING_DECISION,
 	CLAIM_MOVES,
 	CLAIM_STATE_LABELS,
 	CLAIM_STATES as CLAIM_STATE_NAMES,
+	MIN_DECISION_REASON,
+	RETURN_CAUSES,
 	TARGET_RESPONSE_DAYS,
-	type ClaimState as ClaimStateName
+	type ClaimState as ClaimStateName,
+	type ReturnCause
 };
-
-/** What the return inspection found to be the cause. Our own short list. */
-export const RETURN_CAUSES = {
-	cell_fade_within_spec: 'Cell fade within the warranted curve',
-	cell_fade_premature: 'Premature cell fade',
-	over_temperature_operation: 'Operated above the temperature limits',
-	over_charge: 'Over-charged (stop-charge not obeyed)',
-	mechanical_damage: 'Mechanical damage',
-	connection_fault: 'Connection or terminal fault',
-	no_fault_found: 'No fault found'
-} as const;
-export type ReturnCause = keyof typeof RETURN_CAUSES;
-
-export { MIN_DECISION_REASON };
-
-const blankToUndefined = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? undefined : v);
 
 /** Serials as scanned or typed: one per line (commas and spaces also separate). */
 export const serialListSchema = z.preprocess(
@@ -79,6 +72,8 @@ const jsonField = <T extends z.ZodType>(inner: T) =>
 	z.preprocess((v) => {
 		if (typeof v !== 'string') return v;
 		if (v.trim() === '') return undefined;
+		// A log summary is a few kilobytes; anything far larger is not one.
+		if (v.length > 100_000) return v.slice(0, 0);
 		try {
 			return JSON.parse(v);
 		} catch {
@@ -128,10 +123,7 @@ export type FileClaimForm = z.infer<typeof fileClaimFormSchema>;
 
 export const moveClaimSchema = z.object({
 	to: z.enum(CLAIM_STATES, { error: 'Choose the state to move the claim to.' }),
-	comment: z.preprocess(
-		blankToUndefined,
-		z.string().trim().max(2000, { error: 'Keep the comment under 2000 characters.' }).optional()
-	)
+	comment: optionalText(2000, 'Keep the comment under 2000 characters.')
 });
 export type MoveClaimInput = z.infer<typeof moveClaimSchema>;
 
@@ -145,10 +137,7 @@ export const commentSchema = z.object({
 
 export const decideClaimSchema = z.object({
 	decision: z.enum(CLAIM_DECISIONS, { error: 'Choose covered or not covered.' }),
-	reason: z.preprocess(
-		blankToUndefined,
-		z.string().trim().max(4000, { error: 'Keep the reason under 4000 characters.' }).optional()
-	)
+	reason: optionalText(4000, 'Keep the reason under 4000 characters.')
 });
 export type DecideClaimInput = z.infer<typeof decideClaimSchema>;
 
@@ -157,21 +146,11 @@ export type DecideClaimInput = z.infer<typeof decideClaimSchema>;
  * the merged evidence is checked again with the filing rules.
  */
 export const addEvidenceSchema = z.object({
-	measuredCapacityAh: z.unknown().optional(),
-	measuredAtC: z.unknown().optional(),
-	throughputWh: z.unknown().optional(),
-	cycleCount: z.unknown().optional(),
-	avgCellTempC: z.unknown().optional(),
-	maxCellTempC: z.unknown().optional(),
-	terminalVoltageV: z.unknown().optional(),
-	eventsOutsideLimits: z.unknown().optional(),
-	description: z.unknown().optional(),
+	...claimEvidenceFields.shape,
+	description: z.preprocess(blankToUndefined, claimEvidenceFields.shape.description.optional()),
 	throughputScope: z.preprocess(blankToUndefined, throughputScopeSchema.optional()),
 	log: jsonField(logSummarySchema),
-	comment: z.preprocess(
-		blankToUndefined,
-		z.string().trim().max(2000, { error: 'Keep the note under 2000 characters.' }).optional()
-	)
+	comment: optionalText(2000, 'Keep the note under 2000 characters.')
 });
 export type AddEvidenceInput = z.infer<typeof addEvidenceSchema>;
 
@@ -179,7 +158,8 @@ export const replacementSchema = z.object({
 	failedSerial: z
 		.string({ error: 'Choose the failed module.' })
 		.trim()
-		.min(1, { error: 'Choose the failed module.' }),
+		.min(1, { error: 'Choose the failed module.' })
+		.max(300, { error: 'Choose the failed module from the list.' }),
 	replacementScan: z
 		.string({ error: 'Scan or type the replacement module.' })
 		.trim()
@@ -191,7 +171,8 @@ export const returnInspectionSchema = z.object({
 	serial: z
 		.string({ error: 'Choose the returned module.' })
 		.trim()
-		.min(1, { error: 'Choose the returned module.' }),
+		.min(1, { error: 'Choose the returned module.' })
+		.max(300, { error: 'Choose the returned module from the list.' }),
 	cause: z.enum(Object.keys(RETURN_CAUSES) as [ReturnCause, ...ReturnCause[]], {
 		error: 'Choose the cause found.'
 	}),
@@ -211,16 +192,18 @@ export const logMappingSchema = z.object({
 	timestampColumn: z
 		.string({ error: 'Choose the timestamp column.' })
 		.trim()
-		.min(1, { error: 'Choose the timestamp column.' }),
+		.min(1, { error: 'Choose the timestamp column.' })
+		.max(200, { error: 'A column name has at most 200 characters.' }),
 	energyColumn: z
 		.string({ error: 'Choose the discharge energy column.' })
 		.trim()
-		.min(1, { error: 'Choose the discharge energy column.' }),
+		.min(1, { error: 'Choose the discharge energy column.' })
+		.max(200, { error: 'A column name has at most 200 characters.' }),
 	energyUnit: z.enum(['Wh', 'kWh'], { error: 'Choose Wh or kWh.' }),
 	energyKind: z.enum(['cumulative', 'interval'], {
 		error: 'Say whether the energy is a running total or per interval.'
 	}),
-	tempColumn: z.preprocess(blankToUndefined, z.string().trim().optional())
+	tempColumn: optionalText(200, 'A column name has at most 200 characters.')
 });
 
 export const CLAIM_SORTS = [
@@ -233,17 +216,6 @@ export const CLAIM_SORTS = [
 ] as const;
 export type ClaimSort = (typeof CLAIM_SORTS)[number];
 
-const queryInt = (min: number, max: number, label: string) =>
-	z.preprocess(
-		blankToUndefined,
-		z.coerce
-			.number({ error: `${label} must be a whole number.` })
-			.int({ error: `${label} must be a whole number.` })
-			.min(min)
-			.max(max)
-			.optional()
-	);
-
 /** The claims queue's query, from the URL (`/claims?…` and `/api/claims?…`). */
 export const claimQuerySchema = z.object({
 	state: z.preprocess(
@@ -251,7 +223,7 @@ export const claimQuerySchema = z.object({
 		z.enum(CLAIM_STATES, { error: 'Unknown claim state.' }).optional()
 	),
 	dealer: queryInt(1, Number.MAX_SAFE_INTEGER, 'Dealer'),
-	model: z.preprocess(blankToUndefined, z.string().trim().max(40).optional()),
+	model: optionalText(40, 'A model code has at most 40 characters.'),
 	minAgeDays: queryInt(0, 100_000, 'Minimum age'),
 	page: z.preprocess(blankToUndefined, z.coerce.number().int().min(1).default(1)),
 	pageSize: z.preprocess(blankToUndefined, z.coerce.number().int().min(1).max(100).default(25)),

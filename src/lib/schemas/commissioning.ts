@@ -8,113 +8,28 @@
  * blank. A JSON body may instead send `moduleOcvV` and `stringVoltageV` as arrays.
  */
 import { z } from 'zod';
+import { decimal, nullableText, readDecimal, yesNo } from './fields';
 import type { CommissioningMeasurements } from '$lib/domain/commissioning';
+import { signatureField } from './signature';
 
-/** The cautions shown before any work on a battery (common practice for DC battery work; local codes and licensed practice prevail), on the page and the certificate. */
-export const COMMISSIONING_CAUTIONS: { title: string; text: string }[] = [
-	{
-		title: 'Isolate and lock off',
-		text: 'Open every battery and inverter isolator, lock and tag them off, and prove the circuit dead before you touch a conductor.'
-	},
-	{
-		title: 'Insulated tools and suitable PPE',
-		text: 'Use insulated tools, take off rings and watches, and wear eye protection and insulating gloves rated for the voltage.'
-	},
-	{
-		title: 'DC arc and short-circuit hazard',
-		text: 'A battery is always live: a short circuit delivers very high currents, and a DC arc does not go out by itself. Keep terminals covered until you connect them.'
-	},
-	{
-		title: 'Polarity',
-		text: 'Check the polarity of every connection before closing an isolator; reversed polarity can destroy the inverter and the protective devices.'
-	},
-	{
-		title: 'Work by a licensed electrician',
-		text: 'Installation and commissioning are done by a licensed electrician.'
-	},
-	{
-		title: 'Local codes take precedence',
-		text: 'Local electrical codes and installation standards take precedence over anything the application computes.'
-	}
-];
+import { nestForm } from './commissioning-fields';
 
-export const CODES_TAKE_PRECEDENCE =
-	'Local electrical codes and installation standards take precedence over anything the application computes.';
+export { CODES_TAKE_PRECEDENCE, COMMISSIONING_CAUTIONS, nestForm } from './commissioning-fields';
 
-/** Form text to a number: blank → null, "0,4" → 0.4, anything else unreadable → 'invalid'. */
-export function readDecimal(v: unknown): number | null | 'invalid' {
-	if (v === undefined || v === null) return null;
-	if (typeof v === 'number') return Number.isFinite(v) ? v : 'invalid';
-	if (typeof v !== 'string') return 'invalid';
-	const s = v.trim().replace(/\s+/g, '');
-	if (s === '') return null;
-	if (!/^[+-]?(\d+([.,]\d*)?|[.,]\d+)$/.test(s)) return 'invalid';
-	return Number(s.replace(',', '.'));
-}
-
-const GRID = /^moduleOcvV\.(\d{1,2})\.(\d{1,2})$/;
-const STRING = /^stringVoltageV\.(\d{1,2})$/;
-
-/** Gathers the flat form names of the grid into arrays; a JSON body with arrays passes through. */
-export function nestForm(raw: unknown): unknown {
-	if (!raw || typeof raw !== 'object' || Array.isArray(raw)) return raw;
-	const out: Record<string, unknown> = { ...(raw as Record<string, unknown>) };
-	const grid: unknown[][] = [];
-	const strings: unknown[] = [];
-	let flat = false;
-	for (const [key, value] of Object.entries(raw)) {
-		const g = GRID.exec(key);
-		const s = STRING.exec(key);
-		if (g) {
-			const [si, pi] = [Number(g[1]) - 1, Number(g[2]) - 1];
-			if (si < 0 || pi < 0) continue;
-			(grid[si] ??= [])[pi] = value;
-			flat = true;
-		} else if (s && Number(s[1]) > 0) {
-			strings[Number(s[1]) - 1] = value;
-			flat = true;
-		}
-	}
-	if (flat) {
-		const width = Math.max(0, ...grid.map((r) => r?.length ?? 0));
-		if (!Array.isArray(out.moduleOcvV))
-			out.moduleOcvV = Array.from(grid, (row) =>
-				Array.from({ length: width }, (_, i) => row?.[i] ?? null)
-			);
-		if (!Array.isArray(out.stringVoltageV))
-			out.stringVoltageV = Array.from(strings, (v) => v ?? null);
-	}
-	return out;
-}
+/** Form text to a number: the one decimal rule (`domain/decimal.ts`), re-exported for the page. */
+export { readDecimal };
 
 function measured(label: string, unit: string, min: number, max: number) {
 	const range = `${label} must be between ${min} and ${max} ${unit}; leave it blank if not measured.`;
-	return z.preprocess(
-		(v) => {
-			const n = readDecimal(v);
-			return n === 'invalid' ? v : n;
-		},
+	return decimal(
 		z
 			.number({
 				error: `${label} must be a number in ${unit}, e.g. 51,2; leave it blank if not measured.`
 			})
 			.min(min, { error: range })
 			.max(max, { error: range })
-			.nullable()
-	);
-}
-
-function yesNo(label: string) {
-	return z.preprocess(
-		(v) =>
-			v === 'yes' || v === true || v === 'true'
-				? true
-				: v === 'no' || v === false || v === 'false'
-					? false
-					: v === '' || v == null
-						? null
-						: v,
-		z.boolean({ error: `${label}: answer yes or no, or leave it open if not checked.` }).nullable()
+			.nullable(),
+		{ blank: 'null' }
 	);
 }
 
@@ -124,21 +39,25 @@ function measurementFields(lenient: boolean) {
 		lenient ? measured(label, unit, min, max).catch(null) : measured(label, unit, min, max);
 	const yn = (label: string) => (lenient ? yesNo(label).catch(null) : yesNo(label));
 	return {
+		// Wide bounds on purpose: a typo such as 5165 for 51.65 must reach the evaluation,
+		// which calls it implausible against what the system can produce.
 		moduleOcvV: z
-			.array(z.array(m('Module open-circuit voltage', 'V', 0, 1000)).max(64))
+			.array(z.array(m('Module open-circuit voltage', 'V', 0, 1_000_000)).max(64))
 			.max(64)
 			.default([]),
 		stringVoltageV: z
-			.array(m('String voltage', 'V', 0, 2000))
+			.array(m('String voltage', 'V', 0, 1_000_000))
 			.max(64)
 			.default([]),
-		interStringDiffV: m('Difference between strings', 'V', 0, 1000).default(null),
+		interStringDiffV: m('Difference between strings', 'V', 0, 1_000_000).default(null),
 		insulationTestV: m('Insulation test voltage', 'V', 0, 5000).default(null),
 		insulationMohm: m('Insulation resistance', 'MΩ', 0, 1_000_000).default(null),
 		polarityChecked: yn('Polarity').default(null),
 		torqueConfirmed: yn('Terminal torque').default(null),
 		deviceRatingA: m('Protective device rating', 'A', 0, 100_000).default(null),
 		deviceDcRatingV: m('Protective device DC voltage rating', 'V', 0, 10_000).default(null),
+		deviceBreakingKA: m('Protective device breaking capacity', 'kA', 0, 1000).default(null),
+		stringProtection: yn('Overcurrent device per string').default(null),
 		ambientC: m('Ambient temperature', '°C', -60, 100).default(null),
 		stopChargeProven: yn('Stop-charge signal').default(null)
 	};
@@ -154,14 +73,7 @@ export const measurementsSchema = z.preprocess(nestForm, measurementsObject);
 export const draftMeasurementsSchema = z.preprocess(nestForm, z.object(measurementFields(true)));
 
 const optionalText = (max: number, label: string) =>
-	z.preprocess(
-		(v) => (typeof v === 'string' && v.trim() === '' ? null : (v ?? null)),
-		z
-			.string()
-			.trim()
-			.max(max, { error: `Keep the ${label} under ${max} characters.` })
-			.nullable()
-	);
+	nullableText(max, `Keep the ${label} under ${max} characters.`);
 
 /** The whole submission: measurements, who signs, handover, and the cautions acknowledged. */
 export const commissioningSchema = z.preprocess(
@@ -181,6 +93,8 @@ export const commissioningSchema = z.preprocess(
 			})
 			.max(60, { error: 'Keep the licence number under 60 characters.' }),
 		handoverName: optionalText(120, 'handover name'),
+		technicianSignature: signatureField('Technician’s signature'),
+		ownerSignature: signatureField('Owner’s signature'),
 		cautionsAcknowledged: z.preprocess(
 			(v) => v === true || v === 'yes' || v === 'on' || v === 'true',
 			z.literal(true, {
@@ -200,10 +114,12 @@ export function toMeasurements(input: MeasurementsInput): CommissioningMeasureme
 		insulation: { testVoltageV: input.insulationTestV, measuredMohm: input.insulationMohm },
 		polarityChecked: input.polarityChecked,
 		torqueConfirmed: input.torqueConfirmed,
-		protectiveDevice:
-			input.deviceRatingA !== null && input.deviceDcRatingV !== null
-				? { ratingA: input.deviceRatingA, dcVoltageRatingV: input.deviceDcRatingV }
-				: null,
+		protectiveDevice: {
+			ratingA: input.deviceRatingA,
+			dcVoltageRatingV: input.deviceDcRatingV,
+			breakingCapacityKA: input.deviceBreakingKA
+		},
+		stringProtection: input.stringProtection,
 		ambientC: input.ambientC,
 		stopChargeProven: input.stopChargeProven
 	};

@@ -1,12 +1,6 @@
 import { z } from 'zod';
 import { emailField } from './auth';
-
-/** Blank text from a form means "none". */
-const optionalText = (max: number, message: string) =>
-	z.preprocess(
-		(v) => (typeof v === 'string' && v.trim() === '' ? undefined : v),
-		z.string().trim().max(max, message).optional()
-	);
+import { optionalText } from './fields';
 
 /** A dealer organisation as the admin enters it: the name is unique, the address receives shipment notices. */
 export const dealerSchema = z.object({

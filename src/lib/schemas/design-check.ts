@@ -25,7 +25,12 @@ export const designModuleSchema = z
 		ratedAh: positive('Rated capacity'),
 		usableWh: positive('Usable energy'),
 		maxContinuousC: positive('Maximum continuous C-rate'),
-		burstC: positive('Burst C-rate')
+		burstC: positive('Burst C-rate'),
+		internalResistanceMOhm: positive('Module internal resistance (mΩ)')
+			.max(10_000, {
+				error: 'Module internal resistance (mΩ) must be at most 10 000 mΩ; check the unit'
+			})
+			.optional()
 	})
 	.refine((m) => m.cellMinV < m.cellNominalV, {
 		error: 'Cell minimum voltage must be below the nominal voltage',
@@ -71,6 +76,15 @@ export const inverterWindowSchema = z
 		{ error: 'Preferred minimum must be below the preferred maximum', path: ['preferredMinV'] }
 	) satisfies z.ZodType<InverterWindow>;
 
+/** A protective device as its data sheet gives it: current rating, DC voltage rating, breaking capacity. */
+export const protectionSchema = z.object({
+	ratedCurrentA: positive('protection.ratedCurrentA (A)'),
+	ratedVoltageDcV: positive('protection.ratedVoltageDcV (V DC)'),
+	breakingCapacityKA: positive('protection.breakingCapacityKA (kA)').max(1000, {
+		error: 'protection.breakingCapacityKA is in kA and must be at most 1000; check the unit'
+	})
+});
+
 export const designCheckInputSchema = z.object({
 	module: designModuleSchema,
 	series: count('Modules in series'),
@@ -85,7 +99,8 @@ export const designCheckInputSchema = z.object({
 			})
 		)
 		.max(20, { error: 'At most 20 variants can be compared' })
-		.optional()
+		.optional(),
+	protection: protectionSchema.optional()
 }) satisfies z.ZodType<DesignCheckInput>;
 
 export type DesignCheckInputParsed = z.infer<typeof designCheckInputSchema>;

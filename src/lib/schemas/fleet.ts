@@ -4,6 +4,7 @@
  * page as well as the server, so only types come from the database schema.
  */
 import { z } from 'zod';
+import { calendarDate } from './fields';
 import type { ModuleState } from '$lib/server/db/schema';
 
 /** Every module state, in the order of a module's life (the Record keeps it in step with the table's list). */
@@ -62,15 +63,7 @@ export const DEFAULT_FLEET_COLUMNS: FleetColumn[] = FLEET_COLUMN_IDS.filter(
 
 export const FLEET_PAGE_SIZES = [25, 50, 100, 200] as const;
 
-const day = z
-	.string()
-	.regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date like 2026-03-31.')
-	.refine(
-		(s) =>
-			!Number.isNaN(Date.parse(`${s}T00:00:00Z`)) &&
-			new Date(`${s}T00:00:00Z`).toISOString().startsWith(s),
-		'This date does not exist; check the month and day.'
-	);
+const day = calendarDate('The date');
 const id = (message: string) => z.coerce.number({ message }).int(message).positive(message);
 
 export const fleetQuerySchema = z

@@ -5,14 +5,18 @@
  */
 import { z } from 'zod';
 import { Gs1Error, toGtin14 } from '$lib/domain/gs1';
+import { readDecimal } from './fields';
 
-/** Form text to number: blank → undefined (so "required" can be said), "12,5" → 12.5. */
+/** Form text to number by the one decimal rule: blank → undefined (so "required" can be said), "12,5" → 12.5. */
 const fromText = (v: unknown) => {
-	if (typeof v !== 'string') return v;
-	const s = v.trim();
-	if (s === '') return undefined;
-	const n = Number(s.replace(/^(-?\d*),(\d+)$/, '$1.$2'));
-	return Number.isNaN(n) ? v : n;
+	const n = readDecimal(v);
+	return n === null
+		? undefined
+		: n === 'invalid'
+			? typeof v === 'string'
+				? v.slice(0, 50)
+				: v
+			: n;
 };
 
 const numberIn = (label: string, unit: string) =>
@@ -57,11 +61,13 @@ const temperature = (label: string) => between(label, '°C', ...TEMP_C);
 /** Blank → null; otherwise any GTIN-8/12/13/14 with a valid check digit, stored as GTIN-14. */
 const gtinField = z.preprocess(
 	(v) =>
-		typeof v === 'string'
-			? v.replace(/[\s-]/g, '') === ''
-				? null
-				: v.replace(/[\s-]/g, '')
-			: (v ?? null),
+		typeof v === 'string' && v.length > 40
+			? 'too long'
+			: typeof v === 'string'
+				? v.replace(/[\s-]/g, '') === ''
+					? null
+					: v.replace(/[\s-]/g, '')
+				: (v ?? null),
 	z
 		.string({ error: 'GTIN must be digits.' })
 		.transform((gtin, ctx) => {
@@ -82,6 +88,10 @@ const fields = z.object({
 	code: z
 		.string({ error: 'Enter the model code.' })
 		.trim()
+		.max(20, {
+			error: 'Code must be 2–20 capital letters, digits or hyphens, e.g. TC-HC-48.',
+			abort: true
+		})
 		.toUpperCase()
 		.regex(/^[A-Z0-9-]{2,20}$/, {
 			error: 'Code must be 2–20 capital letters, digits or hyphens, e.g. TC-HC-48.'
@@ -94,6 +104,7 @@ const fields = z.object({
 	variant: z
 		.string({ error: 'Enter the voltage variant.' })
 		.trim()
+		.max(4, { error: 'Variant must be 1–4 capital letters or digits, e.g. 48.', abort: true })
 		.toUpperCase()
 		.regex(/^[A-Z0-9]{1,4}$/, {
 			error:
@@ -111,6 +122,16 @@ const fields = z.object({
 	maxContinuousC: positive('Maximum continuous C-rate', 'C', 100),
 	burstC: positive('Burst C-rate', 'C', 200),
 	burstSeconds: whole('Burst duration', 's', 1, 3600),
+	/** Data-sheet DC internal resistance of one module; blank = use the factory-test mean. */
+	internalResistanceMohm: z.preprocess(
+		(v) => (v === '' || v === undefined ? null : fromText(v)),
+		numberIn('Module DC internal resistance', 'mΩ')
+			.positive({ error: 'Module DC internal resistance must be above 0 mΩ.' })
+			.max(10_000, {
+				error: 'Module DC internal resistance must be at most 10000 mΩ; check the unit.'
+			})
+			.nullable()
+	),
 	// Temperature ranges
 	chargeTempMinC: temperature('Lowest charging temperature'),
 	chargeTempMaxC: temperature('Highest charging temperature'),

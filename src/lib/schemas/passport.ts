@@ -4,6 +4,7 @@
  * access-link parameter of the passport page and API.
  */
 import { z } from 'zod';
+import { optionalText, queryInt, recordId } from './fields';
 import { PASSPORT_ITEM_BY_KEY, type ItemInput } from '$lib/domain/passport-items';
 
 const FIELDS = new Set(['value', 'unit', 'street', 'postalCode', 'country', 'min', 'max']);
@@ -62,7 +63,7 @@ export const passportGrantSchema = z.object({
 });
 export type PassportGrantInput = z.infer<typeof passportGrantSchema>;
 
-export const revokeGrantSchema = z.object({ id: z.coerce.number().int().positive() });
+export const revokeGrantSchema = z.object({ id: recordId('Choose the access link to revoke.') });
 
 /** The access link's secret as it arrives in `?access=`. */
 export const accessParamSchema = z
@@ -73,9 +74,9 @@ export const accessParamSchema = z
 
 export const passportExportSchema = z
 	.object({
-		shipment: z.coerce.number().int().positive().optional(),
-		lot: z.string().trim().min(2).max(40).optional(),
-		model: z.string().trim().min(2).max(40).optional(),
+		shipment: queryInt(1, Number.MAX_SAFE_INTEGER, 'The shipment'),
+		lot: optionalText(40, 'A cell lot code is at most 40 characters.'),
+		model: optionalText(40, 'A model code is at most 40 characters.'),
 		format: z.enum(['jsonl', 'zip']).default('jsonl')
 	})
 	.refine((q) => [q.shipment, q.lot, q.model].filter((x) => x !== undefined).length === 1, {

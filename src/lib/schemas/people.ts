@@ -1,35 +1,24 @@
 import { z } from 'zod';
 import { ROLE_NAMES } from '$lib/roles';
-
-const blank = z.literal('').transform(() => undefined);
+import { optionalChoice, optionalText, recordId, trueFalse } from './fields';
 
 /** Filters of the people list (page and `GET /api/users`). */
 export const peopleQuerySchema = z.object({
-	q: z.string().trim().max(120, 'Search with at most 120 characters.').optional().or(blank),
-	role: z.enum(ROLE_NAMES, { message: 'Choose a role from the list.' }).optional().or(blank),
-	status: z
-		.enum(['active', 'inactive', 'invited'], { message: 'Choose active, inactive or invited.' })
-		.optional()
-		.or(blank)
+	q: optionalText(120, 'Search with at most 120 characters.'),
+	role: optionalChoice(ROLE_NAMES, 'Choose a role from the list.'),
+	status: optionalChoice(['active', 'inactive', 'invited'], 'Choose active, inactive or invited.')
 });
 export type PeopleQuery = z.output<typeof peopleQuerySchema>;
 
 /** A yes/no that arrives as JSON `true`/`false` or a form's "true"/"false". */
-const flag = z.union([
-	z.boolean(),
-	z.enum(['true', 'false'], { message: 'Say true or false.' }).transform((v) => v === 'true')
-]);
+const flag = trueFalse('Say true or false.');
 
 /** What an admin may change of a person: `PATCH /api/users/{id}` and the edit form. */
 export const personPatchSchema = z
 	.strictObject(
 		{
 			role: z.enum(ROLE_NAMES, { message: 'Choose a role from the list.' }).optional(),
-			organisationId: z.coerce
-				.number({ message: 'Choose an organisation.' })
-				.int('Choose an organisation.')
-				.positive('Choose an organisation.')
-				.optional(),
+			organisationId: recordId('Choose an organisation.').optional(),
 			active: flag.optional()
 		},
 		{

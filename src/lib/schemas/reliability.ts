@@ -4,7 +4,7 @@
  * `POST /api/reliability/rate`). Sizes are bounded so every request answers in bounded time.
  */
 import { z } from 'zod';
-import { isCalendarDate } from './warranty-assess';
+import { blankToUndefined as blank, optionalCalendarDate } from './fields';
 import { MAX_EVENTS, MAX_UNITS } from '$lib/domain/reliability';
 
 export const SLICE_DIMENSIONS = [
@@ -25,7 +25,6 @@ export const SLICE_LABELS: Record<SliceDimension, string> = {
 	climate: 'Climate band'
 };
 
-const blank = (v: unknown) => (typeof v === 'string' && v.trim() === '' ? undefined : v);
 const key = (label: string) =>
 	z.preprocess(
 		blank,
@@ -38,13 +37,7 @@ const key = (label: string) =>
 
 /** Query of the reliability page and `GET /api/reliability`; every filter is optional. */
 export const reliabilityQuerySchema = z.object({
-	asOf: z.preprocess(
-		blank,
-		z
-			.string()
-			.refine(isCalendarDate, { error: 'asOf must be a real date written YYYY-MM-DD.' })
-			.optional()
-	),
+	asOf: optionalCalendarDate('asOf'),
 	model: key('model'),
 	lot: key('lot'),
 	dealer: key('dealer'),
@@ -52,6 +45,7 @@ export const reliabilityQuerySchema = z.object({
 		blank,
 		z
 			.string()
+			.max(7, { error: 'buildMonth must be written YYYY-MM.', abort: true })
 			.regex(/^\d{4}-(0[1-9]|1[0-2])$/, { error: 'buildMonth must be written YYYY-MM.' })
 			.optional()
 	),

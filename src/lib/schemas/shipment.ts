@@ -1,16 +1,14 @@
 import { z } from 'zod';
 import { SERIAL_EXAMPLE } from '$lib/domain/serial';
+import { optionalText, recordId } from './fields';
 
 /** Shipments are built up to this many modules per range entry (a pallet or two, not a warehouse). */
 export const MAX_RANGE = 500;
 
-const note = z.preprocess(
-	(v) => (typeof v === 'string' && v.trim() === '' ? undefined : v),
-	z.string().trim().max(500, 'Keep the note under 500 characters.').optional()
-);
+const note = optionalText(500, 'Keep the note under 500 characters.');
 
 export const newShipmentSchema = z.object({
-	dealerOrgId: z.coerce.number({ message: 'Choose a dealer.' }).int().positive('Choose a dealer.'),
+	dealerOrgId: recordId('Choose a dealer.'),
 	note
 });
 

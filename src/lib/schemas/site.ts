@@ -11,6 +11,7 @@ import type {
 } from '$lib/server/db/schema';
 import type { InverterWindow } from '$lib/domain/design-check';
 import { designCheckInputSchema, designModuleSchema, inverterWindowSchema } from './design-check';
+import { readDecimal } from './fields';
 
 export type SiteApplication = (typeof DB_SITE_APPLICATIONS)[number];
 
@@ -37,13 +38,16 @@ export const CLIMATE_BAND_LABELS: Record<ClimateBand, string> = {
 };
 export const CLIMATE_BANDS = Object.keys(CLIMATE_BAND_LABELS) as ClimateBand[];
 
-/** Form text to number: blank → undefined (so "required" can be said), "12,5" → 12.5. */
+/** Form text to number by the one decimal rule: blank → undefined (so "required" can be said), "12,5" → 12.5. */
 const fromText = (v: unknown) => {
-	if (typeof v !== 'string') return v;
-	const s = v.trim();
-	if (s === '') return undefined;
-	const n = Number(s.replace(/^(-?\d*),(\d+)$/, '$1.$2'));
-	return Number.isNaN(n) ? v : n;
+	const n = readDecimal(v);
+	return n === null
+		? undefined
+		: n === 'invalid'
+			? typeof v === 'string'
+				? v.slice(0, 50)
+				: v
+			: n;
 };
 
 const text = (label: string, min: number, max: number, example?: string) =>
@@ -157,6 +161,7 @@ export const systemSchema = z
 		modelCode: z
 			.string({ error: 'Choose the module model.' })
 			.trim()
+			.max(20, { error: 'Choose the module model from the list.', abort: true })
 			.toUpperCase()
 			.min(1, { error: 'Choose the module model.' }),
 		series: whole('Modules in series', 1, MAX_SYSTEM_SERIES),

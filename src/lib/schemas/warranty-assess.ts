@@ -3,23 +3,15 @@
  * dealer files with a claim (a form, so numbers arrive as strings and blanks mean "not given").
  */
 import { z } from 'zod';
+import { isCalendarDate } from '$lib/domain/calendar';
+import { calendarDate, decimal, optionalText, requiredText } from './fields';
 
 const TEMP_MIN_C = -40;
 const TEMP_MAX_C = 120;
 
-/** A real calendar day written YYYY-MM-DD (2023-02-29 is rejected). */
-export function isCalendarDate(s: string): boolean {
-	const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(s);
-	if (!m) return false;
-	const [y, mo, d] = [Number(m[1]), Number(m[2]), Number(m[3])];
-	const t = new Date(Date.UTC(y, mo - 1, d));
-	return t.getUTCFullYear() === y && t.getUTCMonth() === mo - 1 && t.getUTCDate() === d;
-}
+export { isCalendarDate };
 
-const day = (label: string) =>
-	z
-		.string({ error: `${label} is required.` })
-		.refine(isCalendarDate, { error: `${label} must be a real date written YYYY-MM-DD.` });
+const day = (label: string) => calendarDate(label);
 
 const temperature = (label: string) =>
 	z
@@ -120,26 +112,10 @@ export const assessRequestSchema = z
 
 export type AssessRequest = z.infer<typeof assessRequestSchema>;
 
-/** Form field to number: blank means not given; "12,5" is read as 12.5. */
-const formNumber = <T extends z.ZodType>(inner: T) =>
-	z.preprocess((v) => {
-		if (v === null || v === undefined) return undefined;
-		if (typeof v === 'string') {
-			const s = v.trim();
-			if (s === '') return undefined;
-			const n = Number(s.replace(/^(-?\d+),(\d+)$/, '$1.$2'));
-			return Number.isNaN(n) ? v : n;
-		}
-		return v;
-	}, inner.optional());
+/** Form field to number (the one decimal rule of fields.ts): blank means not given. */
+const formNumber = <T extends z.ZodType>(inner: T) => decimal(inner.optional());
 
-const formText = (max: number) =>
-	z.preprocess(
-		(v) => (typeof v === 'string' && v.trim() === '' ? undefined : v),
-		z.string().trim().max(max).optional()
-	);
-
-const evidenceFields = z.object({
+export const claimEvidenceFields = z.object({
 	measuredCapacityAh: formNumber(nonNegative('Measured capacity', 'Ah')),
 	measuredAtC: formNumber(temperature('Test temperature')),
 	throughputWh: formNumber(nonNegative('Throughput', 'Wh')),
@@ -154,12 +130,13 @@ const evidenceFields = z.object({
 			error: 'Terminal voltage must be at most 1500 V.'
 		})
 	),
-	eventsOutsideLimits: formText(2000),
-	description: z
-		.string({ error: 'Describe the fault.' })
-		.trim()
-		.min(10, { error: 'Describe the fault in at least 10 characters.' })
-		.max(2000, { error: 'Keep the fault description under 2000 characters.' })
+	eventsOutsideLimits: optionalText(2000, 'Keep the events under 2000 characters.'),
+	description: requiredText(2000, {
+		required: 'Describe the fault.',
+		min: 10,
+		tooShort: 'Describe the fault in at least 10 characters.',
+		tooLong: 'Keep the fault description under 2000 characters.'
+	})
 });
 
 const temperaturesInOrder = (e: { avgCellTempC?: number; maxCellTempC?: number }) =>
@@ -170,7 +147,7 @@ const TEMPERATURE_ORDER = {
 };
 
 /** Evidence a dealer files with a claim. Throughput or a cycle count is required. */
-export const claimEvidenceSchema = evidenceFields
+export const claimEvidenceSchema = claimEvidenceFields
 	.refine((e) => e.throughputWh !== undefined || e.cycleCount !== undefined, {
 		error: 'Give the energy throughput (Wh) or the cycle count.',
 		path: ['throughputWh']
@@ -181,6 +158,9 @@ export const claimEvidenceSchema = evidenceFields
  * Evidence of a claim the cycle-life figures do not decide (on delivery, or a module with
  * no output at all): throughput is not needed.
  */
-export const faultEvidenceSchema = evidenceFields.refine(temperaturesInOrder, TEMPERATURE_ORDER);
+export const faultEvidenceSchema = claimEvidenceFields.refine(
+	temperaturesInOrder,
+	TEMPERATURE_ORDER
+);
 
 export type ClaimEvidence = z.infer<typeof claimEvidenceSchema>;

@@ -9,7 +9,10 @@ const CAMERA_PAGES = [
 	/^\/shipments\/[1-9]\d{0,15}\/?$/,
 	/^\/claims\/new\/?$/,
 	/^\/claims\/[1-9]\d{0,15}\/?$/,
-	/^\/systems\/[1-9]\d{0,15}\/?$/
+	/^\/systems\/[1-9]\d{0,15}\/?$/,
+	// The offline shell: one copy, kept by the service worker, serves every field page offline
+	// (placing modules by scanning among them), so its header is the one those pages get.
+	/^\/offline(\/|$)/
 ];
 
 export function usesCamera(pathname: string): boolean {

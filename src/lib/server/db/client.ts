@@ -1,4 +1,5 @@
-import { createClient, type Client } from '@libsql/client';
+import { AsyncLocalStorage } from 'node:async_hooks';
+import { createClient, type Client, type InStatement } from '@libsql/client';
 import { drizzle, type LibSQLDatabase } from 'drizzle-orm/libsql';
 import { migrate } from 'drizzle-orm/libsql/migrator';
 import { mkdirSync } from 'node:fs';
@@ -29,6 +30,24 @@ export async function migrateDb(db: Db, migrationsFolder = resolve('drizzle')): 
 }
 
 const locks = new WeakMap<object, Promise<unknown>>();
+const localWrites = new WeakMap<object, number>();
+
+/**
+ * A value that changes whenever the data may have changed: this process's write count
+ * (writes through `withWriteLock`), this connection's `total_changes()`, and SQLite's
+ * `PRAGMA data_version`, which
+ * changes when another connection (another app server on the same file) commits. Through
+ * a remote libSQL server there is no such signal: null, and callers do not cache.
+ */
+export async function dataVersion(db: Db): Promise<string | null> {
+	const url = (db.$client as { protocol?: string }).protocol;
+	if (url !== 'file') return null;
+	// total_changes() counts this connection's own writes, even one made outside withWriteLock.
+	const r = await db.$client.execute(
+		'SELECT data_version, total_changes() FROM pragma_data_version()'
+	);
+	return `${Number(r.rows[0][0])}:${Number(r.rows[0][1])}:${localWrites.get(db) ?? 0}`;
+}
 
 /**
  * Runs `fn` while holding this process's write lock for the database handle.
@@ -46,12 +65,67 @@ export async function withWriteLock<T>(db: Db, fn: () => Promise<T>): Promise<T>
 	try {
 		return await fn();
 	} finally {
+		localWrites.set(db, (localWrites.get(db) ?? 0) + 1);
 		release();
 		if (locks.get(db) === chained) locks.delete(db);
 	}
 }
 
+/** Work to do inside the first write transaction a piece of code opens (see `withTxHook`). */
+export interface TxHook {
+	/** Runs first in the transaction; throwing rolls it back before anything is written. */
+	before?: (tx: Tx) => Promise<void>;
+	/** Runs after the transaction's own work, before COMMIT; throwing rolls everything back. */
+	after: (tx: Tx, result: unknown) => Promise<void>;
+}
+const txHooks = new AsyncLocalStorage<{ hook: TxHook; used: boolean }>();
+
+/**
+ * Runs `fn` so that the first write transaction it opens (through `writeTx`) also runs
+ * `hook` — e.g. the sync endpoint records an operation id in the same transaction as the
+ * write a service makes, without the service knowing about sync. Returns whether it ran.
+ */
+export async function withTxHook<T>(
+	hook: TxHook,
+	fn: () => Promise<T>
+): Promise<{ value: T; hooked: boolean }> {
+	const state = { hook, used: false };
+	const value = await txHooks.run(state, fn);
+	return { value, hooked: state.used };
+}
+
+/**
+ * Runs `fn` outside any `withTxHook`: for housekeeping writes (storing a default the first
+ * time it is asked for) that must not take the hook meant for the caller's own write.
+ */
+export function withoutTxHook<T>(fn: () => Promise<T>): Promise<T> {
+	return txHooks.exit(fn);
+}
+
 /** Runs `fn` in a write transaction (BEGIN IMMEDIATE), one at a time per database handle. */
 export function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T> {
-	return withWriteLock(db, () => db.transaction(fn, { behavior: 'immediate' }));
+	const state = txHooks.getStore();
+	if (!state || state.used)
+		return withWriteLock(db, () => db.transaction(fn, { behavior: 'immediate' }));
+	state.used = true;
+	const { hook } = state;
+	return withWriteLock(db, () =>
+		db.transaction(
+			async (tx) => {
+				await hook.before?.(tx);
+				const result = await fn(tx);
+				await hook.after(tx, result);
+				return result;
+			},
+			{ behavior: 'immediate' }
+		)
+	);
+}
+
+/**
+ * Runs statements as one transaction (`batch`). Callers that write hold `withWriteLock`.
+ * Through a remote libSQL server this is one network round trip.
+ */
+export function runBatch(db: Db, statements: InStatement[]) {
+	return db.$client.batch(statements, 'write');
 }

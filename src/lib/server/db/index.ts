@@ -16,4 +16,4 @@ export function getDb(): Promise<Db> {
 }
 
 export type { Db, Tx } from './client';
-export { writeTx, withWriteLock } from './client';
+export { writeTx, withWriteLock, withTxHook, withoutTxHook, runBatch, dataVersion } from './client';

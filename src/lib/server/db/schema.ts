@@ -34,7 +34,13 @@ export const organisations = sqliteTable('organisations', {
 	name: text('name').notNull().unique(),
 	contactEmail: text('contact_email'),
 	region: text('region'),
+	/** The market whose commissioning rule set applies to this organisation's sites; null = the default set. */
+	market: text('market'),
 	active: integer('active', { mode: 'boolean' }).notNull().default(true),
+	/** IANA time zone of the organisation's calendar (business dates are days in it), e.g. Etc/GMT-10. */
+	timeZone: text('time_zone').notNull().default('UTC'),
+	/** BCP 47 locale its pages print dates and numbers in, e.g. en-GB. */
+	locale: text('locale').notNull().default('en-GB'),
 	createdAt: createdAt()
 });
 
@@ -112,6 +118,8 @@ export const moduleModels = sqliteTable('module_models', {
 	endRetentionPct: real('end_retention_pct').notNull(),
 	hotTempC: real('hot_temp_c').notNull(),
 	hotRatedCycles: integer('hot_rated_cycles').notNull(),
+	/** DC internal resistance of one module, mΩ (data sheet); the bank's fault current follows from it. */
+	internalResistanceMohm: real('internal_resistance_mohm'),
 	/** What replacing one module under warranty costs, entered by the admin (currency of the books); null until entered. */
 	replacementCost: real('replacement_cost'),
 	retiredAt: integer('retired_at', { mode: 'timestamp_ms' }),
@@ -192,9 +200,23 @@ export const modules = sqliteTable(
 		index('modules_tested_idx').on(t.testedAt),
 		index('modules_shipped_idx').on(t.shippedAt),
 		index('modules_system_idx').on(t.systemId),
-		index('modules_dealer_state_idx').on(t.dealerOrgId, t.state)
+		index('modules_dealer_state_idx').on(t.dealerOrgId, t.state),
+		// State + model filters, read in serial order without a sort (EXPLAIN QUERY PLAN on 200,000 modules).
+		index('modules_state_model_serial_idx').on(t.state, t.modelId, t.serial)
 	]
 );
+
+/**
+ * Each module's label QR code, drawn once: the SVG of the payload it encodes. A module's
+ * payload changes only when the register's public address does; then it is drawn again.
+ */
+export const moduleQrCodes = sqliteTable('module_qr_codes', {
+	moduleId: integer('module_id')
+		.primaryKey()
+		.references(() => modules.id),
+	payload: text('payload').notNull(),
+	svg: text('svg').notNull()
+});
 
 export const moduleCellLots = sqliteTable(
 	'module_cell_lots',
@@ -329,7 +351,10 @@ export const importFiles = sqliteTable('import_files', {
 	importId: integer('import_id')
 		.primaryKey()
 		.references(() => imports.id),
-	content: text('content').notNull()
+	content: text('content').notNull(),
+	/** Until commit: the accepted rows as insert-ready JSON and each module's latest result (see import-analysis). */
+	planRows: text('plan_rows'),
+	planStates: text('plan_states')
 });
 
 export const factoryTests = sqliteTable(
@@ -523,9 +548,40 @@ export const commissionings = sqliteTable(
 		items: text('items').notNull(),
 		handoverName: text('handover_name'),
 		commissionedOn: text('commissioned_on').notNull(),
+		/** The rule set (and its version) the checklist was judged by. */
+		ruleSetId: integer('rule_set_id').references(() => commissioningRuleSets.id),
+		ruleSetVersion: integer('rule_set_version'),
+		/** Signatures drawn on the phone: JSON { w, h, strokes: [[x, y], …][] } in canvas pixels. */
+		technicianSignature: text('technician_signature'),
+		ownerSignature: text('owner_signature'),
+		/** SHA-256 (hex) of the certificate's canonical content (RFC 8785 JSON), fixed at issue. */
+		contentHash: text('content_hash'),
 		createdAt: createdAt()
 	},
 	(t) => [index('commissionings_system_idx').on(t.systemId)]
+);
+
+/**
+ * A commissioning rule set of a market: limits and the text each verdict cites. Never
+ * changed in place: an edit adds the next version, so every commissioning keeps the
+ * version it was judged by.
+ */
+export const commissioningRuleSets = sqliteTable(
+	'commissioning_rule_sets',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		market: text('market').notNull(),
+		name: text('name').notNull(),
+		version: integer('version').notNull(),
+		/** ISO calendar day from which this version applies. */
+		effectiveFrom: text('effective_from').notNull(),
+		/** JSON CommissioningLimits and CommissioningCitations (src/lib/domain/commissioning.ts). */
+		limits: text('limits').notNull(),
+		citations: text('citations').notNull(),
+		createdBy: integer('created_by').references(() => users.id),
+		createdAt: createdAt()
+	},
+	(t) => [uniqueIndex('rule_sets_market_version_uq').on(t.market, t.version)]
 );
 
 /** Files attached to records (commissioning photos, claim evidence), stored through the storage module. */
@@ -760,4 +816,25 @@ export const campaignSteps = sqliteTable(
 		at: integer('at', { mode: 'timestamp_ms' }).notNull()
 	},
 	(t) => [index('campaign_steps_item_idx').on(t.campaignId, t.moduleId)]
+);
+
+/**
+ * Operations sent by phones that worked offline (`POST /api/sync`), recorded in the same
+ * transaction as the write they caused, so a replayed operation id is answered from here
+ * and stores nothing twice. Only applied operations are kept; a rejected one may be sent again.
+ */
+export const syncOperations = sqliteTable(
+	'sync_operations',
+	{
+		/** The client-made UUID of the operation. */
+		id: text('id').primaryKey(),
+		userId: integer('user_id')
+			.notNull()
+			.references(() => users.id),
+		type: text('type').notNull(),
+		/** What the write made: a site, system, commissioning or attachment id, or a module serial. */
+		ref: text('ref').notNull(),
+		createdAt: createdAt()
+	},
+	(t) => [index('sync_operations_user_idx').on(t.userId)]
 );

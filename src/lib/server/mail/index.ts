@@ -1,7 +1,9 @@
 import nodemailer, { type Transporter } from 'nodemailer';
 import { SMTPServer } from 'smtp-server';
 import { simpleParser } from 'mailparser';
-import { desc } from 'drizzle-orm';
+import { and, desc, type SQL } from 'drizzle-orm';
+import { containsText } from '$lib/server/db/like';
+import { recordUrl } from '$lib/server/base-url';
 import type { Db } from '$lib/server/db';
 import { mailOutbox } from '$lib/server/db/schema';
 
@@ -16,6 +18,17 @@ export interface OutgoingMail {
 	 * can use them; the in-process fake keeps them, since there the outbox is the only inbox.
 	 */
 	oneTimeLinks?: string[];
+	/**
+	 * The path of the record the message is about (`/claims/12`): its full address is added as
+	 * the message's last line, so every e-mail leads to its record.
+	 */
+	about?: string;
+}
+
+/** The message's text with the link to its record as the last line. */
+export function withRecordLink(text: string, about: string | undefined): string {
+	if (!about) return text;
+	return `${text.trimEnd()}\n\nOpen it in Packledger: ${recordUrl(about)}\n`;
 }
 
 export const REDACTED_LINK = '[one-time link: sent to the recipient, not kept in this copy]';
@@ -122,7 +135,8 @@ function mailerFor(db: Db): Promise<Mailer> {
 /** Sends one message. Throws when the SMTP server refuses it, so callers can say so. */
 export async function sendMail(db: Db, mail: OutgoingMail): Promise<void> {
 	const mailer = await mailerFor(db);
-	const { oneTimeLinks, ...message } = mail;
+	const { oneTimeLinks, about, ...rest } = mail;
+	const message = { ...rest, text: withRecordLink(rest.text, about) };
 	await mailer.transport.sendMail({ from: MAIL_FROM(), ...message });
 	if (mailer.kind === 'fake') {
 		await mailer.settled();
@@ -132,14 +146,31 @@ export async function sendMail(db: Db, mail: OutgoingMail): Promise<void> {
 			fromAddr: MAIL_FROM(),
 			toAddr: Array.isArray(mail.to) ? mail.to.join(', ') : mail.to,
 			subject: mail.subject,
-			text: redactedCopy({ text: mail.text, oneTimeLinks }),
+			text: redactedCopy({ text: message.text, oneTimeLinks }),
 			transport: 'smtp'
 		});
 	}
 }
 
-export async function listOutbox(db: Db, limit = 200) {
-	return db.select().from(mailOutbox).orderBy(desc(mailOutbox.id)).limit(limit);
+export interface OutboxFilter {
+	/** Part of a recipient's address, taken literally. */
+	to?: string;
+	/** Part of the subject, taken literally. */
+	subject?: string;
+	limit?: number;
+}
+
+/** The outbox, newest first, optionally narrowed by recipient and subject. */
+export async function listOutbox(db: Db, filter: OutboxFilter = {}) {
+	const where: SQL[] = [];
+	if (filter.to) where.push(containsText(mailOutbox.toAddr, filter.to));
+	if (filter.subject) where.push(containsText(mailOutbox.subject, filter.subject));
+	return db
+		.select()
+		.from(mailOutbox)
+		.where(where.length ? and(...where) : undefined)
+		.orderBy(desc(mailOutbox.id))
+		.limit(filter.limit ?? 200);
 }
 
 export async function closeMailer(db: Db): Promise<void> {

@@ -16,6 +16,7 @@ import { buildAndTest, measurements, run, ship } from './demo-steps';
 import { fileClaim } from '$lib/server/services/claims';
 import { decideClaim, moveClaim, replaceModule } from '$lib/server/services/claim-workflow';
 import { seedDemoHistory } from './demo-history';
+import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
 
 const at = (iso: string) => new Date(iso);
 
@@ -211,7 +212,7 @@ export async function seedDemoFleet(db: Db) {
 		{
 			serials: [old.serials[0]],
 			fault: 'Bank no longer lasts the night',
-			evidence: {
+			evidence: claimEvidenceSchema.parse({
 				measuredCapacityAh: '33.1',
 				measuredAtC: '22',
 				throughputWh: perModuleWh(3100),
@@ -219,7 +220,7 @@ export async function seedDemoFleet(db: Db) {
 				maxCellTempC: '38',
 				description:
 					'Since August the cabin runs out of energy before dawn; a capacity test of this module gave 33.1 Ah.'
-			}
+			})
 		},
 		at('2026-09-08T15:20:00Z')
 	);
@@ -246,7 +247,7 @@ export async function seedDemoFleet(db: Db) {
 		{
 			serials: [old.serials[2]],
 			fault: 'One module warmer than the others',
-			evidence: {
+			evidence: claimEvidenceSchema.parse({
 				measuredCapacityAh: '44.0',
 				measuredAtC: '21',
 				throughputWh: perModuleWh(2900),
@@ -254,7 +255,7 @@ export async function seedDemoFleet(db: Db) {
 				maxCellTempC: '41',
 				description:
 					'The owner noticed one module runs a few degrees warmer; its capacity test gave 44.0 Ah.'
-			}
+			})
 		},
 		at('2026-11-24T09:45:00Z')
 	);

@@ -18,6 +18,7 @@ import { updateModel } from '$lib/server/services/models';
 import { modelInputSchema } from '$lib/schemas/model';
 import { actorForEmail } from './demo-actors';
 import { at, buildAndTest, measurements, run, ship } from './demo-steps';
+import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
 
 /** Invented replacement costs per module (module, freight and labour), in the books' currency. */
 const REPLACEMENT_COSTS: Record<string, number> = {
@@ -256,7 +257,7 @@ export async function seedDemoHistory(db: Db) {
 			{
 				serials: [cohort.serials[mi]],
 				fault: covered ? 'Bank runs out of energy early' : 'Runs short in cloudy weeks',
-				evidence: {
+				evidence: claimEvidenceSchema.parse({
 					measuredCapacityAh: ah,
 					measuredAtC: '21',
 					throughputWh: String(Math.round(efc * 2300 * 4)),
@@ -264,7 +265,7 @@ export async function seedDemoHistory(db: Db) {
 					description: covered
 						? `A capacity test of this module gave ${ah} Ah; the bank no longer lasts the night.`
 						: `The owner reports short evenings in cloudy weeks; a capacity test gave ${ah} Ah.`
-				}
+				})
 			},
 			when
 		);

@@ -2,7 +2,8 @@ import { gs1CheckDigit } from '$lib/domain/gs1';
 
 /**
  * The invented TC-HC range of Tidewater Cellworks: one energy per module (~2.4 kWh)
- * in three voltage variants. Every number here is invented for the demo.
+ * in three voltage variants. Every number here is invented for the demo; the data-sheet
+ * internal resistances sit a little below the factory-test limits.
  */
 const gtin = (base13: string) => {
 	const body = base13.padStart(13, '0');
@@ -42,7 +43,8 @@ export const DEMO_MODELS = [
 		massKg: 24.5,
 		gtin: null,
 		minCapacityAh: 165,
-		maxDcirMohm: 1.6
+		maxDcirMohm: 1.6,
+		internalResistanceMohm: 1.5
 	},
 	{
 		...common,
@@ -54,7 +56,8 @@ export const DEMO_MODELS = [
 		massKg: 25.0,
 		gtin: gtin('0952123460001'),
 		minCapacityAh: 90,
-		maxDcirMohm: 3.2
+		maxDcirMohm: 3.2,
+		internalResistanceMohm: 3.0
 	},
 	{
 		...common,
@@ -66,7 +69,8 @@ export const DEMO_MODELS = [
 		massKg: 25.5,
 		gtin: gtin('0952123460002'),
 		minCapacityAh: 45,
-		maxDcirMohm: 6.4
+		maxDcirMohm: 6.4,
+		internalResistanceMohm: 6.0
 	}
 ];
 

@@ -94,6 +94,22 @@ export async function ship(
 	await dispatchShipment(db, workshop, s.id, when);
 }
 
+/** An invented demo signature: a few looping strokes, as signature_pad would record them. */
+function demoSignature(seed: number): string {
+	const strokes: [number, number][][] = [];
+	for (let k = 0; k < 3; k++) {
+		const stroke: [number, number][] = [];
+		for (let i = 0; i <= 24; i++) {
+			const t = i / 24;
+			const x = 40 + k * 160 + t * 140;
+			const y = 100 + Math.sin(t * Math.PI * (2 + ((seed + k) % 3))) * (30 + 10 * k);
+			stroke.push([Math.round(x * 10) / 10, Math.round(y * 10) / 10]);
+		}
+		strokes.push(stroke);
+	}
+	return JSON.stringify({ w: 600, h: 200, strokes });
+}
+
 export const measurements = (series: number, parallel: number, insulation = '120') => {
 	const form: Record<string, string> = {};
 	for (let s = 1; s <= parallel; s++) {
@@ -110,11 +126,16 @@ export const measurements = (series: number, parallel: number, insulation = '120
 		torqueConfirmed: 'yes',
 		deviceRatingA: String(Math.ceil((3 * 46.5 * parallel * 1.25) / 10) * 10 + 10),
 		deviceDcRatingV: '150',
+		// TC-HC-48 with 6.0 mΩ: each string adds 60.5 V / 6.0 mΩ ≈ 10.1 kA of fault current.
+		deviceBreakingKA: String(Math.ceil(parallel * 10.1) + 5),
+		stringProtection: parallel > 1 ? 'yes' : '',
 		ambientC: '17.5',
 		stopChargeProven: 'yes',
 		technicianName: 'Ilse Fenwick',
 		licenceNumber: 'EL-40917',
 		handoverName: 'Marra Quill',
+		technicianSignature: demoSignature(series + parallel),
+		ownerSignature: demoSignature(series * parallel + 7),
 		cautionsAcknowledged: 'yes'
 	});
 };

@@ -15,7 +15,10 @@ export const DEMO_ORGS = [
 		kind: 'assembler' as const,
 		name: 'Tidewater Cellworks',
 		contactEmail: 'office@tidewater.example',
-		region: 'Port Halden'
+		region: 'Port Halden',
+		// UTC+10 by a zone that names no real place (IANA Etc/ zones invert the sign).
+		timeZone: 'Etc/GMT-10',
+		locale: 'en-GB'
 	},
 	{
 		kind: 'dealer' as const,

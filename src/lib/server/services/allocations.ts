@@ -12,6 +12,7 @@ import type { Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import { serialRun } from '$lib/domain/serial';
 import { recordAudit } from './audit';
+import { businessYear } from './calendar';
 
 export const MAX_ALLOCATION = 1000;
 const MAX_RUNNING_NUMBER = 999_999;
@@ -36,7 +37,8 @@ export async function allocateSerials(
 	if (!model) throw new NotFoundError('That module model does not exist.');
 	if (model.retiredAt)
 		throw new ConflictError(`${model.code} is retired: no new serials can be allocated for it.`);
-	const year = now.getUTCFullYear();
+	// Serials carry the year on the assembler's calendar (a label printed on 1 January local time is that year's).
+	const year = await businessYear(db, now);
 
 	return writeTx(db, async (tx) => {
 		const [counter] = await tx

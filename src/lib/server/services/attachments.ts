@@ -1,6 +1,6 @@
 import { createHash, randomUUID } from 'node:crypto';
 import { and, asc, eq } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import { writeTx, type Db } from '$lib/server/db';
 import { attachments, commissionings, sites, systems, claims } from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { InvalidInputError, NotFoundError } from '$lib/server/errors';
@@ -178,6 +178,7 @@ export async function savePhoto(
 ) {
 	if (actor.userId === null)
 		throw new InvalidInputError('Photos are uploaded by a signed-in person.');
+	const uploadedBy = actor.userId;
 	await assertOwnerVisible(db, actor, owner);
 	const contentType = checkPhoto(file);
 	const sha256 = createHash('sha256').update(file.bytes).digest('hex');
@@ -185,36 +186,38 @@ export async function savePhoto(
 	const fileName = safeFileName(file.name, contentType);
 	await putObject(storageKey, file.bytes, contentType);
 	try {
-		const [row] = await db
-			.insert(attachments)
-			.values({
-				ownerKind: owner.ownerKind,
-				ownerId: owner.ownerId,
-				storageKey,
-				fileName,
-				contentType,
-				bytes: file.bytes.byteLength,
-				sha256,
-				caption: caption?.trim() || null,
-				uploadedBy: actor.userId,
-				createdAt: now
-			})
-			.returning();
-		await recordAudit(db, actor, {
-			action: 'attachment.add',
-			entity: 'attachment',
-			entityId: row.id,
-			after: {
-				ownerKind: row.ownerKind,
-				ownerId: row.ownerId,
-				fileName,
-				contentType,
-				bytes: row.bytes,
-				sha256
-			},
-			at: now
+		return await writeTx(db, async (tx) => {
+			const [row] = await tx
+				.insert(attachments)
+				.values({
+					ownerKind: owner.ownerKind,
+					ownerId: owner.ownerId,
+					storageKey,
+					fileName,
+					contentType,
+					bytes: file.bytes.byteLength,
+					sha256,
+					caption: caption?.trim() || null,
+					uploadedBy,
+					createdAt: now
+				})
+				.returning();
+			await recordAudit(tx, actor, {
+				action: 'attachment.add',
+				entity: 'attachment',
+				entityId: row.id,
+				after: {
+					ownerKind: row.ownerKind,
+					ownerId: row.ownerId,
+					fileName,
+					contentType,
+					bytes: row.bytes,
+					sha256
+				},
+				at: now
+			});
+			return row;
 		});
-		return row;
 	} catch (e) {
 		// No row points at the stored file: remove it rather than leave an orphan.
 		await deleteObject(storageKey).catch(() => undefined);

@@ -7,6 +7,7 @@ import { ConflictError } from '$lib/server/errors';
 import type { BuildInput } from '$lib/schemas/build';
 import { recordAudit, recordEvent } from './audit';
 import { findModule } from './modules';
+import { businessDay } from './calendar';
 import { endOf, mayMove, statesFrom } from '$lib/domain/module-lifecycle';
 
 /**
@@ -87,7 +88,7 @@ export async function benchTarget(db: Db, actor: Actor, serial: string) {
 			? await db.select({ name: users.name }).from(users).where(eq(users.id, mod.builtBy))
 			: [];
 		throw new ConflictError(
-			`${mod.serial} is already built${mod.builtAt ? ` (${mod.builtAt.toISOString().slice(0, 10)}${by ? `, ${by.name}` : ''})` : ''}. Scan the next label.`
+			`${mod.serial} is already built${mod.builtAt ? ` (${await businessDay(db, mod.builtAt)}${by ? `, ${by.name}` : ''})` : ''}. Scan the next label.`
 		);
 	}
 	if (model.retiredAt)

@@ -1,6 +1,15 @@
 import { PageSizes, PDFDocument, rgb, StandardFonts, type PDFFont, type PDFPage } from 'pdf-lib';
+import QRCode from 'qrcode';
 import type { CommissioningItem } from '$lib/domain/commissioning';
-import type { CertificateData } from './commissioning';
+import { signaturePath, type Signature } from '$lib/schemas/signature';
+import type { CertificateData } from './certificates';
+
+export interface CertificateExtras {
+	/** Photo bytes in certificate order; JPEG and PNG are drawn as thumbnails, others are listed. */
+	photos: { bytes: Uint8Array; contentType: string; caption: string | null }[];
+	/** The verification page the QR code opens. */
+	verifyUrl: string;
+}
 
 /** Characters the standard PDF fonts (WinAnsi) cannot show, in words they can. */
 const WIN_ANSI_SWAPS: [RegExp, string][] = [
@@ -16,16 +25,23 @@ const WIN_ANSI_SWAPS: [RegExp, string][] = [
 const STATUS_WORDS: Record<CommissioningItem['status'], string> = {
 	pass: 'PASS',
 	fail: 'FAIL',
-	not_measured: 'NOT MEASURED'
+	not_measured: 'NOT MEASURED',
+	implausible: 'IMPLAUSIBLE'
 };
 
 /**
  * The commissioning certificate on A4, in a standard font (text outside WinAnsi is
- * rewritten: "MOhm", "<="): number, date, site, system, every module's place, each
- * checklist item with its reason, sign-off, warranty, and the cautions; every page ends
+ * rewritten: "MOhm", "<="): number, date, the assembler and the installing company, site,
+ * system and its fault current, every module's place, every reading with its limit, each
+ * checklist item with its reason, the rule set and its citations, photos, sign-off with both
+ * drawn signatures, warranty, the cautions, and a QR code to the verification page with the
+ * content hash. Dark ink on white only, so it prints legibly in greyscale; every page ends
  * with the note that local codes take precedence.
  */
-export async function certificatePdf(data: CertificateData): Promise<Uint8Array> {
+export async function certificatePdf(
+	data: CertificateData,
+	extras: CertificateExtras = { photos: [], verifyUrl: '' }
+): Promise<Uint8Array> {
 	const doc = await PDFDocument.create();
 	doc.setTitle(`Commissioning certificate ${data.certificateNo}`);
 	doc.setSubject(`${data.system.name} at ${data.site.name}, commissioned ${data.commissionedOn}`);
@@ -94,9 +110,10 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 			y -= size * 1.4;
 		}
 	};
-	const heading = (text: string) => {
+	/** A section heading, kept on one page with at least `keep` points of what follows it. */
+	const heading = (text: string, keep = 40) => {
 		y -= 10;
-		ensure(40);
+		ensure(30 + keep);
 		write(text, { size: 13, font: bold });
 		page.drawLine({
 			start: { x: LEFT, y: y + 2 },
@@ -118,10 +135,39 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 	};
 
 	const sys = data.system;
-	write('Commissioning certificate', { size: 22, font: bold });
+	const moduleMaxV = Math.round((sys.maxV / sys.series) * 1000) / 1000;
+	const QR = 92;
+	if (extras.verifyUrl) {
+		const png = await QRCode.toBuffer(extras.verifyUrl, {
+			margin: 4,
+			errorCorrectionLevel: 'M',
+			scale: 8
+		});
+		const img = await doc.embedPng(png);
+		page.drawImage(img, { x: LEFT + WIDTH - QR, y: TOP - QR, width: QR, height: QR });
+	}
+	const headWidth = WIDTH - QR - 10;
+	write('Commissioning certificate', { size: 22, font: bold, width: headWidth });
 	y -= 4;
-	write(`Certificate ${data.certificateNo}`, { size: 14, font: bold });
-	write(`Commissioned on ${data.commissionedOn}`, { size: 11, color: soft });
+	write(`Certificate ${data.certificateNo}`, { size: 14, font: bold, width: headWidth });
+	write(`Commissioned on ${data.commissionedOn}`, { size: 11, color: soft, width: headWidth });
+	write(`Modules made by ${data.assemblerName}; installed by ${data.installerName}.`, {
+		size: 10,
+		width: headWidth
+	});
+	if (extras.verifyUrl)
+		write('Scan the code to check that this certificate is genuine and unchanged.', {
+			size: 8,
+			color: soft,
+			width: headWidth
+		});
+	y = Math.min(y, TOP - QR - 4);
+
+	heading('Parties');
+	field('Assembler', data.assemblerName);
+	field('Installing company', data.installerName);
+	field('Technician', `${data.technicianName}, electrical licence ${data.licenceNumber}`);
+	field('Owner (handover)', data.handoverName ?? 'not recorded');
 
 	heading('Site');
 	field('Site', data.site.name);
@@ -132,29 +178,174 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 	field('Module model', `${sys.modelCode} (${sys.modelName})`);
 	field(
 		'Arrangement',
-		`${sys.series} in series x ${sys.parallel} in parallel (${sys.series * sys.parallel} modules)`
+		`${sys.series} in series × ${sys.parallel} in parallel (${sys.series * sys.parallel} modules)`
 	);
 	field(
 		'String voltage',
 		`${sys.minV} V minimum, ${sys.nominalV} V nominal, ${sys.maxV} V maximum`
 	);
 	if (sys.inverterName) field('Inverter', sys.inverterName);
+	field(
+		'Fault current',
+		data.shortCircuitA === null
+			? 'not computed (module internal resistance not on record)'
+			: `${(data.shortCircuitA / 1000).toFixed(1)} kA (${data.shortCircuitA} A) prospective short-circuit current: ` +
+					`${sys.parallel} string${sys.parallel === 1 ? '' : 's'} in parallel × ${moduleMaxV} V module maximum ÷ ` +
+					`${data.internalResistanceMOhm ?? '?'} mΩ module internal resistance, cable resistance neglected (conservative)`
+	);
 
 	heading('Modules');
 	for (const m of data.modules) field(`String ${m.stringNo}, position ${m.position}`, m.serial);
 
-	heading('Checklist');
+	heading('Readings and their limits', 60);
+	{
+		const cols = [0, 170, 290];
+		ensure(16);
+		const top = y;
+		(['Reading', 'Value', 'Limit'] as const).forEach((h, i) => {
+			y = top;
+			write(h, { font: bold, size: 9, x: cols[i], width: (cols[i + 1] ?? WIDTH) - cols[i] - 6 });
+		});
+		for (const r of data.readings) {
+			ensure(14);
+			const rowTop = y;
+			let lowest = y;
+			const cells = [`${r.group}: ${r.what}`, r.value, r.limit];
+			cells.forEach((text, i) => {
+				y = rowTop;
+				write(text, {
+					size: 9,
+					x: cols[i],
+					width: (cols[i + 1] ?? WIDTH) - cols[i] - 6,
+					font: i === 1 ? bold : regular
+				});
+				lowest = Math.min(lowest, y);
+			});
+			// The rule sits below the descenders of the row's last line, then a little air.
+			y = lowest - 1;
+			page.drawLine({
+				start: { x: LEFT, y },
+				end: { x: LEFT + WIDTH, y },
+				thickness: 0.3,
+				color: soft
+			});
+			y -= 3;
+		}
+	}
+
+	heading('Checklist', 50);
 	for (const item of data.items) {
 		ensure(30);
 		write(`${STATUS_WORDS[item.status]}  ${item.label}`, { font: bold });
-		write(item.reason, { x: 12, size: 9, color: soft });
+		write(item.reason, { x: 12, size: 9, color: ink });
 		y -= 3;
 	}
 
-	heading('Sign-off');
-	field('Technician', data.technicianName);
-	field('Licence number', data.licenceNumber);
-	field('Handed over to', data.handoverName ?? 'not recorded');
+	heading('Rule set');
+	if (data.ruleSet) {
+		field(
+			'Judged by',
+			`${data.ruleSet.name}; ${data.ruleSet.market === 'default' ? 'the default set (for markets without a set of their own)' : `market ${data.ruleSet.market}`}; version ${data.ruleSet.version}, in force from ${data.ruleSet.effectiveFrom}`
+		);
+		const c = data.ruleSet.citations;
+		const cites: [string, string][] = [
+			['Module voltages', c.moduleVoltages],
+			['String voltages', c.stringSum],
+			['Insulation', c.insulation],
+			['Device current', c.overcurrent],
+			['Device voltage', c.voltageRating],
+			['Breaking capacity', c.breakingCapacity],
+			['Device per string', c.stringProtection],
+			['Implausible readings', c.plausibility]
+		];
+		for (const [k, v] of cites) field(k, v);
+	} else {
+		write('Judged before rule sets were recorded.', { size: 9 });
+	}
+
+	if (extras.photos.length) {
+		const TW = 150;
+		const TH = 112;
+		heading('Photos', TH + 20);
+		let col = 0;
+		for (const p of extras.photos) {
+			let img;
+			try {
+				img =
+					p.contentType === 'image/jpeg'
+						? await doc.embedJpg(p.bytes)
+						: p.contentType === 'image/png'
+							? await doc.embedPng(p.bytes)
+							: null;
+			} catch {
+				img = null;
+			}
+			if (col === 0) ensure(TH + 22);
+			const x = LEFT + col * (TW + 15);
+			if (img) {
+				const k = Math.min(TW / img.width, TH / img.height);
+				page.drawImage(img, { x, y: y - TH, width: img.width * k, height: img.height * k });
+			} else {
+				page.drawRectangle({
+					x,
+					y: y - TH,
+					width: TW,
+					height: TH,
+					borderColor: soft,
+					borderWidth: 0.5
+				});
+				page.drawText(clean('(photo kept in the register)'), {
+					x: x + 6,
+					y: y - TH / 2,
+					size: 8,
+					font: regular,
+					color: ink
+				});
+			}
+			if (p.caption)
+				page.drawText(clean(wrap(p.caption, regular, 8, TW)[0] ?? ''), {
+					x,
+					y: y - TH - 10,
+					size: 8,
+					font: regular,
+					color: ink
+				});
+			col++;
+			if (col === 3) {
+				col = 0;
+				y -= TH + 18;
+			}
+		}
+		if (col) y -= TH + 18;
+	}
+
+	heading('Sign-off', 100);
+	const signBox = (who: string, name: string, sig: Signature | null, x: number) => {
+		const w = 230;
+		const h = 70;
+		page.drawRectangle({ x, y: y - h, width: w, height: h, borderColor: soft, borderWidth: 0.5 });
+		if (sig) {
+			const k = Math.min((w - 10) / sig.w, (h - 10) / sig.h);
+			page.drawSvgPath(signaturePath(sig, k), {
+				x: x + 5 + (w - 10 - sig.w * k) / 2,
+				y: y - 5 - (h - 10 - sig.h * k) / 2,
+				borderColor: rgb(0, 0, 0),
+				borderWidth: 1.2
+			});
+		} else {
+			page.drawText('not signed', { x: x + 8, y: y - h / 2, size: 9, font: regular, color: soft });
+		}
+		page.drawText(clean(`${who}: ${name}`), { x, y: y - h - 11, size: 9, font: bold, color: ink });
+	};
+	ensure(100);
+	signBox(
+		'Technician',
+		`${data.technicianName} (licence ${data.licenceNumber})`,
+		data.signatures.technician,
+		LEFT
+	);
+	signBox('Owner', data.handoverName ?? 'not recorded', data.signatures.owner, LEFT + 265);
+	y -= 92;
 
 	heading('Warranty');
 	field('Starts', data.warranty.startsOn);
@@ -177,7 +368,8 @@ export async function certificatePdf(data: CertificateData): Promise<Uint8Array>
 		note.forEach((line, j) =>
 			p.drawText(line, { x: LEFT, y: 40 - j * 10, size: 8, font: bold, color: ink })
 		);
-		p.drawText(clean(`${data.certificateNo} · page ${i + 1} of ${pages.length}`), {
+		const hash = data.contentHash ? ` · content SHA-256 ${data.contentHash}` : '';
+		p.drawText(clean(`${data.certificateNo} · page ${i + 1} of ${pages.length}${hash}`), {
 			x: LEFT,
 			y: 40 - note.length * 10 - 2,
 			size: 8,

@@ -13,9 +13,11 @@ import {
 	systems
 } from '$lib/server/db/schema';
 import { assessClaim, type ClaimAssessment, type ClaimInput } from '$lib/domain/warranty';
-import type { WarrantyTerms } from '$lib/domain/model';
+import { warrantyTermsOf, type WarrantyTerms } from '$lib/domain/model';
 import { warrantyTermsSchema, type ClaimEvidence } from '$lib/schemas/warranty-assess';
 import type { LogSummaryEvidence } from '$lib/schemas/claim';
+import { calendarDay } from '$lib/domain/calendar';
+import { assemblerCalendar } from './calendar';
 import { fmtNumber, implausibleEvidence, perModuleThroughput } from '$lib/domain/claim-evidence';
 
 export { fmtNumber, implausibleEvidence, perModuleThroughput };
@@ -44,8 +46,6 @@ export interface ClaimAssessmentResult extends ClaimAssessment {
 	modules: { serial: string; assessment: ClaimAssessment }[];
 }
 
-export const isoDay = (d: Date) => d.toISOString().slice(0, 10);
-
 export function parseEvidence(json: string): StoredEvidence {
 	const e = JSON.parse(json) as StoredEvidence;
 	return { ...e, throughputScope: e.throughputScope === 'module' ? 'module' : 'system' };
@@ -60,14 +60,7 @@ export function termsOf(
 	snapshot: string | null,
 	model: ModelRow
 ): { terms: WarrantyTerms; note: string | null } {
-	const current: WarrantyTerms = {
-		years: model.warrantyYears,
-		ratedCycles: model.ratedCycles,
-		endRetentionPct: model.endRetentionPct,
-		referenceTempC: model.referenceTempC,
-		hotTempC: model.hotTempC,
-		hotRatedCycles: model.hotRatedCycles
-	};
+	const current = warrantyTermsOf(model);
 	if (!snapshot)
 		return {
 			terms: current,
@@ -195,7 +188,9 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 		.orderBy(asc(modules.serial));
 	const moduleCount = await modulesInSystem(conn, claim.systemId);
 	const stopCharge = await stopChargeProof(conn, claim.systemId);
-	const claimedOn = isoDay(claim.filedAt);
+	const { timeZone } = await assemblerCalendar(conn);
+	// The claim is dated by the assembler's calendar, as is the warranty start it is compared with.
+	const claimedOn = calendarDay(claim.filedAt, timeZone);
 	const perModuleWh = perModuleThroughput(evidence, moduleCount);
 
 	const preface: string[] = [];
@@ -225,7 +220,7 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 	const assessed = rows.map(({ module, model }) => ({
 		module,
 		model,
-		...assessModule(module, model, evidence, perModuleWh, stopCharge, claimedOn)
+		...assessModule(module, model, evidence, perModuleWh, stopCharge, claimedOn, timeZone)
 	}));
 	if (!assessed.length) throw new Error(`Claim ${claim.reference} has no modules.`);
 	const [first] = assessed;
@@ -239,7 +234,7 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 		const fault = assessFaultClaim({
 			kind: claim.kind,
 			fault: faultCode,
-			shippedOn: first.module.shippedAt ? isoDay(first.module.shippedAt) : null,
+			shippedOn: first.module.shippedAt ? calendarDay(first.module.shippedAt, timeZone) : null,
 			claimedOn,
 			withinTerm: first.module.warrantyEndsOn ? claimedOn <= first.module.warrantyEndsOn : null,
 			photos,
@@ -292,14 +287,16 @@ function assessModule(
 	evidence: StoredEvidence,
 	perModuleWh: number | null,
 	stopCharge: ClaimAssessmentResult['stopCharge'],
-	claimedOn: string
+	claimedOn: string,
+	timeZone: string
 ) {
 	const { terms, note } = termsOf(module.warrantyTerms, model);
 	const events = eventsOf(evidence, model);
 	const input: ClaimInput = {
 		terms,
 		commissionedOn:
-			module.warrantyStartsOn ?? (module.commissionedAt ? isoDay(module.commissionedAt) : null),
+			module.warrantyStartsOn ??
+			(module.commissionedAt ? calendarDay(module.commissionedAt, timeZone) : null),
 		claimedOn,
 		ratedCapacityAh: model.ratedAh,
 		measuredCapacityAh: evidence.measuredCapacityAh ?? null,

@@ -19,6 +19,7 @@ import {
 	parseEvidence,
 	type StoredEvidence
 } from './claim-assessment';
+import { assemblerCalendar } from './calendar';
 
 import { label, logStep, setState } from './claim-steps';
 import { evidenceAdded } from '$lib/server/mail/templates/claims';
@@ -113,7 +114,8 @@ export async function addEvidence(
 		model,
 		moduleCount: await modulesInSystem(db, claim.systemId),
 		startsOn: mod.modules.warrantyStartsOn,
-		now
+		now,
+		calendar: await assemblerCalendar(db)
 	});
 	if (implausible.length) throw new InvalidInputError(implausible[0].message, implausible);
 

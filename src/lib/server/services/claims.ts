@@ -1,4 +1,4 @@
-import { and, asc, count, desc, eq, inArray, like, lte, ne, sql, type SQL } from 'drizzle-orm';
+import { and, asc, count, desc, eq, inArray, lte, ne, sql, type SQL } from 'drizzle-orm';
 import { alias } from 'drizzle-orm/sqlite-core';
 import Papa from 'papaparse';
 import type { Db, Tx } from '$lib/server/db';
@@ -49,6 +49,7 @@ import {
 } from '$lib/schemas/claim';
 import { STATE_LABELS } from '$lib/module-states';
 import { toIssues } from '$lib/server/validation';
+import { isCalendarDate } from '$lib/domain/calendar';
 import { recordAudit, recordEvent } from './audit';
 import { findModule, serialFromScan } from './modules';
 import {
@@ -59,6 +60,8 @@ import {
 	type ClaimAssessmentResult,
 	type StoredEvidence
 } from './claim-assessment';
+import { assemblerCalendar, businessDay, businessYear } from './calendar';
+import { nextYearlyReference } from './sequences';
 import {
 	endOf,
 	mayBeClaimed,
@@ -109,7 +112,8 @@ export async function mailFiler(
 	await sendMail(db, {
 		to: filer.email,
 		subject,
-		text: `Hello ${filer.name},\n\n${body}\n\nOpen the claim in Packledger under Claims → ${claim.reference}.\n\nTidewater Cellworks warranty`
+		text: `Hello ${filer.name},\n\n${body}\n\nTidewater Cellworks warranty`,
+		about: `/claims/${claim.id}`
 	});
 }
 
@@ -144,7 +148,7 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 	const kind: ClaimKind = input.kind ?? 'in-service';
 	const { fault, faultCode } = faultOf(kind, input.fault);
 	const observedOn = input.observedOn ?? null;
-	if (observedOn !== null && observedOn > now.toISOString().slice(0, 10))
+	if (observedOn !== null && observedOn > (await businessDay(db, now)))
 		throw new InvalidInputError('The day the fault was seen cannot be after today.', [
 			{ path: 'observedOn', message: 'The day the fault was seen cannot be after today.' }
 		]);
@@ -217,7 +221,8 @@ export async function fileClaim(db: Db, actor: Actor, input: FileClaimInput, now
 					model,
 					moduleCount,
 					startsOn: mods[0].warrantyStartsOn,
-					now
+					now,
+					calendar: await assemblerCalendar(db)
 				})
 			: [];
 	if (implausible.length) throw new InvalidInputError(implausible[0].message, implausible);
@@ -343,17 +348,10 @@ function assertKindFits(
 	);
 }
 
-/** CL-{year}-{NNNN}: the next number of the year, read and written inside the caller's write transaction. */
+/** CL-{year}-{NNNN}: the next number of the assembler's calendar year, inside the caller's write transaction. */
 async function nextReference(tx: Tx, now: Date): Promise<string> {
-	const prefix = `CL-${now.getUTCFullYear()}-`;
-	const [last] = await tx
-		.select({ reference: claims.reference })
-		.from(claims)
-		.where(like(claims.reference, `${prefix}%`))
-		.orderBy(desc(sql`length(${claims.reference})`), desc(claims.reference))
-		.limit(1);
-	const next = last ? Number(last.reference.slice(prefix.length)) + 1 : 1;
-	return prefix + String(next).padStart(4, '0');
+	const year = await businessYear(tx, now);
+	return nextYearlyReference(tx, claims, claims.reference, { code: 'CL', year, width: 4 });
 }
 
 /** The dealer whose remembered log mapping applies when staff file for a module (null: the assembler's own). */
@@ -428,7 +426,7 @@ export async function readInverterLog(
 		throw e;
 	}
 	const lastDay = summary.lastAt?.slice(0, 10) ?? '';
-	if (/^\d{4}-\d{2}-\d{2}$/.test(lastDay) && lastDay > now.toISOString().slice(0, 10))
+	if (isCalendarDate(lastDay) && lastDay > (await businessDay(db, now)))
 		summary.problems.push(
 			`The last row is dated ${summary.lastAt}, after today: check the inverter's clock.`
 		);

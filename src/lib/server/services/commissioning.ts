@@ -1,18 +1,17 @@
-import { and, asc, desc, eq, inArray, like } from 'drizzle-orm';
+import { and, asc, avg, desc, eq, inArray } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import {
+	attachments,
 	commissionings,
+	factoryTests,
 	moduleModels,
 	modules,
-	organisations,
-	sites,
 	systems,
 	systemSlots
 } from '$lib/server/db/schema';
-import { dealerScopeOf, type Actor } from '$lib/server/actor';
-import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
-import { sendMail } from '$lib/server/mail';
+import type { Actor } from '$lib/server/actor';
+import { ConflictError, InvalidInputError } from '$lib/server/errors';
 import {
 	evaluateCommissioning,
 	systemCurrentLimitA,
@@ -22,44 +21,27 @@ import {
 import { warrantyTermEnd } from '$lib/domain/warranty';
 import { STATE_LABELS } from '$lib/module-states';
 import {
-	CODES_TAKE_PRECEDENCE,
-	COMMISSIONING_CAUTIONS,
 	toMeasurements,
 	type CommissioningInput,
 	type MeasurementsInput
 } from '$lib/schemas/commissioning';
 import { recordAudit, recordEvent } from './audit';
-import { certificatePdf } from './certificate-pdf';
+import { ruleSetInForce } from './rule-sets';
+import { businessDay } from './calendar';
+import { nextYearlyReference } from './sequences';
+import {
+	canonicalContent,
+	mailCertificate,
+	organisationName,
+	sha256Hex,
+	type CertificateMail,
+	type Snapshot
+} from './certificates';
+import { findSystem } from './systems';
+import { warrantyTermsOf } from '$lib/domain/model';
 import { endOf, mayMove, statesFrom } from '$lib/domain/module-lifecycle';
 
 const roundMv = (x: number) => Math.round(x * 1000) / 1000;
-
-export interface CertificateData {
-	commissioningId: number;
-	certificateNo: string;
-	commissionedOn: string;
-	site: { name: string; address: string; dealerOrgId: number | null };
-	system: {
-		id: number;
-		name: string;
-		modelCode: string;
-		modelName: string;
-		series: number;
-		parallel: number;
-		inverterName: string | null;
-		minV: number;
-		nominalV: number;
-		maxV: number;
-	};
-	modules: { stringNo: number; position: number; serial: string }[];
-	items: CommissioningItem[];
-	technicianName: string;
-	licenceNumber: string;
-	handoverName: string | null;
-	warranty: { startsOn: string; endsOn: string; years: number };
-	cautions: { title: string; text: string }[];
-	codesNote: string;
-}
 
 /**
  * A system as the commissioning checklist needs it: site, model, the module in every
@@ -67,18 +49,15 @@ export interface CertificateData {
  * domain's evaluation. A dealer's people only reach their own organisation's sites; any
  * other system answers exactly like one that does not exist.
  */
-export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId: number) {
-	const notFound = new NotFoundError(`System ${systemId} is not in the register.`);
-	if (!Number.isInteger(systemId) || systemId < 1) throw notFound;
-	const [row] = await db
-		.select({ system: systems, site: sites, model: moduleModels })
-		.from(systems)
-		.innerJoin(sites, eq(systems.siteId, sites.id))
-		.innerJoin(moduleModels, eq(systems.modelId, moduleModels.id))
-		.where(eq(systems.id, systemId));
-	const scope = dealerScopeOf(actor);
-	if (!row || (scope !== null && row.site.dealerOrgId !== scope)) throw notFound;
-	const { system, site, model } = row;
+export async function loadSystemForCommissioning(
+	db: Db,
+	actor: Actor,
+	systemId: number,
+	now = new Date()
+) {
+	// The one dealer-scoped lookup: another dealer's system answers like a missing one.
+	const { system, site } = await findSystem(db, actor, systemId);
+	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, system.modelId));
 
 	const slots = await db
 		.select({
@@ -116,6 +95,21 @@ export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId:
 		.orderBy(desc(commissionings.id));
 
 	const cells = system.series * model.cellsSeries;
+	// The data sheet's internal resistance, else the mean of these modules' factory tests.
+	let internalResistanceMOhm = model.internalResistanceMohm ?? null;
+	if (internalResistanceMOhm === null && slots.length) {
+		const [row] = await db
+			.select({ mean: avg(factoryTests.dcirMohm) })
+			.from(factoryTests)
+			.where(
+				inArray(
+					factoryTests.moduleId,
+					slots.map((x) => x.id)
+				)
+			);
+		internalResistanceMOhm = row?.mean ? Math.round(Number(row.mean) * 1000) / 1000 : null;
+	}
+	const ruleSet = await ruleSetInForce(db, site.dealerOrgId, await businessDay(db, now));
 	const evaluationSystem: CommissioningSystem = {
 		series: system.series,
 		parallel: system.parallel,
@@ -136,7 +130,8 @@ export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId:
 			chargeTempMinC: model.chargeTempMinC,
 			chargeTempMaxC: model.chargeTempMaxC,
 			dischargeTempMinC: model.dischargeTempMinC,
-			dischargeTempMaxC: model.dischargeTempMaxC
+			dischargeTempMaxC: model.dischargeTempMaxC,
+			internalResistanceMOhm
 		}
 	};
 	return {
@@ -146,8 +141,10 @@ export async function loadSystemForCommissioning(db: Db, actor: Actor, systemId:
 			name: site.name,
 			address: site.address,
 			ownerName: site.ownerName,
+			ownerContact: site.ownerContact,
 			dealerOrgId: site.dealerOrgId
 		},
+		ruleSet,
 		model,
 		strings,
 		emptySlots: strings.flat().filter((s) => !s.module),
@@ -165,23 +162,19 @@ export type SystemForCommissioning = Awaited<ReturnType<typeof loadSystemForComm
 
 /** The checklist evaluated as entered, without storing anything (the page's preview runs the same function). */
 export function evaluateDraft(
-	system: Pick<SystemForCommissioning, 'evaluationSystem'>,
+	system: Pick<SystemForCommissioning, 'evaluationSystem' | 'ruleSet'>,
 	input: MeasurementsInput
 ) {
-	return evaluateCommissioning(system.evaluationSystem, toMeasurements(input));
+	return evaluateCommissioning(system.evaluationSystem, toMeasurements(input), system.ruleSet);
 }
 
 /** Next certificate number of a year: PLC-{YYYY}-{NNNNN}. Call inside the write transaction. */
-async function nextCertificateNo(tx: Tx, year: string): Promise<string> {
-	const prefix = `PLC-${year}-`;
-	const [last] = await tx
-		.select({ no: commissionings.certificateNo })
-		.from(commissionings)
-		.where(like(commissionings.certificateNo, `${prefix}%`))
-		.orderBy(desc(commissionings.certificateNo))
-		.limit(1);
-	const n = last?.no ? Number(last.no.slice(prefix.length)) + 1 : 1;
-	return `${prefix}${String(n).padStart(5, '0')}`;
+function nextCertificateNo(tx: Tx, year: number): Promise<string> {
+	return nextYearlyReference(tx, commissionings, commissionings.certificateNo, {
+		code: 'PLC',
+		year,
+		width: 5
+	});
 }
 
 export interface SubmitResult {
@@ -190,8 +183,8 @@ export interface SubmitResult {
 	certificateNo: string | null;
 	commissionedOn: string;
 	items: CommissioningItem[];
-	/** Where the certificate went; `error` when the mail server refused it (the commissioning stands). */
-	mail: { to: string; sent: boolean; error?: string } | null;
+	/** Where the certificate went (to the dealer, and the owner when their e-mail is known). */
+	mail: CertificateMail | null;
 }
 
 /**
@@ -212,8 +205,8 @@ export async function submitCommissioning(
 ): Promise<SubmitResult> {
 	if (actor.userId === null)
 		throw new InvalidInputError('A commissioning is signed by a signed-in technician.');
-	const loaded = await loadSystemForCommissioning(db, actor, systemId);
-	const { system, model, site } = loaded;
+	const loaded = await loadSystemForCommissioning(db, actor, systemId, now);
+	const { system, model, site, ruleSet } = loaded;
 	const label = `${system.name} at ${site.name}`;
 	if (system.status === 'commissioned') {
 		const cert = loaded.attempts.find((a) => a.certificateNo);
@@ -238,17 +231,44 @@ export async function submitCommissioning(
 	}
 
 	const measurements = toMeasurements(input);
-	const result = evaluateCommissioning(loaded.evaluationSystem, measurements);
-	const commissionedOn = now.toISOString().slice(0, 10);
+	const result = evaluateCommissioning(loaded.evaluationSystem, measurements, ruleSet);
+	if (result.implausible.length > 0)
+		throw new InvalidInputError(
+			`The checklist was not stored: ${result.implausible.length === 1 ? 'a reading is' : 'some readings are'} implausible. ${result.implausible.join(' ')}`,
+			result.implausible.map((message) => ({ path: 'readings', message }))
+		);
+	// The day on the assembler's calendar: a commissioning at 08:00 in UTC+10 is dated that day.
+	const commissionedOn = await businessDay(db, now);
 	const passed = result.overall === 'pass';
+	if (passed && (!input.technicianSignature || !input.ownerSignature))
+		throw new InvalidInputError(
+			'Every item passed, but the certificate needs both signatures: the technician and the owner (or their representative) sign in the boxes under “Sign-off and handover”.',
+			[
+				...(!input.technicianSignature
+					? [{ path: 'technicianSignature', message: 'The technician signs here.' }]
+					: []),
+				...(!input.ownerSignature
+					? [{ path: 'ownerSignature', message: 'The owner or their representative signs here.' }]
+					: [])
+			]
+		);
+	const photos = await db
+		.select({ id: attachments.id, sha256: attachments.sha256, caption: attachments.caption })
+		.from(attachments)
+		.where(and(eq(attachments.ownerKind, 'system'), eq(attachments.ownerId, systemId)))
+		.orderBy(asc(attachments.id));
+	const snapshot: Snapshot = {
+		serials: loaded.strings.map((row) => row.map((x) => x.module?.serial ?? null)),
+		photos,
+		site: { name: site.name, address: site.address },
+		assemblerName: await organisationName(db, null),
+		installerName: await organisationName(db, site.dealerOrgId),
+		shortCircuitA: result.shortCircuitA,
+		internalResistanceMOhm: loaded.evaluationSystem.model.internalResistanceMOhm ?? null
+	};
 	const warrantyEndsOn = warrantyTermEnd(commissionedOn, model.warrantyYears);
 	const terms = {
-		years: model.warrantyYears,
-		ratedCycles: model.ratedCycles,
-		endRetentionPct: model.endRetentionPct,
-		referenceTempC: model.referenceTempC,
-		hotTempC: model.hotTempC,
-		hotRatedCycles: model.hotRatedCycles,
+		...warrantyTermsOf(model),
 		usableWh: model.usableWh,
 		ratedAh: model.ratedAh
 	};
@@ -263,24 +283,34 @@ export async function submitCommissioning(
 			throw new ConflictError(
 				`${label} has just been commissioned by someone else; it cannot be commissioned again.`
 			);
-		const certificateNo = passed ? await nextCertificateNo(tx, commissionedOn.slice(0, 4)) : null;
+		const certificateNo = passed
+			? await nextCertificateNo(tx, Number(commissionedOn.slice(0, 4)))
+			: null;
+		const content = {
+			systemId,
+			certificateNo,
+			overall: result.overall,
+			technicianName: input.technicianName,
+			licenceNumber: input.licenceNumber,
+			// The serial at each position is kept with the voltages measured there, and what the
+			// certificate prints about the site and companies is fixed as it was on the day.
+			measurements: JSON.stringify({ ...measurements, ...snapshot }),
+			items: JSON.stringify(result.items),
+			handoverName: input.handoverName ?? null,
+			commissionedOn,
+			ruleSetId: ruleSet.id,
+			ruleSetVersion: ruleSet.version,
+			technicianSignature: input.technicianSignature
+				? JSON.stringify(input.technicianSignature)
+				: null,
+			ownerSignature: input.ownerSignature ? JSON.stringify(input.ownerSignature) : null
+		};
 		const [row] = await tx
 			.insert(commissionings)
 			.values({
-				systemId,
-				certificateNo,
-				overall: result.overall,
+				...content,
 				technicianUserId: actor.userId!,
-				technicianName: input.technicianName,
-				licenceNumber: input.licenceNumber,
-				// The serial at each position is kept with the voltages measured there.
-				measurements: JSON.stringify({
-					...measurements,
-					serials: loaded.strings.map((row) => row.map((x) => x.module?.serial ?? null))
-				}),
-				items: JSON.stringify(result.items),
-				handoverName: input.handoverName ?? null,
-				commissionedOn,
+				contentHash: certificateNo ? sha256Hex(canonicalContent(content)) : null,
 				createdAt: now
 			})
 			.returning({ id: commissionings.id });
@@ -291,7 +321,13 @@ export async function submitCommissioning(
 			action: `commissioning.${result.overall}`,
 			entity: 'system',
 			entityId: systemId,
-			after: { commissioningId: row.id, certificateNo, overall: result.overall, notPassed: failed },
+			after: {
+				commissioningId: row.id,
+				certificateNo,
+				overall: result.overall,
+				notPassed: failed,
+				ruleSet: { id: ruleSet.id, market: ruleSet.market, version: ruleSet.version }
+			},
 			at: now
 		});
 		if (!passed) return { id: row.id, certificateNo };
@@ -359,137 +395,3 @@ export async function submitCommissioning(
 	if (!saved.certificateNo) return { ...base, mail: null };
 	return { ...base, mail: await mailCertificate(db, actor, saved.id) };
 }
-
-/** Sends the certificate PDF to the site's dealer, or the assembler's office for its own sites. */
-async function mailCertificate(
-	db: Db,
-	actor: Actor,
-	commissioningId: number
-): Promise<SubmitResult['mail']> {
-	const data = await certificateData(db, actor, commissioningId);
-	const [org] = data.site.dealerOrgId
-		? await db
-				.select({ email: organisations.contactEmail })
-				.from(organisations)
-				.where(eq(organisations.id, data.site.dealerOrgId))
-		: await db
-				.select({ email: organisations.contactEmail })
-				.from(organisations)
-				.where(eq(organisations.kind, 'assembler'))
-				.limit(1);
-	const to = org?.email;
-	if (!to)
-		return {
-			to: '',
-			sent: false,
-			error:
-				'No contact e-mail address is on record for the site’s dealer; download the PDF and send it yourself.'
-		};
-	const pdf = await certificatePdf(data);
-	try {
-		await sendMail(db, {
-			to,
-			subject: `Commissioning certificate ${data.certificateNo}: ${data.system.name} at ${data.site.name}`,
-			text:
-				`${data.system.name} at ${data.site.name} (${data.site.address}) was commissioned on ${data.commissionedOn} by ${data.technicianName} (licence ${data.licenceNumber}).\n\n` +
-				`${data.modules.length} modules of ${data.system.modelCode}, ${data.system.series} in series × ${data.system.parallel} in parallel. ` +
-				`Warranty from ${data.warranty.startsOn} to ${data.warranty.endsOn}.\n\nThe certificate ${data.certificateNo} is attached as a PDF.\n\n${data.codesNote}\n`,
-			attachments: [
-				{
-					filename: `${data.certificateNo}.pdf`,
-					content: Buffer.from(pdf),
-					contentType: 'application/pdf'
-				}
-			]
-		});
-		return { to, sent: true };
-	} catch (e) {
-		// The commissioning is stored either way; the page says the mail failed so someone sends the PDF by hand.
-		console.error(`Certificate ${data.certificateNo} could not be mailed to ${to}:`, e);
-		return {
-			to,
-			sent: false,
-			error: `The mail server refused the message (${(e as Error).message}); download the PDF and send it yourself.`
-		};
-	}
-}
-
-/**
- * Everything printed on a commissioning certificate, for a passing commissioning the
- * actor may see (same scope as its system). A failed or incomplete attempt has no certificate.
- */
-export async function certificateData(
-	db: Db,
-	actor: Actor,
-	commissioningId: number
-): Promise<CertificateData> {
-	const notFound = new NotFoundError(`Commissioning ${commissioningId} is not in the register.`);
-	if (!Number.isInteger(commissioningId) || commissioningId < 1) throw notFound;
-	const [c] = await db.select().from(commissionings).where(eq(commissionings.id, commissioningId));
-	if (!c) throw notFound;
-	let loaded: SystemForCommissioning;
-	try {
-		loaded = await loadSystemForCommissioning(db, actor, c.systemId);
-	} catch (e) {
-		if (e instanceof NotFoundError) throw notFound;
-		throw e;
-	}
-	if (!c.certificateNo)
-		throw new NotFoundError(
-			`Commissioning ${commissioningId} did not pass, so it has no certificate. Correct what failed and submit the checklist again.`
-		);
-	const { system, model, site, voltages } = loaded;
-	// The modules as they were at commissioning (stored with the measurements), not as the slots are today.
-	const stored = JSON.parse(c.measurements) as { serials?: (string | null)[][] };
-	const serials = stored.serials?.length
-		? stored.serials
-		: loaded.strings.map((row) => row.map((s) => s.module?.serial ?? null));
-	const [mod] = await db
-		.select({ startsOn: modules.warrantyStartsOn, endsOn: modules.warrantyEndsOn })
-		.from(modules)
-		.where(
-			and(
-				inArray(
-					modules.serial,
-					serials.flat().filter((x): x is string => !!x)
-				),
-				eq(modules.warrantyStartsOn, c.commissionedOn)
-			)
-		)
-		.limit(1);
-	return {
-		commissioningId: c.id,
-		certificateNo: c.certificateNo,
-		commissionedOn: c.commissionedOn,
-		site: { name: site.name, address: site.address, dealerOrgId: site.dealerOrgId },
-		system: {
-			id: system.id,
-			name: system.name,
-			modelCode: model.code,
-			modelName: model.name,
-			series: system.series,
-			parallel: system.parallel,
-			inverterName: system.inverterName,
-			...voltages
-		},
-		modules: serials.flatMap((row, s) =>
-			row.map((serial, p) => ({ stringNo: s + 1, position: p + 1, serial: serial ?? '-' }))
-		),
-		items: JSON.parse(c.items) as CommissioningItem[],
-		technicianName: c.technicianName,
-		licenceNumber: c.licenceNumber,
-		handoverName: c.handoverName,
-		warranty: {
-			startsOn: mod?.startsOn ?? c.commissionedOn,
-			endsOn: mod?.endsOn ?? warrantyTermEnd(c.commissionedOn, model.warrantyYears),
-			years: model.warrantyYears
-		},
-		cautions: COMMISSIONING_CAUTIONS,
-		codesNote: CODES_TAKE_PRECEDENCE
-	};
-}
-
-// ---------------------------------------------------------------------------
-// The certificate as a PDF
-
-export { certificatePdf };

@@ -1,7 +1,7 @@
 import { and, asc, count, desc, eq, inArray, sql, type SQL } from 'drizzle-orm';
-import { alias, type AnySQLiteColumn } from 'drizzle-orm/sqlite-core';
+import { alias, SQLiteSyncDialect, type AnySQLiteColumn } from 'drizzle-orm/sqlite-core';
 import Papa from 'papaparse';
-import type { Db } from '$lib/server/db';
+import { dataVersion, type Db } from '$lib/server/db';
 import {
 	moduleCellLots,
 	moduleModels,
@@ -187,11 +187,44 @@ function conditions(query: FleetQuery, scope: number | null): Condition[] | null
  */
 function counted(conds: Condition[]): SQL | undefined {
 	const pairIndex =
-		conds.length === 2 && conds.some((c) => c.scope) && conds.some((c) => c.col === modules.state);
+		(conds.length === 2 &&
+			conds.some((c) => c.scope) &&
+			conds.some((c) => c.col === modules.state)) ||
+		stateAndModel(conds);
 	if (conds.length <= 1 || pairIndex || conds.some((c) => c.list)) return and(...conds.map(plain));
 	const [first, ...rest] = [...conds].sort((a, b) => a.rank - b.rank);
 	return and(plain(first), ...rest.map(asSet));
 }
+
+/** Exactly a state and a model filter: the (state, model_id, serial) index answers both at once. */
+const stateAndModel = (conds: Condition[]) =>
+	conds.length === 2 &&
+	conds.some((c) => c.col === modules.state) &&
+	conds.some((c) => c.col === modules.modelId);
+
+/**
+ * Counts (and per-value groups) of a view, kept until the data may have changed
+ * (`dataVersion`) and at most 30 s: the count is most of the cost of a page sorted by a
+ * short list, and it is the same for every page and both directions.
+ */
+const counts = new Map<string, { version: string; at: number; value: unknown }>();
+async function remembered<T>(db: Db, key: string, compute: () => Promise<T>): Promise<T> {
+	const version = await dataVersion(db);
+	const hit = version ? counts.get(key) : undefined;
+	if (hit && hit.version === version && Date.now() - hit.at < 30_000) return hit.value as T;
+	const value = await compute();
+	if (version) {
+		counts.delete(key);
+		counts.set(key, { version, at: Date.now(), value });
+		while (counts.size > 500) counts.delete(counts.keys().next().value!);
+	}
+	return value;
+}
+const viewKey = (kind: string, where: SQL | undefined) => {
+	if (!where) return kind;
+	const q = new SQLiteSyncDialect().sqlToQuery(where);
+	return `${kind}|${q.sql}|${JSON.stringify(q.params)}`;
+};
 
 /** Sorts backed by an index of their own. */
 const SORT_COLUMNS: Partial<Record<FleetSort, AnySQLiteColumn>> = {
@@ -267,11 +300,15 @@ async function groupedPage(
 	const narrows = (c: Condition) =>
 		c.col === ranked.col || (ranked.col === modules.state && c.col === modules.dealerOrgId);
 	const where = and(...conds.map((c) => (narrows(c) ? plain(c) : asSet(c))));
-	const groups = await db
-		.select({ key: sql<string | number | null>`${ranked.col}`, n: count() })
-		.from(modules)
-		.where(where)
-		.groupBy(ranked.col);
+	const groups = [
+		...(await remembered(db, viewKey(`groups:${query.sort}`, where), () =>
+			db
+				.select({ key: sql<string | number | null>`${ranked.col}`, n: count() })
+				.from(modules)
+				.where(where)
+				.groupBy(ranked.col)
+		))
+	];
 	const place = (k: string | number | null) => (k === null ? Infinity : ranked.keys.indexOf(k));
 	groups.sort((a, b) =>
 		place(a.key) === Infinity
@@ -398,11 +435,16 @@ async function indexedPage(db: Db, conds: Condition[], query: FleetQuery) {
 			return { total: few.length, ids: few.slice(offset, offset + pageSize).map((r) => r.id) };
 		}
 	}
-	const [{ total, size }] = await db
-		.select({ total: count(), size: sql<number | null>`(SELECT max(m2.id) FROM modules m2)` })
-		.from(modules)
-		.where(counted(conds));
+	// Counted alone, so a view without filters gets SQLite's fast count of the table's b-tree.
+	const where = counted(conds);
+	const total = await remembered(db, viewKey('count', where), async () => {
+		const [r] = await db.select({ n: count() }).from(modules).where(where);
+		return r.n;
+	});
 	if (total === 0 || offset >= total) return { total, ids: [] };
+	const [{ size }] = await db
+		.select({ size: sql<number | null>`max(${modules.id})` })
+		.from(modules);
 
 	const order = await sortOrder(db, sort, dir);
 	const pageIds = async (where: SQL | undefined) =>
@@ -416,6 +458,8 @@ async function indexedPage(db: Db, conds: Condition[], query: FleetQuery) {
 				.offset(offset)
 		).map((r) => r.id);
 	if (others.length === 0) return { total, ids: await pageIds(and(...own)) };
+	if (sort === 'serial' && stateAndModel(others))
+		return { total, ids: await pageIds(and(...conds.map(plain))) };
 
 	const spread = Math.ceil(((offset + pageSize) * Math.max(size ?? total, total)) / total);
 	if (spread <= 250 && !others.some((c) => c.bunched)) {

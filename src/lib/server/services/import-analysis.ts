@@ -1,120 +1,205 @@
 import type { Db } from '$lib/server/db';
 import { moduleModels } from '$lib/server/db/schema';
-import {
-	validateFactoryCsv,
-	rowKey,
-	type FactoryTestRow,
-	type RowError
-} from '$lib/domain/factory-csv';
-import { evaluateResult, type TestFailure } from '$lib/domain/factory-test';
+import { scanFactoryCsv, type RowError, type ScannedRow } from '$lib/domain/factory-csv';
+import { evaluateResult } from '$lib/domain/factory-test';
 import { parseSerial } from '$lib/domain/serial';
 import { STATE_LABELS } from '$lib/module-states';
 import { InvalidInputError } from '$lib/server/errors';
-import { statesFrom } from '$lib/domain/module-lifecycle';
+import { sqlStateList, statesFrom } from '$lib/domain/module-lifecycle';
 
 /** States in which a module is still in the workshop and may receive (re)test results. */
 export const TESTABLE_STATES: ReadonlySet<string> = new Set(statesFrom('factoryTest'));
+export const TESTABLE_SQL = `(${sqlStateList(statesFrom('factoryTest'))})`;
+const PREVIEW_ROWS = 200;
 
-export interface AcceptedRow {
+export interface PreviewRow {
 	row: number;
-	moduleId: number;
-	key: string;
-	value: FactoryTestRow;
+	serial: string;
+	testedAt: string;
+	capacityAh: number;
+	dcirMohm: number;
 	outcome: 'pass' | 'fail';
-	failures: Pick<TestFailure, 'check' | 'message'>[];
-}
-
-export interface Analysis {
-	rowsTotal: number;
-	accepted: AcceptedRow[];
-	errors: RowError[];
-	duplicates: { row: number; serial: string }[];
+	failures: string[];
 }
 
 /**
- * Reads a rig file and judges every row: file-level problems throw; row problems
- * (unknown serial, not built, left the workshop, bad values) become errors with the row
- * number; rows already stored are duplicates; the rest are evaluated against their model's limits.
+ * What a file comes to. `rows` is the insert-ready JSON array of the accepted rows (one
+ * array per row, in TEST_COLUMNS order without the import id); `states` the JSON array of
+ * [module id, outcome, tested at] of each module's latest accepted result.
+ */
+export interface Analysis {
+	rowsTotal: number;
+	accepted: number;
+	passed: number;
+	errors: RowError[];
+	duplicates: { row: number; serial: string }[];
+	preview: PreviewRow[];
+	rows: string;
+	states: string;
+}
+
+/** The columns each accepted row fills, in the order of its JSON array (import id apart). */
+export const PLAN_COLUMNS = [
+	'module_id',
+	'row_key',
+	'tested_at',
+	'capacity_ah',
+	'energy_wh',
+	'dcir_mohm',
+	'dcir_source',
+	'ocv_v',
+	'cell_spread_mv',
+	'insulation_mohm',
+	'ambient_c',
+	'rig',
+	'operator',
+	'outcome',
+	'failures'
+] as const;
+
+type Held = Omit<ScannedRow, 'pulse'> & { row: number };
+const str = (s: string | null) => (s === null ? 'null' : JSON.stringify(s));
+const num = (n: number | null) => (n === null ? 'null' : String(n));
+/** Lets other requests run between slices of a large file. */
+const breathe = () => new Promise<void>((r) => setImmediate(r));
+
+/**
+ * Reads a rig file and judges every row in one pass, slice by slice: file-level problems
+ * throw; row problems (unknown serial, not built, left the workshop, bad values) become
+ * errors with the row number; rows already stored are duplicates; the rest are evaluated
+ * against their model's limits and written straight into the insert-ready JSON. Each slice's
+ * serials and row keys are looked up in one query each, with the values as one JSON
+ * parameter and the answer as one JSON value (no per-parameter or per-row cost).
  */
 export async function analyseFactoryFile(db: Db, content: string, now: Date): Promise<Analysis> {
-	const file = validateFactoryCsv(content, now);
-	if (!file.ok) throw new InvalidInputError(file.error);
-	const errors: RowError[] = [...file.errors];
-	const serialColumn = file.headerMap.serial ?? 'serial';
-
-	const serials = [...new Set(file.rows.map((r) => r.value.serial.toUpperCase()))];
-	// One query with the serials as a JSON array parameter: no per-parameter query building.
-	// The answer comes back as one JSON array too: materialising 100k result rows costs ~6 µs each.
-	const found = await db.$client.execute({
-		sql: `SELECT json_group_array(json_array(m.id, m.serial, m.state, m.model_id)) AS rows
-		      FROM json_each(?) AS j JOIN modules AS m ON m.serial = j.value`,
-		args: [JSON.stringify(serials)]
-	});
-	const bySerial = new Map(
-		(JSON.parse(found.rows[0].rows as string) as [number, string, string, number][]).map(
-			([id, serial, state, modelId]) => [serial, { id, state, modelId }]
-		)
-	);
 	const models = new Map((await db.select().from(moduleModels)).map((m) => [m.id, m]));
+	const errors: RowError[] = [];
+	const duplicates: Analysis['duplicates'] = [];
+	const preview: PreviewRow[] = [];
+	const parts: string[] = [];
+	const latest = new Map<number, { ms: number; pass: boolean }>();
+	let passed = 0;
+	let held: Held[] = [];
+	let serialColumn = 'serial';
 
-	const candidates: AcceptedRow[] = [];
-	for (const { row, value } of file.rows) {
-		const serial = value.serial.toUpperCase();
-		const mod = bySerial.get(serial);
-		if (!mod) {
-			const p = parseSerial(serial);
-			errors.push({
-				row,
-				column: serialColumn,
-				message: p.ok
-					? `Unknown serial ${serial}: no such module in the register.`
-					: `“${value.serial}” is not a valid serial: ${p.reason}.`
-			});
-			continue;
-		}
-		if (mod.state === 'allocated') {
-			errors.push({
-				row,
-				column: serialColumn,
-				message: `${serial} is not built yet: register its build at the bench first.`
-			});
-			continue;
-		}
-		if (!TESTABLE_STATES.has(mod.state)) {
-			errors.push({
-				row,
-				column: serialColumn,
-				message: `${serial} has left the workshop (${STATE_LABELS[mod.state]}); factory results can only be added before shipping.`
-			});
-			continue;
-		}
-		const model = models.get(mod.modelId)!;
-		const verdict = evaluateResult(value, model);
-		value.serial = serial;
-		candidates.push({
-			row,
-			moduleId: mod.id,
-			key: rowKey(value),
-			value,
-			outcome: verdict.outcome,
-			failures: verdict.failures.map(({ check, message }) => ({ check, message }))
+	const judge = async (slice: Held[]) => {
+		if (slice.length === 0) return;
+		const found = await db.$client.execute({
+			sql: `SELECT json_group_array(json_array(m.id, m.serial, m.state, m.model_id)) AS rows
+			      FROM json_each(?) AS j JOIN modules AS m ON m.serial = j.value`,
+			args: [JSON.stringify([...new Set(slice.map((h) => h.serialKey))])]
 		});
-	}
+		const bySerial = new Map(
+			(JSON.parse(found.rows[0].rows as string) as [number, string, string, number][]).map(
+				([id, serial, state, modelId]) => [serial, { id, state, modelId }]
+			)
+		);
+		const storedRows = await db.$client.execute({
+			sql: `SELECT json_group_array(t.row_key) AS keys FROM json_each(?) AS j JOIN factory_tests AS t ON t.row_key = j.value`,
+			args: [JSON.stringify(slice.map((h) => h.key))]
+		});
+		const stored = new Set(JSON.parse(storedRows.rows[0].keys as string) as string[]);
+		for (const h of slice) {
+			const serial = h.serialKey;
+			const mod = bySerial.get(serial);
+			if (!mod) {
+				const p = parseSerial(serial);
+				errors.push({
+					row: h.row,
+					column: serialColumn,
+					message: p.ok
+						? `Unknown serial ${serial}: no such module in the register.`
+						: `“${h.serial}” is not a valid serial: ${p.reason}.`
+				});
+				continue;
+			}
+			if (mod.state === 'allocated') {
+				errors.push({
+					row: h.row,
+					column: serialColumn,
+					message: `${serial} is not built yet: register its build at the bench first.`
+				});
+				continue;
+			}
+			if (!TESTABLE_STATES.has(mod.state)) {
+				errors.push({
+					row: h.row,
+					column: serialColumn,
+					message: `${serial} has left the workshop (${STATE_LABELS[mod.state]}); factory results can only be added before shipping.`
+				});
+				continue;
+			}
+			if (stored.has(h.key)) {
+				duplicates.push({ row: h.row, serial });
+				continue;
+			}
+			const verdict = evaluateResult(h, models.get(mod.modelId)!);
+			const pass = verdict.outcome === 'pass';
+			if (pass) passed++;
+			const failures = verdict.failures.map(({ check, message }) => ({ check, message }));
+			parts.push(
+				`[${mod.id},${str(h.key)},${h.testedAtMs},${h.capacityAh},${num(h.energyWh)},${h.dcirMohm},"${h.dcirSource}",${num(h.ocvV)},${h.cellSpreadMv},${h.insulationMohm},${num(h.ambientC)},${str(h.rig)},${str(h.operator)},"${verdict.outcome}",${str(JSON.stringify(failures))}]`
+			);
+			const last = latest.get(mod.id);
+			if (!last || last.ms <= h.testedAtMs) latest.set(mod.id, { ms: h.testedAtMs, pass });
+			if (preview.length < PREVIEW_ROWS)
+				preview.push({
+					row: h.row,
+					serial,
+					testedAt: new Date(h.testedAtMs).toISOString(),
+					capacityAh: h.capacityAh,
+					dcirMohm: h.dcirMohm,
+					outcome: verdict.outcome,
+					failures: failures.map((f) => f.message)
+				});
+		}
+	};
 
-	const storedRows = await db.$client.execute({
-		sql: `SELECT json_group_array(t.row_key) AS keys FROM json_each(?) AS j JOIN factory_tests AS t ON t.row_key = j.value`,
-		args: [JSON.stringify(candidates.map((c) => c.key))]
+	const scan = scanFactoryCsv(content, now, (row, v) => {
+		// The scanner reuses `v` for the next row: keep a copy of what the judgement needs.
+		held.push({
+			row,
+			serial: v.serial,
+			serialKey: v.serialKey,
+			key: v.key,
+			testedAtMs: v.testedAtMs,
+			capacityAh: v.capacityAh,
+			energyWh: v.energyWh,
+			dcirMohm: v.dcirMohm,
+			dcirSource: v.dcirSource,
+			ocvV: v.ocvV,
+			cellSpreadMv: v.cellSpreadMv,
+			insulationMohm: v.insulationMohm,
+			ambientC: v.ambientC,
+			rig: v.rig,
+			operator: v.operator
+		});
 	});
-	const stored = new Set(JSON.parse(storedRows.rows[0].keys as string) as string[]);
-	const accepted = candidates.filter((c) => !stored.has(c.key));
-	const duplicates = candidates
-		.filter((c) => stored.has(c.key))
-		.map((c) => ({ row: c.row, serial: c.value.serial }));
+	let step = scan.next();
+	while (!step.done) {
+		const slice = held;
+		held = [];
+		await judge(slice);
+		await breathe();
+		step = scan.next();
+	}
+	const file = step.value;
+	if (!file.ok) throw new InvalidInputError(file.error);
+	serialColumn = file.headerMap.serial ?? 'serial';
+	await judge(held);
+	for (const e of errors) if (e.column === 'serial') e.column = serialColumn;
+	errors.push(...file.errors);
 	errors.sort((a, b) => a.row - b.row);
+	const states: string[] = [];
+	for (const [id, l] of latest) states.push(`[${id},"${l.pass ? 'pass' : 'fail'}",${l.ms}]`);
 	return {
-		rowsTotal: file.rows.length + new Set(file.errors.map((e) => e.row)).size,
-		accepted,
+		rowsTotal: file.rowsTotal,
+		accepted: parts.length,
+		passed,
 		errors,
-		duplicates
+		duplicates,
+		preview,
+		rows: `[${parts.join(',')}]`,
+		states: `[${states.join(',')}]`
 	};
 }

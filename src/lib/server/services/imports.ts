@@ -2,83 +2,22 @@ import { createHash } from 'node:crypto';
 import { and, desc, eq } from 'drizzle-orm';
 import type { InStatement } from '@libsql/client';
 import type { Db } from '$lib/server/db';
-import { withWriteLock } from '$lib/server/db';
+import { runBatch, withWriteLock } from '$lib/server/db';
 import { factoryTests, importFiles, imports, modules } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
 import type { RowError } from '$lib/domain/factory-csv';
-import { analyseFactoryFile, type AcceptedRow, type Analysis } from './import-analysis';
-import { sqlStateList, statesFrom } from '$lib/domain/module-lifecycle';
+import { analyseFactoryFile, PLAN_COLUMNS, TESTABLE_SQL, type PreviewRow } from './import-analysis';
 
 export const MAX_IMPORT_BYTES = 25 * 1024 * 1024;
-const PREVIEW_ROWS = 200;
-const ROWS_PER_INSERT = 20_000;
 
 type ImportRow = typeof imports.$inferSelect;
 
 export interface ImportResult {
 	import: Omit<ImportRow, 'errors'>;
 	errors: RowError[];
-	preview: {
-		row: number;
-		serial: string;
-		testedAt: string;
-		capacityAh: number;
-		dcirMohm: number;
-		outcome: 'pass' | 'fail';
-		failures: string[];
-	}[];
-	alreadySent: boolean;
-}
-
-type PreviewRow = ImportResult['preview'][number];
-
-/** What a commit needs, compact: the accepted rows already as insert-ready JSON, counts, errors. */
-interface CommitPlan {
-	chunks: string[];
-	counts: {
-		accepted: number;
-		rejected: number;
-		duplicates: number;
-		passed: number;
-		failed: number;
-	};
-	errors: RowError[];
 	preview: PreviewRow[];
-}
-
-function planFrom(importId: number, analysis: Analysis): CommitPlan {
-	const passed = analysis.accepted.filter((a) => a.outcome === 'pass').length;
-	return {
-		chunks: insertChunks(importId, analysis.accepted),
-		counts: {
-			accepted: analysis.accepted.length,
-			rejected: new Set(analysis.errors.map((e) => e.row)).size,
-			duplicates: analysis.duplicates.length,
-			passed,
-			failed: analysis.accepted.length - passed
-		},
-		errors: analysis.errors,
-		preview: previewOf(analysis.accepted)
-	};
-}
-
-/**
- * The last few previews' plans, so a commit soon after its preview does not read and
- * judge the file a second time. A commit without a cached plan (another process,
- * restart, expiry) judges the file again; stored duplicates are ignored by the unique row key.
- */
-const planCache = new Map<number, { at: number; plan: CommitPlan }>();
-const CACHE_MS = 15 * 60 * 1000;
-const CACHE_MAX = 3;
-function remember(importId: number, plan: CommitPlan) {
-	planCache.set(importId, { at: Date.now(), plan });
-	while (planCache.size > CACHE_MAX) planCache.delete(planCache.keys().next().value!);
-}
-function recall(importId: number): CommitPlan | null {
-	const hit = planCache.get(importId);
-	planCache.delete(importId);
-	return hit && Date.now() - hit.at < CACHE_MS ? hit.plan : null;
+	alreadySent: boolean;
 }
 
 const summary = (row: ImportRow, extra: Partial<ImportResult> = {}): ImportResult => {
@@ -86,20 +25,32 @@ const summary = (row: ImportRow, extra: Partial<ImportResult> = {}): ImportResul
 	return { import: rest, errors: JSON.parse(errors), preview: [], alreadySent: false, ...extra };
 };
 
-const previewOf = (accepted: AcceptedRow[]): PreviewRow[] =>
-	accepted.slice(0, PREVIEW_ROWS).map((a) => ({
-		row: a.row,
-		serial: a.value.serial,
-		testedAt: a.value.testedAt.toISOString(),
-		capacityAh: a.value.capacityAh,
-		dcirMohm: a.value.dcirMohm,
-		outcome: a.outcome,
-		failures: a.failures.map((f) => f.message)
-	}));
+const TEST_COLUMNS = `module_id, import_id, ${PLAN_COLUMNS.slice(1).join(', ')}`;
+const PLAN_FIELDS = PLAN_COLUMNS.map((_, i) => `value ->> ${i}`);
+// Not INSERT OR IGNORE: factory_tests is append-only, and its trigger refuses any insert
+// that meets an existing row_key; a row stored since the preview is skipped here instead.
+const INSERT_FROM_PLAN = `INSERT INTO factory_tests (${TEST_COLUMNS})
+	SELECT ${PLAN_FIELDS[0]}, ?, ${PLAN_FIELDS.slice(1).join(', ')}
+	FROM json_each((SELECT plan_rows FROM import_files WHERE import_id = ?))
+	WHERE (SELECT state FROM modules WHERE id = value ->> 0) IN ${TESTABLE_SQL}
+	  AND NOT EXISTS (SELECT 1 FROM factory_tests f WHERE f.row_key = value ->> 1)`;
 
 /**
- * Step one: validates a rig file and keeps it with its counts, storing no results.
- * A file already sent (same SHA-256) returns the earlier import instead of a new one.
+ * Each module's new state from the plan. The unary `+` keeps SQLite from starting at the
+ * state index: it would then scan the whole plan for every testable module (20,000 × 20,000
+ * JSON entries, minutes); from the plan, each module is one primary-key lookup
+ * (EXPLAIN QUERY PLAN; sqlite.org/optoverview.html#disqualifying_where_clause_terms_using_unary_).
+ */
+export const STATE_UPDATE_SQL = `UPDATE modules SET state = CASE j.value ->> 1 WHEN 'pass' THEN 'in_stock' ELSE 'test_failed' END,
+	  test_outcome = j.value ->> 1, tested_at = j.value ->> 2, updated_at = ?
+	FROM json_each((SELECT plan_states FROM import_files WHERE import_id = ?)) AS j
+	WHERE modules.id = j.value ->> 0 AND +modules.state IN ${TESTABLE_SQL}
+	  AND (modules.tested_at IS NULL OR modules.tested_at <= j.value ->> 2)`;
+
+/**
+ * Step one: validates a rig file and keeps it with its counts and its commit plan (the
+ * accepted rows as insert-ready JSON, in the database, so any app server can commit it),
+ * storing no results. A file already sent (same SHA-256) returns the earlier import.
  */
 export async function previewImport(
 	db: Db,
@@ -114,83 +65,47 @@ export async function previewImport(
 		.where(and(eq(imports.kind, 'factory_tests'), eq(imports.sha256, sha256)));
 	if (earlier) return summary(earlier, { alreadySent: true });
 
-	const analysis = await analyseFactoryFile(db, file.content, now);
-	const passed = analysis.accepted.filter((a) => a.outcome === 'pass').length;
-	const row = await withWriteLock(db, () =>
-		db.transaction(async (tx) => {
-			const [created] = await tx
-				.insert(imports)
-				.values({
-					kind: 'factory_tests',
+	const a = await analyseFactoryFile(db, file.content, now);
+	const rejected = new Set(a.errors.map((e) => e.row)).size;
+	const result = await withWriteLock(db, () =>
+		runBatch(db, [
+			{
+				sql: `INSERT INTO imports (kind, sha256, file_name, bytes, uploaded_by, token_id, uploader_label, created_at, status, rows_total, accepted, rejected, duplicates, passed, failed, errors)
+				      VALUES ('factory_tests', ?, ?, ?, ?, ?, ?, ?, 'previewed', ?, ?, ?, ?, ?, ?, ?)`,
+				args: [
 					sha256,
-					fileName: file.name.slice(0, 200),
-					bytes: file.bytes,
-					uploadedBy: actor.userId,
-					tokenId: actor.tokenId ?? null,
-					uploaderLabel: actor.label,
-					createdAt: now,
-					status: 'previewed',
-					rowsTotal: analysis.rowsTotal,
-					accepted: analysis.accepted.length,
-					rejected: new Set(analysis.errors.map((e) => e.row)).size,
-					duplicates: analysis.duplicates.length,
-					passed,
-					failed: analysis.accepted.length - passed,
-					errors: JSON.stringify(analysis.errors)
-				})
-				.returning();
-			await tx.insert(importFiles).values({ importId: created.id, content: file.content });
-			return created;
-		})
+					file.name.slice(0, 200),
+					file.bytes,
+					actor.userId,
+					actor.tokenId ?? null,
+					actor.label,
+					now.getTime(),
+					a.rowsTotal,
+					a.accepted,
+					rejected,
+					a.duplicates.length,
+					a.passed,
+					a.accepted - a.passed,
+					JSON.stringify(a.errors)
+				]
+			},
+			{
+				sql: 'INSERT INTO import_files (import_id, content, plan_rows, plan_states) VALUES (last_insert_rowid(), ?, ?, ?)',
+				args: [file.content, a.rows, a.states]
+			}
+		])
 	);
-	const plan = planFrom(row.id, analysis);
-	remember(row.id, plan);
-	return summary(row, { preview: plan.preview });
-}
-
-const TEST_COLUMNS =
-	'module_id, import_id, row_key, tested_at, capacity_ah, energy_wh, dcir_mohm, dcir_source, ocv_v, cell_spread_mv, insulation_mohm, ambient_c, rig, operator, outcome, failures';
-const JSON_FIELDS = TEST_COLUMNS.split(',')
-	.map((_, i) => `value ->> ${i}`)
-	.join(', ');
-
-/**
- * The accepted rows as JSON arrays of 20,000 rows each, for SQLite's json_each to unpack:
- * one prepared statement and one bound value instead of hundreds of thousands, which is
- * both faster and far lighter on memory than multi-row VALUES lists.
- */
-function insertChunks(importId: number, rows: AcceptedRow[]): string[] {
-	const out: string[] = [];
-	for (let i = 0; i < rows.length; i += ROWS_PER_INSERT) {
-		const chunk = rows.slice(i, i + ROWS_PER_INSERT).map((r) => {
-			const v = r.value;
-			return [
-				r.moduleId,
-				importId,
-				r.key,
-				v.testedAt.getTime(),
-				v.capacityAh,
-				v.energyWh,
-				v.dcirMohm,
-				v.dcirSource,
-				v.ocvV,
-				v.cellSpreadMv,
-				v.insulationMohm,
-				v.ambientC,
-				v.rig,
-				v.operator,
-				r.outcome,
-				JSON.stringify(r.failures)
-			];
-		});
-		out.push(JSON.stringify(chunk));
-	}
-	return out;
+	const id = Number(result[0].lastInsertRowid);
+	const [row] = await db.select().from(imports).where(eq(imports.id, id));
+	return summary(row, { preview: a.preview });
 }
 
 /**
- * Step two: stores every accepted row of a previewed import, or none (one transaction).
+ * Step two: stores every accepted row of a previewed import, or none (one transaction of
+ * SQL statements reading the stored plan; the rows never pass through JavaScript again).
  * The latest result of each module sets its state: pass → in stock, fail → failed test.
+ * A module that left the workshop since the preview gets no row; the counts are those stored.
+ * The module's timeline shows each stored result from `factory_tests` itself (no copy).
  */
 export async function commitImport(
 	db: Db,
@@ -203,73 +118,56 @@ export async function commitImport(
 		const [row] = await db.select().from(imports).where(eq(imports.id, importId));
 		if (!row) throw new NotFoundError(`Import ${importId} does not exist.`);
 		if (row.status === 'committed') return summary(row, { alreadySent: true });
-		const plan =
-			recall(importId) ??
-			planFrom(
-				importId,
-				await analyseFactoryFile(
-					db,
-					(await db.select().from(importFiles).where(eq(importFiles.importId, importId)))[0]
-						.content,
-					now
-				)
-			);
-		const { counts } = plan;
+		const planned = await db.$client.execute({
+			sql: 'SELECT plan_rows IS NOT NULL AS ready FROM import_files WHERE import_id = ?',
+			args: [importId]
+		});
+		let preview: PreviewRow[] = [];
+		if (!planned.rows[0]?.ready) {
+			// Previewed before plans were kept: judge the stored file again.
+			const [f] = await db.select().from(importFiles).where(eq(importFiles.importId, importId));
+			const a = await analyseFactoryFile(db, f.content, now);
+			preview = a.preview;
+			await db.$client.execute({
+				sql: 'UPDATE import_files SET plan_rows = ?, plan_states = ? WHERE import_id = ?',
+				args: [a.rows, a.states, importId]
+			});
+		}
 		const statements: InStatement[] = [
-			...plan.chunks.map((json) => ({
-				// Not INSERT OR IGNORE: factory_tests is append-only, and its trigger refuses any insert
-				// that meets an existing row_key (which is how a REPLACE would rewrite history).
-				sql: `INSERT INTO factory_tests (${TEST_COLUMNS}) SELECT ${JSON_FIELDS} FROM json_each(?)
-				      WHERE NOT EXISTS (SELECT 1 FROM factory_tests f WHERE f.row_key = value ->> 2)`,
-				args: [json]
-			})),
+			{ sql: INSERT_FROM_PLAN, args: [importId, importId] },
 			{
-				sql: `INSERT INTO module_events (module_id, kind, at, actor_user_id, actor_label, summary, detail)
-				      SELECT module_id, 'tested', tested_at, ?, ?,
-				        CASE outcome WHEN 'pass' THEN 'Factory test passed' || coalesce(' on ' || rig, '')
-				        ELSE 'Factory test failed: ' || (SELECT group_concat(json_extract(value, '$.message'), '; ') FROM json_each(failures)) END,
-				        json_object('testId', id, 'importId', import_id)
-				      FROM factory_tests WHERE import_id = ? ORDER BY tested_at`,
-				args: [actor.userId, actor.label, importId]
-			},
-			{
-				sql: `UPDATE modules SET state = CASE t.outcome WHEN 'pass' THEN 'in_stock' ELSE 'test_failed' END,
-				        test_outcome = t.outcome, tested_at = t.tested_at, updated_at = ?
-				      FROM (SELECT module_id, outcome, tested_at, row_number() OVER (PARTITION BY module_id ORDER BY tested_at DESC, id DESC) AS rn
-				            FROM factory_tests WHERE import_id = ?) AS t
-				      WHERE t.rn = 1 AND modules.id = t.module_id AND modules.state IN (${sqlStateList(statesFrom('factoryTest'))})
-				        AND (modules.tested_at IS NULL OR modules.tested_at <= t.tested_at)`,
+				// changes() is still the insert's count here; passed is recounted only if rows went missing.
+				sql: `UPDATE imports SET status = 'committed', committed_at = ?1,
+				        passed = CASE WHEN changes() = accepted THEN passed ELSE (SELECT count(*) FROM factory_tests WHERE import_id = ?2 AND outcome = 'pass') END,
+				        accepted = changes()
+				      WHERE id = ?2`,
 				args: [now.getTime(), importId]
 			},
+			{ sql: 'UPDATE imports SET failed = accepted - passed WHERE id = ?', args: [importId] },
+			{ sql: STATE_UPDATE_SQL, args: [now.getTime(), importId] },
 			{
-				sql: `UPDATE imports SET status = 'committed', committed_at = ?, accepted = ?, rejected = ?, duplicates = ?, passed = ?, failed = ?, errors = ? WHERE id = ?`,
-				args: [
-					now.getTime(),
-					counts.accepted,
-					counts.rejected,
-					counts.duplicates,
-					counts.passed,
-					counts.failed,
-					JSON.stringify(plan.errors),
-					importId
-				]
+				sql: 'UPDATE import_files SET plan_rows = NULL, plan_states = NULL WHERE import_id = ?',
+				args: [importId]
 			},
 			{
-				sql: `INSERT INTO audit_log (at, actor_user_id, actor_label, action, entity, entity_id, before, after) VALUES (?, ?, ?, 'import.commit', 'import', ?, ?, ?)`,
+				sql: `INSERT INTO audit_log (at, actor_user_id, actor_label, action, entity, entity_id, before, after)
+				      SELECT ?, ?, ?, 'import.commit', 'import', ?, ?, json_object('status', 'committed', 'fileName', file_name,
+				        'accepted', accepted, 'rejected', rejected, 'duplicates', duplicates, 'passed', passed, 'failed', failed)
+				      FROM imports WHERE id = ?`,
 				args: [
 					now.getTime(),
 					actor.userId,
 					actor.label,
 					String(importId),
 					JSON.stringify({ status: 'previewed' }),
-					JSON.stringify({ status: 'committed', fileName: row.fileName, ...counts })
+					importId
 				]
 			}
 		];
-		// One batch is one transaction: all accepted rows, their events and state changes, or nothing.
-		await db.$client.batch(statements, 'write');
+		// One batch is one transaction: all accepted rows and state changes, or nothing.
+		await runBatch(db, statements);
 		const [after] = await db.select().from(imports).where(eq(imports.id, importId));
-		return summary(after, { preview: plan.preview });
+		return summary(after, { preview });
 	});
 }
 

@@ -1,8 +1,8 @@
 import QRCode from 'qrcode';
 import { asc, eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { writeTx } from '$lib/server/db';
-import { moduleEvents, moduleModels, modules } from '$lib/server/db/schema';
+import { withWriteLock, writeTx } from '$lib/server/db';
+import { moduleEvents, moduleModels, moduleQrCodes, modules } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { qrPayloadFor, type LabelView } from '$lib/domain/label';
 import { deriveFigures } from '$lib/domain/model';
@@ -20,14 +20,22 @@ export function ratedLine(model: ModelRow): string {
 	return `${f.nominalV.toFixed(1)} V · ${model.ratedAh} Ah · ${(model.usableWh / 1000).toFixed(1)} kWh usable`;
 }
 
+/**
+ * The QR of one payload as SVG (the `qrcode` package), error correction M. The quiet zone is
+ * part of the symbol: 4 modules of light on every side (ISO/IEC 18004).
+ */
+const drawQr = (payload: string) =>
+	QRCode.toString(payload, {
+		type: 'svg',
+		errorCorrectionLevel: 'M',
+		margin: 4,
+		color: { dark: '#000000', light: '#ffffff' }
+	});
+
 /** One label: the QR (SVG from the `qrcode` package) encodes the module's record URL. */
 export async function buildLabel(model: ModelRow, serial: string, baseUrl: string): Promise<Label> {
 	const payload = qrPayloadFor({ baseUrl, gtin: model.gtin, serial });
-	const qrSvg = await QRCode.toString(payload, {
-		type: 'svg',
-		errorCorrectionLevel: 'M',
-		margin: 0
-	});
+	const qrSvg = await drawQr(payload);
 	return {
 		serial,
 		payload,
@@ -38,7 +46,12 @@ export async function buildLabel(model: ModelRow, serial: string, baseUrl: strin
 	};
 }
 
-/** The labels of an allocation, in serial order; `limit` renders only the first few (a preview). */
+/**
+ * The labels of an allocation, in serial order; `limit` renders only the first few (a
+ * preview). Each QR is drawn once and kept in `module_qr_codes`: a sheet of 1,000 labels
+ * reads 1,000 stored SVGs instead of encoding 1,000 codes. A stored code whose payload is
+ * not today's (the public address changed) is drawn again and replaced.
+ */
 export async function labelsForAllocation(
 	db: Db,
 	allocationId: number,
@@ -47,13 +60,55 @@ export async function labelsForAllocation(
 ) {
 	const { allocation, model } = await getAllocation(db, allocationId);
 	const query = db
-		.select({ serial: modules.serial })
+		.select({
+			id: modules.id,
+			serial: modules.serial,
+			payload: moduleQrCodes.payload,
+			svg: moduleQrCodes.svg
+		})
 		.from(modules)
+		.leftJoin(moduleQrCodes, eq(moduleQrCodes.moduleId, modules.id))
 		.where(eq(modules.allocationId, allocationId))
 		.orderBy(asc(modules.id));
 	const rows = limit ? await query.limit(limit) : await query;
-	const labels = await Promise.all(rows.map((r) => buildLabel(model, r.serial, baseUrl)));
+	const rated = ratedLine(model);
+	const fresh: [number, string, string][] = [];
+	const labels: Label[] = [];
+	for (const r of rows) {
+		const payload = qrPayloadFor({ baseUrl, gtin: model.gtin, serial: r.serial });
+		let qrSvg = r.svg;
+		if (r.payload !== payload || !qrSvg) {
+			qrSvg = await drawQr(payload);
+			fresh.push([r.id, payload, qrSvg]);
+		}
+		labels.push({
+			serial: r.serial,
+			payload,
+			qrSvg,
+			modelCode: model.code,
+			modelName: model.name,
+			rated
+		});
+	}
+	if (fresh.length) await keepQrCodes(db, fresh);
 	return { allocation, model, labels };
+}
+
+/** Stores drawn QR codes ([module id, payload, svg]), replacing older ones. */
+async function keepQrCodes(db: Db, codes: [number, string, string][]) {
+	await withWriteLock(db, () =>
+		db.$client.execute({
+			sql: `INSERT INTO module_qr_codes (module_id, payload, svg)
+			      SELECT value ->> 0, value ->> 1, value ->> 2 FROM json_each(?) WHERE true
+			      ON CONFLICT (module_id) DO UPDATE SET payload = excluded.payload, svg = excluded.svg`,
+			args: [JSON.stringify(codes)]
+		})
+	);
+}
+
+/** Draws and keeps the QR codes of a new allocation, so its first sheet is as fast as the next. */
+export async function prepareLabels(db: Db, allocationId: number, baseUrl: string) {
+	await labelsForAllocation(db, allocationId, baseUrl);
 }
 
 /** Records that a whole allocation's sheet went to the printer (one event per module). */

@@ -1,12 +1,14 @@
-import { and, asc, desc, eq, isNull, like, ne, or } from 'drizzle-orm';
+import { createHash } from 'node:crypto';
+import { and, asc, desc, eq, isNull, like, ne, or, sql } from 'drizzle-orm';
+import { dataVersion, type Db } from '$lib/server/db';
 import { alias } from 'drizzle-orm/sqlite-core';
-import type { Db } from '$lib/server/db';
 import {
 	campaignModules,
 	campaigns,
 	claimModules,
 	claims,
 	factoryTests,
+	imports,
 	moduleEvents,
 	moduleModels,
 	modules,
@@ -18,7 +20,7 @@ import {
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
 import { extractSerialFromScan, parseSerial } from '$lib/domain/serial';
-import { toPublicRecord } from '$lib/domain/public-record';
+import { toPublicRecord, type PublicRecord } from '$lib/domain/public-record';
 import { factoryTestsOf } from './workshop';
 
 type ModuleRow = typeof modules.$inferSelect;
@@ -64,7 +66,13 @@ async function replacementsOf(db: Db, moduleId: number) {
 }
 
 /** What the condition sentence needs beyond the module row. */
-async function conditionFacts(db: Db, mod: ModuleRow) {
+async function conditionFacts(
+	db: Db,
+	mod: Pick<
+		ModuleRow,
+		'id' | 'state' | 'scrappedAt' | 'scrapReason' | 'updatedAt' | 'lifecycleStatus'
+	>
+) {
 	const [last] = await db
 		.select({ testedAt: factoryTests.testedAt, outcome: factoryTests.outcome })
 		.from(factoryTests)
@@ -141,32 +149,125 @@ export async function serialFromScan(
 	return mod.serial;
 }
 
+const dealerOrg = alias(organisations, 'dealer');
+
+/**
+ * The public record's one query: module, model, dealer and the assembler in a single join,
+ * prepared once (no query building per view).
+ */
+const preparedFor = new WeakMap<Db, ReturnType<typeof preparePublicQuery>>();
+function preparePublicQuery(db: Db) {
+	return db
+		.select({
+			id: modules.id,
+			serial: modules.serial,
+			builtAt: modules.builtAt,
+			state: modules.state,
+			scrappedAt: modules.scrappedAt,
+			scrapReason: modules.scrapReason,
+			updatedAt: modules.updatedAt,
+			lifecycleStatus: modules.lifecycleStatus,
+			warrantyStartsOn: modules.warrantyStartsOn,
+			warrantyEndsOn: modules.warrantyEndsOn,
+			model: moduleModels,
+			dealerName: dealerOrg.name,
+			dealerEmail: dealerOrg.contactEmail,
+			assemblerName: sql<
+				string | null
+			>`(SELECT name FROM organisations WHERE kind = 'assembler' ORDER BY id LIMIT 1)`,
+			assemblerEmail: sql<
+				string | null
+			>`(SELECT contact_email FROM organisations WHERE kind = 'assembler' ORDER BY id LIMIT 1)`
+		})
+		.from(modules)
+		.innerJoin(moduleModels, eq(moduleModels.id, modules.modelId))
+		.leftJoin(dealerOrg, eq(dealerOrg.id, modules.dealerOrgId))
+		.where(eq(modules.serial, sql.placeholder('serial')))
+		.prepare();
+}
+
+/**
+ * Public records already built, per serial and day, kept while the data version stands
+ * (`dataVersion`: this process's writes and SQLite's data_version for other processes). The
+ * record is the same for everyone, so one read serves every scan of a label until a write.
+ */
+const publicCache = new Map<string, { version: string; record: PublicRecord }>();
+
 /** The public record of a module: rated data, build month, warranty state, contact. No customer data. */
 export async function getPublicRecord(db: Db, serialText: string, today: string) {
-	const mod = await findModule(db, null, serialText);
-	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mod.modelId));
-	const [assembler] = await db
-		.select()
-		.from(organisations)
-		.where(eq(organisations.kind, 'assembler'))
-		.limit(1);
-	const [dealer] = mod.dealerOrgId
-		? await db.select().from(organisations).where(eq(organisations.id, mod.dealerOrgId))
-		: [];
-	return toPublicRecord({
-		serial: mod.serial,
-		model,
-		builtAt: mod.builtAt,
-		state: mod.state,
+	const parsed = parseSerial(serialText);
+	if (!parsed.ok)
+		throw new NotFoundError(
+			`“${serialText.slice(0, 40)}” is not a module serial: ${parsed.reason}.`
+		);
+	const version = await dataVersion(db);
+	const key = `${parsed.serial}|${today}`;
+	const hit = version ? publicCache.get(key) : undefined;
+	if (hit && hit.version === version) return hit.record;
+	let query = preparedFor.get(db);
+	if (!query) preparedFor.set(db, (query = preparePublicQuery(db)));
+	const [row] = await query.execute({ serial: parsed.serial });
+	if (!row) throw new NotFoundError(UNKNOWN_SERIAL(parsed.serial));
+	const record = toPublicRecord({
+		serial: row.serial,
+		model: row.model,
+		builtAt: row.builtAt,
+		state: row.state,
 		warranty:
-			mod.warrantyStartsOn && mod.warrantyEndsOn
-				? { startsOn: mod.warrantyStartsOn, endsOn: mod.warrantyEndsOn }
+			row.warrantyStartsOn && row.warrantyEndsOn
+				? { startsOn: row.warrantyStartsOn, endsOn: row.warrantyEndsOn }
 				: null,
-		assembler: { name: assembler?.name ?? 'The assembler', email: assembler?.contactEmail ?? null },
-		dealer: dealer ? { name: dealer.name, email: dealer.contactEmail } : null,
+		assembler: { name: row.assemblerName ?? 'The assembler', email: row.assemblerEmail ?? null },
+		dealer: row.dealerName ? { name: row.dealerName, email: row.dealerEmail } : null,
 		today,
-		...(await conditionFacts(db, mod))
+		...(await conditionFacts(db, row))
 	});
+	if (version) {
+		if (publicCache.size >= 10_000) publicCache.clear();
+		publicCache.set(key, { version, record });
+	}
+	return record;
+}
+
+/**
+ * A module's factory results as timeline entries, read from `factory_tests` itself: an
+ * import of 100,000 results writes no second row per result. Results an older version
+ * copied into `module_events` (kind `tested`, detail.testId) are not shown twice. Ids are
+ * negative so they never meet an event's id.
+ */
+async function testEvents(db: Db, moduleId: number) {
+	const rows = await db
+		.select({
+			id: factoryTests.id,
+			at: factoryTests.testedAt,
+			outcome: factoryTests.outcome,
+			rig: factoryTests.rig,
+			failures: factoryTests.failures,
+			importId: factoryTests.importId,
+			actorUserId: imports.uploadedBy,
+			actorLabel: imports.uploaderLabel
+		})
+		.from(factoryTests)
+		.leftJoin(imports, eq(imports.id, factoryTests.importId))
+		.where(
+			and(
+				eq(factoryTests.moduleId, moduleId),
+				sql`NOT EXISTS (SELECT 1 FROM module_events e WHERE e.module_id = ${moduleId} AND e.kind = 'tested' AND e.detail ->> 'testId' = ${factoryTests.id})`
+			)
+		);
+	return rows.map((t) => ({
+		id: -t.id,
+		moduleId,
+		kind: 'tested' as const,
+		at: t.at,
+		actorUserId: t.actorUserId,
+		actorLabel: t.actorLabel ?? 'Factory test rig',
+		summary:
+			t.outcome === 'pass'
+				? `Factory test passed${t.rig ? ` on ${t.rig}` : ''}`
+				: `Factory test failed: ${(JSON.parse(t.failures) as { message: string }[]).map((f) => f.message).join('; ')}`,
+		detail: JSON.stringify({ testId: t.id, importId: t.importId })
+	}));
 }
 
 /** The full record for signed-in staff and the module's own dealer: module, model, builder, timeline. */
@@ -189,11 +290,14 @@ export async function getModuleRecord(db: Db, actor: Actor, serialText: string) 
 				.from(organisations)
 				.where(eq(organisations.id, mod.dealerOrgId))
 		: [];
-	const events = await db
+	const stored = await db
 		.select()
 		.from(moduleEvents)
 		.where(eq(moduleEvents.moduleId, mod.id))
 		.orderBy(desc(moduleEvents.at), desc(moduleEvents.id));
+	const events = [...stored, ...(await testEvents(db, mod.id))].sort(
+		(a, b) => b.at.getTime() - a.at.getTime() || b.id - a.id
+	);
 	const [placement] = mod.systemId
 		? await db
 				.select({ systemId: systems.id, system: systems.name, siteId: sites.id, site: sites.name })
@@ -248,4 +352,13 @@ export async function searchModules(db: Db, actor: Actor, text: string, limit = 
 		.where(where)
 		.orderBy(asc(modules.serial))
 		.limit(limit);
+}
+
+/**
+ * The validator of an anonymous public-record page: a hash of the record and the build, so a
+ * write to the module or a new release gives a new one (RFC 9110 §8.8.3; weak, since the
+ * page's bytes differ in their CSP nonce while its content is the same).
+ */
+export function publicRecordEtag(record: PublicRecord, build: string): string {
+	return `W/"${createHash('sha256').update(build).update(JSON.stringify(record)).digest('base64url').slice(0, 27)}"`;
 }

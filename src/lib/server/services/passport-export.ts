@@ -14,6 +14,7 @@ import type { PassportExportInput } from '$lib/schemas/passport';
 import { DATA_MODEL } from '$lib/domain/passport';
 import { passportContext, passportForRow } from './passports';
 import { recordAudit } from './audit';
+import { businessDay } from './calendar';
 
 /** Modules read per database round trip: memory stays bounded whatever the lot's size. */
 const PAGE = 200;
@@ -103,7 +104,7 @@ export async function exportPassports(
 			after: { format: input.format, tier, modules: count },
 			at: now
 		});
-	const stamp = now.toISOString().slice(0, 10);
+	const stamp = await businessDay(db, now);
 	if (input.format === 'jsonl') {
 		const enc = new TextEncoder();
 		const stream = new ReadableStream<Uint8Array>({

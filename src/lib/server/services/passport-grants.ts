@@ -8,6 +8,7 @@ import { ConflictError, ForbiddenError, NotFoundError } from '$lib/server/errors
 import type { PassportGrantInput } from '$lib/schemas/passport';
 import { findModule } from './modules';
 import { recordAudit } from './audit';
+import { businessDay } from './calendar';
 
 const sha256 = (s: string) => createHash('sha256').update(s).digest('hex');
 export const GRANT_PREFIX = 'ppa_';
@@ -130,11 +131,11 @@ export async function useGrant(
 		);
 	if (row.revokedAt)
 		throw new ForbiddenError(
-			`This passport access link was revoked on ${row.revokedAt.toISOString().slice(0, 10)}. Ask the assembler for a new link.`
+			`This passport access link was revoked on ${await businessDay(db, row.revokedAt)}. Ask the assembler for a new link.`
 		);
 	if (row.expiresAt.getTime() <= now.getTime())
 		throw new ForbiddenError(
-			`This passport access link expired on ${row.expiresAt.toISOString().slice(0, 10)}. Ask the assembler for a new link.`
+			`This passport access link expired on ${await businessDay(db, row.expiresAt)}. Ask the assembler for a new link.`
 		);
 	const covers =
 		row.scopeKind === 'module'

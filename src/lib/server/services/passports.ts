@@ -24,6 +24,8 @@ import { findModule } from './modules';
 import { getModelPassportItems } from './passport-items';
 import { modulesInSystem, parseEvidence, perModuleThroughput } from './claim-assessment';
 import { useGrant } from './passport-grants';
+import { assemblerCalendar } from './calendar';
+import { calendarDay } from '$lib/domain/calendar';
 
 type ModuleRow = typeof modules.$inferSelect;
 type ModelRow = typeof moduleModels.$inferSelect;
@@ -73,12 +75,13 @@ async function conditionEvidence(db: Db, mod: ModuleRow) {
 		.from(factoryTests)
 		.where(eq(factoryTests.moduleId, mod.id))
 		.orderBy(asc(factoryTests.testedAt));
+	const { timeZone } = await assemblerCalendar(db);
 	for (const t of tests) {
 		capacity.push({
 			at: t.testedAt,
 			capacityAh: t.capacityAh,
 			temperatureC: t.ambientC,
-			source: `factory test ${t.testedAt.toISOString().slice(0, 10)}`
+			source: `factory test ${calendarDay(t.testedAt, timeZone)}`
 		});
 		if (t.outcome === 'fail')
 			negativeEvents.push({ at: t.testedAt, text: 'Failed its factory test.' });

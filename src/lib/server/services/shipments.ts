@@ -22,14 +22,20 @@ import { parseSerial, serialRun } from '$lib/domain/serial';
 import { deriveFigures } from '$lib/domain/model';
 import { MAX_RANGE } from '$lib/schemas/shipment';
 import { sendMail } from '$lib/server/mail';
+import { fleetSearch } from '$lib/schemas/fleet';
 import { recordAudit } from './audit';
 import { serialFromScan } from './modules';
+import { businessDay, businessYear } from './calendar';
+import { nextYearlyReference } from './sequences';
+import { calendarDay } from '$lib/domain/calendar';
 import { endOf, mayBeShipped, statesFrom } from '$lib/domain/module-lifecycle';
 
 type Conn = Db | Tx;
 type Shipment = typeof shipments.$inferSelect;
 
-const day = (d: Date | null) => (d ? d.toISOString().slice(0, 10) : 'an earlier date');
+/** A date for a refusal message, on the given calendar (the assembler's where the caller knows it). */
+const day = (d: Date | null, timeZone = 'UTC') =>
+	d ? calendarDay(d, timeZone) : 'an earlier date';
 const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? one : many}`;
 
 /** Shipments are the assembler's business: a dealer's people never reach them. */
@@ -168,8 +174,7 @@ export async function createShipment(
 	now = new Date()
 ): Promise<Shipment> {
 	assertStaff(actor);
-	const year = now.getUTCFullYear();
-	const prefix = `SH-${year}-`;
+	const year = await businessYear(db, now);
 	return writeTx(db, async (tx) => {
 		const [dealer] = await tx
 			.select()
@@ -181,15 +186,11 @@ export async function createShipment(
 			]);
 		if (!dealer.active)
 			throw new ConflictError(`${dealer.name} is deactivated and cannot receive new shipments.`);
-		const [last] = await tx
-			.select({
-				n: sql<
-					number | null
-				>`max(cast(substr(${shipments.reference}, ${prefix.length + 1}) as integer))`
-			})
-			.from(shipments)
-			.where(sql`${shipments.reference} like ${prefix + '%'}`);
-		const reference = `${prefix}${String((last?.n ?? 0) + 1).padStart(4, '0')}`;
+		const reference = await nextYearlyReference(tx, shipments, shipments.reference, {
+			code: 'SH',
+			year,
+			width: 4
+		});
 		const [s] = await tx
 			.insert(shipments)
 			.values({
@@ -587,11 +588,13 @@ export async function dispatchShipment(db: Db, actor: Actor, shipmentId: number,
 			to,
 			subject: `Shipment ${s.reference} from ${from}: ${plural(items.length, 'module')}`,
 			text:
-				`Hello ${dealer.name},\n\n${from} dispatched shipment ${s.reference} to you on ${day(now)} with ${plural(items.length, 'module')}:\n\n` +
+				`Hello ${dealer.name},\n\n${from} dispatched shipment ${s.reference} to you on ${await businessDay(db, now)} with ${plural(items.length, 'module')}:\n\n` +
 				items.map((i) => `${i.serial.padEnd(width)}  ${i.modelCode}  ${i.modelName}`).join('\n') +
 				(s.note ? `\n\nNote: ${s.note}` : '') +
 				`\n\nPlease check each serial against this list when the shipment arrives and tell us at once if anything is missing or damaged.` +
-				`\nA damaged battery module must not be installed; keep it apart and ask us how to return it under the dangerous-goods rules that apply.\n`
+				`\nA damaged battery module must not be installed; keep it apart and ask us how to return it under the dangerous-goods rules that apply.\n`,
+			// The dealer's own view of what has reached it: the shipped modules of its fleet.
+			about: `/fleet?${fleetSearch({ state: 'shipped' })}`
 		});
 	} catch (e) {
 		result.mail.error = `${s.reference} is dispatched, but the e-mail to ${to.join(', ')} could not be sent: ${(e as Error).message}`;

@@ -26,7 +26,7 @@ export type SiteRow = typeof sites.$inferSelect;
 export type { SlotRef };
 export { nextEmptySlot };
 
-const NO_SYSTEM = (id: unknown) => `There is no system number ${String(id).slice(0, 12)}.`;
+const NO_SYSTEM = (id: unknown) => `System ${String(id).slice(0, 12)} is not in the register.`;
 const where = (s: SlotRef) => `string ${s.stringNo}, position ${s.position}`;
 
 /** The figures the design check needs, from a stored model. */
@@ -39,7 +39,8 @@ export function designModuleOf(m: ModelRow): DesignModule {
 		ratedAh,
 		usableWh,
 		maxContinuousC,
-		burstC
+		burstC,
+		internalResistanceMohm
 	} = m;
 	return {
 		cellsSeries,
@@ -49,7 +50,8 @@ export function designModuleOf(m: ModelRow): DesignModule {
 		ratedAh,
 		usableWh,
 		maxContinuousC,
-		burstC
+		burstC,
+		...(internalResistanceMohm ? { internalResistanceMOhm: internalResistanceMohm } : {})
 	};
 }
 
@@ -78,11 +80,13 @@ async function modelById(conn: Conn, id: number): Promise<ModelRow> {
 /** What the new-system form needs: the site (scoped) and the models in production to build from. */
 export async function systemFormOptions(db: Db, actor: Actor, siteId: number) {
 	const site = await findSite(db, actor, siteId);
-	const models = await db
-		.select({ code: moduleModels.code, name: moduleModels.name })
+	const rows = await db
+		.select()
 		.from(moduleModels)
 		.where(isNull(moduleModels.retiredAt))
 		.orderBy(asc(moduleModels.code));
+	// The figures go with each model so the form's design check runs in the browser.
+	const models = rows.map((m) => ({ code: m.code, name: m.name, module: designModuleOf(m) }));
 	return { site: { id: site.id, name: site.name }, models };
 }
 
@@ -111,7 +115,8 @@ export async function designCheck(db: Db, req: DesignCheckRequest): Promise<Desi
 		parallel: req.parallel,
 		inverter: req.inverter,
 		targetEnergyKWh: req.targetEnergyKWh,
-		variants
+		variants,
+		protection: req.protection
 	});
 }
 

@@ -5,6 +5,7 @@ import { apiTokens, users } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { ConflictError, NotFoundError } from '$lib/server/errors';
 import { recordAudit } from './audit';
+import { businessDay } from './calendar';
 
 const sha256 = (s: string) => createHash('sha256').update(s).digest('hex');
 export const TOKEN_PREFIX = 'plk_';
@@ -81,7 +82,7 @@ export async function verifyToken(
 	if (!row) return { error: 'This API token is not known. Ask an administrator for a rig token.' };
 	if (row.revokedAt)
 		return {
-			error: `This API token (“${row.name}”) was revoked on ${row.revokedAt.toISOString().slice(0, 10)}. Ask an administrator for a new one.`
+			error: `This API token (“${row.name}”) was revoked on ${await businessDay(db, row.revokedAt)}. Ask an administrator for a new one.`
 		};
 	await db.update(apiTokens).set({ lastUsedAt: now }).where(eq(apiTokens.id, row.id));
 	return {

@@ -5,6 +5,8 @@ import { allocationSchema } from '$lib/schemas/allocation';
 import { parseForm } from '$lib/server/validation';
 import { allocateSerials, listAllocations } from '$lib/server/services/allocations';
 import { listModels } from '$lib/server/services/models';
+import { prepareLabels } from '$lib/server/services/labels';
+import { baseUrl } from '$lib/server/base-url';
 import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -24,7 +26,10 @@ export const actions: Actions = {
 		if (!parsed.ok) return fail(400, { issues: parsed.issues, values: parsed.values });
 		let id: number;
 		try {
-			id = (await allocateSerials(await getDb(), actor, parsed.data)).id;
+			const db = await getDb();
+			id = (await allocateSerials(db, actor, parsed.data)).id;
+			// Each label's QR is drawn now, once, so the sheet only reads them.
+			await prepareLabels(db, id, baseUrl(event.url));
 		} catch (e) {
 			return failFrom(e, parsed.data);
 		}

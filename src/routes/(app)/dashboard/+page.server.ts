@@ -1,9 +1,15 @@
 import { requireCan } from '$lib/server/auth/guards';
+import { can } from '$lib/policy';
 import { getDb } from '$lib/server/db';
-import { dashboardFigures } from '$lib/server/services/dashboard';
+import { claimFigures, dashboardFigures } from '$lib/server/services/dashboard';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireCan(event, 'viewDashboard');
-	return { figures: await dashboardFigures(await getDb()) };
+	const actor = requireCan(event, 'viewDashboard');
+	const db = await getDb();
+	const [figures, claims] = await Promise.all([
+		dashboardFigures(db),
+		can(actor.role, 'viewClaims') ? claimFigures(db) : null
+	]);
+	return { figures, claims };
 };

@@ -4,7 +4,7 @@ import { fleetFilterOptions, getColumnPrefs } from '$lib/server/services/fleet';
 import { DEFAULT_FLEET_COLUMNS } from '$lib/schemas/fleet';
 import type { PageServerLoad } from './$types';
 
-/** Filter choices and saved columns only: the rows are fetched by the page from /api/modules as the view changes. */
+/** Filter choices and saved columns only: the rows come from /api/modules through +page.ts as the URL changes. */
 export const load: PageServerLoad = async (event) => {
 	const actor = requireCan(event, 'viewFleet');
 	const db = await getDb();

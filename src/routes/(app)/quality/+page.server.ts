@@ -6,46 +6,36 @@ import { errorFrom } from '$lib/server/http';
 import { QUALITY_GROUP_BY, qualityFilters, qualityReport } from '$lib/server/services/quality';
 import { qualityTrend } from '$lib/server/services/quality-trend';
 import type { PageServerLoad } from './$types';
+import { blankToUndefined, queryInt } from '$lib/schemas/fields';
+import { parseQuery } from '$lib/server/validation';
 
 // The filters live in the URL (a GET form), so a view can be shared as a link. An empty
 // select sends "", which means "not chosen".
-const blank = (v: unknown) => (v === '' ? undefined : v);
-const id = (what: string) =>
-	z.preprocess(
-		blank,
-		z.coerce
-			.number({ message: `Choose a ${what}.` })
-			.int()
-			.positive(`Choose a ${what}.`)
-			.optional()
-	);
 const filterSchema = z.object({
-	model: id('model'),
+	model: queryInt(1, Number.MAX_SAFE_INTEGER, 'The model'),
 	group: z.preprocess(
-		blank,
+		blankToUndefined,
 		z
 			.enum(QUALITY_GROUP_BY, { message: 'Group by rig file, week or the whole model.' })
 			.default('import')
 	),
-	import: id('rig file'),
+	import: queryInt(1, Number.MAX_SAFE_INTEGER, 'The rig file'),
 	week: z.preprocess(
-		blank,
+		blankToUndefined,
 		z
 			.string()
+			.max(8, { error: 'Write the week as 2026-W07.', abort: true })
 			.regex(/^\d{4}-W\d{2}$/, 'Write the week as 2026-W07.')
 			.optional()
 	),
-	latest: z.preprocess(blank, z.literal('1').optional())
+	latest: z.preprocess(blankToUndefined, z.literal('1').optional())
 });
 
 export const load: PageServerLoad = async (event) => {
 	requireCan(event, 'viewQuality');
-	const parsed = filterSchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success)
-		error(
-			400,
-			`These filters cannot be read: ${parsed.error.issues.map((i) => i.message).join(' ')}`
-		);
+	const parsed = parseQuery(filterSchema, event.url.searchParams);
+	if (!parsed.ok)
+		error(400, `These filters cannot be read: ${parsed.issues.map((i) => i.message).join(' ')}`);
 	const q = parsed.data;
 	const db = await getDb();
 	try {

@@ -2,7 +2,7 @@ import { json } from '@sveltejs/kit';
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { jsonFrom } from '$lib/server/http';
-import { parseJson, toIssues } from '$lib/server/validation';
+import { parseJson, parseQuery } from '$lib/server/validation';
 import { baseUrl } from '$lib/server/base-url';
 import { claimQuerySchema, fileClaimApiSchema } from '$lib/schemas/claim';
 import { fileClaim, listClaims } from '$lib/server/services/claims';
@@ -11,9 +11,9 @@ import type { RequestHandler } from './$types';
 /** The claims queue as JSON: `?state=&dealer=&model=&minAgeDays=&page=&pageSize=&sort=&dir=`. A dealer gets own claims only. */
 export const GET: RequestHandler = async (event) => {
 	const actor = requireCan(event, 'viewClaims');
-	const parsed = claimQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success) {
-		const issues = toIssues(parsed.error);
+	const parsed = parseQuery(claimQuerySchema, event.url.searchParams);
+	if (!parsed.ok) {
+		const issues = parsed.issues;
 		return json({ message: `Check the filters: ${issues[0].message}`, issues }, { status: 400 });
 	}
 	try {

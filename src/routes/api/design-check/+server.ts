@@ -8,10 +8,12 @@ import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
 
 /**
- * Checks a design: body `{ module: {…figures} | model: "TC-HC-48", series, parallel,
- * inverter: { minV, maxV, preferredMinV?, preferredMaxV?, maxChargeA?, maxDischargeA? },
- * targetEnergyKWh? }`; answers string voltage, energy, currents, power, fit, problems and
- * (with `model`) suggestions. Nothing is stored.
+ * Checks a design: body `{ module: {…figures, internalResistanceMOhm?} | model: "TC-HC-48",
+ * series, parallel, inverter: { minV, maxV, preferredMinV?, preferredMaxV?, maxChargeA?,
+ * maxDischargeA? }, targetEnergyKWh?, protection?: { ratedCurrentA, ratedVoltageDcV,
+ * breakingCapacityKA } }`; answers string voltage, energy, currents, power, fit, problems,
+ * `shortCircuitCurrentA`, `protection: { fits, problems[] }` and (with `model`) suggestions,
+ * each with the reason for its rank. Nothing is stored.
  */
 export const POST: RequestHandler = async (event) => {
 	requireCan(event, 'checkDesign');

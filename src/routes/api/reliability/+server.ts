@@ -1,7 +1,7 @@
 import { json } from '@sveltejs/kit';
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { toIssues } from '$lib/server/validation';
+import { parseQuery } from '$lib/server/validation';
 import { reliabilityQuerySchema } from '$lib/schemas/reliability';
 import { reliabilityReport } from '$lib/server/services/reliability';
 import type { RequestHandler } from './$types';
@@ -14,9 +14,9 @@ import type { RequestHandler } from './$types';
  */
 export const GET: RequestHandler = async (event) => {
 	const actor = requireCan(event, 'viewReliability');
-	const parsed = reliabilityQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success) {
-		const issues = toIssues(parsed.error);
+	const parsed = parseQuery(reliabilityQuerySchema, event.url.searchParams);
+	if (!parsed.ok) {
+		const issues = parsed.issues;
 		return json({ message: `Check the query: ${issues[0].message}`, issues }, { status: 400 });
 	}
 	const {

@@ -2,28 +2,30 @@ import { json } from '@sveltejs/kit';
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { traceQuerySchema } from '$lib/schemas/trace';
-import { toIssues } from '$lib/server/validation';
+import { parseQuery } from '$lib/server/validation';
 import { traceCsv } from '$lib/server/services/trace';
 import type { RequestHandler } from './$types';
+import { businessDay } from '$lib/server/services/calendar';
 
 /** The traced modules and where each is now, as CSV. */
 export const GET: RequestHandler = async (event) => {
 	requireCan(event, 'trace');
-	const parsed = traceQuerySchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success)
+	const parsed = parseQuery(traceQuerySchema, event.url.searchParams);
+	if (!parsed.ok)
 		return json(
 			{
-				message:
-					parsed.error.issues[0]?.message ?? 'Give a cell lot, model, build date range or import.',
-				issues: toIssues(parsed.error)
+				message: parsed.issues[0]?.message ?? 'Give a cell lot, model, build date range or import.',
+				issues: parsed.issues
 			},
 			{ status: 400 }
 		);
-	const csv = await traceCsv(await getDb(), parsed.data);
+	const db = await getDb();
+	const csv = await traceCsv(db, parsed.data);
+	const today = await businessDay(db, new Date());
 	return new Response(csv, {
 		headers: {
 			'content-type': 'text/csv; charset=utf-8',
-			'content-disposition': `attachment; filename="packledger-trace-${new Date().toISOString().slice(0, 10)}.csv"`
+			'content-disposition': `attachment; filename="packledger-trace-${today}.csv"`
 		}
 	});
 };

@@ -1,28 +1,29 @@
 import { fail } from '@sveltejs/kit';
 import { z } from 'zod';
+import { recordId } from '$lib/schemas/fields';
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { inviteSchema } from '$lib/schemas/auth';
 import { peopleQuerySchema, personPatchSchema } from '$lib/schemas/people';
-import { parseForm, toIssues } from '$lib/server/validation';
+import { parseForm, parseQuery } from '$lib/server/validation';
 import { inviteUser, listOrganisations, resendInvitation } from '$lib/server/services/users';
 import { searchPeople, updatePerson } from '$lib/server/services/people';
 import { baseUrl } from '$lib/server/base-url';
 import { failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
-const personId = z.object({ id: z.coerce.number().int().positive('Choose a person.') });
+const personId = z.object({ id: recordId('Choose a person.') });
 const updateForm = personPatchSchema.and(personId);
 
 export const load: PageServerLoad = async (event) => {
 	requireCan(event, 'manageUsers');
 	const db = await getDb();
 	const raw = Object.fromEntries(event.url.searchParams);
-	const parsed = peopleQuerySchema.safeParse(raw);
+	const parsed = parseQuery(peopleQuerySchema, event.url.searchParams);
 	return {
 		raw,
-		issues: parsed.success ? [] : toIssues(parsed.error),
-		users: await searchPeople(db, parsed.success ? parsed.data : {}),
+		issues: parsed.ok ? [] : parsed.issues,
+		users: await searchPeople(db, parsed.ok ? parsed.data : {}),
 		organisations: await listOrganisations(db)
 	};
 };

@@ -1,6 +1,6 @@
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { certificateData } from '$lib/server/services/commissioning';
+import { certificateData } from '$lib/server/services/certificates';
 import { errorFrom } from '$lib/server/http';
 import type { PageServerLoad } from './$types';
 

@@ -1,18 +1,20 @@
 import { fail } from '@sveltejs/kit';
+import { version } from '$app/environment';
 import { allowAnonymous, requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { getModuleRecord, getPublicRecord } from '$lib/server/services/modules';
+import { getModuleRecord, getPublicRecord, publicRecordEtag } from '$lib/server/services/modules';
 import { correctBuild, reworkModule, scrapModule } from '$lib/server/services/workshop';
 import { correctBuildSchema, reworkSchema, scrapSchema } from '$lib/schemas/workshop';
 import { NotFoundError } from '$lib/server/errors';
 import { errorFrom, failFrom } from '$lib/server/http';
 import { parseForm } from '$lib/server/validation';
+import { businessDay } from '$lib/server/services/calendar';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = allowAnonymous(event);
 	const db = await getDb();
-	const today = new Date().toISOString().slice(0, 10);
+	const today = await businessDay(db, new Date());
 	try {
 		const publicRecord = await getPublicRecord(db, event.params.serial, today);
 		// Signed-in people who may see the module get its full record; everyone else the public one.
@@ -21,6 +23,14 @@ export const load: PageServerLoad = async (event) => {
 					e instanceof NotFoundError ? null : Promise.reject(e)
 				)
 			: null;
+		// Without a session the page is the same for everyone: a validator, so a rescan of the
+		// label (or a proxy) revalidates with If-None-Match and gets 304 (see hooks' publicRevalidation).
+		if (!user)
+			event.setHeaders({
+				etag: publicRecordEtag(publicRecord, version),
+				'cache-control': 'public, no-cache',
+				vary: 'Cookie'
+			});
 		return { publicRecord, full, role: user?.role ?? null };
 	} catch (e) {
 		errorFrom(e);

@@ -4,6 +4,7 @@ import { getDb } from '$lib/server/db';
 import { getModuleRecord, getPublicRecord } from '$lib/server/services/modules';
 import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
+import { businessDay } from '$lib/server/services/calendar';
 
 /** A module as the caller may see it; another dealer's serial answers 404 like an unknown one. */
 export const GET: RequestHandler = async (event) => {
@@ -11,11 +12,8 @@ export const GET: RequestHandler = async (event) => {
 	const db = await getDb();
 	try {
 		const record = await getModuleRecord(db, actor, event.params.serial);
-		const publicRecord = await getPublicRecord(
-			db,
-			record.module.serial,
-			new Date().toISOString().slice(0, 10)
-		);
+		const today = await businessDay(db, new Date());
+		const publicRecord = await getPublicRecord(db, record.module.serial, today);
 		const { module: m, model, builder, dealer, events } = record;
 		return json({
 			serial: m.serial,

@@ -3,7 +3,7 @@ import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { exportPassports } from '$lib/server/services/passport-export';
 import { passportExportSchema } from '$lib/schemas/passport';
-import { toIssues } from '$lib/server/validation';
+import { parseQuery } from '$lib/server/validation';
 import { baseUrl } from '$lib/server/base-url';
 import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
@@ -11,9 +11,9 @@ import type { RequestHandler } from './$types';
 /** Passports of a shipment, cell lot or model as JSON Lines or ZIP, streamed. Assembler staff only. */
 export const GET: RequestHandler = async (event) => {
 	const actor = requireCan(event, 'exportPassports');
-	const parsed = passportExportSchema.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!parsed.success) {
-		const issues = toIssues(parsed.error);
+	const parsed = parseQuery(passportExportSchema, event.url.searchParams);
+	if (!parsed.ok) {
+		const issues = parsed.issues;
 		return json({ message: issues[0].message, issues }, { status: 400 });
 	}
 	try {

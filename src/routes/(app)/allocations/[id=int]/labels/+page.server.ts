@@ -8,6 +8,9 @@ import { baseUrl } from '$lib/server/base-url';
 import { errorFrom, failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';
 
+/** Server-rendered only: the sheet's QR codes are sent once, not again as hydration data. */
+export const csr = false;
+
 export const load: PageServerLoad = async (event) => {
 	requireCan(event, 'allocateSerials');
 	const id = Number(event.params.id);

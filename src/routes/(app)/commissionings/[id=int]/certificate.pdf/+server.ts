@@ -1,6 +1,6 @@
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { certificateData, certificatePdf } from '$lib/server/services/commissioning';
+import { certificatePdfFor } from '$lib/server/services/certificates';
 import { errorFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
 
@@ -8,13 +8,16 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = async (event) => {
 	const actor = requireCan(event, 'viewInstallations');
 	try {
-		const data = await certificateData(await getDb(), actor, Number(event.params.id));
-		const pdf = await certificatePdf(data);
+		const { pdf, certificateNo } = await certificatePdfFor(
+			await getDb(),
+			actor,
+			Number(event.params.id)
+		);
 		return new Response(pdf as Uint8Array<ArrayBuffer>, {
 			headers: {
 				'content-type': 'application/pdf',
 				'content-length': String(pdf.byteLength),
-				'content-disposition': `attachment; filename="${data.certificateNo}.pdf"`,
+				'content-disposition': `attachment; filename="${certificateNo}.pdf"`,
 				'cache-control': 'private, no-store'
 			}
 		});

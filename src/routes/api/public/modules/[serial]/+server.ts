@@ -4,6 +4,7 @@ import { getDb } from '$lib/server/db';
 import { getPublicRecord } from '$lib/server/services/modules';
 import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
+import { businessDay } from '$lib/server/services/calendar';
 
 /**
  * The public record of a module as JSON, for anyone (no customer data): the same data the
@@ -12,10 +13,11 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = async (event) => {
 	allowAnonymous(event);
 	try {
+		const db = await getDb();
 		const record = await getPublicRecord(
-			await getDb(),
+			db,
 			event.params.serial,
-			new Date().toISOString().slice(0, 10)
+			await businessDay(db, new Date())
 		);
 		return json(record, { headers: { 'cache-control': 'public, max-age=300' } });
 	} catch (e) {
