@@ -4,10 +4,7 @@
  * pages, their actions and the API routes.
  */
 import { z } from 'zod';
-import {
-	claimEvidenceFields,
-	temperatureProfileSchema
-} from './warranty-assess';
+import { claimEvidenceFields, temperatureProfileSchema } from './warranty-assess';
 import { isCalendarDate } from '$lib/domain/calendar';
 import { blankToUndefined, optionalText, queryInt } from './fields';
 import {
@@ -19,7 +16,6 @@ import {
 	MIN_DECISION_REASON,
 	TARGET_RESPONSE_DAYS,
 	CLAIM_FAULT_CODES,
-	CLAIM_FAULTS,
 	CLAIM_KINDS,
 	type ClaimFault,
 	type ClaimState
@@ -87,7 +83,7 @@ export const claimKindSchema = z.enum(CLAIM_KINDS, {
 });
 
 export const claimFaultSchema = z.enum(CLAIM_FAULT_CODES as [ClaimFault, ...ClaimFault[]], {
-	error: `Choose the fault from the list: ${CLAIM_FAULT_CODES.map((f) => `${f} (${CLAIM_FAULTS[f].label})`).join(', ')}.`
+	error: `Choose the fault from the list: ${CLAIM_FAULT_CODES.join(', ')}.`
 });
 
 /** The calendar day the fault was first seen. The service checks it is not after today. */
