@@ -1,6 +1,10 @@
-import { and, asc, desc, eq, like, or, sql } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import { createHash } from 'node:crypto';
+import { and, asc, desc, eq, isNull, like, ne, or, sql } from 'drizzle-orm';
+import { dataVersion, type Db } from '$lib/server/db';
+import { alias } from 'drizzle-orm/sqlite-core';
 import {
+	campaignModules,
+	campaigns,
 	claimModules,
 	claims,
 	factoryTests,
@@ -16,7 +20,92 @@ import {
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
 import { extractSerialFromScan, parseSerial } from '$lib/domain/serial';
-import { UNKNOWN_SERIAL } from './modules-public';
+import { toPublicRecord, type PublicRecord } from '$lib/domain/public-record';
+import { factoryTestsOf } from './workshop';
+
+type ModuleRow = typeof modules.$inferSelect;
+
+/** Open service campaigns naming a module (its step not yet resolved), newest first. */
+export async function openCampaignsOf(db: Db, moduleId: number) {
+	return db
+		.select({
+			id: campaigns.id,
+			reference: campaigns.reference,
+			title: campaigns.title,
+			remedy: campaigns.remedy,
+			state: campaignModules.state
+		})
+		.from(campaignModules)
+		.innerJoin(campaigns, eq(campaignModules.campaignId, campaigns.id))
+		.where(
+			and(
+				eq(campaignModules.moduleId, moduleId),
+				ne(campaignModules.state, 'resolved'),
+				isNull(campaigns.closedAt)
+			)
+		)
+		.orderBy(desc(campaigns.id));
+}
+
+/** Which module replaced this one under a claim, and which one this one replaced. */
+async function replacementsOf(db: Db, moduleId: number) {
+	const other = alias(modules, 'other');
+	const [by] = await db
+		.select({ serial: other.serial })
+		.from(claimModules)
+		.innerJoin(other, eq(claimModules.replacementModuleId, other.id))
+		.where(eq(claimModules.moduleId, moduleId))
+		.limit(1);
+	const [of] = await db
+		.select({ serial: other.serial })
+		.from(claimModules)
+		.innerJoin(other, eq(claimModules.moduleId, other.id))
+		.where(eq(claimModules.replacementModuleId, moduleId))
+		.limit(1);
+	return { replacedBy: by?.serial ?? null, replaces: of?.serial ?? null };
+}
+
+/** What the condition sentence needs beyond the module row. */
+async function conditionFacts(
+	db: Db,
+	mod: Pick<
+		ModuleRow,
+		'id' | 'state' | 'scrappedAt' | 'scrapReason' | 'updatedAt' | 'lifecycleStatus'
+	>
+) {
+	const [last] = await db
+		.select({ testedAt: factoryTests.testedAt, outcome: factoryTests.outcome })
+		.from(factoryTests)
+		.where(eq(factoryTests.moduleId, mod.id))
+		.orderBy(desc(factoryTests.testedAt), desc(factoryTests.id))
+		.limit(1);
+	const [rework] = await db
+		.select({ at: moduleEvents.at })
+		.from(moduleEvents)
+		.where(and(eq(moduleEvents.moduleId, mod.id), eq(moduleEvents.kind, 'reworked')))
+		.orderBy(desc(moduleEvents.at))
+		.limit(1);
+	const [campaign] = await openCampaignsOf(db, mod.id);
+	return {
+		lastTest: last ? { on: last.testedAt.toISOString().slice(0, 10), outcome: last.outcome } : null,
+		reworked: !!rework && mod.state === 'built',
+		campaign: campaign
+			? { reference: campaign.reference, title: campaign.title, remedy: campaign.remedy }
+			: null,
+		...(await replacementsOf(db, mod.id)),
+		scrapped:
+			mod.state === 'scrapped'
+				? {
+						on: (mod.scrappedAt ?? mod.updatedAt ?? new Date(0)).toISOString().slice(0, 10),
+						reason: mod.scrapReason ?? 'no reason recorded'
+					}
+				: null,
+		lifecycleStatus: mod.lifecycleStatus
+	};
+}
+
+export const UNKNOWN_SERIAL = (serial: string) =>
+	`No module ${serial} is in the register. Check the serial on the label (it looks like PL48-26-000123F).`;
 
 /**
  * Finds a module by serial as the actor may see it. A dealer's staff only find modules
@@ -60,7 +149,88 @@ export async function serialFromScan(
 	return mod.serial;
 }
 
-export { getPublicRecord, publicRecordEtag, UNKNOWN_SERIAL } from './modules-public';
+const dealerOrg = alias(organisations, 'dealer');
+
+/**
+ * The public record's one query: module, model, dealer and the assembler in a single join,
+ * prepared once (no query building per view).
+ */
+const preparedFor = new WeakMap<Db, ReturnType<typeof preparePublicQuery>>();
+function preparePublicQuery(db: Db) {
+	return db
+		.select({
+			id: modules.id,
+			serial: modules.serial,
+			builtAt: modules.builtAt,
+			state: modules.state,
+			scrappedAt: modules.scrappedAt,
+			scrapReason: modules.scrapReason,
+			updatedAt: modules.updatedAt,
+			lifecycleStatus: modules.lifecycleStatus,
+			warrantyStartsOn: modules.warrantyStartsOn,
+			warrantyEndsOn: modules.warrantyEndsOn,
+			model: moduleModels,
+			dealerName: dealerOrg.name,
+			dealerEmail: dealerOrg.contactEmail,
+			assemblerName: sql<
+				string | null
+			>`(SELECT name FROM organisations WHERE kind = 'assembler' ORDER BY id LIMIT 1)`,
+			assemblerEmail: sql<
+				string | null
+			>`(SELECT contact_email FROM organisations WHERE kind = 'assembler' ORDER BY id LIMIT 1)`
+		})
+		.from(modules)
+		.innerJoin(moduleModels, eq(moduleModels.id, modules.modelId))
+		.leftJoin(dealerOrg, eq(dealerOrg.id, modules.dealerOrgId))
+		.where(eq(modules.serial, sql.placeholder('serial')))
+		.prepare();
+}
+
+/**
+ * Public records already built, per database, serial and day, kept while the data version
+ * stands (`dataVersion`: PRAGMA data_version on a read-only connection, which every commit by
+ * this process or another app server on the file changes). The record is the same for
+ * everyone, so one read serves every scan of a label until a write.
+ */
+const publicCaches = new WeakMap<Db, Map<string, { version: string; record: PublicRecord }>>();
+
+/** The public record of a module: rated data, build month, warranty state, contact. No customer data. */
+export async function getPublicRecord(db: Db, serialText: string, today: string) {
+	const parsed = parseSerial(serialText);
+	if (!parsed.ok)
+		throw new NotFoundError(
+			`“${serialText.slice(0, 40)}” is not a module serial: ${parsed.reason}.`
+		);
+	const version = await dataVersion(db);
+	const key = `${parsed.serial}|${today}`;
+	let publicCache = publicCaches.get(db);
+	if (!publicCache) publicCaches.set(db, (publicCache = new Map()));
+	const hit = version ? publicCache.get(key) : undefined;
+	if (hit && hit.version === version) return hit.record;
+	let query = preparedFor.get(db);
+	if (!query) preparedFor.set(db, (query = preparePublicQuery(db)));
+	const [row] = await query.execute({ serial: parsed.serial });
+	if (!row) throw new NotFoundError(UNKNOWN_SERIAL(parsed.serial));
+	const record = toPublicRecord({
+		serial: row.serial,
+		model: row.model,
+		builtAt: row.builtAt,
+		state: row.state,
+		warranty:
+			row.warrantyStartsOn && row.warrantyEndsOn
+				? { startsOn: row.warrantyStartsOn, endsOn: row.warrantyEndsOn }
+				: null,
+		assembler: { name: row.assemblerName ?? 'The assembler', email: row.assemblerEmail ?? null },
+		dealer: row.dealerName ? { name: row.dealerName, email: row.dealerEmail } : null,
+		today,
+		...(await conditionFacts(db, row))
+	});
+	if (version) {
+		if (publicCache.size >= 10_000) publicCache.clear();
+		publicCache.set(key, { version, record });
+	}
+	return record;
+}
 
 /**
  * A module's factory results as timeline entries, read from `factory_tests` itself: an
@@ -160,6 +330,8 @@ export async function getModuleRecord(db: Db, actor: Actor, serialText: string) 
 		dealer: dealer ?? null,
 		placement: placement ?? null,
 		claims: moduleClaims,
+		tests: await factoryTestsOf(db, mod),
+		campaigns: await openCampaignsOf(db, mod.id),
 		events: events.map((e) => ({ ...e, detail: e.detail ? JSON.parse(e.detail) : null }))
 	};
 }
@@ -183,4 +355,13 @@ export async function searchModules(db: Db, actor: Actor, text: string, limit = 
 		.where(where)
 		.orderBy(asc(modules.serial))
 		.limit(limit);
+}
+
+/**
+ * The validator of an anonymous public-record page: a hash of the record and the build, so a
+ * write to the module or a new release gives a new one (RFC 9110 §8.8.3; weak, since the
+ * page's bytes differ in their CSP nonce while its content is the same).
+ */
+export function publicRecordEtag(record: PublicRecord, build: string): string {
+	return `W/"${createHash('sha256').update(build).update(JSON.stringify(record)).digest('base64url').slice(0, 27)}"`;
 }
