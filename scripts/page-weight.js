@@ -1,50 +1,119 @@
-// Measures what a phone downloads for a page of the production build on the demo data:
-// JavaScript and CSS, raw and gzip (level 9). Usage:
-//   node scripts/page-weight.js [path] [email]   (default: the demo's unfinished system's checklist as tech@tidewater.example)
+// What a phone downloads before it can use each field page of the production build, on the
+// demo data: JavaScript and CSS, raw and gzip (level 9, as the precompressed files are). The
+// budget (issue 17): at most 60 KB of JavaScript gzip per field page (PAGE_WEIGHT_BUDGET_KB);
+// any page over it makes the script exit 1. Pages: a label's public record, the build bench,
+// a site, a system, its commissioning checklist, claim filing.
+//
+//   node scripts/page-weight.js [--json] [path email|-]   (BENCH_PORT; PAGE_WEIGHT_FILES=1 lists files)
 import { chromium } from '@playwright/test';
 import { gzipSync } from 'node:zlib';
+import { createClient } from '@libsql/client';
 import { startBenchServer, signInCookie } from './lib/bench-server.js';
+
+const args = process.argv.slice(2);
+const asJson = args.includes('--json');
+const [onePath, oneEmail] = args.filter((a) => a !== '--json');
+const BUDGET_KB = Number(process.env.PAGE_WEIGHT_BUDGET_KB ?? 60);
+const dbDir = 'data/page-weight';
 
 const server = await startBenchServer({
 	port: Number(process.env.BENCH_PORT ?? 4174),
-	dbDir: 'data/page-weight'
+	dbDir
 });
+const results = [];
+let browser;
 try {
-	const email = process.argv[3] ?? 'tech@tidewater.example';
-	const cookie = await signInCookie(server.origin, email);
-	const path = process.argv[2] ?? '/systems/3/commission';
-	const browser = await chromium.launch({
+	const c = createClient({ url: `file:${dbDir}/bench.db` });
+	const one = async (sql) => (await c.execute(sql)).rows[0]?.[0];
+	const serial = await one(
+		"SELECT serial FROM modules WHERE state <> 'allocated' ORDER BY id LIMIT 1"
+	);
+	// The demo's unfinished system (its checklist still open) and its site.
+	const system = await one(
+		'SELECT s.id FROM systems s WHERE NOT EXISTS (SELECT 1 FROM commissionings c WHERE c.system_id = s.id) ORDER BY s.id LIMIT 1'
+	);
+	const site = await one(`SELECT site_id FROM systems WHERE id = ${Number(system)}`);
+	c.close();
+	const pages = onePath
+		? [{ name: onePath, path: onePath, email: oneEmail && oneEmail !== '-' ? oneEmail : null }]
+		: [
+				{ name: 'public record (label scan)', path: `/m/${serial}`, email: null },
+				{ name: 'build bench', path: '/bench', email: 'workshop@tidewater.example' },
+				{ name: 'site', path: `/sites/${site}`, email: 'tech@tidewater.example' },
+				{ name: 'system', path: `/systems/${system}`, email: 'tech@tidewater.example' },
+				{
+					name: 'commissioning checklist',
+					path: `/systems/${system}/commission`,
+					email: 'tech@tidewater.example'
+				},
+				{ name: 'claim filing', path: '/claims/new', email: 'dealer@saltmarsh.example' }
+			];
+	browser = await chromium.launch({
 		executablePath: process.env.CHROMIUM_PATH || '/usr/bin/chromium',
 		args: ['--headless', '--no-sandbox', '--disable-gpu']
 	});
-	const ctx = await browser.newContext({ viewport: { width: 390, height: 844 }, isMobile: true });
-	await ctx.addCookies(
-		cookie.split('; ').map((c) => {
-			const i = c.indexOf('=');
-			return { name: c.slice(0, i), value: c.slice(i + 1), url: server.origin };
-		})
-	);
-	const page = await ctx.newPage();
-	const files = new Map();
-	page.on('response', async (res) => {
-		const type = res.request().resourceType();
-		if (type !== 'script' && type !== 'stylesheet') return;
-		const body = await res.body().catch(() => null);
-		if (body)
-			files.set(res.url(), { type, raw: body.length, gz: gzipSync(body, { level: 9 }).length });
-	});
-	await page.goto(server.origin + path, { waitUntil: 'networkidle' });
-	const sum = (t, k) =>
-		[...files.values()].filter((f) => f.type === t).reduce((a, f) => a + f[k], 0);
-	const kb = (n) => `${(n / 1024).toFixed(1)} KB`;
-	if (process.env.PAGE_WEIGHT_FILES)
-		for (const [u, f] of files) console.log(f.type, f.gz, u.replace(server.origin, ''));
-	console.log(`${path} as ${email} (390×844): ${files.size} files`);
-	console.log(`  JavaScript ${kb(sum('script', 'raw'))} raw, ${kb(sum('script', 'gz'))} gzip`);
-	console.log(
-		`  CSS        ${kb(sum('stylesheet', 'raw'))} raw, ${kb(sum('stylesheet', 'gz'))} gzip`
-	);
-	await browser.close();
+	const cookies = new Map();
+	for (const p of pages) {
+		const ctx = await browser.newContext({
+			viewport: { width: 390, height: 844 },
+			isMobile: true,
+			serviceWorkers: 'block'
+		});
+		if (p.email) {
+			if (!cookies.has(p.email)) cookies.set(p.email, await signInCookie(server.origin, p.email));
+			await ctx.addCookies(
+				cookies
+					.get(p.email)
+					.split('; ')
+					.map((kv) => {
+						const i = kv.indexOf('=');
+						return { name: kv.slice(0, i), value: kv.slice(i + 1), url: server.origin };
+					})
+			);
+		}
+		const page = await ctx.newPage();
+		const files = new Map();
+		page.on('response', async (res) => {
+			const type = res.request().resourceType();
+			if (type !== 'script' && type !== 'stylesheet') return;
+			const body = await res.body().catch(() => null);
+			if (body)
+				files.set(res.url(), { type, raw: body.length, gz: gzipSync(body, { level: 9 }).length });
+		});
+		const res = await page.goto(server.origin + p.path, { waitUntil: 'networkidle' });
+		if (!res || res.status() !== 200) throw new Error(`${p.path} answered ${res?.status()}`);
+		const sum = (t, k) =>
+			[...files.values()].filter((f) => f.type === t).reduce((a, f) => a + f[k], 0);
+		const kb = (n) => Math.round((n / 1024) * 10) / 10;
+		const r = {
+			name: p.name,
+			path: p.path,
+			as: p.email ?? 'anyone',
+			files: files.size,
+			jsKB: kb(sum('script', 'raw')),
+			jsGzipKB: kb(sum('script', 'gz')),
+			cssGzipKB: kb(sum('stylesheet', 'gz'))
+		};
+		results.push(r);
+		if (process.env.PAGE_WEIGHT_FILES)
+			for (const [u, f] of [...files].sort((a, b) => b[1].gz - a[1].gz))
+				console.log(
+					`    ${f.type.padEnd(10)} ${String(f.gz).padStart(6)} ${u.replace(server.origin, '')}`
+				);
+		console.log(
+			`${r.name.padEnd(28)} ${r.path.padEnd(26)} JS ${String(r.jsKB).padStart(6)} KB raw, ${String(r.jsGzipKB).padStart(5)} KB gzip${r.jsGzipKB > BUDGET_KB ? `  OVER the ${BUDGET_KB} KB budget` : ''}; CSS ${r.cssGzipKB} KB gzip (${r.as})`
+		);
+		await ctx.close();
+	}
 } finally {
+	await browser?.close();
 	server.stop();
 }
+const over = results.filter((r) => r.jsGzipKB > BUDGET_KB);
+console.log(
+	over.length
+		? `${over.length} field page(s) over ${BUDGET_KB} KB of JavaScript gzip.`
+		: `Every field page within ${BUDGET_KB} KB of JavaScript gzip.`
+);
+if (asJson) console.log(JSON.stringify({ budgetKB: BUDGET_KB, pages: results }));
+if (over.length) process.exitCode = 1;

@@ -180,8 +180,7 @@ export const returnInspectionSchema = z.object({
 });
 export type ReturnInspectionInput = z.infer<typeof returnInspectionSchema>;
 
-/** Largest inverter log accepted in one upload: 20 MB, years of 5-minute rows. */
-export const MAX_LOG_BYTES = 20 * 1024 * 1024;
+export { MAX_LOG_BYTES } from '$lib/log-limits';
 
 /** How an inverter log's columns are read: the person confirms what detectColumns suggests. */
 export const logMappingSchema = z.object({

@@ -5,38 +5,24 @@
  * Each issue names its field in words a technician on site can act on.
  */
 import { z } from 'zod';
-import type {
-	CLIMATE_BANDS as DB_CLIMATE_BANDS,
-	SITE_APPLICATIONS as DB_SITE_APPLICATIONS
-} from '$lib/server/db/schema';
-import type { InverterWindow } from '$lib/domain/design-check';
 import { designCheckInputSchema, designModuleSchema, inverterWindowSchema } from './design-check';
 import { readDecimal } from './fields';
 
-export type SiteApplication = (typeof DB_SITE_APPLICATIONS)[number];
-
-/** Our own words for what a site's battery is for; the Record type keeps it in step with the table's list. */
-export const SITE_APPLICATION_LABELS: Record<SiteApplication, string> = {
-	off_grid_home: 'Off-grid home',
-	backup: 'Backup for a grid-connected home or business',
-	ups: 'Uninterruptible supply (UPS)',
-	workshop: 'Workshop, farm or yard',
-	telecom: 'Telecom or radio hut',
-	other: 'Something else'
-};
-export const SITE_APPLICATIONS = Object.keys(SITE_APPLICATION_LABELS) as SiteApplication[];
-
-export type ClimateBand = (typeof DB_CLIMATE_BANDS)[number];
-
-/** Main climate groups of the Köppen–Geiger classification, in plain words. */
-export const CLIMATE_BAND_LABELS: Record<ClimateBand, string> = {
-	tropical: 'Tropical (hot, humid)',
-	arid: 'Arid (desert, steppe)',
-	temperate: 'Temperate (mild winters)',
-	continental: 'Continental (cold winters)',
-	polar: 'Polar or alpine'
-};
-export const CLIMATE_BANDS = Object.keys(CLIMATE_BAND_LABELS) as ClimateBand[];
+export {
+	SITE_APPLICATION_LABELS,
+	SITE_APPLICATIONS,
+	CLIMATE_BAND_LABELS,
+	CLIMATE_BANDS,
+	toInverterWindow,
+	type SiteApplication,
+	type ClimateBand
+} from '$lib/site-labels';
+import {
+	SITE_APPLICATIONS,
+	CLIMATE_BANDS,
+	type SiteApplication,
+	type ClimateBand
+} from '$lib/site-labels';
 
 /** Form text to number by the one decimal rule: blank → undefined (so "required" can be said), "12,5" → 12.5. */
 const fromText = (v: unknown) => {
@@ -192,25 +178,6 @@ export const systemSchema = z
 			issue('preferredMinV', 'Preferred minimum must be below the preferred maximum.');
 	});
 export type SystemInput = z.infer<typeof systemSchema>;
-
-/** The inverter's window as the design check takes it, from a system form or a stored system (nulls = not given). */
-export function toInverterWindow(s: {
-	inverterMinV: number;
-	inverterMaxV: number;
-	preferredMinV?: number | null;
-	preferredMaxV?: number | null;
-	maxChargeA?: number | null;
-	maxDischargeA?: number | null;
-}): InverterWindow {
-	return {
-		minV: s.inverterMinV,
-		maxV: s.inverterMaxV,
-		preferredMinV: s.preferredMinV ?? undefined,
-		preferredMaxV: s.preferredMaxV ?? undefined,
-		maxChargeA: s.maxChargeA ?? undefined,
-		maxDischargeA: s.maxDischargeA ?? undefined
-	};
-}
 
 /**
  * Body of `POST /api/design-check`: either the module's figures (`module`) or a model code
