@@ -14,12 +14,10 @@ import {
 	systemSlots,
 	users
 } from '$lib/server/db/schema';
-import {
-	evaluateDraft,
-	loadSystemForCommissioning,
-	submitCommissioning
-} from '$lib/server/services/commissioning';
-import { certificateData, certificatePdf } from '$lib/server/services/certificates';
+import { evaluateDraft, loadSystemForCommissioning } from '$lib/server/services/commissioning';
+import { submitCommissioning } from '$lib/server/services/commissioning-submit';
+import { certificateData } from '$lib/server/services/certificates';
+import { certificatePdf } from '$lib/server/services/certificate-pdf';
 import { closeMailer, listOutbox } from '$lib/server/mail';
 import {
 	commissioningSchema,

@@ -13,12 +13,9 @@ import {
 	systemSlots,
 	users
 } from '$lib/server/db/schema';
-import { submitCommissioning } from '$lib/server/services/commissioning';
-import {
-	canonicalContent,
-	certificateData,
-	verifyCertificate
-} from '$lib/server/services/certificates';
+import { submitCommissioning } from '$lib/server/services/commissioning-submit';
+import { canonicalContent, verifyCertificate } from '$lib/server/services/certificate-verification';
+import { certificateData } from '$lib/server/services/certificates';
 import {
 	addRuleSetVersion,
 	listRuleSets,

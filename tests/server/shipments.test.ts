@@ -13,14 +13,16 @@ import {
 import {
 	addRangeToShipment,
 	addToShipment,
+	removeFromShipment
+} from '$lib/server/services/shipment-packing';
+import {
 	createShipment,
 	deleteDraftShipment,
-	dispatchShipment,
 	getShipment,
 	listShipments,
-	removeFromShipment,
 	updateShipmentNote
 } from '$lib/server/services/shipments';
+import { dispatchShipment } from '$lib/server/services/shipment-dispatch';
 import { setDealerActive } from '$lib/server/services/dealers';
 import { closeMailer } from '$lib/server/mail';
 import { buildDigitalLink } from '$lib/domain/gs1';

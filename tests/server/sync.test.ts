@@ -15,7 +15,7 @@ import {
 } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { applyOperations } from '$lib/server/services/sync';
-import { placeModule } from '$lib/server/services/systems';
+import { placeModule } from '$lib/server/services/system-modules';
 import { UNKNOWN_SERIAL } from '$lib/server/services/modules';
 import { closeMailer } from '$lib/server/mail';
 import {

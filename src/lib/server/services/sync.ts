@@ -19,8 +19,10 @@ import {
 } from '$lib/schemas/sync';
 import { z } from 'zod';
 import { createSite } from './sites';
-import { createSystem, placeModule } from './systems';
-import { loadSystemForCommissioning, submitCommissioning } from './commissioning';
+import { createSystem } from './systems';
+import { placeModule } from './system-modules';
+import { loadSystemForCommissioning } from './commissioning';
+import { submitCommissioning } from './commissioning-submit';
 import { savePhoto } from './attachments';
 
 type OpRow = typeof syncOperations.$inferSelect;
