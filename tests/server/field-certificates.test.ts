@@ -29,6 +29,7 @@ import { DEFAULT_RULE_SET } from '$lib/domain/commissioning';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
 import { makeModules } from '../factories/modules';
+import { SIGNATURE } from '../factories/signatures';
 
 let db: Db;
 let workshop: Actor;
@@ -89,11 +90,6 @@ async function twoStringSystem(parallel = 2) {
 	return { system, serials, dealer };
 }
 
-const SIG = JSON.stringify({
-	w: 300,
-	h: 120,
-	strokes: [Array.from({ length: 10 }, (_, i) => [20 + i * 25, 60 + (i % 2 ? 20 : -20)])]
-});
 const form = (over: Record<string, string> = {}) =>
 	commissioningSchema.parse({
 		'moduleOcvV.1.1': '51,65',
@@ -113,8 +109,8 @@ const form = (over: Record<string, string> = {}) =>
 		technicianName: 'Joss Carrow',
 		licenceNumber: 'EL-55120',
 		handoverName: 'Odile Prewitt',
-		technicianSignature: SIG,
-		ownerSignature: SIG,
+		technicianSignature: SIGNATURE,
+		ownerSignature: SIGNATURE,
 		cautionsAcknowledged: 'yes',
 		...over
 	});

@@ -5,7 +5,7 @@
  */
 import { and, asc, eq, inArray } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
-import { writeTx } from '$lib/server/db';
+import { writeTx, type TxHook } from '$lib/server/db';
 import { attachments, commissionings, modules, systems } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError } from '$lib/server/errors';
@@ -56,7 +56,9 @@ export async function submitCommissioning(
 	actor: Actor,
 	systemId: number,
 	input: CommissioningInput,
-	now = new Date()
+	now = new Date(),
+	/** Run inside this use case's own write transaction (the sync endpoint records its operation so). */
+	hook?: TxHook
 ): Promise<SubmitResult> {
 	if (actor.userId === null)
 		throw new InvalidInputError('A commissioning is signed by a signed-in technician.');
@@ -128,117 +130,121 @@ export async function submitCommissioning(
 		ratedAh: model.ratedAh
 	};
 
-	const saved = await writeTx(db, async (tx) => {
-		// A second phone submitting at the same moment finds the system already commissioned here.
-		const [current] = await tx
-			.select({ status: systems.status })
-			.from(systems)
-			.where(eq(systems.id, systemId));
-		if (current?.status === 'commissioned')
-			throw new ConflictError(
-				`${label} has just been commissioned by someone else; it cannot be commissioned again.`
-			);
-		const certificateNo = passed
-			? await nextCertificateNo(tx, Number(commissionedOn.slice(0, 4)))
-			: null;
-		const content = {
-			systemId,
-			certificateNo,
-			overall: result.overall,
-			technicianName: input.technicianName,
-			licenceNumber: input.licenceNumber,
-			// The serial at each position is kept with the voltages measured there, and what the
-			// certificate prints about the site and companies is fixed as it was on the day.
-			measurements: JSON.stringify({ ...measurements, ...snapshot }),
-			items: JSON.stringify(result.items),
-			handoverName: input.handoverName ?? null,
-			commissionedOn,
-			ruleSetId: ruleSet.id,
-			ruleSetVersion: ruleSet.version,
-			technicianSignature: input.technicianSignature
-				? JSON.stringify(input.technicianSignature)
-				: null,
-			ownerSignature: input.ownerSignature ? JSON.stringify(input.ownerSignature) : null
-		};
-		const [row] = await tx
-			.insert(commissionings)
-			.values({
-				...content,
-				technicianUserId: actor.userId!,
-				contentHash: certificateNo ? sha256Hex(canonicalContent(content)) : null,
-				createdAt: now
-			})
-			.returning({ id: commissionings.id });
-		const failed = result.items
-			.filter((i) => i.status !== 'pass')
-			.map((i) => ({ key: i.key, status: i.status }));
-		await recordAudit(tx, actor, {
-			action: `commissioning.${result.overall}`,
-			entity: 'system',
-			entityId: systemId,
-			after: {
-				commissioningId: row.id,
+	const saved = await writeTx(
+		db,
+		async (tx) => {
+			// A second phone submitting at the same moment finds the system already commissioned here.
+			const [current] = await tx
+				.select({ status: systems.status })
+				.from(systems)
+				.where(eq(systems.id, systemId));
+			if (current?.status === 'commissioned')
+				throw new ConflictError(
+					`${label} has just been commissioned by someone else; it cannot be commissioned again.`
+				);
+			const certificateNo = passed
+				? await nextCertificateNo(tx, Number(commissionedOn.slice(0, 4)))
+				: null;
+			const content = {
+				systemId,
 				certificateNo,
 				overall: result.overall,
-				notPassed: failed,
-				ruleSet: { id: ruleSet.id, market: ruleSet.market, version: ruleSet.version }
-			},
-			at: now
-		});
-		if (!passed) return { id: row.id, certificateNo };
-
-		await tx.update(systems).set({ status: 'commissioned' }).where(eq(systems.id, systemId));
-		const ids = placed.map((s) => s.module.id);
-		const updated = await tx
-			.update(modules)
-			.set({
-				state: endOf('commission'),
-				commissionedAt: now,
-				warrantyStartsOn: commissionedOn,
-				warrantyEndsOn,
-				warrantyTerms: JSON.stringify(terms),
-				updatedAt: now
-			})
-			.where(and(inArray(modules.id, ids), inArray(modules.state, statesFrom('commission'))))
-			.returning({ id: modules.id });
-		if (updated.length !== ids.length)
-			throw new ConflictError(
-				'A module of this system changed state while it was being commissioned. Reload the page and submit again.'
-			);
-		for (const s of placed) {
-			await recordEvent(tx, actor, {
-				moduleId: s.module.id,
-				kind: 'commissioned',
-				summary: `Commissioned in ${label}, string ${s.stringNo} position ${s.position} (certificate ${certificateNo}); warranty ${commissionedOn} to ${warrantyEndsOn}`,
-				detail: {
-					certificateNo,
-					commissioningId: row.id,
-					systemId,
-					stringNo: s.stringNo,
-					position: s.position,
-					warrantyStartsOn: commissionedOn,
-					warrantyEndsOn,
-					terms
-				},
-				at: now
-			});
+				technicianName: input.technicianName,
+				licenceNumber: input.licenceNumber,
+				// The serial at each position is kept with the voltages measured there, and what the
+				// certificate prints about the site and companies is fixed as it was on the day.
+				measurements: JSON.stringify({ ...measurements, ...snapshot }),
+				items: JSON.stringify(result.items),
+				handoverName: input.handoverName ?? null,
+				commissionedOn,
+				ruleSetId: ruleSet.id,
+				ruleSetVersion: ruleSet.version,
+				technicianSignature: input.technicianSignature
+					? JSON.stringify(input.technicianSignature)
+					: null,
+				ownerSignature: input.ownerSignature ? JSON.stringify(input.ownerSignature) : null
+			};
+			const [row] = await tx
+				.insert(commissionings)
+				.values({
+					...content,
+					technicianUserId: actor.userId!,
+					contentHash: certificateNo ? sha256Hex(canonicalContent(content)) : null,
+					createdAt: now
+				})
+				.returning({ id: commissionings.id });
+			const failed = result.items
+				.filter((i) => i.status !== 'pass')
+				.map((i) => ({ key: i.key, status: i.status }));
 			await recordAudit(tx, actor, {
-				action: 'module.commission',
-				entity: 'module',
-				entityId: s.module.serial,
-				before: { state: 'installed' },
+				action: `commissioning.${result.overall}`,
+				entity: 'system',
+				entityId: systemId,
 				after: {
-					state: 'commissioned',
+					commissioningId: row.id,
 					certificateNo,
-					warrantyStartsOn: commissionedOn,
-					warrantyEndsOn,
-					warrantyTerms: terms
+					overall: result.overall,
+					notPassed: failed,
+					ruleSet: { id: ruleSet.id, market: ruleSet.market, version: ruleSet.version }
 				},
 				at: now
 			});
-		}
-		return { id: row.id, certificateNo };
-	});
+			if (!passed) return { id: row.id, certificateNo };
+
+			await tx.update(systems).set({ status: 'commissioned' }).where(eq(systems.id, systemId));
+			const ids = placed.map((s) => s.module.id);
+			const updated = await tx
+				.update(modules)
+				.set({
+					state: endOf('commission'),
+					commissionedAt: now,
+					warrantyStartsOn: commissionedOn,
+					warrantyEndsOn,
+					warrantyTerms: JSON.stringify(terms),
+					updatedAt: now
+				})
+				.where(and(inArray(modules.id, ids), inArray(modules.state, statesFrom('commission'))))
+				.returning({ id: modules.id });
+			if (updated.length !== ids.length)
+				throw new ConflictError(
+					'A module of this system changed state while it was being commissioned. Reload the page and submit again.'
+				);
+			for (const s of placed) {
+				await recordEvent(tx, actor, {
+					moduleId: s.module.id,
+					kind: 'commissioned',
+					summary: `Commissioned in ${label}, string ${s.stringNo} position ${s.position} (certificate ${certificateNo}); warranty ${commissionedOn} to ${warrantyEndsOn}`,
+					detail: {
+						certificateNo,
+						commissioningId: row.id,
+						systemId,
+						stringNo: s.stringNo,
+						position: s.position,
+						warrantyStartsOn: commissionedOn,
+						warrantyEndsOn,
+						terms
+					},
+					at: now
+				});
+				await recordAudit(tx, actor, {
+					action: 'module.commission',
+					entity: 'module',
+					entityId: s.module.serial,
+					before: { state: 'installed' },
+					after: {
+						state: 'commissioned',
+						certificateNo,
+						warrantyStartsOn: commissionedOn,
+						warrantyEndsOn,
+						warrantyTerms: terms
+					},
+					at: now
+				});
+			}
+			return { id: row.id, certificateNo };
+		},
+		hook
+	);
 
 	const base = {
 		id: saved.id,

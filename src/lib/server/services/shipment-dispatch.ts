@@ -31,7 +31,7 @@ export async function dispatchShipment(db: Db, actor: Actor, shipmentId: number,
 	assertStaff(actor);
 	const { s, dealer, items } = await writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
-		assertDraft(s);
+		await assertDraft(tx, s);
 		const [dealer] = await tx
 			.select()
 			.from(organisations)

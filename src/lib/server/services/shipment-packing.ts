@@ -44,7 +44,7 @@ export async function addToShipment(
 	const serial = await serialFromScan(db, actor, scanText, baseUrl);
 	return writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
-		assertDraft(s);
+		await assertDraft(tx, s);
 		const c = (await candidates(tx, s.id, [serial])).get(serial)!;
 		if (c.onThis) {
 			const n = await itemCount(tx, s.id);
@@ -114,7 +114,7 @@ export async function addRangeToShipment(
 
 	return writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
-		assertDraft(s);
+		await assertDraft(tx, s);
 		const found = await candidates(tx, s.id, serials);
 		const added: Candidate[] = [];
 		const already: string[] = [];
@@ -166,7 +166,7 @@ export async function removeFromShipment(
 		);
 	return writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
-		assertDraft(s);
+		await assertDraft(tx, s);
 		const [mod] = await tx
 			.select({ id: modules.id })
 			.from(modules)

@@ -17,13 +17,15 @@ import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { ConflictError, ForbiddenError, NotFoundError } from '$lib/server/errors';
 import { deriveFigures } from '$lib/domain/model';
 import { calendarDay } from '$lib/domain/calendar';
+import { assemblerCalendar, businessDay } from './calendar';
 
 export type Conn = Db | Tx;
 export type Shipment = typeof shipments.$inferSelect;
 
-/** A date for a refusal message, on the given calendar (the assembler's where the caller knows it). */
-export const day = (d: Date | null, timeZone = 'UTC') =>
-	d ? calendarDay(d, timeZone) : 'an earlier date';
+/** The day of an instant on the assembler's calendar, for a refusal message. */
+async function dayOf(conn: Conn, d: Date | null): Promise<string> {
+	return d ? businessDay(conn, d) : 'an earlier date';
+}
 export const plural = (n: number, one: string, many = `${one}s`) => `${n} ${n === 1 ? one : many}`;
 
 /** Shipments are the assembler's business: a dealer's people never reach them. */
@@ -39,10 +41,10 @@ export async function loadShipment(conn: Conn, id: number): Promise<Shipment> {
 }
 
 /** Once a shipment has left, its record is history: returns are recorded on each module. */
-export function assertDraft(s: Shipment) {
+export async function assertDraft(conn: Conn, s: Shipment): Promise<void> {
 	if (s.status !== 'draft')
 		throw new ConflictError(
-			`${s.reference} was dispatched on ${day(s.dispatchedAt)}; a return is recorded on the module instead.`
+			`${s.reference} was dispatched on ${await dayOf(conn, s.dispatchedAt)}; a return is recorded on the module instead.`
 		);
 }
 
@@ -66,6 +68,8 @@ export interface Candidate {
 	onThis: boolean;
 	otherDraft: string | null;
 	shippedOn: string | null;
+	/** The day it was shipped, on the assembler's calendar. */
+	shippedDay: string | null;
 }
 
 /** Why a module cannot go on a shipment, in words with its current state; null when it can. */
@@ -80,7 +84,7 @@ export function refusal(c: Candidate): string | null {
 		case 'test_failed':
 			return `${c.serial} failed its factory test; ${ONLY_PASSED}`;
 		case 'shipped':
-			return `${c.serial} was shipped to ${c.dealerName ?? 'a dealer'} on ${day(c.shippedAt)}${c.shippedOn ? ` (${c.shippedOn})` : ''}`;
+			return `${c.serial} was shipped to ${c.dealerName ?? 'a dealer'} on ${c.shippedDay ?? 'an earlier date'}${c.shippedOn ? ` (${c.shippedOn})` : ''}`;
 		default:
 			return `${c.serial} ${AFTER_SHIPPING[c.state] ?? `is ${c.state}`}${c.dealerName ? ` (${c.dealerName})` : ''}; ${ONLY_PASSED}`;
 	}
@@ -124,6 +128,7 @@ export async function candidates(
 				)
 				.orderBy(desc(shipments.dispatchedAt))
 		: [];
+	const { timeZone } = await assemblerCalendar(conn);
 	return new Map(
 		rows.map((r) => {
 			const mine = links.filter((l) => l.moduleId === r.id);
@@ -135,7 +140,8 @@ export async function candidates(
 					otherDraft:
 						mine.find((l) => l.status === 'draft' && l.shipmentId !== shipmentId)?.reference ??
 						null,
-					shippedOn: mine.find((l) => l.status === 'dispatched')?.reference ?? null
+					shippedOn: mine.find((l) => l.status === 'dispatched')?.reference ?? null,
+					shippedDay: r.shippedAt ? calendarDay(r.shippedAt, timeZone) : null
 				}
 			];
 		})

@@ -74,7 +74,7 @@ export async function updateShipmentNote(
 	assertStaff(actor);
 	return writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
-		assertDraft(s);
+		await assertDraft(tx, s);
 		const value = note?.trim() || null;
 		await tx.update(shipments).set({ note: value }).where(eq(shipments.id, s.id));
 		await recordAudit(tx, actor, {
@@ -99,7 +99,7 @@ export async function deleteDraftShipment(
 	assertStaff(actor);
 	return writeTx(db, async (tx) => {
 		const s = await loadShipment(tx, shipmentId);
-		assertDraft(s);
+		await assertDraft(tx, s);
 		const items = await tx
 			.delete(shipmentItems)
 			.where(eq(shipmentItems.shipmentId, s.id))

@@ -4,7 +4,7 @@
  */
 import { and, eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { writeTx } from '$lib/server/db';
+import { writeTx, type TxHook } from '$lib/server/db';
 import { modules, sites, systems, systemSlots } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { checkRule, ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
@@ -106,7 +106,9 @@ export async function placeModule(
 	slot: SlotRef | null,
 	scanText: string,
 	baseUrl?: string,
-	now = new Date()
+	now = new Date(),
+	/** Run inside this use case's own write transaction (the sync endpoint records its operation so). */
+	hook?: TxHook
 ) {
 	assertMayChangeSites(actor);
 	const { system, site } = await findSystem(db, actor, systemId);
@@ -125,60 +127,64 @@ export async function placeModule(
 	const mod = await findModule(db, actor, await serialFromScan(db, actor, scanText, baseUrl));
 	const model = await modelById(db, mod.modelId);
 
-	return writeTx(db, async (tx) => {
-		// Checked inside the write transaction, so two phones scanning at once cannot both win.
-		const [current] = await tx.select().from(systems).where(eq(systems.id, system.id));
-		assertOpen(current);
-		const [fresh] = await tx.select().from(modules).where(eq(modules.id, mod.id));
-		const reason = await whyNot(tx, fresh, model, system, site);
-		if (reason) throw new ConflictError(reason);
-		const placed = await placedIn(tx, system.id);
-		const target = slot ?? nextEmptySlot(system.series, system.parallel, placed);
-		if (!target)
-			throw new ConflictError(
-				`Every slot of ${system.name} is filled (${placed.length} of ${system.series * system.parallel}).`
+	return writeTx(
+		db,
+		async (tx) => {
+			// Checked inside the write transaction, so two phones scanning at once cannot both win.
+			const [current] = await tx.select().from(systems).where(eq(systems.id, system.id));
+			assertOpen(current);
+			const [fresh] = await tx.select().from(modules).where(eq(modules.id, mod.id));
+			const reason = await whyNot(tx, fresh, model, system, site);
+			if (reason) throw new ConflictError(reason);
+			const placed = await placedIn(tx, system.id);
+			const target = slot ?? nextEmptySlot(system.series, system.parallel, placed);
+			if (!target)
+				throw new ConflictError(
+					`Every slot of ${system.name} is filled (${placed.length} of ${system.series * system.parallel}).`
+				);
+			const occupant = placed.find(
+				(p) => p.stringNo === target.stringNo && p.position === target.position
 			);
-		const occupant = placed.find(
-			(p) => p.stringNo === target.stringNo && p.position === target.position
-		);
-		if (occupant)
-			throw new ConflictError(
-				`String ${target.stringNo}, position ${target.position} already holds ${occupant.serial}. Take it out first or choose an empty slot.`
-			);
+			if (occupant)
+				throw new ConflictError(
+					`String ${target.stringNo}, position ${target.position} already holds ${occupant.serial}. Take it out first or choose an empty slot.`
+				);
 
-		await tx
-			.update(modules)
-			.set({ state: endOf('install'), systemId: system.id, updatedAt: now })
-			.where(eq(modules.id, mod.id));
-		await tx.insert(systemSlots).values({
-			systemId: system.id,
-			stringNo: target.stringNo,
-			position: target.position,
-			moduleId: mod.id
-		});
-		const summary = `Installed in ${system.name} at ${site.name}, string ${target.stringNo} position ${target.position}`;
-		await recordEvent(tx, actor, {
-			moduleId: mod.id,
-			kind: 'installed',
-			summary,
-			detail: { systemId: system.id, siteId: site.id, ...target },
-			at: now
-		});
-		await recordAudit(tx, actor, {
-			action: 'module.install',
-			entity: 'module',
-			entityId: mod.serial,
-			before: { state: fresh.state, systemId: null },
-			after: { state: 'installed', systemId: system.id, ...target },
-			at: now
-		});
-		return {
-			serial: mod.serial,
-			...target,
-			filled: placed.length + 1,
-			total: system.series * system.parallel
-		};
-	});
+			await tx
+				.update(modules)
+				.set({ state: endOf('install'), systemId: system.id, updatedAt: now })
+				.where(eq(modules.id, mod.id));
+			await tx.insert(systemSlots).values({
+				systemId: system.id,
+				stringNo: target.stringNo,
+				position: target.position,
+				moduleId: mod.id
+			});
+			const summary = `Installed in ${system.name} at ${site.name}, string ${target.stringNo} position ${target.position}`;
+			await recordEvent(tx, actor, {
+				moduleId: mod.id,
+				kind: 'installed',
+				summary,
+				detail: { systemId: system.id, siteId: site.id, ...target },
+				at: now
+			});
+			await recordAudit(tx, actor, {
+				action: 'module.install',
+				entity: 'module',
+				entityId: mod.serial,
+				before: { state: fresh.state, systemId: null },
+				after: { state: 'installed', systemId: system.id, ...target },
+				at: now
+			});
+			return {
+				serial: mod.serial,
+				...target,
+				filled: placed.length + 1,
+				total: system.series * system.parallel
+			};
+		},
+		hook
+	);
 }
 
 /**

@@ -4,7 +4,7 @@
  */
 import { and, asc, eq, isNull } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
-import { writeTx } from '$lib/server/db';
+import { writeTx, type TxHook } from '$lib/server/db';
 import { moduleModels, modules, sites, systems, systemSlots } from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { InvalidInputError, NotFoundError } from '$lib/server/errors';
@@ -102,7 +102,9 @@ export async function createSystem(
 	actor: Actor,
 	siteId: number,
 	input: SystemInput,
-	now = new Date()
+	now = new Date(),
+	/** Run inside this use case's own write transaction (the sync endpoint records its operation so). */
+	hook?: TxHook
 ): Promise<{ id: number; warnings: string[] }> {
 	assertMayChangeSites(actor);
 	const site = await findSite(db, actor, siteId);
@@ -127,25 +129,29 @@ export async function createSystem(
 		);
 	}
 	const { modelCode: _code, ...fields } = input;
-	return writeTx(db, async (tx) => {
-		const [row] = await tx
-			.insert(systems)
-			.values({ ...fields, siteId: site.id, modelId: model.id, createdAt: now })
-			.returning({ id: systems.id });
-		await recordAudit(tx, actor, {
-			action: 'system.create',
-			entity: 'system',
-			entityId: row.id,
-			after: {
-				...input,
-				siteId: site.id,
-				stringVoltage: result.stringVoltage,
-				warnings: result.problems
-			},
-			at: now
-		});
-		return { id: row.id, warnings: result.problems };
-	});
+	return writeTx(
+		db,
+		async (tx) => {
+			const [row] = await tx
+				.insert(systems)
+				.values({ ...fields, siteId: site.id, modelId: model.id, createdAt: now })
+				.returning({ id: systems.id });
+			await recordAudit(tx, actor, {
+				action: 'system.create',
+				entity: 'system',
+				entityId: row.id,
+				after: {
+					...input,
+					siteId: site.id,
+					stringVoltage: result.stringVoltage,
+					warnings: result.problems
+				},
+				at: now
+			});
+			return { id: row.id, warnings: result.problems };
+		},
+		hook
+	);
 }
 
 export async function placedIn(conn: Conn, systemId: number) {
