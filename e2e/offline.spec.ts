@@ -99,13 +99,11 @@ test('a technician with no signal: site taken offline, system, modules, checklis
 	});
 	for (const [i, caption] of ['Rack', 'Tester reading'].entries()) {
 		await page.getByLabel('Caption (optional)').fill(caption);
-		await page
-			.locator('input[name="photo"]')
-			.setInputFiles({
-				name: `photo-${i}.png`,
-				mimeType: 'image/png',
-				buffer: plainPng(90 + i * 80)
-			});
+		await page.locator('input[name="photo"]').setInputFiles({
+			name: `photo-${i}.png`,
+			mimeType: 'image/png',
+			buffer: plainPng(90 + i * 80)
+		});
 		await expect(page.locator('img[src^="/api/attachments/"]')).toHaveCount(i + 1);
 		await expect(badge).toHaveText(new RegExp(`^\\s*${4 + i} changes waiting\\s*$`));
 	}

@@ -24,7 +24,7 @@ export function offlinePrecache() {
 		name: 'packledger-offline-precache',
 		apply: 'build',
 		generateBundle(_options, bundle) {
-			/** @type {import('rollup').OutputChunk[]} */
+			/** @type {import('rolldown').OutputChunk[]} */
 			const chunks = [];
 			for (const o of Object.values(bundle)) if (o.type === 'chunk') chunks.push(o);
 			const entries = chunks.filter((c) => c.isEntry && ENTRY.test(c.fileName));
@@ -35,7 +35,7 @@ export function offlinePrecache() {
 			const keep = new Set();
 			/** Chunks whose dynamic imports have been followed too. */
 			const deepDone = new Set();
-			/** @param {import('rollup').OutputChunk | undefined} c @param {boolean} deep */
+			/** @param {import('rolldown').OutputChunk | undefined} c @param {boolean} deep */
 			const visit = (c, deep) => {
 				// app.js's dynamic imports are every page of the app: never follow those.
 				if (c && ENTRY.test(c.fileName)) deep = false;
