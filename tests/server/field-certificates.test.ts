@@ -186,7 +186,8 @@ describe('certificate: rule set version, content hash, verification', () => {
 		expect(data.installerName).toBe('Ridgeline Off-Grid Supply');
 		expect(data.assemblerName).toBe('Tidewater Cellworks');
 		expect(data.ruleSet).toMatchObject({ name: DEFAULT_RULE_SET.name, version: 1 });
-		expect(data.signatures.owner?.strokes.length).toBe(1);
+		// The fixture signs with two strokes: a zig-zag and an underline.
+		expect(data.signatures.owner?.strokes.length).toBe(2);
 		expect(data.readings.find((x) => x.what === 'Breaking capacity')?.value).toBe('25.0 kA');
 
 		const ok = await verifyCertificate(db, r.certificateNo!, row.contentHash);
