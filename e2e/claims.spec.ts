@@ -23,7 +23,7 @@ test('a dealer files a claim with an inverter log, the officer asks for evidence
 	await dealer.goto('/claims/new');
 	await expect(dealer.getByRole('main')).toContainText(/isolate/i);
 	await dealer.getByLabel(/Serials/).fill(serial);
-	await dealer.getByLabel('Fault, in a few words').fill('Capacity fade');
+	await dealer.locator('select[name="fault"]').selectOption('capacity_fade');
 	await dealer.getByLabel(/Inverter log/).setInputFiles({
 		name: 'cabin-inverter-log.csv',
 		mimeType: 'text/csv',

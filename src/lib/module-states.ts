@@ -8,7 +8,10 @@ export const STATE_LABELS: Record<string, string> = {
 	installed: 'Installed',
 	commissioned: 'In service',
 	claim_open: 'Under claim',
-	returned: 'Returned',
+	returned: 'On its way back',
+	received_back: 'Received back',
+	inspected: 'Inspected after return',
+	kept_for_analysis: 'Kept for analysis',
 	replaced: 'Replaced',
 	scrapped: 'Scrapped'
 };
@@ -23,6 +26,9 @@ export const STATE_TONES: Record<string, string> = {
 	commissioned: 'bg-ok-soft text-ok',
 	claim_open: 'bg-wait-soft text-wait',
 	returned: 'bg-bad-soft text-bad',
+	received_back: 'bg-bad-soft text-bad',
+	inspected: 'bg-wait-soft text-wait',
+	kept_for_analysis: 'bg-paper text-ink-soft border border-line',
 	replaced: 'bg-paper text-ink-soft border border-line',
 	scrapped: 'bg-paper text-ink-soft border border-line'
 };

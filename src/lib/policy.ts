@@ -74,6 +74,18 @@ export const POLICY = {
 	viewReliability: OFFICERS,
 	/** Record the inspection of a returned module. */
 	inspectReturn: OFFICERS,
+	/** Scan a returned module in (its condition on arrival) and record what became of it. */
+	handleReturn: ['workshop', 'warranty', 'admin'],
+	/** Record the rework of a failed or inspected module (back to built, to be retested). */
+	reworkModule: WORKSHOP,
+	/** Scrap a module held in the workshop, with the reason. */
+	scrapModule: WORKSHOP,
+	/** Correct a wrongly registered build, with the reason. */
+	correctBuild: WORKSHOP,
+	/** Open a service campaign over traced modules or a list of serials. */
+	openCampaign: FACTORY_READERS,
+	/** See service campaigns (a dealer sees its own modules only) and act on their modules. */
+	followCampaigns: ['admin', 'workshop', 'warranty', 'dealer'],
 	/** Models: rated data, test limits, warranty terms. */
 	manageModels: ADMIN,
 	/** Invite people and change their access. */

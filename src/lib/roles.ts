@@ -93,6 +93,13 @@ export const NAV: NavItem[] = [
 		blurb: 'Warranty claims: file one, follow the evidence, the assessment and the decision.'
 	},
 	{
+		href: '/campaigns',
+		group: 'warranty',
+		label: 'Campaigns',
+		capability: 'followCampaigns',
+		blurb: 'Service campaigns: affected modules followed per dealer to their remedy.'
+	},
+	{
 		href: '/fleet',
 		group: 'register',
 		label: 'Fleet',

@@ -50,8 +50,8 @@ export const CAUTIONS: readonly Caution[] = [
 /** Added where a module is removed, returned or packed. */
 export const DAMAGED_MODULE: Caution = {
 	id: 'damaged',
-	title: 'A damaged, swollen or hot module',
-	text: 'Keep clear, ventilate, and call the dealer before moving it; protect its terminals for transport.'
+	title: 'A failed, damaged, swollen or hot module',
+	text: 'Treat it as live and cover its terminals. A damaged, swollen, hot or leaking lithium module can vent flammable gas or ignite, even hours later: keep clear, ventilate, quarantine it away from anything that burns, do not open or charge it, and follow the local rules for storing and transporting damaged batteries.'
 };
 
 export const CODES_TAKE_PRECEDENCE = CAUTIONS.find((c) => c.id === 'codes')!.text;

@@ -4,6 +4,7 @@
  * a decision against the computed recommendation needs a written reason). The expected moves
  * are written out here by hand from that account, not read from the table under test.
  */
+import { assessFaultClaim, claimKindFor } from '../../src/lib/domain/claim-workflow';
 import { describe, expect, it } from 'vitest';
 import {
 	assertMayDecide,
@@ -34,7 +35,8 @@ describe('claim workflow', () => {
 
 	it('lets an officer make exactly these moves by hand', () => {
 		expect(CLAIM_MOVES).toEqual({
-			filed: ['in_review'],
+			// "Ask for evidence" is one step from a filed claim (issue 13, item 5).
+			filed: ['in_review', 'awaiting_evidence'],
 			in_review: ['awaiting_evidence'],
 			awaiting_evidence: ['in_review'],
 			covered: ['replacement_sent'],
@@ -60,7 +62,7 @@ describe('claim workflow', () => {
 
 	it('refuses a move the state does not allow, naming where it can go', () => {
 		expect(() => assertTransition('C-7', 'filed', 'closed')).toThrow(
-			'Claim C-7 is Filed and cannot move to Closed. From Filed it can go to Under review.'
+			'Claim C-7 is Filed and cannot move to Closed. From Filed it can go to Under review or Waiting for evidence.'
 		);
 		expect(() => assertTransition('C-7', 'closed', 'in_review')).toThrow(/It is closed\./);
 		expect(() => assertTransition('C-7', 'filed', 'in_review')).not.toThrow();
@@ -110,5 +112,55 @@ describe('claim workflow', () => {
 		expect(MIN_DECISION_REASON).toBe(20);
 		expect(decisionReasonProblem('cover', 'not_covered', `  ${r19}  `)).not.toBeNull();
 		expect(decisionReasonProblem('cover', 'not_covered', r20)).toBeNull();
+	});
+});
+
+describe('claims outside the cycle-life figures (common practice: damage on delivery is reported within days)', () => {
+	const base = {
+		kind: 'on-delivery' as const,
+		fault: 'damaged_in_transport' as const,
+		shippedOn: '2026-11-10',
+		claimedOn: '2026-11-24',
+		withinTerm: null,
+		photos: 2,
+		terminalVoltageV: null,
+		minVoltageV: 39.6
+	};
+	it('covers a photographed claim on delivery made within 14 days, at exactly 14 too', () => {
+		expect(assessFaultClaim(base).recommendation).toBe('cover');
+		expect(assessFaultClaim({ ...base, claimedOn: '2026-11-25' }).recommendation).toBe(
+			'need-evidence'
+		);
+	});
+	it('asks for photos, and for the terminal voltage of a module with no output', () => {
+		expect(assessFaultClaim({ ...base, photos: 0 }).needs).toEqual([
+			'photos of the module, its label and (on delivery) its packaging'
+		]);
+		const dead = { ...base, fault: 'no_output' as const };
+		expect(assessFaultClaim(dead).needs).toEqual([
+			'the terminal voltage, measured with the module isolated from the system'
+		]);
+		// 12 V at the terminals of a module whose minimum is 39.6 V: dead → cover.
+		expect(assessFaultClaim({ ...dead, terminalVoltageV: 12 }).recommendation).toBe('cover');
+		// 51 V is within range: look at the wiring first.
+		expect(assessFaultClaim({ ...dead, terminalVoltageV: 51 }).recommendation).toBe(
+			'need-evidence'
+		);
+	});
+	it('declines a claim in service past its term', () => {
+		expect(
+			assessFaultClaim({
+				...base,
+				kind: 'in-service',
+				fault: 'no_output',
+				withinTerm: false,
+				terminalVoltageV: 0
+			}).recommendation
+		).toBe('decline');
+	});
+	it('tells which kind of claim fits a module', () => {
+		expect(claimKindFor('commissioned')).toBe('in-service');
+		expect(claimKindFor('shipped')).toBe('on-delivery');
+		expect(claimKindFor('installed')).toBeNull();
 	});
 });

@@ -8,8 +8,12 @@ import { describe, expect, it } from 'vitest';
 import {
 	assertTransition,
 	endOf,
+	isInstallable,
 	isTransition,
 	mayBeClaimed,
+	mayBeClaimedOnDelivery,
+	mayBeReworked,
+	mayBeScrapped,
 	mayBeInstalled,
 	mayBeShipped,
 	mayBeTested,
@@ -45,7 +49,31 @@ const ALLOWED: [string, string, string][] = [
 	['claim_open', 'declineClaim', 'commissioned'],
 	['in_stock', 'fitAsReplacement', 'commissioned'],
 	['shipped', 'fitAsReplacement', 'commissioned'],
-	['claim_open', 'returnFailed', 'returned']
+	['claim_open', 'returnFailed', 'returned'],
+	// Claims on delivery: a module shipped to the dealer and not installed.
+	['shipped', 'claimOnDelivery', 'claim_open'],
+	['claim_open', 'declineDeliveryClaim', 'shipped'],
+	['in_stock', 'sendAsReplacement', 'shipped'],
+	// Returns: on its way back → received → inspected once → reworked, kept or scrapped.
+	['returned', 'receiveReturn', 'received_back'],
+	['received_back', 'inspectReturn', 'inspected'],
+	['inspected', 'keepForAnalysis', 'kept_for_analysis'],
+	// Rework sends a failed or inspected module back to built, to be retested.
+	['test_failed', 'rework', 'built'],
+	['inspected', 'rework', 'built'],
+	['kept_for_analysis', 'rework', 'built'],
+	// Scrapping only in the workshop, never from service, a dealer or a claim.
+	['built', 'scrap', 'scrapped'],
+	['test_failed', 'scrap', 'scrapped'],
+	['in_stock', 'scrap', 'scrapped'],
+	['inspected', 'scrap', 'scrapped'],
+	['kept_for_analysis', 'scrap', 'scrapped'],
+	// Correcting a wrongly registered build keeps the state (any of the workshop's three).
+	...(['built', 'test_failed', 'in_stock'] as const).flatMap((f) =>
+		(['built', 'test_failed', 'in_stock'] as const).map(
+			(t) => [f, 'correctBuild', t] as [string, string, string]
+		)
+	)
 ];
 
 describe('module lifecycle', () => {
@@ -89,11 +117,34 @@ describe('module lifecycle', () => {
 		expect(where(mayBeInstalled)).toEqual(['in_stock', 'shipped']);
 		expect(where(mayBeClaimed)).toEqual(['commissioned']);
 		expect(where(mayReplace)).toEqual(['in_stock', 'shipped']);
+		expect(where(mayBeClaimedOnDelivery)).toEqual(['shipped']);
+		expect(where(mayBeReworked)).toEqual(['test_failed', 'inspected', 'kept_for_analysis']);
+		expect(where(mayBeScrapped)).toEqual([
+			'built',
+			'test_failed',
+			'in_stock',
+			'inspected',
+			'kept_for_analysis'
+		]);
+		expect(where(isInstallable)).toEqual(['in_stock', 'shipped']);
 		expect(mayMove('no-such-state', 'build')).toBe(false);
 	});
 
+	it('never scraps a module in service, at a dealer, under claim or on its way back', () => {
+		for (const s of [
+			'shipped',
+			'installed',
+			'commissioned',
+			'claim_open',
+			'returned',
+			'received_back'
+		])
+			expect(() => assertTransition(s, 'scrap', 'scrapped')).toThrow(TransitionError);
+	});
+
 	it('has dead ends where the life ends', () => {
-		for (const s of ['returned', 'replaced', 'scrapped']) expect(movesFrom(s)).toEqual([]);
+		for (const s of ['replaced', 'scrapped']) expect(movesFrom(s)).toEqual([]);
+		expect(movesFrom('returned').map((m) => m.move)).toEqual(['receiveReturn']);
 		expect(movesFrom('installed').map((m) => m.move)).toEqual(['uninstall', 'commission']);
 	});
 

@@ -49,6 +49,12 @@ const EXPECTED: Record<string, string[]> = {
 	grantPassportAccess: [A],
 	replaceModule: [A, F, O],
 	inspectReturn: [A, O],
+	handleReturn: [A, W, O],
+	reworkModule: [A, W],
+	scrapModule: [A, W],
+	correctBuild: [A, W],
+	openCampaign: [A, W, O],
+	followCampaigns: [A, W, O, D],
 	manageModels: [A],
 	manageUsers: [A],
 	manageDealers: [A],
@@ -97,11 +103,12 @@ describe('navigation follows the policy', () => {
 	it('every area names a capability of the policy', () =>
 		expect(NAV.filter((n) => !isCapability(n.capability))).toEqual([]));
 
-	it('a dealer sees home, sites, claims, fleet and module lookup only', () =>
+	it('a dealer sees home, sites, claims, its campaigns, fleet and module lookup only', () =>
 		expect(navFor('dealer').map((n) => n.href)).toEqual([
 			'/',
 			'/sites',
 			'/claims',
+			'/campaigns',
 			'/fleet',
 			'/modules'
 		]));

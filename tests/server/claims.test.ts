@@ -467,7 +467,7 @@ describe('workflow', () => {
 			status: 403
 		});
 		await expect(moveClaim(db, warranty, id, { to: 'closed' }, NOW)).rejects.toThrow(
-			'is Filed and cannot move to Closed. From Filed it can go to Under review.'
+			'is Filed and cannot move to Closed. From Filed it can go to Under review or Waiting for evidence.'
 		);
 		await expect(decideClaim(db, warranty, id, { decision: 'covered' }, NOW)).rejects.toThrow(
 			/Move it to Under review first/

@@ -194,7 +194,7 @@ describe('scans, scope and the public record', () => {
 		expect(await getPublicRecord(db, serial, '2026-12-01')).toBe(first); // the same object: cached
 		// A write that bypasses withWriteLock (as a script or another tool might) still counts.
 		await db.$client.execute({
-			sql: "UPDATE modules SET warranty_starts_on = '2026-01-05', warranty_ends_on = '2036-01-05' WHERE serial = ?",
+			sql: "UPDATE modules SET state = 'commissioned', warranty_starts_on = '2026-01-05', warranty_ends_on = '2036-01-05' WHERE serial = ?",
 			args: [serial]
 		});
 		const after = await getPublicRecord(db, serial, '2026-12-01');

@@ -44,6 +44,7 @@ export const CLAIM_TRANSITIONS: readonly {
 	by: readonly ClaimTransitionKind[];
 }[] = [
 	{ from: 'filed', to: 'in_review', by: ['move'] },
+	{ from: 'filed', to: 'awaiting_evidence', by: ['move'] },
 	{ from: 'in_review', to: 'awaiting_evidence', by: ['move'] },
 	{ from: 'awaiting_evidence', to: 'in_review', by: ['move', 'automatic'] },
 	{ from: 'in_review', to: 'covered', by: ['decision'] },
@@ -165,4 +166,147 @@ export function decisionReasonProblem(
 	return rec === 'need-evidence'
 		? `The assessment asks for more evidence; say why you decide without it (at least ${MIN_DECISION_REASON} characters).`
 		: `The assessment recommends ${rec === 'cover' ? 'cover' : 'declining'}; say why you decide otherwise (at least ${MIN_DECISION_REASON} characters).`;
+}
+
+/** The kinds of claim: on a module in service, or on one damaged or dead on delivery. */
+export const CLAIM_KINDS = ['in-service', 'on-delivery'] as const;
+export type ClaimKind = (typeof CLAIM_KINDS)[number];
+
+export const CLAIM_KIND_LABELS: Record<ClaimKind, string> = {
+	'in-service': 'In service (commissioned system)',
+	'on-delivery': 'On delivery (shipped to you, not yet installed)'
+};
+
+/**
+ * The faults a claim may name, which kind of claim can file each, and whether the
+ * cycle-life assessment applies (it needs energy throughput or cycles). Our own list.
+ */
+export const CLAIM_FAULTS = {
+	capacity_fade: {
+		label: 'Capacity below what the warranty promises',
+		kinds: ['in-service'],
+		needsThroughput: true
+	},
+	no_output: {
+		label: 'No output at all (no voltage at the terminals)',
+		kinds: ['in-service', 'on-delivery'],
+		needsThroughput: false
+	},
+	runs_hot: {
+		label: 'Runs hot or warmer than the others',
+		kinds: ['in-service'],
+		needsThroughput: true
+	},
+	imbalance: {
+		label: 'Cell voltages drift apart',
+		kinds: ['in-service'],
+		needsThroughput: true
+	},
+	damaged_in_transport: {
+		label: 'Damaged in transport (case, terminals, packaging)',
+		kinds: ['on-delivery'],
+		needsThroughput: false
+	},
+	wrong_or_incomplete: {
+		label: 'Wrong model or parts missing',
+		kinds: ['on-delivery'],
+		needsThroughput: false
+	}
+} as const satisfies Record<
+	string,
+	{ label: string; kinds: readonly ClaimKind[]; needsThroughput: boolean }
+>;
+export type ClaimFault = keyof typeof CLAIM_FAULTS;
+export const CLAIM_FAULT_CODES = Object.keys(CLAIM_FAULTS) as ClaimFault[];
+
+/** The faults a kind of claim can file, in the list's order. */
+export function faultsFor(kind: ClaimKind): ClaimFault[] {
+	return CLAIM_FAULT_CODES.filter((f) =>
+		(CLAIM_FAULTS[f].kinds as readonly string[]).includes(kind)
+	);
+}
+
+/** Whether a fault's claim needs energy throughput or cycles (the cycle-life assessment). */
+export const needsThroughput = (fault: ClaimFault) => CLAIM_FAULTS[fault].needsThroughput;
+
+/**
+ * Which kind of claim fits a module in `state`, or null when none does. A commissioned module
+ * is claimed in service; one shipped to the dealer and not installed, on delivery.
+ */
+export function claimKindFor(state: string): ClaimKind | null {
+	if (state === 'commissioned') return 'in-service';
+	if (state === 'shipped') return 'on-delivery';
+	return null;
+}
+
+/** Days after shipment within which damage on delivery is expected to be reported (common practice). */
+export const DELIVERY_REPORT_DAYS = 14;
+
+/**
+ * What a claim outside the cycle-life assessment needs (on delivery, or a fault such as no
+ * output that throughput cannot explain): a recommendation with every reason. Photos are
+ * the evidence of damage; a dead module is shown dead by its terminal voltage measured with
+ * it isolated. The officer decides.
+ */
+export function assessFaultClaim(i: {
+	kind: ClaimKind;
+	fault: ClaimFault;
+	/** Calendar day of the shipment (on delivery) and of the claim, YYYY-MM-DD. */
+	shippedOn: string | null;
+	claimedOn: string;
+	withinTerm: boolean | null;
+	photos: number;
+	terminalVoltageV: number | null;
+	minVoltageV: number;
+}): { recommendation: Recommendation; reasons: string[]; needs: string[] } {
+	const reasons: string[] = [];
+	const needs: string[] = [];
+	const label = CLAIM_FAULTS[i.fault].label;
+	reasons.push(
+		`${i.kind === 'on-delivery' ? 'A claim on delivery' : 'A claim in service'} for “${label}”: the cycle-life figures do not apply, so no throughput is needed.`
+	);
+	if (i.kind === 'on-delivery') {
+		if (i.shippedOn) {
+			const days = Math.round((Date.parse(i.claimedOn) - Date.parse(i.shippedOn)) / 86_400_000);
+			if (days > DELIVERY_REPORT_DAYS) {
+				reasons.push(
+					`The claim came ${days} days after the shipment of ${i.shippedOn}, later than the ${DELIVERY_REPORT_DAYS} days in which damage on delivery is expected to be reported: weigh whether it happened in transport.`
+				);
+				needs.push('the delivery note and when the damage was found');
+			} else
+				reasons.push(
+					`The claim came ${days} ${days === 1 ? 'day' : 'days'} after the shipment of ${i.shippedOn}.`
+				);
+		}
+	} else if (i.withinTerm === false) {
+		reasons.push('The warranty term has ended.');
+	} else if (i.withinTerm === null) {
+		needs.push('the commissioning record (no warranty start is on record)');
+	}
+	if (i.photos < 1) needs.push('photos of the module, its label and (on delivery) its packaging');
+	else reasons.push(`${i.photos} ${i.photos === 1 ? 'photo is' : 'photos are'} attached.`);
+	if (i.fault === 'no_output') {
+		if (i.terminalVoltageV === null)
+			needs.push('the terminal voltage, measured with the module isolated from the system');
+		else if (i.terminalVoltageV < i.minVoltageV)
+			reasons.push(
+				`The terminal voltage of ${i.terminalVoltageV} V is below the module's ${i.minVoltageV} V minimum: the module is dead or deeply discharged.`
+			);
+		else
+			reasons.push(
+				`The terminal voltage of ${i.terminalVoltageV} V is within the module's range: check the system's wiring and protection before the module.`
+			);
+	}
+	if (needs.length) reasons.push(`To decide, the assessment needs: ${needs.join('; ')}.`);
+	const recommendation: Recommendation =
+		i.kind === 'in-service' && i.withinTerm === false
+			? 'decline'
+			: needs.length
+				? 'need-evidence'
+				: i.fault === 'no_output' &&
+					  i.terminalVoltageV !== null &&
+					  i.terminalVoltageV >= i.minVoltageV
+					? 'need-evidence'
+					: 'cover';
+	return { recommendation, reasons, needs };
 }

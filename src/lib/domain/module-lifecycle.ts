@@ -20,6 +20,9 @@ export const MODULE_STATES = [
 	'commissioned',
 	'claim_open',
 	'returned',
+	'received_back',
+	'inspected',
+	'kept_for_analysis',
 	'replaced',
 	'scrapped'
 ] as const;
@@ -60,8 +63,45 @@ export const MODULE_MOVES = {
 		to: ['commissioned'],
 		words: 'replacement'
 	},
-	/** The failed module of a covered claim comes out and travels back. */
-	returnFailed: { from: ['claim_open'], to: ['returned'], words: 'return' }
+	/** The failed module of a covered claim comes out and travels back ("on its way back"). */
+	returnFailed: { from: ['claim_open'], to: ['returned'], words: 'return' },
+	/** A dealer claims damage or failure on delivery for a module shipped to it, not yet installed. */
+	claimOnDelivery: { from: ['shipped'], to: ['claim_open'], words: 'claim on delivery' },
+	/** A claim on delivery decided not covered: the module is the dealer's stock again. */
+	declineDeliveryClaim: { from: ['claim_open'], to: ['shipped'], words: 'claim decision' },
+	/** A replacement for a claim on delivery goes to the dealer from our stock. */
+	sendAsReplacement: { from: ['in_stock'], to: ['shipped'], words: 'replacement' },
+	/** The workshop scans the returned module in, with its condition on arrival. */
+	receiveReturn: { from: ['returned'], to: ['received_back'], words: 'receipt of a return' },
+	/** The received module is inspected once: findings and cause. */
+	inspectReturn: { from: ['received_back'], to: ['inspected'], words: 'return inspection' },
+	/** An inspected module is kept for failure analysis. */
+	keepForAnalysis: {
+		from: ['inspected'],
+		to: ['kept_for_analysis'],
+		words: 'keeping for analysis'
+	},
+	/** Work on a failed or inspected module; it goes back to built and must pass a retest. */
+	rework: {
+		from: ['test_failed', 'inspected', 'kept_for_analysis'],
+		to: ['built'],
+		words: 'rework'
+	},
+	/**
+	 * Scrapped: only in the workshop (never a module in service, at a dealer or under claim),
+	 * so nobody scraps a module someone still relies on.
+	 */
+	scrap: {
+		from: ['built', 'test_failed', 'in_stock', 'inspected', 'kept_for_analysis'],
+		to: ['scrapped'],
+		words: 'scrapping'
+	},
+	/** A build registered wrongly is corrected (cells, checks, notes); the state stays. */
+	correctBuild: {
+		from: ['built', 'test_failed', 'in_stock'],
+		to: ['built', 'test_failed', 'in_stock'],
+		words: 'build correction'
+	}
 } as const satisfies Record<string, Move>;
 export type ModuleMove = keyof typeof MODULE_MOVES;
 
@@ -126,6 +166,18 @@ export const mayBeInstalled = (state: string) => mayMove(state, 'install');
 export const mayBeClaimed = (state: string) => mayMove(state, 'openClaim');
 /** May stand in for a failed module of a covered claim. */
 export const mayReplace = (state: string) => mayMove(state, 'fitAsReplacement');
+/** Shipped to a dealer and not installed: a claim on delivery may name it. */
+export const mayBeClaimedOnDelivery = (state: string) => mayMove(state, 'claimOnDelivery');
+/** In the workshop after a failure: may be reworked. */
+export const mayBeReworked = (state: string) => mayMove(state, 'rework');
+/** In the workshop and not in anyone's service: may be scrapped. */
+export const mayBeScrapped = (state: string) => mayMove(state, 'scrap');
+
+/**
+ * Whether a module in this state may go into a system. Only a module that passed its factory
+ * test and is not held back by a return, a claim or a scrapping is installable.
+ */
+export const isInstallable = (state: string) => mayBeInstalled(state);
 
 /**
  * A list of states for a raw SQL `IN (…)`: the states are this file's constants, checked to be

@@ -31,15 +31,24 @@ export const PASSPORT_STATUS_LABELS: Record<PassportStatus, string> = {
 };
 
 /**
- * The status of a module from what the register knows. Today the register records no
- * second life, so a module is original until it is scrapped (waste). `lifecycleStatus`
- * lets a recorded status (repurposed, re-used, remanufactured) take precedence once the
- * lifecycle stores one.
+ * The status of a module from what the register knows. A scrapped module is waste, whatever
+ * it was before (Regulation (EU) 2023/1542, Art. 3 definitions, from memory: a battery its holder discards is
+ * waste). Otherwise a recorded status (remanufactured after the rework of a module that had
+ * been in service, repurposed, re-used) takes precedence; a module is original until then.
  */
 export function passportStatusOf(module: {
 	state: string;
 	lifecycleStatus?: PassportStatus | null;
 }): PassportStatus {
-	if (module.lifecycleStatus) return module.lifecycleStatus;
-	return module.state === 'scrapped' ? 'waste' : 'original';
+	if (module.state === 'scrapped') return 'waste';
+	return module.lifecycleStatus ?? 'original';
+}
+
+/**
+ * The status a rework leaves: a module that was placed in service and comes back through
+ * rework is remanufactured (the same Art. 3, from memory: an operation restoring a used battery); a module reworked before
+ * it ever left the factory is still original.
+ */
+export function statusAfterRework(wasInService: boolean, current: PassportStatus | null) {
+	return wasInService ? 'remanufactured' : (current ?? 'original');
 }

@@ -8,6 +8,7 @@
  */
 import { deriveFigures, type ModelSpec, type WarrantyTerms } from './model';
 import { passportStatusOf, type PassportStatus } from './module-status';
+import { conditionOf, type ConditionInput } from './module-condition';
 
 export type { PassportStatus };
 
@@ -34,9 +35,19 @@ export interface PublicRecord {
 		commercialWarrantyYears: number;
 	};
 	buildMonth: string | null;
+	/** May the module be installed; the sentence says why first, "Do not install" where it applies. */
+	installable: boolean;
+	condition: { warning: 'Do not install' | null; sentence: string };
+	/** An open service campaign on the module. */
+	campaign: { reference: string; title: string; remedy: string } | null;
+	/** The module this one replaced under a claim (it carries that module's remaining warranty). */
+	replaces: string | null;
+	/** The module that replaced this one. */
+	replacedBy: string | null;
 	status: PassportStatus;
 	warranty: {
-		state: 'not-started' | 'active' | 'ended';
+		/** 'moved': a returned or replaced module's remaining warranty went to its replacement; 'none': no warranty applies. */
+		state: 'not-started' | 'active' | 'ended' | 'moved' | 'none';
 		startsOn: string | null;
 		endsOn: string | null;
 		note: string;
@@ -53,7 +64,26 @@ export interface PublicRecordInput {
 	assembler: { name: string; email: string | null };
 	dealer: { name: string; email: string | null } | null;
 	today: string;
+	/** What the condition needs beyond the state; all optional for callers that know none of it. */
+	lastTest?: ConditionInput['lastTest'];
+	reworked?: boolean;
+	campaign?: ConditionInput['campaign'];
+	replacedBy?: string | null;
+	replaces?: string | null;
+	scrapped?: ConditionInput['scrapped'];
+	lifecycleStatus?: PassportStatus | null;
 }
+
+/** States in which the module's remaining warranty has gone to its replacement. */
+const WARRANTY_MOVED = new Set([
+	'returned',
+	'received_back',
+	'inspected',
+	'kept_for_analysis',
+	'replaced'
+]);
+/** States in which no warranty applies to the module any more, or not yet. */
+const NO_WARRANTY = new Set(['scrapped', 'test_failed', 'built', 'allocated']);
 
 interface WarrantyTermsColumns {
 	warrantyYears: number;
@@ -64,24 +94,53 @@ interface WarrantyTermsColumns {
 
 export function toPublicRecord(i: PublicRecordInput): PublicRecord {
 	const f = deriveFigures(i.model);
-	const warranty: PublicRecord['warranty'] = !i.warranty
+	const condition = conditionOf({
+		state: i.state,
+		lastTest: i.lastTest ?? null,
+		reworked: i.reworked ?? false,
+		campaign: i.campaign ?? null,
+		replacedBy: i.replacedBy ?? null,
+		scrapped: i.scrapped ?? null
+	});
+	const warranty: PublicRecord['warranty'] = WARRANTY_MOVED.has(i.state)
 		? {
-				state: 'not-started',
-				startsOn: null,
-				endsOn: null,
-				note: 'The warranty starts when the system is commissioned.'
+				state: 'moved',
+				startsOn: i.warranty?.startsOn ?? null,
+				endsOn: i.warranty?.endsOn ?? null,
+				note: i.replacedBy
+					? `No warranty: its remaining warranty moved to its replacement ${i.replacedBy}.`
+					: 'No warranty: this module was taken out of service under a claim.'
 			}
-		: i.today <= i.warranty.endsOn
+		: NO_WARRANTY.has(i.state)
 			? {
-					state: 'active',
-					...i.warranty,
-					note: `Under warranty until ${i.warranty.endsOn}, subject to its terms.`
+					state: 'none',
+					startsOn: null,
+					endsOn: null,
+					note:
+						i.state === 'scrapped'
+							? 'No warranty: this module was scrapped.'
+							: 'No warranty applies while the module is held at the factory; it would start when a system with a passed module is commissioned.'
 				}
-			: {
-					state: 'ended',
-					...i.warranty,
-					note: `The warranty period ended on ${i.warranty.endsOn}.`
-				};
+			: !i.warranty
+				? {
+						state: 'not-started',
+						startsOn: null,
+						endsOn: null,
+						note: 'The warranty starts when the system is commissioned.'
+					}
+				: i.today <= i.warranty.endsOn
+					? {
+							state: 'active',
+							...i.warranty,
+							note: i.replaces
+								? `Under warranty until ${i.warranty.endsOn}, subject to its terms: the remaining warranty of ${i.replaces}, which this module replaced.`
+								: `Under warranty until ${i.warranty.endsOn}, subject to its terms.`
+						}
+					: {
+							state: 'ended',
+							...i.warranty,
+							note: `The warranty period ended on ${i.warranty.endsOn}.`
+						};
 	return {
 		identifier: i.serial,
 		manufacturer: { name: i.assembler.name, contact: i.assembler.email },
@@ -112,7 +171,12 @@ export function toPublicRecord(i: PublicRecordInput): PublicRecord {
 			commercialWarrantyYears: i.model.warrantyYears
 		},
 		buildMonth: i.builtAt ? i.builtAt.toISOString().slice(0, 7) : null,
-		status: passportStatusOf({ state: i.state }),
+		installable: condition.installable,
+		condition: { warning: condition.warning, sentence: condition.sentence },
+		campaign: i.campaign ?? null,
+		replaces: i.replaces ?? null,
+		replacedBy: i.replacedBy ?? null,
+		status: passportStatusOf({ state: i.state, lifecycleStatus: i.lifecycleStatus }),
 		warranty,
 		contact: i.dealer
 			? { ...i.dealer, kind: 'dealer' }

@@ -4,11 +4,8 @@
  * pages, their actions and the API routes.
  */
 import { z } from 'zod';
-import {
-	claimEvidenceFields,
-	claimEvidenceSchema,
-	temperatureProfileSchema
-} from './warranty-assess';
+import { claimEvidenceFields, temperatureProfileSchema } from './warranty-assess';
+import { isCalendarDate } from '$lib/domain/calendar';
 import { blankToUndefined, optionalText, queryInt } from './fields';
 import {
 	AWAITING_DECISION,
@@ -18,6 +15,9 @@ import {
 	CLAIM_STATES,
 	MIN_DECISION_REASON,
 	TARGET_RESPONSE_DAYS,
+	CLAIM_FAULT_CODES,
+	CLAIM_KINDS,
+	type ClaimFault,
 	type ClaimState
 } from '$lib/domain/claim-workflow';
 import { RETURN_CAUSES, type ReturnCause } from '$lib/claim-states';
@@ -77,21 +77,44 @@ const jsonField = <T extends z.ZodType>(inner: T) =>
 		}
 	}, inner.optional());
 
-/** The filing form: serials, fault, the evidence fields and where the throughput comes from. */
-export const fileClaimFormSchema = z
-	.object({
-		serials: serialListSchema,
-		fault: z
-			.string({ error: 'Name the fault.' })
-			.trim()
-			.min(3, { error: 'Name the fault in a few words (at least 3 characters).' })
-			.max(200, {
-				error: 'Keep the fault name under 200 characters; the description takes the detail.'
-			}),
-		throughputScope: z.preprocess(blankToUndefined, throughputScopeSchema.default('system')),
-		log: jsonField(logSummarySchema)
-	})
-	.and(claimEvidenceSchema);
+export const claimKindSchema = z.enum(CLAIM_KINDS, {
+	error:
+		'Say the kind of claim: "in-service" (a commissioned system) or "on-delivery" (shipped to you, not yet installed).'
+});
+
+export const claimFaultSchema = z.enum(CLAIM_FAULT_CODES as [ClaimFault, ...ClaimFault[]], {
+	error: `Choose the fault from the list: ${CLAIM_FAULT_CODES.join(', ')}.`
+});
+
+/** The calendar day the fault was first seen. The service checks it is not after today. */
+export const observedOnSchema = z
+	.string({ error: 'Give the day the fault was first seen (YYYY-MM-DD).' })
+	.max(10, { error: 'Write the day as YYYY-MM-DD.' })
+	.refine(isCalendarDate, { error: 'The day the fault was seen must be a real date, YYYY-MM-DD.' });
+
+/**
+ * The filing form: kind, serials, fault from the list, the day it was seen, where the
+ * throughput comes from; the evidence fields pass through to the service, which checks them
+ * against what the fault needs. Photos are checked by the service too.
+ */
+export const fileClaimFormSchema = z.looseObject({
+	kind: z.preprocess(blankToUndefined, claimKindSchema.default('in-service')),
+	serials: serialListSchema,
+	fault: claimFaultSchema,
+	observedOn: observedOnSchema,
+	throughputScope: z.preprocess(blankToUndefined, throughputScopeSchema.default('system')),
+	log: jsonField(logSummarySchema)
+});
+
+/** `POST /api/claims`: any kind of claim; the evidence fields beside these are checked by the service. */
+export const fileClaimApiSchema = z.looseObject({
+	kind: claimKindSchema,
+	serials: serialListSchema,
+	fault: claimFaultSchema,
+	observedOn: observedOnSchema,
+	throughputScope: throughputScopeSchema.optional(),
+	log: logSummarySchema.optional()
+});
 export type FileClaimForm = z.infer<typeof fileClaimFormSchema>;
 
 export const moveClaimSchema = z.object({

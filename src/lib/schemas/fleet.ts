@@ -18,8 +18,11 @@ const STATE_ORDER: Record<ModuleState, number> = {
 	commissioned: 6,
 	claim_open: 7,
 	returned: 8,
-	replaced: 9,
-	scrapped: 10
+	received_back: 9,
+	inspected: 10,
+	kept_for_analysis: 11,
+	replaced: 12,
+	scrapped: 13
 };
 
 /** Rows a page of the fleet (page and `GET /api/modules`) may hold; README documents the range. */

@@ -115,7 +115,6 @@ export type AssessRequest = z.infer<typeof assessRequestSchema>;
 /** Form field to number (the one decimal rule of fields.ts): blank means not given. */
 const formNumber = <T extends z.ZodType>(inner: T) => decimal(inner.optional());
 
-/** Evidence a dealer files with a claim. Throughput or a cycle count is required. */
 export const claimEvidenceFields = z.object({
 	measuredCapacityAh: formNumber(nonNegative('Measured capacity', 'Ah')),
 	measuredAtC: formNumber(temperature('Test temperature')),
@@ -125,6 +124,12 @@ export const claimEvidenceFields = z.object({
 	),
 	avgCellTempC: formNumber(temperature('Average cell temperature')),
 	maxCellTempC: formNumber(temperature('Maximum cell temperature')),
+	/** Measured at the terminals with the module isolated (a module with no output). */
+	terminalVoltageV: formNumber(
+		nonNegative('Terminal voltage', 'V').max(1500, {
+			error: 'Terminal voltage must be at most 1500 V.'
+		})
+	),
 	eventsOutsideLimits: optionalText(2000, 'Keep the events under 2000 characters.'),
 	description: requiredText(2000, {
 		required: 'Describe the fault.',
@@ -134,20 +139,28 @@ export const claimEvidenceFields = z.object({
 	})
 });
 
+const temperaturesInOrder = (e: { avgCellTempC?: number; maxCellTempC?: number }) =>
+	e.avgCellTempC === undefined || e.maxCellTempC === undefined || e.maxCellTempC >= e.avgCellTempC;
+const TEMPERATURE_ORDER = {
+	error: 'The maximum cell temperature cannot be below the average.',
+	path: ['maxCellTempC']
+};
+
+/** Evidence a dealer files with a claim. Throughput or a cycle count is required. */
 export const claimEvidenceSchema = claimEvidenceFields
 	.refine((e) => e.throughputWh !== undefined || e.cycleCount !== undefined, {
 		error: 'Give the energy throughput (Wh) or the cycle count.',
 		path: ['throughputWh']
 	})
-	.refine(
-		(e) =>
-			e.avgCellTempC === undefined ||
-			e.maxCellTempC === undefined ||
-			e.maxCellTempC >= e.avgCellTempC,
-		{
-			error: 'The maximum cell temperature cannot be below the average.',
-			path: ['maxCellTempC']
-		}
-	);
+	.refine(temperaturesInOrder, TEMPERATURE_ORDER);
+
+/**
+ * Evidence of a claim the cycle-life figures do not decide (on delivery, or a module with
+ * no output at all): throughput is not needed.
+ */
+export const faultEvidenceSchema = claimEvidenceFields.refine(
+	temperaturesInOrder,
+	TEMPERATURE_ORDER
+);
 
 export type ClaimEvidence = z.infer<typeof claimEvidenceSchema>;

@@ -10,7 +10,15 @@ import {
 } from 'drizzle-orm/sqlite-core';
 import { ROLE_NAMES, type RoleName } from '../../policy';
 import { MODULE_STATES, type ModuleState } from '../../domain/module-lifecycle';
-import { CLAIM_DECISIONS, CLAIM_STATES, type ClaimState } from '../../domain/claim-workflow';
+import {
+	CLAIM_DECISIONS,
+	CLAIM_KINDS,
+	CLAIM_STATES,
+	type ClaimState
+} from '../../domain/claim-workflow';
+import { PASSPORT_STATUSES } from '../../domain/module-status';
+import { CAMPAIGN_ITEM_STATES, CAMPAIGN_OUTCOMES, CAMPAIGN_ACTIONS } from '../../domain/campaign';
+import { RETURN_OUTCOMES } from '../../domain/returns';
 
 const createdAt = () =>
 	integer('created_at', { mode: 'timestamp_ms' })
@@ -173,6 +181,14 @@ export const modules = sqliteTable(
 		warrantyTerms: text('warranty_terms'),
 		/** The system the module is installed in (denormalised from system_slots for fast fleet queries). */
 		systemId: integer('system_id'),
+		/**
+		 * A passport status recorded by the lifecycle (Regulation (EU) 2023/1542 Annex XIII §4(c)):
+		 * 'remanufactured' after rework of a module that was in service; null means "follow the state".
+		 */
+		lifecycleStatus: text('lifecycle_status', { enum: PASSPORT_STATUSES }),
+		/** Why and when the module was scrapped. */
+		scrapReason: text('scrap_reason'),
+		scrappedAt: integer('scrapped_at', { mode: 'timestamp_ms' }),
 		createdAt: createdAt(),
 		updatedAt: integer('updated_at', { mode: 'timestamp_ms' })
 	},
@@ -230,7 +246,14 @@ export const EVENT_KINDS = [
 	'returned',
 	'replaced',
 	'service_notice',
-	'scrapped'
+	'scrapped',
+	'reworked',
+	'build_corrected',
+	'return_authorised',
+	'return_received',
+	'return_inspected',
+	'kept_for_analysis',
+	'campaign'
 ] as const;
 export type EventKind = (typeof EVENT_KINDS)[number];
 
@@ -615,13 +638,20 @@ export const claims = sqliteTable(
 	{
 		id: integer('id').primaryKey({ autoIncrement: true }),
 		reference: text('reference').notNull().unique(),
-		systemId: integer('system_id')
-			.notNull()
-			.references(() => systems.id),
+		/** In service (a commissioned system) or on delivery (shipped, not installed: no system). */
+		kind: text('kind', { enum: CLAIM_KINDS }).notNull().default('in-service'),
+		systemId: integer('system_id').references(() => systems.id),
 		/** The dealer organisation the claim belongs to (null for the assembler's own sites). */
 		dealerOrgId: integer('dealer_org_id').references(() => organisations.id),
 		state: text('state', { enum: CLAIM_STATES }).notNull().default('filed'),
 		fault: text('fault').notNull(),
+		/** The fault from the list of faults (CLAIM_FAULTS); null on claims filed before the list. */
+		faultCode: text('fault_code'),
+		/** The calendar day the fault was first seen, as YYYY-MM-DD. */
+		observedOn: text('observed_on'),
+		/** What the officer asked the dealer for, while the claim waits for evidence. */
+		evidenceRequest: text('evidence_request'),
+		evidenceRequestedAt: integer('evidence_requested_at', { mode: 'timestamp_ms' }),
 		/** Evidence as JSON: measured capacity and its temperature, throughput or cycles, temperatures, events. */
 		evidence: text('evidence').notNull(),
 		/** The assessment computed when the claim was decided (JSON), kept for later reading. */
@@ -650,7 +680,16 @@ export const claimModules = sqliteTable(
 			.references(() => modules.id),
 		replacementModuleId: integer('replacement_module_id').references(() => modules.id),
 		returnFindings: text('return_findings'),
-		returnCause: text('return_cause')
+		returnCause: text('return_cause'),
+		/** Return authorisation number, given when the replacement is approved (recorded). */
+		raNumber: text('ra_number').unique(),
+		receivedAt: integer('received_at', { mode: 'timestamp_ms' }),
+		receivedBy: integer('received_by').references(() => users.id),
+		arrivalCondition: text('arrival_condition'),
+		inspectedAt: integer('inspected_at', { mode: 'timestamp_ms' }),
+		inspectedBy: integer('inspected_by').references(() => users.id),
+		returnOutcome: text('return_outcome', { enum: RETURN_OUTCOMES }),
+		returnOutcomeAt: integer('return_outcome_at', { mode: 'timestamp_ms' })
 	},
 	(t) => [
 		primaryKey({ columns: [t.claimId, t.moduleId] }),
@@ -732,6 +771,75 @@ export const passportGrants = sqliteTable(
 		lastUsedAt: integer('last_used_at', { mode: 'timestamp_ms' })
 	},
 	(t) => [index('passport_grants_scope_idx').on(t.scopeKind, t.scopeValue)]
+);
+
+/**
+ * A service campaign (recall): a notice to the dealers of the affected modules, a remedy,
+ * and each module followed to an outcome.
+ */
+export const campaigns = sqliteTable('campaigns', {
+	id: integer('id').primaryKey({ autoIncrement: true }),
+	reference: text('reference').notNull().unique(),
+	title: text('title').notNull(),
+	notice: text('notice').notNull(),
+	remedy: text('remedy').notNull(),
+	/** How the modules were chosen (JSON: serials, lot, model, builtFrom, builtTo, importId). */
+	selection: text('selection').notNull(),
+	/** Remind dealers with open modules after this many days without a step. */
+	reminderDays: integer('reminder_days').notNull().default(14),
+	createdBy: integer('created_by')
+		.notNull()
+		.references(() => users.id),
+	createdAt: createdAt(),
+	closedAt: integer('closed_at', { mode: 'timestamp_ms' })
+});
+
+/** One affected module of a campaign, with its dealer when the campaign opened and its current step. */
+export const campaignModules = sqliteTable(
+	'campaign_modules',
+	{
+		campaignId: integer('campaign_id')
+			.notNull()
+			.references(() => campaigns.id),
+		moduleId: integer('module_id')
+			.notNull()
+			.references(() => modules.id),
+		/** Null: still with the assembler (its own staff follow it up). */
+		dealerOrgId: integer('dealer_org_id').references(() => organisations.id),
+		state: text('state', { enum: CAMPAIGN_ITEM_STATES }).notNull().default('notified'),
+		outcome: text('outcome', { enum: CAMPAIGN_OUTCOMES }),
+		note: text('note'),
+		notifiedAt: integer('notified_at', { mode: 'timestamp_ms' }).notNull(),
+		lastStepAt: integer('last_step_at', { mode: 'timestamp_ms' }).notNull(),
+		lastStepBy: text('last_step_by').notNull(),
+		lastReminderAt: integer('last_reminder_at', { mode: 'timestamp_ms' })
+	},
+	(t) => [
+		primaryKey({ columns: [t.campaignId, t.moduleId] }),
+		index('campaign_modules_dealer_idx').on(t.campaignId, t.dealerOrgId),
+		index('campaign_modules_module_idx').on(t.moduleId)
+	]
+);
+
+/** Every step of a campaign's module: who, when, what (append-only). */
+export const campaignSteps = sqliteTable(
+	'campaign_steps',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		campaignId: integer('campaign_id')
+			.notNull()
+			.references(() => campaigns.id),
+		moduleId: integer('module_id')
+			.notNull()
+			.references(() => modules.id),
+		action: text('action', { enum: CAMPAIGN_ACTIONS }).notNull(),
+		outcome: text('outcome', { enum: CAMPAIGN_OUTCOMES }),
+		note: text('note'),
+		actorUserId: integer('actor_user_id').references(() => users.id),
+		actorLabel: text('actor_label').notNull(),
+		at: integer('at', { mode: 'timestamp_ms' }).notNull()
+	},
+	(t) => [index('campaign_steps_item_idx').on(t.campaignId, t.moduleId)]
 );
 
 /**

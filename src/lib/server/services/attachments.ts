@@ -114,7 +114,7 @@ export function safeFileName(name: string | null | undefined, contentType: strin
 async function ownerSite(
 	db: Db,
 	owner: AttachmentOwner
-): Promise<{ systemId: number; dealerOrgId: number | null }> {
+): Promise<{ systemId: number | null; dealerOrgId: number | null }> {
 	let systemId = owner.ownerId;
 	if (owner.ownerKind === 'commissioning') {
 		const [c] = await db
@@ -124,12 +124,13 @@ async function ownerSite(
 		if (!c) throw new NotFoundError();
 		systemId = c.systemId;
 	} else if (owner.ownerKind === 'claim') {
+		// A claim belongs to its dealer (a claim on delivery has no system).
 		const [c] = await db
-			.select({ systemId: claims.systemId })
+			.select({ systemId: claims.systemId, dealerOrgId: claims.dealerOrgId })
 			.from(claims)
 			.where(eq(claims.id, owner.ownerId));
 		if (!c) throw new NotFoundError();
-		systemId = c.systemId;
+		return c;
 	} else if (owner.ownerKind !== 'system') {
 		throw new NotFoundError();
 	}

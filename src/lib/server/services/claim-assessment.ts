@@ -1,4 +1,7 @@
 import { and, asc, count, desc, eq } from 'drizzle-orm';
+import { attachments } from '$lib/server/db/schema';
+import { assessFaultClaim, needsThroughput, type ClaimFault } from '$lib/domain/claim-workflow';
+import { deriveFigures } from '$lib/domain/model';
 import type { Db, Tx } from '$lib/server/db';
 import {
 	claimModules,
@@ -78,7 +81,9 @@ export function termsOf(
 }
 
 /** Modules in a system: its slots, else the modules pointing at it, else series × parallel. */
-export async function modulesInSystem(conn: Conn, systemId: number): Promise<number> {
+export async function modulesInSystem(conn: Conn, systemId: number | null): Promise<number> {
+	// A claim on delivery has no system: its modules stand alone.
+	if (systemId === null) return 1;
 	const [slots] = await conn
 		.select({ n: count() })
 		.from(systemSlots)
@@ -99,8 +104,9 @@ export async function modulesInSystem(conn: Conn, systemId: number): Promise<num
 /** Whether the latest passing commissioning of the system proved the stop-charge signal. */
 export async function stopChargeProof(
 	conn: Conn,
-	systemId: number
+	systemId: number | null
 ): Promise<ClaimAssessmentResult['stopCharge']> {
+	if (systemId === null) return null;
 	const [c] = await conn
 		.select({
 			items: commissionings.items,
@@ -218,6 +224,38 @@ export async function assessmentFor(conn: Conn, claim: ClaimRow): Promise<ClaimA
 	}));
 	if (!assessed.length) throw new Error(`Claim ${claim.reference} has no modules.`);
 	const [first] = assessed;
+	const faultCode = claim.faultCode as ClaimFault | null;
+	if (faultCode && (claim.kind === 'on-delivery' || !needsThroughput(faultCode))) {
+		// Outside the cycle-life figures: what the fault needs, from photos and the terminal voltage.
+		const [{ n: photos }] = await conn
+			.select({ n: count() })
+			.from(attachments)
+			.where(and(eq(attachments.ownerKind, 'claim'), eq(attachments.ownerId, claim.id)));
+		const fault = assessFaultClaim({
+			kind: claim.kind,
+			fault: faultCode,
+			shippedOn: first.module.shippedAt ? calendarDay(first.module.shippedAt, timeZone) : null,
+			claimedOn,
+			withinTerm: first.module.warrantyEndsOn ? claimedOn <= first.module.warrantyEndsOn : null,
+			photos,
+			terminalVoltageV: evidence.terminalVoltageV ?? null,
+			minVoltageV: deriveFigures(first.model).minV
+		});
+		const assessment = {
+			...first.assessment,
+			recommendation: fault.recommendation,
+			reasons: fault.reasons
+		};
+		return {
+			...assessment,
+			reasons: [...(claim.kind === 'in-service' ? preface.slice(-1) : []), ...fault.reasons],
+			claimedOn,
+			input: first.input,
+			throughputShare: null,
+			stopCharge,
+			modules: assessed.map((a) => ({ serial: a.module.serial, assessment }))
+		};
+	}
 	const reasons = [...preface, ...(first.note ? [first.note] : []), ...first.assessment.reasons];
 	let recommendation = first.assessment.recommendation;
 	const differing = assessed.filter(

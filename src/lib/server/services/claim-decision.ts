@@ -62,6 +62,8 @@ export async function decideClaim(
 			`Claim ${claim.reference}: ${label(to)}`
 		);
 		if (to === 'not_covered') {
+			// Back in service, or (a claim on delivery) back in the dealer's stock.
+			const back = claim.kind === 'on-delivery' ? 'declineDeliveryClaim' : 'declineClaim';
 			const ids = (
 				await tx
 					.select({ id: claimModules.moduleId })
@@ -70,8 +72,8 @@ export async function decideClaim(
 			).map((r) => r.id);
 			await tx
 				.update(modules)
-				.set({ state: endOf('declineClaim'), updatedAt: now })
-				.where(and(inArray(modules.id, ids), inArray(modules.state, statesFrom('declineClaim'))));
+				.set({ state: endOf(back), updatedAt: now })
+				.where(and(inArray(modules.id, ids), inArray(modules.state, statesFrom(back))));
 		}
 		await recordAudit(tx, actor, {
 			action: 'claim.decide',

@@ -6,7 +6,8 @@ import { claimModules, moduleModels, modules } from '$lib/server/db/schema';
 import { assertCan, type Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError } from '$lib/server/errors';
 import { mayAddEvidence, stateAfterEvidence } from '$lib/domain/claim-workflow';
-import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
+import { claimEvidenceSchema, faultEvidenceSchema } from '$lib/schemas/warranty-assess';
+import { needsThroughput, type ClaimFault } from '$lib/domain/claim-workflow';
 import { type AddEvidenceInput } from '$lib/schemas/claim';
 import { toIssues } from '$lib/server/validation';
 import { recordAudit } from './audit';
@@ -30,6 +31,7 @@ const EVIDENCE_KEYS = [
 	'cycleCount',
 	'avgCellTempC',
 	'maxCellTempC',
+	'terminalVoltageV',
 	'eventsOutsideLimits',
 	'description'
 ] as const;
@@ -40,6 +42,7 @@ const EVIDENCE_WORDS: Record<(typeof EVIDENCE_KEYS)[number], string> = {
 	cycleCount: 'cycle count',
 	avgCellTempC: 'average cell temperature (°C)',
 	maxCellTempC: 'maximum cell temperature (°C)',
+	terminalVoltageV: 'terminal voltage (V)',
 	eventsOutsideLimits: 'events outside limits',
 	description: 'description'
 };
@@ -72,7 +75,13 @@ export async function addEvidence(
 			(k) => patch[k] !== undefined && patch[k] !== null && String(patch[k]).trim() !== ''
 		).map((k) => [k, patch[k]])
 	);
-	const parsed = claimEvidenceSchema.safeParse({ ...before, ...given });
+	const cycleLife =
+		claim.kind === 'in-service' &&
+		(claim.faultCode === null || needsThroughput(claim.faultCode as ClaimFault));
+	const parsed = (cycleLife ? claimEvidenceSchema : faultEvidenceSchema).safeParse({
+		...before,
+		...given
+	});
 	if (!parsed.success) {
 		const issues = toIssues(parsed.error);
 		throw new InvalidInputError(`Check the evidence: ${issues[0].message}`, issues);

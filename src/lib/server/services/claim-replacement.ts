@@ -70,10 +70,10 @@ export async function replaceModule(
 			`${repl.serial} is ${STATE_LABELS[repl.state].toLowerCase()}: a replacement must be in stock, or shipped to this claim's dealer and not yet installed.`
 		);
 	const [slot] = await db.select().from(systemSlots).where(eq(systemSlots.moduleId, failed.id));
-	const [sys] = await db
-		.select({ name: systems.name })
-		.from(systems)
-		.where(eq(systems.id, claim.systemId));
+	const [sys] =
+		claim.systemId === null
+			? []
+			: await db.select({ name: systems.name }).from(systems).where(eq(systems.id, claim.systemId));
 	const where = slot
 		? `string ${slot.stringNo}, position ${slot.position} of ${sys?.name ?? 'the system'}`
 		: (sys?.name ?? 'the system');

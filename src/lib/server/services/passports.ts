@@ -179,7 +179,12 @@ export async function passportForRow(
 		issuer: { name: ctx.issuer },
 		model,
 		items,
-		module: { builtAt: mod.builtAt, commissionedAt: mod.commissionedAt, state: mod.state },
+		module: {
+			builtAt: mod.builtAt,
+			commissionedAt: mod.commissionedAt,
+			state: mod.state,
+			lifecycleStatus: mod.lifecycleStatus
+		},
 		evidence: cond?.evidence,
 		history:
 			tier === 'full'

@@ -2,9 +2,10 @@ import { json } from '@sveltejs/kit';
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { jsonFrom } from '$lib/server/http';
-import { parseQuery } from '$lib/server/validation';
-import { claimQuerySchema } from '$lib/schemas/claim';
-import { listClaims } from '$lib/server/services/claims';
+import { parseJson, parseQuery } from '$lib/server/validation';
+import { baseUrl } from '$lib/server/base-url';
+import { claimQuerySchema, fileClaimApiSchema } from '$lib/schemas/claim';
+import { fileClaim, listClaims } from '$lib/server/services/claims';
 import type { RequestHandler } from './$types';
 
 /** The claims queue as JSON: `?state=&dealer=&model=&minAgeDays=&page=&pageSize=&sort=&dir=`. A dealer gets own claims only. */
@@ -17,6 +18,37 @@ export const GET: RequestHandler = async (event) => {
 	}
 	try {
 		return json(await listClaims(await getDb(), actor, parsed.data));
+	} catch (e) {
+		return jsonFrom(e);
+	}
+};
+
+/**
+ * Files a claim of any kind: `{ kind: "in-service" | "on-delivery", serials, fault,
+ * observedOn, …evidence }` → 201 `{ id, number }`. Another dealer's serial answers 404 like
+ * an unknown one; a module the kind does not fit answers 409 saying which kind fits.
+ */
+export const POST: RequestHandler = async (event) => {
+	const actor = requireCan(event, 'fileClaim');
+	const parsed = await parseJson(fileClaimApiSchema, event.request);
+	if (!parsed.ok)
+		return json(
+			{ message: `The claim was not filed: ${parsed.issues[0].message}`, issues: parsed.issues },
+			{ status: 400 }
+		);
+	const { kind, serials, fault, observedOn, throughputScope, log, ...evidence } = parsed.data;
+	try {
+		const claim = await fileClaim(await getDb(), actor, {
+			kind,
+			serials,
+			fault,
+			observedOn,
+			evidence,
+			throughputScope,
+			log,
+			baseUrl: baseUrl(event.url)
+		});
+		return json(claim, { status: 201 });
 	} catch (e) {
 		return jsonFrom(e);
 	}

@@ -10,8 +10,27 @@ import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const actor = requireCan(event, 'fileClaim');
-	return { dealerScoped: actor.dealerScoped, serial: event.url.searchParams.get('serial') ?? '' };
+	const kind = event.url.searchParams.get('kind') === 'on-delivery' ? 'on-delivery' : 'in-service';
+	return {
+		dealerScoped: actor.dealerScoped,
+		serial: event.url.searchParams.get('serial') ?? '',
+		kind
+	};
 };
+
+/** The photos chosen in the form (an empty file input sends one empty entry). */
+async function photosOf(value: unknown) {
+	const files = (Array.isArray(value) ? value : [value]).filter(
+		(f): f is File => f instanceof File && f.size > 0
+	);
+	return Promise.all(
+		files.map(async (f) => ({
+			name: f.name,
+			type: f.type,
+			bytes: new Uint8Array(await f.arrayBuffer())
+		}))
+	);
+}
 
 export const actions: Actions = {
 	file: async (event) => {
@@ -23,15 +42,19 @@ export const actions: Actions = {
 				issues: parsed.issues,
 				values: parsed.values
 			});
-		const { serials, fault, throughputScope, log, ...evidence } = parsed.data;
+		const { kind, serials, fault, observedOn, throughputScope, log, photos, ...evidence } =
+			parsed.data;
 		let claim;
 		try {
 			claim = await fileClaim(await getDb(), actor, {
+				kind,
 				serials,
 				fault,
+				observedOn,
 				evidence,
 				throughputScope,
 				log,
+				photos: await photosOf(photos),
 				baseUrl: baseUrl(event.url)
 			});
 		} catch (e) {
