@@ -39,7 +39,9 @@ export async function startBenchServer({
 	// Another server already on the port would answer the health probe, take the benchmark's
 	// requests and, when its owner stops it, reset them: refuse to start instead.
 	await assertPortFree(port);
-	const proc = spawn('node', [build], { stdio: ['ignore', 'ignore', 'inherit'], env });
+	// BENCH_NODE_ARGS passes flags to the server's node, e.g. "--cpu-prof --cpu-prof-dir=tmp/prof".
+	const nodeArgs = (process.env.BENCH_NODE_ARGS ?? '').split(' ').filter(Boolean);
+	const proc = spawn('node', [...nodeArgs, build], { stdio: ['ignore', 'ignore', 'inherit'], env });
 	let stopping = false;
 	// A server that dies under load says so (and how), rather than surfacing as a client's ECONNRESET.
 	proc.once('exit', (code, signal) => {

@@ -125,6 +125,7 @@ export const ROUTE_CAPABILITIES: Record<string, string> = {
 	'api/claims/+server.ts POST': 'fileClaim',
 	'api/claims/[id=int]/+server.ts GET': 'viewClaims',
 	'api/design-check/+server.ts POST': 'checkDesign',
+	'api/diagnostics/event-loop/+server.ts GET': 'viewDiagnostics',
 	'api/imports/[id=int]/+server.ts GET': 'importResults',
 	'api/imports/[id=int]/commit/+server.ts POST': 'importResults',
 	'api/imports/[id=int]/errors.csv/+server.ts GET': 'importResults',

@@ -1,4 +1,3 @@
-import { AsyncLocalStorage } from 'node:async_hooks';
 import { createClient, type Client, type InStatement } from '@libsql/client';
 import { drizzle, type LibSQLDatabase } from 'drizzle-orm/libsql';
 import { migrate } from 'drizzle-orm/libsql/migrator';
@@ -106,44 +105,25 @@ export async function withWriteLock<T>(db: Db, fn: () => Promise<T>): Promise<T>
 	}
 }
 
-/** Work to do inside the first write transaction a piece of code opens (see `withTxHook`). */
+/**
+ * Work a caller adds to a service's own write transaction, handed to that service (and by it
+ * to its `writeTx`) explicitly: e.g. the sync endpoint records an operation id in the same
+ * transaction as the write the service makes. Housekeeping writes the service makes on the
+ * way (a default stored the first time it is asked for) never see it, because nobody passes it.
+ */
 export interface TxHook {
 	/** Runs first in the transaction; throwing rolls it back before anything is written. */
 	before?: (tx: Tx) => Promise<void>;
 	/** Runs after the transaction's own work, before COMMIT; throwing rolls everything back. */
 	after: (tx: Tx, result: unknown) => Promise<void>;
 }
-const txHooks = new AsyncLocalStorage<{ hook: TxHook; used: boolean }>();
 
 /**
- * Runs `fn` so that the first write transaction it opens (through `writeTx`) also runs
- * `hook` — e.g. the sync endpoint records an operation id in the same transaction as the
- * write a service makes, without the service knowing about sync. Returns whether it ran.
+ * Runs `fn` in a write transaction (BEGIN IMMEDIATE), one at a time per database handle; with
+ * `hook`, its `before` and `after` run inside the same transaction around `fn`.
  */
-export async function withTxHook<T>(
-	hook: TxHook,
-	fn: () => Promise<T>
-): Promise<{ value: T; hooked: boolean }> {
-	const state = { hook, used: false };
-	const value = await txHooks.run(state, fn);
-	return { value, hooked: state.used };
-}
-
-/**
- * Runs `fn` outside any `withTxHook`: for housekeeping writes (storing a default the first
- * time it is asked for) that must not take the hook meant for the caller's own write.
- */
-export function withoutTxHook<T>(fn: () => Promise<T>): Promise<T> {
-	return txHooks.exit(fn);
-}
-
-/** Runs `fn` in a write transaction (BEGIN IMMEDIATE), one at a time per database handle. */
-export function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>): Promise<T> {
-	const state = txHooks.getStore();
-	if (!state || state.used)
-		return withWriteLock(db, () => db.transaction(fn, { behavior: 'immediate' }));
-	state.used = true;
-	const { hook } = state;
+export function writeTx<T>(db: Db, fn: (tx: Tx) => Promise<T>, hook?: TxHook): Promise<T> {
+	if (!hook) return withWriteLock(db, () => db.transaction(fn, { behavior: 'immediate' }));
 	return withWriteLock(db, () =>
 		db.transaction(
 			async (tx) => {

@@ -361,6 +361,30 @@ export const importFiles = sqliteTable('import_files', {
 	planStates: text('plan_states')
 });
 
+/**
+ * A previewed import's commit plan, in slices of about a thousand rows, written while the
+ * file is read (keyed by `planKey` until the import row exists) and deleted as the commit
+ * stores each slice: the commit runs short statements, not one of 100,000 rows.
+ */
+export const importPlanChunks = sqliteTable(
+	'import_plan_chunks',
+	{
+		id: integer('id').primaryKey({ autoIncrement: true }),
+		planKey: text('plan_key').notNull(),
+		importId: integer('import_id').references(() => imports.id),
+		seq: integer('seq').notNull(),
+		/** Insert-ready JSON arrays of accepted rows (see import-analysis). */
+		rows: text('rows').notNull(),
+		/** JSON [module id, outcome, tested at] of each module's latest result in this slice. */
+		states: text('states').notNull(),
+		createdAt: createdAt()
+	},
+	(t) => [
+		index('import_plan_chunks_import_idx').on(t.importId, t.seq),
+		index('import_plan_chunks_key_idx').on(t.planKey)
+	]
+);
+
 export const factoryTests = sqliteTable(
 	'factory_tests',
 	{
