@@ -1,15 +1,16 @@
 import { test, expect } from './roles';
 import { stateFile } from './roles';
-import { PNG } from 'pngjs';
-import { sign } from './signature';
+import {
+	answerYes,
+	CHECKS,
+	field,
+	fillFields,
+	plainPng,
+	signOff,
+	STRING_DEVICE_CHECK
+} from './checklist';
 
 test.use({ viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true });
-
-function tinyJpegLikePng(): Buffer {
-	const png = new PNG({ width: 8, height: 8 });
-	png.data.fill(200);
-	return PNG.sync.write(png);
-}
 
 test('Ridgeline technician on a phone: site, system with a corrected design, modules scanned in, checklist with a failing insulation corrected, photo, certificate to the dealer', async ({
 	browser,
@@ -62,14 +63,15 @@ test('Ridgeline technician on a phone: site, system with a corrected design, mod
 	await page.getByRole('link', { name: 'Commission this system' }).click();
 
 	await page.getByText('I have read the cautions', { exact: true }).click();
-	const byName = (n: string) => page.locator(`[name="${n}"]`);
-	await byName('moduleOcvV.1.1').fill('51,20');
-	await byName('moduleOcvV.2.1').fill('51,22');
-	await byName('stringVoltageV.1').fill('51,20');
-	await byName('stringVoltageV.2').fill('51,22');
-	await byName('interStringDiffV').fill('0,02');
-	await byName('insulationTestV').fill('500');
-	await byName('insulationMohm').fill('0,4');
+	await fillFields(page, {
+		'moduleOcvV.1.1': '51,20',
+		'moduleOcvV.2.1': '51,22',
+		'stringVoltageV.1': '51,20',
+		'stringVoltageV.2': '51,22',
+		interStringDiffV: '0,02',
+		insulationTestV: '500',
+		insulationMohm: '0,4'
+	});
 	await expect(
 		page.getByText(/0\.4 MΩ at 500 V is below the 1(\.0)? MΩ minimum of IEC 60364-6/)
 	).toBeVisible();
@@ -77,30 +79,26 @@ test('Ridgeline technician on a phone: site, system with a corrected design, mod
 		path: 'test-results/phone-checklist-insulation-fail.png',
 		fullPage: true
 	});
-	await byName('insulationMohm').fill('150');
-	for (const legend of [
-		'Polarity of every connection checked?',
-		'Every terminal torqued to the maker’s value?',
-		'Stop-charge signal proven to reach the inverter?',
-		'Does each string have its own overcurrent device?'
-	])
-		await page.getByRole('group', { name: legend }).getByText('Yes', { exact: true }).click();
-	await byName('deviceRatingA').fill('400');
-	await byName('deviceDcRatingV').fill('150');
+	await field(page, 'insulationMohm').fill('150');
+	await answerYes(page, [...CHECKS, STRING_DEVICE_CHECK]);
 	// 2 strings × 60.5 V / 6.0 mΩ ≈ 20.2 kA prospective: a 25 kA device breaks it.
-	await byName('deviceBreakingKA').fill('25');
-	await byName('ambientC').fill('16');
+	await fillFields(page, {
+		deviceRatingA: '400',
+		deviceDcRatingV: '150',
+		deviceBreakingKA: '25',
+		ambientC: '16'
+	});
 
 	await page
 		.locator('input[name="photo"]')
-		.setInputFiles({ name: 'rack.png', mimeType: 'image/png', buffer: tinyJpegLikePng() });
+		.setInputFiles({ name: 'rack.png', mimeType: 'image/png', buffer: plainPng() });
 	await expect(page.locator('img[src^="/api/attachments/"]')).toHaveCount(1);
 
-	await byName('technicianName').fill('Joss Carrow');
-	await byName('licenceNumber').fill('EL-55120');
-	await byName('handoverName').fill('Tamsin Orrell');
-	await sign(page, 'sig-technicianSignature');
-	await sign(page, 'sig-ownerSignature');
+	await signOff(page, {
+		technicianName: 'Joss Carrow',
+		licenceNumber: 'EL-55120',
+		handoverName: 'Tamsin Orrell'
+	});
 	await page.getByRole('button', { name: /Submit/ }).click();
 	// The submission stores the commissioning, draws the PDF and mails it: on a busy 2-core
 	// machine that took over 5 s once.

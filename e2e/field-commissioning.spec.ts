@@ -4,7 +4,7 @@ import { execFileSync } from 'node:child_process';
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { PNG } from 'pngjs';
 import jsQR from 'jsqr';
-import { sign } from './signature';
+import { answerYes, CHECKS, field, fillFields, signOff, STRING_DEVICE_CHECK } from './checklist';
 import type { Page } from '@playwright/test';
 
 test.use({ viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true });
@@ -90,13 +90,11 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 
 	await fitsThePhone(page);
 	await page.getByText('I have read the cautions', { exact: true }).click();
-	const byName = (n: string) => page.locator(`[name="${n}"]`);
-	await byName('moduleOcvV.1.1').fill('51,65');
-	await byName('moduleOcvV.2.1').fill('51,66');
+	const byName = (n: string) => field(page, n);
+	await fillFields(page, { 'moduleOcvV.1.1': '51,65', 'moduleOcvV.2.1': '51,66' });
 	await expect(page.getByText('Expected about 51.65 V: the reading of its module.')).toBeVisible();
 	// A typo: 5165 for 51.65 V.
-	await byName('stringVoltageV.1').fill('5165');
-	await byName('stringVoltageV.2').fill('51,66');
+	await fillFields(page, { 'stringVoltageV.1': '5165', 'stringVoltageV.2': '51,66' });
 	await expect(page.getByTestId('verdict-string_voltage')).toHaveAttribute(
 		'data-status',
 		'implausible'
@@ -115,21 +113,12 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 	await expect(page.getByTestId('insulation-precautions')).toContainText(
 		'surge protective devices'
 	);
-	await byName('insulationTestV').fill('500');
-	await byName('insulationMohm').fill('150');
-	for (const legend of [
-		'Polarity of every connection checked?',
-		'Every terminal torqued to the maker’s value?',
-		'Stop-charge signal proven to reach the inverter?',
-		'Does each string have its own overcurrent device?'
-	])
-		await page.getByRole('group', { name: legend }).getByText('Yes', { exact: true }).click();
+	await fillFields(page, { insulationTestV: '500', insulationMohm: '150' });
+	await answerYes(page, [...CHECKS, STRING_DEVICE_CHECK]);
 
 	// 2 strings × 60.5 V / 6.0 mΩ = 20 167 A: a 10 kA device is refused with the numbers.
 	await expect(page.getByTestId('fault-current')).toContainText('20.2 kA (20167 A)');
-	await byName('deviceRatingA').fill('400');
-	await byName('deviceDcRatingV').fill('80');
-	await byName('deviceBreakingKA').fill('10');
+	await fillFields(page, { deviceRatingA: '400', deviceDcRatingV: '80', deviceBreakingKA: '10' });
 	const device = page.getByTestId('verdict-protective_device');
 	await expect(device).toHaveAttribute('data-status', 'fail');
 	await expect(device).toContainText('breaking capacity 10 kA, below the 20.2 kA (20167 A)');
@@ -144,12 +133,11 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 		.setInputFiles({ name: 'relay-rack.png', mimeType: 'image/png', buffer: photo() });
 	await expect(page.locator('img[src^="/api/attachments/"]')).toHaveCount(1);
 
-	await byName('technicianName').fill('Joss Carrow');
-	await byName('licenceNumber').fill('EL-55120');
-	await byName('handoverName').fill('Ines Calloway');
-	await expect(page.getByTestId('rule-set')).toContainText('Default (common practice)');
-	await sign(page, 'sig-technicianSignature');
-	await sign(page, 'sig-ownerSignature');
+	await signOff(
+		page,
+		{ technicianName: 'Joss Carrow', licenceNumber: 'EL-55120', handoverName: 'Ines Calloway' },
+		() => expect(page.getByTestId('rule-set')).toContainText('Default (common practice)')
+	);
 	await expect(page.getByText('Signed.', { exact: true })).toHaveCount(2);
 	await page.screenshot({ path: 'test-results/field-signed.png' });
 	await page.getByRole('button', { name: 'Submit the checklist' }).click();

@@ -1,17 +1,10 @@
-import { PNG } from 'pngjs';
 import { test, expect as baseExpect, stateFile } from './roles';
-import { sign } from './signature';
+import { answerYes, CHECKS, field, fillFields, plainPng, signOff } from './checklist';
 
 // The machine is shared: give the phone's pages time (service worker install, IndexedDB).
 const expect = baseExpect.configure({ timeout: 20_000 });
 
 test.use({ viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true });
-
-function photo(shade: number): Buffer {
-	const png = new PNG({ width: 8, height: 8 });
-	png.data.fill(shade);
-	return PNG.sync.write(png);
-}
 
 test('a technician with no signal: site taken offline, system, modules, checklist with photos and sign-off, reload, back online, synced once, certificate issued, replay stores nothing', async ({
 	browser
@@ -81,44 +74,44 @@ test('a technician with no signal: site taken offline, system, modules, checklis
 
 	await page.getByRole('link', { name: 'Commission this system' }).click();
 	await page.getByText('I have read the cautions', { exact: true }).click();
-	const byName = (n: string) => page.locator(`[name="${n}"]`);
 	// 2 × TC-HC-48 (invented: 22 cells, 2.35 V nominal): a string near 103 V; IEC 60364-6
 	// Table 6.1 asks 500 V DC and at least 1.0 MΩ for it.
-	await byName('moduleOcvV.1.1').fill('50,60');
-	await byName('moduleOcvV.1.2').fill('50,62');
-	await byName('stringVoltageV.1').fill('101,2');
-	await byName('insulationTestV').fill('500');
-	await byName('insulationMohm').fill('0,4');
+	await fillFields(page, {
+		'moduleOcvV.1.1': '50,60',
+		'moduleOcvV.1.2': '50,62',
+		'stringVoltageV.1': '101,2',
+		insulationTestV: '500',
+		insulationMohm: '0,4'
+	});
 	// The live verdicts run on the phone without a network.
 	await expect(
 		page.getByText(/0\.4 MΩ at 500 V is below the 1(\.0)? MΩ minimum of IEC 60364-6/)
 	).toBeVisible();
-	await byName('insulationMohm').fill('150');
-	for (const legend of [
-		'Polarity of every connection checked?',
-		'Every terminal torqued to the maker’s value?',
-		'Stop-charge signal proven to reach the inverter?'
-	])
-		await page.getByRole('group', { name: legend }).getByText('Yes', { exact: true }).click();
-	await byName('deviceRatingA').fill('200');
-	await byName('deviceDcRatingV').fill('150');
+	await field(page, 'insulationMohm').fill('150');
+	await answerYes(page, CHECKS);
 	// One string of TC-HC-48: its maximum voltage over the module's internal resistance is
 	// about 10 kA prospective; a 25 kA device breaks it.
-	await byName('deviceBreakingKA').fill('25');
-	await byName('ambientC').fill('18');
+	await fillFields(page, {
+		deviceRatingA: '200',
+		deviceDcRatingV: '150',
+		deviceBreakingKA: '25',
+		ambientC: '18'
+	});
 	for (const [i, caption] of ['Rack', 'Tester reading'].entries()) {
 		await page.getByLabel('Caption (optional)').fill(caption);
-		await page
-			.locator('input[name="photo"]')
-			.setInputFiles({ name: `photo-${i}.png`, mimeType: 'image/png', buffer: photo(90 + i * 80) });
+		await page.locator('input[name="photo"]').setInputFiles({
+			name: `photo-${i}.png`,
+			mimeType: 'image/png',
+			buffer: plainPng(90 + i * 80)
+		});
 		await expect(page.locator('img[src^="/api/attachments/"]')).toHaveCount(i + 1);
 		await expect(badge).toHaveText(new RegExp(`^\\s*${4 + i} changes waiting\\s*$`));
 	}
-	await byName('technicianName').fill('Joss Carrow');
-	await byName('licenceNumber').fill('EL-55120');
-	await byName('handoverName').fill('Brannoc Hale');
-	await sign(page, 'sig-technicianSignature');
-	await sign(page, 'sig-ownerSignature');
+	await signOff(page, {
+		technicianName: 'Joss Carrow',
+		licenceNumber: 'EL-55120',
+		handoverName: 'Brannoc Hale'
+	});
 	await page.getByRole('button', { name: /Submit/ }).click();
 	await expect(page.getByTestId('queued-note')).toContainText('certificate is issued then');
 	await expect(page.getByTestId('offline-badge')).toHaveText(/6 changes waiting/);

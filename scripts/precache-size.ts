@@ -4,7 +4,7 @@
 import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import { brotliCompressSync, gzipSync } from 'node:zlib';
-import { precached } from '../src/lib/offline/precache';
+import { OFFLINE_CODE_LIST, precached } from '../src/lib/offline/precache';
 
 const root = 'build/client';
 const walk = (d: string): string[] =>
@@ -14,7 +14,8 @@ const walk = (d: string): string[] =>
 const all = walk(root)
 	.map((f) => '/' + relative(root, f))
 	.filter((p) => !p.endsWith('.gz') && !p.endsWith('.br') && p !== '/service-worker.js');
-const list = all.filter(precached);
+const code = new Set<string>(JSON.parse(readFileSync(join(root, OFFLINE_CODE_LIST), 'utf8')));
+const list = all.filter((p) => p !== OFFLINE_CODE_LIST && precached(p, code));
 const sum = (files: string[], f: (b: Buffer) => number) =>
 	files.reduce((a, p) => a + f(readFileSync(join(root, p))), 0);
 const kb = (n: number) => Math.round(n / 1024);

@@ -5,8 +5,8 @@
 /**
  * Packledger's service worker (SvelteKit's own, `$service-worker`): field work without a signal.
  *
- * - Precaches the built app (`build`, `files`, less what src/lib/offline/precache.ts leaves
- *   to first use) per version, and the offline page shell; `npx tsx scripts/precache-size.ts`
+ * - Precaches the offline pages' code and the static files (`build`, `files`, less what
+ *   src/lib/offline/precache.ts leaves to first use: every other page's code) per version, and the offline page shell; `npx tsx scripts/precache-size.ts`
  *   says how much that is.
  * - Never caches an API answer, an HTML page of a signed-in user, or any POST. The only
  *   user-specific thing it keeps is the `/offline` shell's layout data (name and role of the
@@ -22,7 +22,7 @@ import { OFFLINE_PREFIX, parseFieldPath, type FieldRoute } from '$lib/offline/ro
 import { offlineAction } from '$lib/offline/actions';
 import { loadState } from '$lib/offline/state';
 import { addOp, LAYOUT_CACHE, openCurrent } from '$lib/offline/store';
-import { precached } from '$lib/offline/precache';
+import { OFFLINE_CODE_LIST, precached } from '$lib/offline/precache';
 import { MODELS_KEY } from '$lib/offline/views';
 import { checkDesign, type DesignModule } from '$lib/domain/design-check';
 import { designCheckRequestSchema } from '$lib/schemas/site';
@@ -33,11 +33,22 @@ const SHELL_URL = OFFLINE_PREFIX;
 const ASSETS = new Set([...build, ...files]);
 const NETWORK_TIMEOUT_MS = 10_000;
 
+/** The offline pages' scripts and styles, as the build listed them; null (store all) if unreadable. */
+async function offlineCode(): Promise<Set<string> | null> {
+	try {
+		const res = await fetch(OFFLINE_CODE_LIST, { cache: 'no-cache' });
+		return res.ok ? new Set((await res.json()) as string[]) : null;
+	} catch {
+		return null;
+	}
+}
+
 sw.addEventListener('install', (event) => {
 	event.waitUntil(
 		(async () => {
 			const cache = await caches.open(APP_CACHE);
-			await cache.addAll([...ASSETS].filter(precached));
+			const code = await offlineCode();
+			await cache.addAll([...ASSETS].filter((path) => precached(path, code)));
 			// The shell has no data in it (ssr = false), so one copy serves every offline page.
 			const shell = await fetch(SHELL_URL, { credentials: 'omit' });
 			if (shell.ok) await cache.put(SHELL_URL, shell);

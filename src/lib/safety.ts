@@ -62,3 +62,12 @@ export const CAUTIONS_IN_BRIEF =
 	'the DC arc and short-circuit currents can injure. Check polarity before every connection. ' +
 	'Installation, commissioning and removal are for a licensed electrician; local electrical codes ' +
 	'and installation standards take precedence.';
+
+/**
+ * Before any insulation test on a battery circuit (common practice): it cannot be made dead,
+ * and the test voltage destroys or falsifies through electronics and surge protection.
+ */
+export const INSULATION_TEST_PRECAUTIONS: readonly string[] = [
+	'A battery circuit cannot be made dead: its conductors stay live against each other while the test runs, so test each pole against earth with the battery isolator open.',
+	'Disconnect the inverter, battery management electronics and surge protective devices before the test: the test voltage can destroy them, and they falsify the reading.'
+];

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { createFormat } from '$lib/format';
+import { createFormat } from '$lib/domain/format';
 
 const NBSP = '\u00a0';
 

@@ -66,6 +66,19 @@ describe('implausible evidence', () => {
 		expect(implausibleEvidence(log, after)).toEqual([]);
 	});
 
+	it('reads a log ending on the leap day against the local day either side of its midnight', () => {
+		// 2028 is a leap year (Gregorian rule: divisible by 4, not a century): 29 February exists.
+		const east = { timeZone: 'Etc/GMT-10', locale: 'en-GB' };
+		const log = ev({ log: { lastAt: '2028-02-29T06:00:00Z' } });
+		const at = (iso: string) => ({ ...ctx, now: new Date(iso), calendar: east });
+		// 23:59:59 on 28 February there: a log dated the 29th is after today.
+		expect(implausibleEvidence(log, at('2028-02-28T13:59:59Z')).map((i) => i.path)).toEqual([
+			'log'
+		]);
+		// 00:00 on 29 February there: today.
+		expect(implausibleEvidence(log, at('2028-02-28T14:00:00Z'))).toEqual([]);
+	});
+
 	it('cannot judge a rate without a warranty start', () => {
 		expect(implausibleEvidence(ev({ throughputWh: 1e12 }), { ...ctx, startsOn: null })).toEqual([]);
 	});

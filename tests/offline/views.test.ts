@@ -23,6 +23,7 @@ import type { QueuedOp } from '$lib/offline/store';
 import { CONFLICT_PATH } from '$lib/schemas/sync';
 import { formatSerial } from '$lib/domain/serial';
 import { actorFor, createSeededDb } from '../factories/db';
+import { SIGNATURE } from '../factories/signatures';
 
 /** Real serials (check character per ISO/IEC 7064 MOD 37-36, as the labels carry them). */
 const S = (n: number) => formatSerial({ variant: '48', year: 2026, number: n });
@@ -291,11 +292,6 @@ describe('forms answered on the phone', () => {
 	});
 
 	// A signature as the phone's pad sends it: strokes of points in a 300 × 120 box.
-	const SIG = JSON.stringify({
-		w: 300,
-		h: 120,
-		strokes: [Array.from({ length: 12 }, (_, i) => [20 + i * 20, 60 + (i % 2 ? 25 : -25)])]
-	});
 	it('keeps a passing checklist with the modules it was measured on, and refuses one with empty slots', () => {
 		const sys = system();
 		const fields = {
@@ -312,8 +308,8 @@ describe('forms answered on the phone', () => {
 			stringProtection: 'yes',
 			ambientC: '18',
 			stopChargeProven: 'yes',
-			technicianSignature: SIG,
-			ownerSignature: SIG,
+			technicianSignature: SIGNATURE,
+			ownerSignature: SIGNATURE,
 			technicianName: 'Ilse Fenwick',
 			licenceNumber: 'EL-40917',
 			handoverName: '',

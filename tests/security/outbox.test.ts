@@ -8,7 +8,8 @@ import { eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { mailOutbox } from '$lib/server/db/schema';
 import { closeMailer } from '$lib/server/mail';
-import { inviteUser, requestPasswordReset } from '$lib/server/services/users';
+import { inviteUser } from '$lib/server/services/users';
+import { requestPasswordReset } from '$lib/server/services/account-links';
 import { actorFor, createSeededDb } from '../factories/db';
 
 const BASE = 'https://register.tidewater.example';

@@ -5,15 +5,12 @@ import {
 	auditLog,
 	claimEvents,
 	claims,
-	commissionings,
 	logMappings,
 	mailOutbox,
 	moduleEvents,
 	modules,
 	organisations,
-	sites,
-	systemSlots,
-	systems
+	systemSlots
 } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { closeMailer } from '$lib/server/mail';
@@ -40,22 +37,18 @@ import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
 import { formatSerial } from '$lib/domain/serial';
 import { POST as assessPost } from '../../src/routes/api/warranty/assess/+server';
 import { actorFor, createSeededDb } from '../factories/db';
-import { assignToDealer, makeModules, modelId } from '../factories/modules';
+import { assignToDealer, makeModules } from '../factories/modules';
+import {
+	commissionedSystem as makeCommissionedSystem,
+	TERMS,
+	type CommissionedSystemOptions
+} from '../factories/claims';
 
 const NOW = new Date('2026-03-15T10:00:00Z');
 const DAY = 86_400_000;
-const TERMS = {
-	years: 15,
-	ratedCycles: 20000,
-	endRetentionPct: 80,
-	referenceTempC: 25,
-	hotTempC: 55,
-	hotRatedCycles: 4000
-};
 
 let db: Db;
 let admin: Actor, workshop: Actor, warranty: Actor, tech: Actor, saltmarsh: Actor, ridgeline: Actor;
-let certificate = 0;
 
 beforeAll(async () => {
 	db = await createSeededDb();
@@ -72,83 +65,9 @@ beforeAll(async () => {
 });
 afterAll(async () => closeMailer(db));
 
-/** A commissioned system of `count` TC-HC-48 modules in one string, with its warranty snapshot and a passing commissioning. */
-async function commissionedSystem(
-	opts: {
-		dealer?: string;
-		count?: number;
-		startsOn?: string;
-		terms?: object;
-		stopCharge?: 'pass' | 'fail';
-	} = {}
-) {
-	const n = opts.count ?? 4;
-	const startsOn = opts.startsOn ?? '2022-03-01';
-	const serials = await makeModules(db, workshop, { count: n });
-	const dealerOrgId = await assignToDealer(db, serials, opts.dealer ?? 'Saltmarsh Solar');
-	const [site] = await db
-		.insert(sites)
-		.values({
-			dealerOrgId,
-			name: 'Heron Point cabin',
-			ownerName: 'A. Owner',
-			ownerContact: 'owner@example.invalid',
-			address: '1 Shore Lane, Port Halden',
-			application: 'off_grid_home',
-			createdBy: admin.userId!
-		})
-		.returning();
-	const [system] = await db
-		.insert(systems)
-		.values({
-			siteId: site.id,
-			name: 'House bank',
-			modelId: await modelId(db, 'TC-HC-48'),
-			series: n,
-			parallel: 1,
-			inverterMinV: 40 * n,
-			inverterMaxV: 62 * n,
-			status: 'commissioned'
-		})
-		.returning();
-	const endsOn = `${Number(startsOn.slice(0, 4)) + 15}${startsOn.slice(4)}`;
-	for (const [i, serial] of serials.entries()) {
-		const [m] = await db
-			.update(modules)
-			.set({
-				state: 'commissioned',
-				systemId: system.id,
-				commissionedAt: new Date(`${startsOn}T12:00:00Z`),
-				warrantyStartsOn: startsOn,
-				warrantyEndsOn: endsOn,
-				warrantyTerms: JSON.stringify(opts.terms ?? TERMS)
-			})
-			.where(eq(modules.serial, serial))
-			.returning();
-		await db
-			.insert(systemSlots)
-			.values({ systemId: system.id, stringNo: 1, position: i + 1, moduleId: m.id });
-	}
-	await db.insert(commissionings).values({
-		systemId: system.id,
-		certificateNo: `PLC-TEST-${++certificate}`,
-		overall: 'pass',
-		technicianUserId: tech.userId!,
-		technicianName: 'Ilse Fenwick',
-		licenceNumber: 'EL-1234',
-		measurements: '{}',
-		items: JSON.stringify([
-			{
-				key: 'stop_charge',
-				label: 'Stop-charge signal',
-				status: opts.stopCharge ?? 'pass',
-				reason: ''
-			}
-		]),
-		commissionedOn: startsOn
-	});
-	return { serials, systemId: system.id, dealerOrgId, endsOn, startsOn };
-}
+/** A commissioned system of `count` TC-HC-48 modules in one string (see tests/factories/claims.ts). */
+const commissionedSystem = (opts: CommissionedSystemOptions = {}) =>
+	makeCommissionedSystem(db, { workshop, admin, tech }, opts);
 
 /** Spare modules of a model, in stock at the assembler (or shipped to a dealer). */
 async function spares(code = 'TC-HC-48', n = 1, shippedTo?: string) {

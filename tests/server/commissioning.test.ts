@@ -14,12 +14,10 @@ import {
 	systemSlots,
 	users
 } from '$lib/server/db/schema';
-import {
-	evaluateDraft,
-	loadSystemForCommissioning,
-	submitCommissioning
-} from '$lib/server/services/commissioning';
-import { certificateData, certificatePdf } from '$lib/server/services/certificates';
+import { evaluateDraft, loadSystemForCommissioning } from '$lib/server/services/commissioning';
+import { submitCommissioning } from '$lib/server/services/commissioning-submit';
+import { certificateData } from '$lib/server/services/certificates';
+import { certificatePdf } from '$lib/server/services/certificate-pdf';
 import { closeMailer, listOutbox } from '$lib/server/mail';
 import {
 	commissioningSchema,
@@ -30,6 +28,7 @@ import { evaluateCommissioning } from '$lib/domain/commissioning';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
 import { makeModules } from '../factories/modules';
+import { SIGNATURE } from '../factories/signatures';
 
 let db: Db;
 let workshop: Actor;
@@ -111,17 +110,6 @@ async function makeSystem(
 // to 121 V, nominal 103.4 V, so IEC 60364-6 Table 6.1 asks 500 V DC and 1.0 MΩ (by the 121 V maximum).
 // Continuous 3 × 46.5 = 139.5 A, device ≥ 174.4 A (125 %, from memory); fault current per string
 // 60.5 V / 6.0 mΩ = 10 083 A. Values typed as a phone sends them, decimal commas included.
-const SIG = JSON.stringify({
-	w: 300,
-	h: 120,
-	strokes: [
-		Array.from({ length: 12 }, (_, i) => [20 + i * 20, 60 + (i % 2 ? 25 : -25)]),
-		[
-			[40, 100],
-			[260, 100]
-		]
-	]
-});
 const form = (over: Record<string, string> = {}) =>
 	commissioningSchema.parse({
 		'moduleOcvV.1.1': '50,60',
@@ -141,8 +129,8 @@ const form = (over: Record<string, string> = {}) =>
 		technicianName: 'Ilse Fenwick',
 		licenceNumber: 'EL-40917',
 		handoverName: 'Wren Tamsin',
-		technicianSignature: SIG,
-		ownerSignature: SIG,
+		technicianSignature: SIGNATURE,
+		ownerSignature: SIGNATURE,
 		cautionsAcknowledged: 'yes',
 		...over
 	});

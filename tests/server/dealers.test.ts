@@ -10,11 +10,9 @@ import {
 	setDealerActive,
 	updateDealer
 } from '$lib/server/services/dealers';
-import {
-	addRangeToShipment,
-	createShipment,
-	dispatchShipment
-} from '$lib/server/services/shipments';
+import { addRangeToShipment } from '$lib/server/services/shipment-packing';
+import { createShipment } from '$lib/server/services/shipments';
+import { dispatchShipment } from '$lib/server/services/shipment-dispatch';
 import { dealerSchema } from '$lib/schemas/dealer';
 import { closeMailer } from '$lib/server/mail';
 import type { Actor } from '$lib/server/actor';

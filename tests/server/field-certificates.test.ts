@@ -13,12 +13,9 @@ import {
 	systemSlots,
 	users
 } from '$lib/server/db/schema';
-import { submitCommissioning } from '$lib/server/services/commissioning';
-import {
-	canonicalContent,
-	certificateData,
-	verifyCertificate
-} from '$lib/server/services/certificates';
+import { submitCommissioning } from '$lib/server/services/commissioning-submit';
+import { canonicalContent, verifyCertificate } from '$lib/server/services/certificate-verification';
+import { certificateData } from '$lib/server/services/certificates';
 import {
 	addRuleSetVersion,
 	listRuleSets,
@@ -32,6 +29,7 @@ import { DEFAULT_RULE_SET } from '$lib/domain/commissioning';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
 import { makeModules } from '../factories/modules';
+import { SIGNATURE } from '../factories/signatures';
 
 let db: Db;
 let workshop: Actor;
@@ -92,11 +90,6 @@ async function twoStringSystem(parallel = 2) {
 	return { system, serials, dealer };
 }
 
-const SIG = JSON.stringify({
-	w: 300,
-	h: 120,
-	strokes: [Array.from({ length: 10 }, (_, i) => [20 + i * 25, 60 + (i % 2 ? 20 : -20)])]
-});
 const form = (over: Record<string, string> = {}) =>
 	commissioningSchema.parse({
 		'moduleOcvV.1.1': '51,65',
@@ -116,8 +109,8 @@ const form = (over: Record<string, string> = {}) =>
 		technicianName: 'Joss Carrow',
 		licenceNumber: 'EL-55120',
 		handoverName: 'Odile Prewitt',
-		technicianSignature: SIG,
-		ownerSignature: SIG,
+		technicianSignature: SIGNATURE,
+		ownerSignature: SIGNATURE,
 		cautionsAcknowledged: 'yes',
 		...over
 	});
@@ -193,7 +186,8 @@ describe('certificate: rule set version, content hash, verification', () => {
 		expect(data.installerName).toBe('Ridgeline Off-Grid Supply');
 		expect(data.assemblerName).toBe('Tidewater Cellworks');
 		expect(data.ruleSet).toMatchObject({ name: DEFAULT_RULE_SET.name, version: 1 });
-		expect(data.signatures.owner?.strokes.length).toBe(1);
+		// The fixture signs with two strokes: a zig-zag and an underline.
+		expect(data.signatures.owner?.strokes.length).toBe(2);
 		expect(data.readings.find((x) => x.what === 'Breaking capacity')?.value).toBe('25.0 kA');
 
 		const ok = await verifyCertificate(db, r.certificateNo!, row.contentHash);

@@ -3,12 +3,8 @@ import { eq } from 'drizzle-orm';
 import * as ss from 'simple-statistics';
 import type { Db } from '$lib/server/db';
 import { factoryTests, imports, modules } from '$lib/server/db/schema';
-import {
-	isoWeekOf,
-	isoWeekRange,
-	qualityFilters,
-	qualityReport
-} from '$lib/server/services/quality';
+import { isoWeekRange, qualityFilters, qualityReport } from '$lib/server/services/quality';
+import { isoWeekOf } from '$lib/domain/quality-batch';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
 import { makeModules, modelId } from '../factories/modules';

@@ -139,6 +139,7 @@ export const ROUTE_CAPABILITIES: Record<string, string> = {
 	'api/outbox/+server.ts GET': 'viewOutbox',
 	'api/prefs/fleet-columns/+server.ts GET': 'viewFleet',
 	'api/prefs/fleet-columns/+server.ts PUT': 'viewFleet',
+	'api/health/+server.ts GET': ANONYMOUS,
 	'api/public/modules/[serial]/+server.ts GET': ANONYMOUS,
 	'api/reliability/+server.ts GET': 'viewReliability',
 	'api/reliability/rate/+server.ts POST': 'viewReliability',

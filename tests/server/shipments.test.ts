@@ -13,14 +13,16 @@ import {
 import {
 	addRangeToShipment,
 	addToShipment,
+	removeFromShipment
+} from '$lib/server/services/shipment-packing';
+import {
 	createShipment,
 	deleteDraftShipment,
-	dispatchShipment,
 	getShipment,
 	listShipments,
-	removeFromShipment,
 	updateShipmentNote
 } from '$lib/server/services/shipments';
+import { dispatchShipment } from '$lib/server/services/shipment-dispatch';
 import { setDealerActive } from '$lib/server/services/dealers';
 import { closeMailer } from '$lib/server/mail';
 import { buildDigitalLink } from '$lib/domain/gs1';
@@ -389,5 +391,52 @@ describe('drafts', () => {
 		await expect(getShipment(db, workshop, sh.id)).rejects.toThrow(/no shipment/);
 		const next = await draftTo('Ridgeline Off-Grid Supply');
 		expect((await addToShipment(db, workshop, next.id, b, BASE)).outcome).toBe('added');
+	});
+});
+
+// The demo assembler keeps Etc/GMT-10: ten hours ahead of UTC all year (IANA tz database,
+// file "etcetera": the Etc/GMT sign is inverted, so GMT-10 is UTC+10). Local midnight is
+// therefore 14:00:00 UTC the day before; the days below are worked out by hand from that.
+describe('dispatch dates on the assembler’s calendar (Etc/GMT-10), either side of midnight', () => {
+	const mailOf = async (reference: string) =>
+		(await db.select().from(mailOutbox)).find((m) =>
+			m.subject.startsWith(`Shipment ${reference} `)
+		)!;
+
+	async function dispatchedAt(at: Date) {
+		const [serial] = await stock(1);
+		const sh = await draftTo('Saltmarsh Solar', at);
+		await addToShipment(db, workshop, sh.id, serial, BASE);
+		await dispatchShipment(db, workshop, sh.id, at);
+		return { sh, serial };
+	}
+
+	for (const [at, day] of [
+		['2026-11-30T13:59:59Z', '2026-11-30'], // 23:59:59 on 30 November there
+		['2026-11-30T14:00:00Z', '2026-12-01'], // 00:00:00 on 1 December there
+		['2028-02-28T14:00:00Z', '2028-02-29'], // the leap day begins
+		['2028-02-29T13:59:59Z', '2028-02-29'], // its last second
+		['2028-02-29T14:00:00Z', '2028-03-01'] // and the day after it
+	] as const)
+		it(`dates a dispatch at ${at} as ${day}: the dealer’s e-mail, the refusal after it, and a module’s refusal`, async () => {
+			const { sh, serial } = await dispatchedAt(new Date(at));
+			expect((await mailOf(sh.reference)).text).toContain(
+				`dispatched shipment ${sh.reference} to you on ${day} with 1 module`
+			);
+			const [other] = await stock(1);
+			await expect(addToShipment(db, workshop, sh.id, other, BASE)).rejects.toThrow(
+				`${sh.reference} was dispatched on ${day}; a return is recorded on the module instead.`
+			);
+			const next = await draftTo('Northbank Electrical');
+			await expect(addToShipment(db, workshop, next.id, serial, BASE)).rejects.toThrow(
+				`${serial} was shipped to Saltmarsh Solar on ${day} (${sh.reference}).`
+			);
+		});
+
+	it('numbers a shipment started in the last second of the local year with that year, the next with the new one', async () => {
+		const last = await draftTo('Saltmarsh Solar', new Date('2026-12-31T13:59:59Z'));
+		const first = await draftTo('Saltmarsh Solar', new Date('2026-12-31T14:00:00Z'));
+		expect(last.reference).toMatch(/^SH-2026-\d{4}$/);
+		expect(first.reference).toMatch(/^SH-2027-\d{4}$/);
 	});
 });

@@ -12,14 +12,9 @@ import {
 } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { createSite, getSite, listSites } from '$lib/server/services/sites';
-import {
-	createSystem,
-	designCheck,
-	getSystem,
-	nextEmptySlot,
-	placeModule,
-	removeModule
-} from '$lib/server/services/systems';
+import { createSystem, designCheck, getSystem } from '$lib/server/services/systems';
+import { nextEmptySlot } from '$lib/domain/system-slots';
+import { placeModule, removeModule } from '$lib/server/services/system-modules';
 import {
 	designCheckRequestSchema,
 	siteSchema,

@@ -15,7 +15,7 @@ import {
 } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { applyOperations } from '$lib/server/services/sync';
-import { placeModule } from '$lib/server/services/systems';
+import { placeModule } from '$lib/server/services/system-modules';
 import { UNKNOWN_SERIAL } from '$lib/server/services/modules';
 import { closeMailer } from '$lib/server/mail';
 import {
@@ -26,6 +26,7 @@ import {
 } from '$lib/schemas/sync';
 import { actorFor, createSeededDb } from '../factories/db';
 import { assignToDealer, makeModules } from '../factories/modules';
+import { SIGNATURE } from '../factories/signatures';
 
 let db: Db;
 let workshop: Actor, tech: Actor, ridgeTech: Actor, dealer: Actor;
@@ -76,17 +77,6 @@ const systemPayload = (siteId: number | string, name = 'Croft bank') => ({
 	maxDischargeA: ''
 });
 // A signature as the phone's pad sends it: strokes of points in a 300 × 120 box.
-const SIG = JSON.stringify({
-	w: 300,
-	h: 120,
-	strokes: [
-		Array.from({ length: 12 }, (_, i) => [20 + i * 20, 60 + (i % 2 ? 25 : -25)]),
-		[
-			[40, 100],
-			[260, 100]
-		]
-	]
-});
 // A passing checklist for 2 × TC-HC-48 (same figures as tests/server/commissioning.test.ts):
 // IEC 60364-6 Table 6.1 asks 500 V DC and ≥ 1.0 MΩ for a circuit up to 500 V.
 const checklist = (systemId: number | string) => ({
@@ -108,8 +98,8 @@ const checklist = (systemId: number | string) => ({
 	technicianName: 'Ilse Fenwick',
 	licenceNumber: 'EL-40917',
 	handoverName: 'Tamsin Reed',
-	technicianSignature: SIG,
-	ownerSignature: SIG,
+	technicianSignature: SIGNATURE,
+	ownerSignature: SIGNATURE,
 	cautionsAcknowledged: 'yes'
 });
 

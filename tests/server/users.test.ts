@@ -2,12 +2,8 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { mailOutbox, users } from '$lib/server/db/schema';
-import {
-	checkToken,
-	inviteUser,
-	redeemToken,
-	requestPasswordReset
-} from '$lib/server/services/users';
+import { checkToken, redeemToken, requestPasswordReset } from '$lib/server/services/account-links';
+import { inviteUser } from '$lib/server/services/users';
 import {
 	claimSignInAttempt,
 	MAX_FAILURES_PER_ACCOUNT,

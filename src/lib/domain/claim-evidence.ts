@@ -4,7 +4,7 @@
  */
 
 import { calendarDay, isCalendarDate, type CalendarSettings } from './calendar';
-import { createFormat } from '$lib/format';
+import { createFormat } from './format';
 
 const DAY_MS = 86_400_000;
 

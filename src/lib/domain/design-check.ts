@@ -23,6 +23,37 @@ export type DesignModule = Pick<
 	internalResistanceMOhm?: number;
 };
 
+/** A stored module model's row as far as the design check reads it (the DB column names). */
+export type DesignModelRow = Pick<
+	ModelSpec,
+	| 'cellsSeries'
+	| 'cellMinV'
+	| 'cellNominalV'
+	| 'cellMaxV'
+	| 'ratedAh'
+	| 'usableWh'
+	| 'maxContinuousC'
+	| 'burstC'
+> & { internalResistanceMohm?: number | null };
+
+/**
+ * The figures the design check needs, from a stored model row: the one mapping used by the
+ * server (services/systems) and by the phone's offline pages (offline/views) alike.
+ */
+export function designModuleOf(m: DesignModelRow): DesignModule {
+	return {
+		cellsSeries: m.cellsSeries,
+		cellMinV: m.cellMinV,
+		cellNominalV: m.cellNominalV,
+		cellMaxV: m.cellMaxV,
+		ratedAh: m.ratedAh,
+		usableWh: m.usableWh,
+		maxContinuousC: m.maxContinuousC,
+		burstC: m.burstC,
+		...(m.internalResistanceMohm ? { internalResistanceMOhm: m.internalResistanceMohm } : {})
+	};
+}
+
 export interface InverterWindow {
 	/** DC window the inverter operates in. */
 	minV: number;

@@ -76,15 +76,6 @@ export interface InsulationRequirement {
 export const SELV_DC_LIMIT_V = 120;
 
 /**
- * Before any insulation test on a battery circuit (common practice): it cannot be made dead,
- * and the test voltage destroys or falsifies through electronics and surge protection.
- */
-export const INSULATION_TEST_PRECAUTIONS = [
-	'A battery circuit cannot be made dead: its conductors stay live against each other while the test runs, so test each pole against earth with the battery isolator open.',
-	'Disconnect the inverter, battery management electronics and surge protective devices before the test: the test voltage can destroy them, and they falsify the reading.'
-];
-
-/**
  * Minimum insulation resistance and DC test voltage, IEC 60364-6:2016 Table 6.1 (same as
  * BS 7671:2018 Table 64): SELV/PELV 250 V / 0.5 MΩ; up to and including 500 V: 500 V /
  * 1.0 MΩ; above 500 V: 1000 V / 1.0 MΩ. The row is chosen by the highest voltage the

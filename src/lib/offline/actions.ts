@@ -5,13 +5,13 @@
  * page carries on as it does online. Nothing is sent from here.
  */
 import { evaluateCommissioning } from '$lib/domain/commissioning';
-import { checkDesign } from '$lib/domain/design-check';
+import { checkDesign, designModuleOf } from '$lib/domain/design-check';
 import { commissioningSchema, toMeasurements } from '$lib/schemas/commissioning';
 import { placeModuleSchema, siteSchema, systemSchema, toInverterWindow } from '$lib/schemas/site';
 import type { SyncOperationType } from '$lib/schemas/sync';
 import type { FieldRoute } from './routes';
 import type { QueuedOp } from './store';
-import { designModule, MODELS_KEY, offlineView, serialOfScan, type OfflineState } from './views';
+import { MODELS_KEY, offlineView, serialOfScan, type ModelRow, type OfflineState } from './views';
 
 type Fields = Record<string, string>;
 export type ActionAnswer =
@@ -72,16 +72,14 @@ export function offlineAction(
 		const parsed = systemSchema.safeParse(fields);
 		if (!parsed.success) return fail(400, { issues: issuesOf(parsed.error), values: fields });
 		const s = parsed.data;
-		const models = (state.pages.get(MODELS_KEY)?.data.models ?? []) as Parameters<
-			typeof designModule
-		>[0][];
+		const models = (state.pages.get(MODELS_KEY)?.data.models ?? []) as ModelRow[];
 		const model = models.find((m) => m.code === s.modelCode);
 		if (!model) {
 			const message = `There is no module model ${s.modelCode} on this phone; choose one from the list.`;
 			return fail(400, { message, issues: [{ path: 'modelCode', message }], values: fields });
 		}
 		const result = checkDesign({
-			module: designModule(model),
+			module: designModuleOf(model),
 			series: s.series,
 			parallel: s.parallel,
 			inverter: toInverterWindow(s)

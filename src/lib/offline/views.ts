@@ -5,7 +5,7 @@
  * Pure: the store's contents in, the page's data out (used by the offline pages and the
  * service worker).
  */
-import { checkDesign, type DesignModule } from '$lib/domain/design-check';
+import { checkDesign, designModuleOf } from '$lib/domain/design-check';
 import { currentForCRate } from '$lib/domain/model';
 import { extractSerialFromScan } from '$lib/domain/serial';
 import { DEFAULT_RULE_SET, type CommissioningSystem } from '$lib/domain/commissioning';
@@ -20,7 +20,7 @@ type Data = Record<string, unknown>;
 // The shapes below follow the page loads of src/routes/(app)/{sites,systems}/… (their services'
 // answers); tests/offline/views.test.ts compares them with the server's for the same records.
 type Slot = { stringNo: number; position: number; serial: string | null; state: string | null };
-type ModelRow = Record<string, unknown> & {
+export type ModelRow = Record<string, unknown> & {
 	id: number;
 	code: string;
 	name: string;
@@ -83,19 +83,6 @@ function nextEmpty(strings: { slots: Slot[] }[]) {
 function models(state: OfflineState): ModelRow[] {
 	return (state.pages.get(MODELS_KEY)?.data.models as ModelRow[] | undefined) ?? [];
 }
-
-/** The design check's figures of a kept model row, as the server's `designModuleOf` gives them. */
-export const designModule = (m: ModelRow): DesignModule => ({
-	cellsSeries: m.cellsSeries,
-	cellMinV: m.cellMinV,
-	cellNominalV: m.cellNominalV,
-	cellMaxV: m.cellMaxV,
-	ratedAh: m.ratedAh,
-	usableWh: m.usableWh,
-	maxContinuousC: m.maxContinuousC,
-	burstC: m.burstC,
-	...(m.internalResistanceMohm ? { internalResistanceMOhm: m.internalResistanceMohm } : {})
-});
 
 /** The site page of a site made on the phone. */
 function localSite(state: OfflineState, op: QueuedOp): Data {
@@ -196,7 +183,7 @@ function localSystem(state: OfflineState, op: QueuedOp): { data: Data; model: Mo
 			},
 			model: { id: model.id, code: model.code, name: model.name },
 			design: checkDesign({
-				module: designModule(model),
+				module: designModuleOf(model),
 				series: system.series,
 				parallel: system.parallel,
 				inverter: toInverterWindow(system)

@@ -1,5 +1,5 @@
 import { getContext, setContext } from 'svelte';
-import { createFormat, type Format } from '$lib/format';
+import { createFormat, type Format } from '$lib/domain/format';
 import type { CalendarSettings } from '$lib/domain/calendar';
 
 const KEY = Symbol('format');

@@ -3,7 +3,7 @@ import { getDb } from '$lib/server/db';
 import { AppError } from '$lib/server/errors';
 import { passwordSchema } from '$lib/schemas/auth';
 import { parseForm } from '$lib/server/validation';
-import { checkToken, redeemToken } from '$lib/server/services/users';
+import { checkToken, redeemToken } from '$lib/server/services/account-links';
 
 /** Shared load and action of the two one-time-link pages (invitation and reset). */
 export async function loadToken(

@@ -9,11 +9,9 @@ import type { Actor } from '$lib/server/actor';
 import { allocateSerials } from '$lib/server/services/allocations';
 import { registerBuild } from '$lib/server/services/builds';
 import { commitImport, previewImport } from '$lib/server/services/imports';
-import {
-	addRangeToShipment,
-	createShipment,
-	dispatchShipment
-} from '$lib/server/services/shipments';
+import { addRangeToShipment } from '$lib/server/services/shipment-packing';
+import { createShipment } from '$lib/server/services/shipments';
+import { dispatchShipment } from '$lib/server/services/shipment-dispatch';
 import { commissioningSchema } from '$lib/schemas/commissioning';
 import { BUILD_CHECKS } from '$lib/schemas/build';
 import { getModelIdByCode } from './demo-actors';

@@ -1,6 +1,6 @@
 import { createHash, randomUUID } from 'node:crypto';
 import { and, asc, eq } from 'drizzle-orm';
-import { writeTx, type Db } from '$lib/server/db';
+import { writeTx, type TxHook, type Db } from '$lib/server/db';
 import { attachments, commissionings, sites, systems, claims } from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { InvalidInputError, NotFoundError } from '$lib/server/errors';
@@ -174,7 +174,9 @@ export async function savePhoto(
 	owner: AttachmentOwner,
 	file: { name: string; type: string; bytes: Uint8Array },
 	caption?: string | null,
-	now = new Date()
+	now = new Date(),
+	/** Run inside this use case's own write transaction (the sync endpoint records its operation so). */
+	hook?: TxHook
 ) {
 	if (actor.userId === null)
 		throw new InvalidInputError('Photos are uploaded by a signed-in person.');
@@ -186,38 +188,42 @@ export async function savePhoto(
 	const fileName = safeFileName(file.name, contentType);
 	await putObject(storageKey, file.bytes, contentType);
 	try {
-		return await writeTx(db, async (tx) => {
-			const [row] = await tx
-				.insert(attachments)
-				.values({
-					ownerKind: owner.ownerKind,
-					ownerId: owner.ownerId,
-					storageKey,
-					fileName,
-					contentType,
-					bytes: file.bytes.byteLength,
-					sha256,
-					caption: caption?.trim() || null,
-					uploadedBy,
-					createdAt: now
-				})
-				.returning();
-			await recordAudit(tx, actor, {
-				action: 'attachment.add',
-				entity: 'attachment',
-				entityId: row.id,
-				after: {
-					ownerKind: row.ownerKind,
-					ownerId: row.ownerId,
-					fileName,
-					contentType,
-					bytes: row.bytes,
-					sha256
-				},
-				at: now
-			});
-			return row;
-		});
+		return await writeTx(
+			db,
+			async (tx) => {
+				const [row] = await tx
+					.insert(attachments)
+					.values({
+						ownerKind: owner.ownerKind,
+						ownerId: owner.ownerId,
+						storageKey,
+						fileName,
+						contentType,
+						bytes: file.bytes.byteLength,
+						sha256,
+						caption: caption?.trim() || null,
+						uploadedBy,
+						createdAt: now
+					})
+					.returning();
+				await recordAudit(tx, actor, {
+					action: 'attachment.add',
+					entity: 'attachment',
+					entityId: row.id,
+					after: {
+						ownerKind: row.ownerKind,
+						ownerId: row.ownerId,
+						fileName,
+						contentType,
+						bytes: row.bytes,
+						sha256
+					},
+					at: now
+				});
+				return row;
+			},
+			hook
+		);
 	} catch (e) {
 		// No row points at the stored file: remove it rather than leave an orphan.
 		await deleteObject(storageKey).catch(() => undefined);

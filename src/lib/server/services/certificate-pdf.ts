@@ -1,8 +1,9 @@
-import { PageSizes, PDFDocument, rgb, StandardFonts, type PDFFont, type PDFPage } from 'pdf-lib';
+import { rgb } from 'pdf-lib';
 import QRCode from 'qrcode';
 import type { CommissioningItem } from '$lib/domain/commissioning';
 import { signaturePath, type Signature } from '$lib/schemas/signature';
 import type { CertificateData } from './certificates';
+import { PdfWriter } from './pdf-writer';
 
 export interface CertificateExtras {
 	/** Photo bytes in certificate order; JPEG and PNG are drawn as thumbnails, others are listed. */
@@ -10,17 +11,6 @@ export interface CertificateExtras {
 	/** The verification page the QR code opens. */
 	verifyUrl: string;
 }
-
-/** Characters the standard PDF fonts (WinAnsi) cannot show, in words they can. */
-const WIN_ANSI_SWAPS: [RegExp, string][] = [
-	[/Ω/g, 'Ohm'],
-	[/≤/g, '<='],
-	[/≥/g, '>='],
-	[/→/g, '->'],
-	[/−/g, '-'],
-	[/≈/g, '~'],
-	[/[\u00a0\u2009\u202f]/g, ' ']
-];
 
 const STATUS_WORDS: Record<CommissioningItem['status'], string> = {
 	pass: 'PASS',
@@ -42,97 +32,10 @@ export async function certificatePdf(
 	data: CertificateData,
 	extras: CertificateExtras = { photos: [], verifyUrl: '' }
 ): Promise<Uint8Array> {
-	const doc = await PDFDocument.create();
-	doc.setTitle(`Commissioning certificate ${data.certificateNo}`);
-	doc.setSubject(`${data.system.name} at ${data.site.name}, commissioned ${data.commissionedOn}`);
-	doc.setCreator('Packledger');
-	const regular = await doc.embedFont(StandardFonts.Helvetica);
-	const bold = await doc.embedFont(StandardFonts.HelveticaBold);
-	const charset = new Set(regular.getCharacterSet());
-	const clean = (s: string) =>
-		[...WIN_ANSI_SWAPS.reduce((t, [re, to]) => t.replace(re, to), s)]
-			.map((ch) => (charset.has(ch.codePointAt(0)!) ? ch : '?'))
-			.join('');
-
-	const [W, H] = PageSizes.A4;
-	const LEFT = 50;
-	const WIDTH = W - 2 * LEFT;
-	const TOP = H - 50;
-	const BOTTOM = 70;
-	const ink = rgb(0.05, 0.17, 0.24);
-	const soft = rgb(0.21, 0.33, 0.42);
-	let page: PDFPage = doc.addPage(PageSizes.A4);
-	let y = TOP;
-
-	const wrap = (text: string, font: PDFFont, size: number, width: number): string[] => {
-		const lines: string[] = [];
-		for (const para of clean(text).split('\n')) {
-			let line = '';
-			for (const word of para.split(/\s+/).filter(Boolean)) {
-				const next = line ? `${line} ${word}` : word;
-				if (font.widthOfTextAtSize(next, size) <= width) line = next;
-				else {
-					if (line) lines.push(line);
-					line = word;
-					while (font.widthOfTextAtSize(line, size) > width && line.length > 1) {
-						let cut = line.length - 1;
-						while (cut > 1 && font.widthOfTextAtSize(line.slice(0, cut), size) > width) cut--;
-						lines.push(line.slice(0, cut));
-						line = line.slice(cut);
-					}
-				}
-			}
-			lines.push(line);
-		}
-		return lines;
-	};
-	const ensure = (h: number) => {
-		if (y - h < BOTTOM) {
-			page = doc.addPage(PageSizes.A4);
-			y = TOP;
-		}
-	};
-	const write = (
-		text: string,
-		o: {
-			size?: number;
-			font?: PDFFont;
-			x?: number;
-			width?: number;
-			color?: ReturnType<typeof rgb>;
-		} = {}
-	) => {
-		const size = o.size ?? 10;
-		const x = LEFT + (o.x ?? 0);
-		for (const line of wrap(text, o.font ?? regular, size, o.width ?? WIDTH - (o.x ?? 0))) {
-			ensure(size * 1.4);
-			page.drawText(line, { x, y: y - size, size, font: o.font ?? regular, color: o.color ?? ink });
-			y -= size * 1.4;
-		}
-	};
-	/** A section heading, kept on one page with at least `keep` points of what follows it. */
-	const heading = (text: string, keep = 40) => {
-		y -= 10;
-		ensure(30 + keep);
-		write(text, { size: 13, font: bold });
-		page.drawLine({
-			start: { x: LEFT, y: y + 2 },
-			end: { x: LEFT + WIDTH, y: y + 2 },
-			thickness: 0.75,
-			color: soft
-		});
-		y -= 6;
-	};
-	/** A label and its value side by side; the value wraps in its own column. */
-	const field = (label: string, value: string) => {
-		ensure(14);
-		const top = y;
-		write(label, { font: bold, width: 140 });
-		const afterLabel = y;
-		y = top;
-		write(value, { x: 150 });
-		y = Math.min(y, afterLabel);
-	};
+	const w = await PdfWriter.create();
+	w.doc.setTitle(`Commissioning certificate ${data.certificateNo}`);
+	w.doc.setSubject(`${data.system.name} at ${data.site.name}, commissioned ${data.commissionedOn}`);
+	w.doc.setCreator('Packledger');
 
 	const sys = data.system;
 	const moduleMaxV = Math.round((sys.maxV / sys.series) * 1000) / 1000;
@@ -143,49 +46,49 @@ export async function certificatePdf(
 			errorCorrectionLevel: 'M',
 			scale: 8
 		});
-		const img = await doc.embedPng(png);
-		page.drawImage(img, { x: LEFT + WIDTH - QR, y: TOP - QR, width: QR, height: QR });
+		const img = await w.doc.embedPng(png);
+		w.page.drawImage(img, { x: w.LEFT + w.WIDTH - QR, y: w.TOP - QR, width: QR, height: QR });
 	}
-	const headWidth = WIDTH - QR - 10;
-	write('Commissioning certificate', { size: 22, font: bold, width: headWidth });
-	y -= 4;
-	write(`Certificate ${data.certificateNo}`, { size: 14, font: bold, width: headWidth });
-	write(`Commissioned on ${data.commissionedOn}`, { size: 11, color: soft, width: headWidth });
-	write(`Modules made by ${data.assemblerName}; installed by ${data.installerName}.`, {
+	const headWidth = w.WIDTH - QR - 10;
+	w.write('Commissioning certificate', { size: 22, font: w.bold, width: headWidth });
+	w.y -= 4;
+	w.write(`Certificate ${data.certificateNo}`, { size: 14, font: w.bold, width: headWidth });
+	w.write(`Commissioned on ${data.commissionedOn}`, { size: 11, color: w.soft, width: headWidth });
+	w.write(`Modules made by ${data.assemblerName}; installed by ${data.installerName}.`, {
 		size: 10,
 		width: headWidth
 	});
 	if (extras.verifyUrl)
-		write('Scan the code to check that this certificate is genuine and unchanged.', {
+		w.write('Scan the code to check that this certificate is genuine and unchanged.', {
 			size: 8,
-			color: soft,
+			color: w.soft,
 			width: headWidth
 		});
-	y = Math.min(y, TOP - QR - 4);
+	w.y = Math.min(w.y, w.TOP - QR - 4);
 
-	heading('Parties');
-	field('Assembler', data.assemblerName);
-	field('Installing company', data.installerName);
-	field('Technician', `${data.technicianName}, electrical licence ${data.licenceNumber}`);
-	field('Owner (handover)', data.handoverName ?? 'not recorded');
+	w.heading('Parties');
+	w.field('Assembler', data.assemblerName);
+	w.field('Installing company', data.installerName);
+	w.field('Technician', `${data.technicianName}, electrical licence ${data.licenceNumber}`);
+	w.field('Owner (handover)', data.handoverName ?? 'not recorded');
 
-	heading('Site');
-	field('Site', data.site.name);
-	field('Address', data.site.address);
+	w.heading('Site');
+	w.field('Site', data.site.name);
+	w.field('Address', data.site.address);
 
-	heading('System');
-	field('System', sys.name);
-	field('Module model', `${sys.modelCode} (${sys.modelName})`);
-	field(
+	w.heading('System');
+	w.field('System', sys.name);
+	w.field('Module model', `${sys.modelCode} (${sys.modelName})`);
+	w.field(
 		'Arrangement',
 		`${sys.series} in series × ${sys.parallel} in parallel (${sys.series * sys.parallel} modules)`
 	);
-	field(
+	w.field(
 		'String voltage',
 		`${sys.minV} V minimum, ${sys.nominalV} V nominal, ${sys.maxV} V maximum`
 	);
-	if (sys.inverterName) field('Inverter', sys.inverterName);
-	field(
+	if (sys.inverterName) w.field('Inverter', sys.inverterName);
+	w.field(
 		'Fault current',
 		data.shortCircuitA === null
 			? 'not computed (module internal resistance not on record)'
@@ -194,56 +97,61 @@ export async function certificatePdf(
 					`${data.internalResistanceMOhm ?? '?'} mΩ module internal resistance, cable resistance neglected (conservative)`
 	);
 
-	heading('Modules');
-	for (const m of data.modules) field(`String ${m.stringNo}, position ${m.position}`, m.serial);
+	w.heading('Modules');
+	for (const m of data.modules) w.field(`String ${m.stringNo}, position ${m.position}`, m.serial);
 
-	heading('Readings and their limits', 60);
+	w.heading('Readings and their limits', 60);
 	{
 		const cols = [0, 170, 290];
-		ensure(16);
-		const top = y;
+		w.ensure(16);
+		const top = w.y;
 		(['Reading', 'Value', 'Limit'] as const).forEach((h, i) => {
-			y = top;
-			write(h, { font: bold, size: 9, x: cols[i], width: (cols[i + 1] ?? WIDTH) - cols[i] - 6 });
+			w.y = top;
+			w.write(h, {
+				font: w.bold,
+				size: 9,
+				x: cols[i],
+				width: (cols[i + 1] ?? w.WIDTH) - cols[i] - 6
+			});
 		});
 		for (const r of data.readings) {
-			ensure(14);
-			const rowTop = y;
-			let lowest = y;
+			w.ensure(14);
+			const rowTop = w.y;
+			let lowest = w.y;
 			const cells = [`${r.group}: ${r.what}`, r.value, r.limit];
 			cells.forEach((text, i) => {
-				y = rowTop;
-				write(text, {
+				w.y = rowTop;
+				w.write(text, {
 					size: 9,
 					x: cols[i],
-					width: (cols[i + 1] ?? WIDTH) - cols[i] - 6,
-					font: i === 1 ? bold : regular
+					width: (cols[i + 1] ?? w.WIDTH) - cols[i] - 6,
+					font: i === 1 ? w.bold : w.regular
 				});
-				lowest = Math.min(lowest, y);
+				lowest = Math.min(lowest, w.y);
 			});
 			// The rule sits below the descenders of the row's last line, then a little air.
-			y = lowest - 1;
-			page.drawLine({
-				start: { x: LEFT, y },
-				end: { x: LEFT + WIDTH, y },
+			w.y = lowest - 1;
+			w.page.drawLine({
+				start: { x: w.LEFT, y: w.y },
+				end: { x: w.LEFT + w.WIDTH, y: w.y },
 				thickness: 0.3,
-				color: soft
+				color: w.soft
 			});
-			y -= 3;
+			w.y -= 3;
 		}
 	}
 
-	heading('Checklist', 50);
+	w.heading('Checklist', 50);
 	for (const item of data.items) {
-		ensure(30);
-		write(`${STATUS_WORDS[item.status]}  ${item.label}`, { font: bold });
-		write(item.reason, { x: 12, size: 9, color: ink });
-		y -= 3;
+		w.ensure(30);
+		w.write(`${STATUS_WORDS[item.status]}  ${item.label}`, { font: w.bold });
+		w.write(item.reason, { x: 12, size: 9, color: w.ink });
+		w.y -= 3;
 	}
 
-	heading('Rule set');
+	w.heading('Rule set');
 	if (data.ruleSet) {
-		field(
+		w.field(
 			'Judged by',
 			`${data.ruleSet.name}; ${data.ruleSet.market === 'default' ? 'the default set (for markets without a set of their own)' : `market ${data.ruleSet.market}`}; version ${data.ruleSet.version}, in force from ${data.ruleSet.effectiveFrom}`
 		);
@@ -258,124 +166,92 @@ export async function certificatePdf(
 			['Device per string', c.stringProtection],
 			['Implausible readings', c.plausibility]
 		];
-		for (const [k, v] of cites) field(k, v);
+		for (const [k, v] of cites) w.field(k, v);
 	} else {
-		write('Judged before rule sets were recorded.', { size: 9 });
+		w.write('Judged before rule sets were recorded.', { size: 9 });
 	}
 
 	if (extras.photos.length) {
-		const TW = 150;
-		const TH = 112;
-		heading('Photos', TH + 20);
-		let col = 0;
-		for (const p of extras.photos) {
-			let img;
-			try {
-				img =
-					p.contentType === 'image/jpeg'
-						? await doc.embedJpg(p.bytes)
-						: p.contentType === 'image/png'
-							? await doc.embedPng(p.bytes)
-							: null;
-			} catch {
-				img = null;
-			}
-			if (col === 0) ensure(TH + 22);
-			const x = LEFT + col * (TW + 15);
-			if (img) {
-				const k = Math.min(TW / img.width, TH / img.height);
-				page.drawImage(img, { x, y: y - TH, width: img.width * k, height: img.height * k });
-			} else {
-				page.drawRectangle({
-					x,
-					y: y - TH,
-					width: TW,
-					height: TH,
-					borderColor: soft,
-					borderWidth: 0.5
-				});
-				page.drawText(clean('(photo kept in the register)'), {
-					x: x + 6,
-					y: y - TH / 2,
-					size: 8,
-					font: regular,
-					color: ink
-				});
-			}
-			if (p.caption)
-				page.drawText(clean(wrap(p.caption, regular, 8, TW)[0] ?? ''), {
-					x,
-					y: y - TH - 10,
-					size: 8,
-					font: regular,
-					color: ink
-				});
-			col++;
-			if (col === 3) {
-				col = 0;
-				y -= TH + 18;
-			}
-		}
-		if (col) y -= TH + 18;
+		w.heading('Photos', 112 + 20);
+		await w.thumbnails(extras.photos, '(photo kept in the register)');
 	}
 
-	heading('Sign-off', 100);
+	w.heading('Sign-off', 100);
 	const signBox = (who: string, name: string, sig: Signature | null, x: number) => {
-		const w = 230;
-		const h = 70;
-		page.drawRectangle({ x, y: y - h, width: w, height: h, borderColor: soft, borderWidth: 0.5 });
+		const bw = 230;
+		const bh = 70;
+		w.page.drawRectangle({
+			x,
+			y: w.y - bh,
+			width: bw,
+			height: bh,
+			borderColor: w.soft,
+			borderWidth: 0.5
+		});
 		if (sig) {
-			const k = Math.min((w - 10) / sig.w, (h - 10) / sig.h);
-			page.drawSvgPath(signaturePath(sig, k), {
-				x: x + 5 + (w - 10 - sig.w * k) / 2,
-				y: y - 5 - (h - 10 - sig.h * k) / 2,
+			const k = Math.min((bw - 10) / sig.w, (bh - 10) / sig.h);
+			w.page.drawSvgPath(signaturePath(sig, k), {
+				x: x + 5 + (bw - 10 - sig.w * k) / 2,
+				y: w.y - 5 - (bh - 10 - sig.h * k) / 2,
 				borderColor: rgb(0, 0, 0),
 				borderWidth: 1.2
 			});
 		} else {
-			page.drawText('not signed', { x: x + 8, y: y - h / 2, size: 9, font: regular, color: soft });
+			w.page.drawText('not signed', {
+				x: x + 8,
+				y: w.y - bh / 2,
+				size: 9,
+				font: w.regular,
+				color: w.soft
+			});
 		}
-		page.drawText(clean(`${who}: ${name}`), { x, y: y - h - 11, size: 9, font: bold, color: ink });
+		w.page.drawText(w.clean(`${who}: ${name}`), {
+			x,
+			y: w.y - bh - 11,
+			size: 9,
+			font: w.bold,
+			color: w.ink
+		});
 	};
-	ensure(100);
+	w.ensure(100);
 	signBox(
 		'Technician',
 		`${data.technicianName} (licence ${data.licenceNumber})`,
 		data.signatures.technician,
-		LEFT
+		w.LEFT
 	);
-	signBox('Owner', data.handoverName ?? 'not recorded', data.signatures.owner, LEFT + 265);
-	y -= 92;
+	signBox('Owner', data.handoverName ?? 'not recorded', data.signatures.owner, w.LEFT + 265);
+	w.y -= 92;
 
-	heading('Warranty');
-	field('Starts', data.warranty.startsOn);
-	field('Ends', data.warranty.endsOn);
-	write(
+	w.heading('Warranty');
+	w.field('Starts', data.warranty.startsOn);
+	w.field('Ends', data.warranty.endsOn);
+	w.write(
 		`Each module listed above is warranted for ${data.warranty.years} years from commissioning, or its rated cycles, whichever comes first, on the terms recorded at commissioning.`,
-		{ size: 9, color: soft }
+		{ size: 9, color: w.soft }
 	);
 
-	heading('Cautions');
+	w.heading('Cautions');
 	for (const c of data.cautions) {
-		ensure(26);
-		write(c.title, { font: bold, size: 10 });
-		write(c.text, { x: 12, size: 9 });
+		w.ensure(26);
+		w.write(c.title, { font: w.bold, size: 10 });
+		w.write(c.text, { x: 12, size: 9 });
 	}
 
-	const pages = doc.getPages();
+	const pages = w.doc.getPages();
 	pages.forEach((p, i) => {
-		const note = wrap(data.codesNote, bold, 8, WIDTH);
+		const note = w.wrap(data.codesNote, w.bold, 8, w.WIDTH);
 		note.forEach((line, j) =>
-			p.drawText(line, { x: LEFT, y: 40 - j * 10, size: 8, font: bold, color: ink })
+			p.drawText(line, { x: w.LEFT, y: 40 - j * 10, size: 8, font: w.bold, color: w.ink })
 		);
 		const hash = data.contentHash ? ` · content SHA-256 ${data.contentHash}` : '';
-		p.drawText(clean(`${data.certificateNo} · page ${i + 1} of ${pages.length}${hash}`), {
-			x: LEFT,
+		p.drawText(w.clean(`${data.certificateNo} · page ${i + 1} of ${pages.length}${hash}`), {
+			x: w.LEFT,
 			y: 40 - note.length * 10 - 2,
 			size: 8,
-			font: regular,
-			color: soft
+			font: w.regular,
+			color: w.soft
 		});
 	});
-	return doc.save({ useObjectStreams: false });
+	return w.doc.save({ useObjectStreams: false });
 }

@@ -1,23 +1,13 @@
 /**
- * A commissioning's certificate once it is issued: what it prints (fixed at commissioning),
- * its canonical content and SHA-256, the public verification behind its QR code, the PDF
- * and the mail to the dealer and the owner.
+ * A commissioning's certificate once it is issued: what it prints (fixed at commissioning) and
+ * the PDF of it. Its hash and public verification are in certificate-verification.ts, the mail
+ * to the dealer and the owner in certificate-mail.ts, the PDF layout in certificate-pdf.ts.
  */
 import { and, eq, inArray } from 'drizzle-orm';
-import { createHash } from 'node:crypto';
-import canonicalize from 'canonicalize';
 import type { Db } from '$lib/server/db';
-import {
-	commissionings,
-	moduleModels,
-	modules,
-	organisations,
-	sites,
-	systems
-} from '$lib/server/db/schema';
+import { commissionings, modules, organisations } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
-import { sendMail } from '$lib/server/mail';
 import { configuredBaseUrl } from '$lib/server/base-url';
 import {
 	readingsTable,
@@ -32,15 +22,6 @@ import { certificatePdf } from './certificate-pdf';
 import { readAttachment } from './attachments';
 import { ruleSetById, type StoredRuleSet } from './rule-sets';
 import { loadSystemForCommissioning, type SystemForCommissioning } from './commissioning';
-
-/** Where a certificate's mail went; `error` when the mail server refused it (the commissioning stands). */
-export interface CertificateMail {
-	to: string;
-	sent: boolean;
-	error?: string;
-	/** The copy to the owner, when the owner's contact is an e-mail address. */
-	owner: { to: string; sent: boolean; error?: string } | null;
-}
 
 export interface CertificateData {
 	commissioningId: number;
@@ -97,46 +78,6 @@ export interface Snapshot {
 	internalResistanceMOhm?: number | null;
 }
 
-/**
- * The certificate's canonical content: every stored field that the certificate shows,
- * serialised by RFC 8785 (JSON Canonicalization Scheme), so the same record always hashes
- * the same and any change to it changes the hash.
- */
-export function canonicalContent(row: {
-	certificateNo: string | null;
-	commissionedOn: string;
-	overall: string;
-	systemId: number;
-	technicianName: string;
-	licenceNumber: string;
-	handoverName: string | null;
-	measurements: string;
-	items: string;
-	ruleSetId: number | null;
-	ruleSetVersion: number | null;
-	technicianSignature: string | null;
-	ownerSignature: string | null;
-}): string {
-	return canonicalize({
-		certificateNo: row.certificateNo,
-		commissionedOn: row.commissionedOn,
-		overall: row.overall,
-		systemId: row.systemId,
-		technicianName: row.technicianName,
-		licenceNumber: row.licenceNumber,
-		handoverName: row.handoverName,
-		measurements: JSON.parse(row.measurements),
-		items: JSON.parse(row.items),
-		ruleSet: { id: row.ruleSetId, version: row.ruleSetVersion },
-		signatures: {
-			technician: row.technicianSignature ? JSON.parse(row.technicianSignature) : null,
-			owner: row.ownerSignature ? JSON.parse(row.ownerSignature) : null
-		}
-	})!;
-}
-
-export const sha256Hex = (text: string) => createHash('sha256').update(text, 'utf8').digest('hex');
-
 export async function organisationName(db: Db, orgId: number | null): Promise<string> {
 	const [org] = orgId
 		? await db
@@ -149,87 +90,6 @@ export async function organisationName(db: Db, orgId: number | null): Promise<st
 				.where(eq(organisations.kind, 'assembler'))
 				.limit(1);
 	return org?.name ?? 'the assembler';
-}
-
-const OWNER_EMAIL = /^[^\s@]+@[^\s@]+\.[^\s@]{2,}$/;
-
-/** The owner's e-mail address when the contact on record is one (it may be a phone number). */
-function ownerEmailOf(contact: string | null | undefined): string | null {
-	const c = contact?.trim() ?? '';
-	return c.length <= 254 && OWNER_EMAIL.test(c) ? c : null;
-}
-
-/**
- * Sends the certificate PDF to the site's dealer (or the assembler's office for its own
- * sites), and to the owner as well when the owner's contact is an e-mail address.
- */
-export async function mailCertificate(
-	db: Db,
-	actor: Actor,
-	commissioningId: number
-): Promise<CertificateMail> {
-	const data = await certificateData(db, actor, commissioningId);
-	const [org] = data.site.dealerOrgId
-		? await db
-				.select({ email: organisations.contactEmail })
-				.from(organisations)
-				.where(eq(organisations.id, data.site.dealerOrgId))
-		: await db
-				.select({ email: organisations.contactEmail })
-				.from(organisations)
-				.where(eq(organisations.kind, 'assembler'))
-				.limit(1);
-	const [siteRow] = await db
-		.select({ ownerContact: sites.ownerContact })
-		.from(sites)
-		.innerJoin(systems, eq(systems.siteId, sites.id))
-		.where(eq(systems.id, data.system.id));
-	const ownerTo = ownerEmailOf(siteRow?.ownerContact);
-	const pdf = await certificatePdf(data, await certificateExtras(db, actor, data));
-	// The dealer's copy ends with the address of the record; the owner has no account, so theirs
-	// points to the public verification page only.
-	const send = async (
-		to: string,
-		about?: string
-	): Promise<{ to: string; sent: boolean; error?: string }> => {
-		try {
-			await sendMail(db, {
-				to,
-				subject: `Commissioning certificate ${data.certificateNo}: ${data.system.name} at ${data.site.name}`,
-				text:
-					`${data.system.name} at ${data.site.name} (${data.site.address}) was commissioned on ${data.commissionedOn} by ${data.technicianName} (licence ${data.licenceNumber}) of ${data.installerName}.\n\n` +
-					`${data.modules.length} modules of ${data.system.modelCode}, ${data.system.series} in series × ${data.system.parallel} in parallel. ` +
-					`Warranty from ${data.warranty.startsOn} to ${data.warranty.endsOn}.\n\nThe certificate ${data.certificateNo} is attached as a PDF. ` +
-					`Its QR code opens a page that shows whether it is genuine and unchanged: ${verifyUrlOf(data)}\n\n${data.codesNote}\n`,
-				about,
-				attachments: [
-					{
-						filename: `${data.certificateNo}.pdf`,
-						content: Buffer.from(pdf),
-						contentType: 'application/pdf'
-					}
-				]
-			});
-			return { to, sent: true };
-		} catch (e) {
-			// The commissioning is stored either way; the page says the mail failed so someone sends the PDF by hand.
-			console.error(`Certificate ${data.certificateNo} could not be mailed to ${to}:`, e);
-			return {
-				to,
-				sent: false,
-				error: `The mail server refused the message (${(e as Error).message}); download the PDF and send it yourself.`
-			};
-		}
-	};
-	const dealer = org?.email
-		? await send(org.email, `/commissionings/${commissioningId}`)
-		: {
-				to: '',
-				sent: false,
-				error:
-					'No contact e-mail address is on record for the site’s dealer; download the PDF and send it yourself.'
-			};
-	return { ...dealer, owner: ownerTo ? await send(ownerTo) : null };
 }
 
 /** Where a certificate's QR code points: the public verification page with the content hash. */
@@ -361,78 +221,9 @@ export async function certificateData(
 	};
 }
 
-export type Verification =
-	| { state: 'unknown'; certificateNo: string }
-	| {
-			state: 'genuine' | 'altered' | 'different';
-			certificateNo: string;
-			commissionedOn: string;
-			modelCode: string;
-			series: number;
-			parallel: number;
-			serials: string[];
-			technicianName: string;
-			licenceNumber: string;
-			installerName: string | null;
-			ruleSet: string | null;
-			storedHash: string | null;
-			givenHash: string | null;
-	  };
-
-/**
- * Whether a certificate is genuine and unchanged: the hash of its canonical content,
- * recomputed from the register now, must equal the hash fixed at issue ('altered' if not),
- * and the hash printed in its QR code ('different' if that one differs: not this record's
- * certificate as issued). Public: shows what the certificate says about the modules and
- * who signed, never the owner's name or the site's address.
- */
-export async function verifyCertificate(
-	db: Db,
-	certificateNo: string,
-	givenHash: string | null
-): Promise<Verification> {
-	const no = certificateNo.slice(0, 40);
-	const [c] = await db.select().from(commissionings).where(eq(commissionings.certificateNo, no));
-	if (!c) return { state: 'unknown', certificateNo: no };
-	const [row] = await db
-		.select({ system: systems, model: moduleModels })
-		.from(systems)
-		.innerJoin(moduleModels, eq(moduleModels.id, systems.modelId))
-		.where(eq(systems.id, c.systemId));
-	const stored = JSON.parse(c.measurements) as Partial<Snapshot>;
-	const recomputed = sha256Hex(canonicalContent(c));
-	const ruleSet = c.ruleSetId ? await ruleSetById(db, c.ruleSetId) : null;
-	const state =
-		!c.contentHash || recomputed !== c.contentHash
-			? 'altered'
-			: givenHash !== null && givenHash.toLowerCase() !== c.contentHash
-				? 'different'
-				: 'genuine';
-	return {
-		state,
-		certificateNo: no,
-		commissionedOn: c.commissionedOn,
-		modelCode: row.model.code,
-		series: row.system.series,
-		parallel: row.system.parallel,
-		serials: (stored.serials ?? []).flat().filter((x): x is string => !!x),
-		technicianName: c.technicianName,
-		licenceNumber: c.licenceNumber,
-		installerName: stored.installerName ?? null,
-		ruleSet: ruleSet ? `${ruleSet.name}, version ${c.ruleSetVersion ?? ruleSet.version}` : null,
-		storedHash: c.contentHash,
-		givenHash
-	};
-}
-
-// ---------------------------------------------------------------------------
-// The certificate as a PDF
-
 /** A passing commissioning's certificate as PDF bytes, with photos and the verification QR code. */
 export async function certificatePdfFor(db: Db, actor: Actor, commissioningId: number) {
 	const data = await certificateData(db, actor, commissioningId);
 	const pdf = await certificatePdf(data, await certificateExtras(db, actor, data));
 	return { pdf, certificateNo: data.certificateNo };
 }
-
-export { certificatePdf };

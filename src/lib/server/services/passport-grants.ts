@@ -1,18 +1,16 @@
-import { createHash, randomBytes } from 'node:crypto';
 import { and, desc, eq, sql } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { moduleCellLots, modules, passportGrants, users } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { SYSTEM_ACTOR } from '$lib/server/actor';
-import { ConflictError, ForbiddenError, NotFoundError } from '$lib/server/errors';
+import { ForbiddenError, NotFoundError } from '$lib/server/errors';
 import type { PassportGrantInput } from '$lib/schemas/passport';
 import { findModule } from './modules';
 import { recordAudit } from './audit';
 import { businessDay } from './calendar';
+import { expiresAfter, hashSecret, MAX_SECRET_LENGTH, newSecret, revokeSecret } from './secrets';
 
-const sha256 = (s: string) => createHash('sha256').update(s).digest('hex');
 export const GRANT_PREFIX = 'ppa_';
-const DAY_MS = 86_400_000;
 
 type ModuleRow = typeof modules.$inferSelect;
 
@@ -38,13 +36,13 @@ export async function issueGrant(
 			.limit(1);
 		if (!hit) throw new NotFoundError(`No module carries cells from lot ${scopeValue}.`);
 	}
-	const secret = GRANT_PREFIX + randomBytes(24).toString('base64url');
-	const expiresAt = new Date(now.getTime() + input.days * DAY_MS);
+	const { secret, tokenHash, prefix } = newSecret(GRANT_PREFIX);
+	const expiresAt = expiresAfter(now, input.days * 24);
 	const [row] = await db
 		.insert(passportGrants)
 		.values({
-			tokenHash: sha256(secret),
-			prefix: secret.slice(0, 10),
+			tokenHash,
+			prefix,
 			partyKind: input.partyKind,
 			partyName: input.partyName,
 			scopeKind: input.scopeKind,
@@ -91,19 +89,20 @@ export async function listGrants(db: Db, limit = 200) {
 		.limit(limit);
 }
 
+/** Revokes an access link: it stops working at once. Audited. */
 export async function revokeGrant(db: Db, actor: Actor, id: number, now = new Date()) {
-	const [row] = await db.select().from(passportGrants).where(eq(passportGrants.id, id));
-	if (!row) throw new NotFoundError('That access link does not exist.');
-	if (row.revokedAt) throw new ConflictError(`The link for ${row.partyName} was already revoked.`);
-	await db.update(passportGrants).set({ revokedAt: now }).where(eq(passportGrants.id, id));
-	await recordAudit(db, actor, {
-		action: 'passport_grant.revoke',
-		entity: 'passport_grant',
-		entityId: id,
-		before: { revokedAt: null },
-		after: { revokedAt: now },
-		at: now
-	});
+	await revokeSecret(
+		db,
+		actor,
+		'passport_grant',
+		id,
+		{
+			action: 'passport_grant.revoke',
+			notFound: 'That access link does not exist.',
+			already: (row) => `The link for ${row.partyName} was already revoked.`
+		},
+		now
+	);
 }
 
 /**
@@ -119,11 +118,11 @@ export async function useGrant(
 	now = new Date()
 ) {
 	const [row] =
-		secret.length <= 100
+		secret.length <= MAX_SECRET_LENGTH
 			? await db
 					.select()
 					.from(passportGrants)
-					.where(eq(passportGrants.tokenHash, sha256(secret)))
+					.where(eq(passportGrants.tokenHash, hashSecret(secret)))
 			: [];
 	if (!row)
 		throw new ForbiddenError(

@@ -1,6 +1,6 @@
 import { and, asc, desc, eq, lte } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
-import { withoutTxHook, writeTx } from '$lib/server/db';
+import { writeTx } from '$lib/server/db';
 import { commissioningRuleSets, organisations } from '$lib/server/db/schema';
 import { assertCan, type Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
@@ -51,25 +51,22 @@ async function ensureDefault(db: Db): Promise<void> {
 		.where(eq(commissioningRuleSets.market, 'default'))
 		.limit(1);
 	if (any) return;
-	// Not the write a sync operation is recorded with (see withTxHook): a default of its own.
-	await withoutTxHook(() =>
-		writeTx(db, async (tx) => {
-			const [again] = await tx
-				.select({ id: commissioningRuleSets.id })
-				.from(commissioningRuleSets)
-				.where(eq(commissioningRuleSets.market, 'default'))
-				.limit(1);
-			if (again) return;
-			await tx.insert(commissioningRuleSets).values({
-				market: 'default',
-				name: DEFAULT_RULE_SET.name,
-				version: 1,
-				effectiveFrom: DEFAULT_RULE_SET.effectiveFrom,
-				limits: JSON.stringify(DEFAULT_RULE_SET.limits),
-				citations: JSON.stringify(DEFAULT_RULE_SET.citations)
-			});
-		})
-	);
+	await writeTx(db, async (tx) => {
+		const [again] = await tx
+			.select({ id: commissioningRuleSets.id })
+			.from(commissioningRuleSets)
+			.where(eq(commissioningRuleSets.market, 'default'))
+			.limit(1);
+		if (again) return;
+		await tx.insert(commissioningRuleSets).values({
+			market: 'default',
+			name: DEFAULT_RULE_SET.name,
+			version: 1,
+			effectiveFrom: DEFAULT_RULE_SET.effectiveFrom,
+			limits: JSON.stringify(DEFAULT_RULE_SET.limits),
+			citations: JSON.stringify(DEFAULT_RULE_SET.citations)
+		});
+	});
 }
 
 async function latestInForce(conn: Conn, market: string, day: string): Promise<Row | undefined> {

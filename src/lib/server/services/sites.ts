@@ -1,6 +1,6 @@
 import { and, desc, eq, like, or, sql } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
-import { writeTx } from '$lib/server/db';
+import { writeTx, type TxHook } from '$lib/server/db';
 import { moduleModels, organisations, sites, systems, systemSlots } from '$lib/server/db/schema';
 import { assertCan, dealerScopeOf, type Actor } from '$lib/server/actor';
 import { ForbiddenError, InvalidInputError, NotFoundError } from '$lib/server/errors';
@@ -87,7 +87,9 @@ export async function createSite(
 	db: Db,
 	actor: Actor,
 	input: SiteInput,
-	now = new Date()
+	now = new Date(),
+	/** Run inside this use case's own write transaction (the sync endpoint records its operation so). */
+	hook?: TxHook
 ): Promise<number> {
 	assertMayChangeSites(actor);
 	if (actor.userId === null)
@@ -108,35 +110,39 @@ export async function createSite(
 		}
 		dealerOrgId = org.id;
 	}
-	return writeTx(db, async (tx) => {
-		const [row] = await tx
-			.insert(sites)
-			.values({
-				dealerOrgId,
-				name: input.name,
-				ownerName: input.ownerName,
-				ownerContact: input.ownerContact,
-				address: input.address,
-				application: input.application,
-				climateBand: input.climateBand ?? null,
-				createdBy,
-				createdAt: now
-			})
-			.returning({ id: sites.id });
-		await recordAudit(tx, actor, {
-			action: 'site.create',
-			entity: 'site',
-			entityId: row.id,
-			after: {
-				name: input.name,
-				application: input.application,
-				climateBand: input.climateBand ?? null,
-				dealerOrgId
-			},
-			at: now
-		});
-		return row.id;
-	});
+	return writeTx(
+		db,
+		async (tx) => {
+			const [row] = await tx
+				.insert(sites)
+				.values({
+					dealerOrgId,
+					name: input.name,
+					ownerName: input.ownerName,
+					ownerContact: input.ownerContact,
+					address: input.address,
+					application: input.application,
+					climateBand: input.climateBand ?? null,
+					createdBy,
+					createdAt: now
+				})
+				.returning({ id: sites.id });
+			await recordAudit(tx, actor, {
+				action: 'site.create',
+				entity: 'site',
+				entityId: row.id,
+				after: {
+					name: input.name,
+					application: input.application,
+					climateBand: input.climateBand ?? null,
+					dealerOrgId
+				},
+				at: now
+			});
+			return row.id;
+		},
+		hook
+	);
 }
 
 const statusOf = (total: number, commissioned: number): SiteStatus =>

@@ -1,6 +1,6 @@
 import { eq } from 'drizzle-orm';
 import type { Db, Tx } from '$lib/server/db';
-import { withTxHook, writeTx } from '$lib/server/db';
+import { writeTx, type TxHook } from '$lib/server/db';
 import { syncOperations } from '$lib/server/db/schema';
 import { assertCan, type Actor } from '$lib/server/actor';
 import { AppError, ConflictError, ForbiddenError } from '$lib/server/errors';
@@ -19,8 +19,10 @@ import {
 } from '$lib/schemas/sync';
 import { z } from 'zod';
 import { createSite } from './sites';
-import { createSystem, placeModule } from './systems';
-import { loadSystemForCommissioning, submitCommissioning } from './commissioning';
+import { createSystem } from './systems';
+import { placeModule } from './system-modules';
+import { loadSystemForCommissioning } from './commissioning';
+import { submitCommissioning } from './commissioning-submit';
 import { savePhoto } from './attachments';
 
 type OpRow = typeof syncOperations.$inferSelect;
@@ -125,33 +127,46 @@ async function assertSameModules(
 		);
 }
 
-/** Runs one operation through the same schema and service as its form; returns the ref of what it made. */
+/**
+ * Runs one operation through the same schema and service as its form; returns the ref of what
+ * it made. `hook` goes to the service's own write transaction, so the operation is recorded with it.
+ */
 async function run(
 	db: Db,
 	actor: Actor,
 	op: SyncOperation,
-	opts: { baseUrl?: string; now: Date }
+	opts: { baseUrl?: string; now: Date },
+	hook: TxHook
 ): Promise<string> {
 	const p = op.payload;
 	switch (op.type) {
 		case 'createSite':
-			return String(await createSite(db, actor, parseWith(siteSchema, p), opts.now));
+			return String(await createSite(db, actor, parseWith(siteSchema, p), opts.now, hook));
 		case 'createSystem': {
 			const siteId = await resolveRef(db, actor, p, 'siteId');
 			const input = parseWith(systemSchema, p);
-			return String((await createSystem(db, actor, siteId, input, opts.now)).id);
+			return String((await createSystem(db, actor, siteId, input, opts.now, hook)).id);
 		}
 		case 'placeModule': {
 			const systemId = await resolveRef(db, actor, p, 'systemId');
 			const { scan, slot } = parseWith(placeModuleSchema, p);
-			const placed = await placeModule(db, actor, systemId, slot, scan, opts.baseUrl, opts.now);
+			const placed = await placeModule(
+				db,
+				actor,
+				systemId,
+				slot,
+				scan,
+				opts.baseUrl,
+				opts.now,
+				hook
+			);
 			return placed.serial;
 		}
 		case 'submitCommissioning': {
 			const systemId = await resolveRef(db, actor, p, 'systemId');
 			const input = parseWith(commissioningSchema, p);
 			await assertSameModules(db, actor, systemId, parseWith(serialsSchema, p.serials));
-			return String((await submitCommissioning(db, actor, systemId, input, opts.now)).id);
+			return String((await submitCommissioning(db, actor, systemId, input, opts.now, hook)).id);
 		}
 		case 'addPhoto': {
 			const systemId = await resolveRef(db, actor, p, 'systemId');
@@ -168,7 +183,8 @@ async function run(
 				{ ownerKind: 'system', ownerId: systemId },
 				file,
 				caption,
-				opts.now
+				opts.now,
+				hook
 			);
 			return String(row.id);
 		}
@@ -203,17 +219,19 @@ async function applyOne(
 			.values({ id: op.id, userId: actor.userId!, type: op.type, ref, createdAt: opts.now });
 	};
 	try {
-		const { value, hooked } = await withTxHook(
-			{
-				before: async (tx) => {
-					// A concurrent request with the same id committed first: roll this one back.
-					if (await findOp(tx, op.id)) throw new AlreadyApplied();
-				},
-				// The id and the ref go in with the write itself, or not at all.
-				after: (tx, result) => record(tx, refOf(op.type, result))
+		let hooked = false;
+		const hook: TxHook = {
+			before: async (tx) => {
+				// A concurrent request with the same id committed first: roll this one back.
+				if (await findOp(tx, op.id)) throw new AlreadyApplied();
 			},
-			() => run(db, actor, op, opts)
-		);
+			// The id and the ref go in with the write itself, or not at all.
+			after: async (tx, result) => {
+				hooked = true;
+				await record(tx, refOf(op.type, result));
+			}
+		};
+		const value = await run(db, actor, op, opts, hook);
 		if (!hooked) await writeTx(db, (tx) => record(tx, value));
 		return { id: op.id, status: 'applied', ref: asRef(value) };
 	} catch (e) {

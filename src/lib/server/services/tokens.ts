@@ -1,14 +1,12 @@
-import { createHash, randomBytes } from 'node:crypto';
 import { desc, eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { withWriteLock } from '$lib/server/db';
 import { apiTokens, users } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
-import { ConflictError, NotFoundError } from '$lib/server/errors';
 import { recordAudit } from './audit';
 import { businessDay } from './calendar';
+import { hashSecret, newSecret, revokeSecret } from './secrets';
 
-const sha256 = (s: string) => createHash('sha256').update(s).digest('hex');
 export const TOKEN_PREFIX = 'plk_';
 
 /**
@@ -16,13 +14,13 @@ export const TOKEN_PREFIX = 'plk_';
  * stored; the token can do nothing but send factory test imports.
  */
 export async function createToken(db: Db, actor: Actor, name: string, now = new Date()) {
-	const secret = TOKEN_PREFIX + randomBytes(24).toString('base64url');
+	const { secret, tokenHash, prefix } = newSecret(TOKEN_PREFIX);
 	const [row] = await db
 		.insert(apiTokens)
 		.values({
 			name,
-			tokenHash: sha256(secret),
-			prefix: secret.slice(0, 10),
+			tokenHash,
+			prefix,
 			scope: 'imports',
 			createdBy: actor.userId!,
 			createdAt: now
@@ -55,19 +53,20 @@ export async function listTokens(db: Db) {
 		.orderBy(desc(apiTokens.id));
 }
 
+/** Revokes a rig token: it stops working at once. Audited. */
 export async function revokeToken(db: Db, actor: Actor, id: number, now = new Date()) {
-	const [row] = await db.select().from(apiTokens).where(eq(apiTokens.id, id));
-	if (!row) throw new NotFoundError('That token does not exist.');
-	if (row.revokedAt) throw new ConflictError(`“${row.name}” was already revoked.`);
-	await db.update(apiTokens).set({ revokedAt: now }).where(eq(apiTokens.id, id));
-	await recordAudit(db, actor, {
-		action: 'token.revoke',
-		entity: 'api_token',
-		entityId: id,
-		before: { revokedAt: null },
-		after: { revokedAt: now },
-		at: now
-	});
+	await revokeSecret(
+		db,
+		actor,
+		'api_token',
+		id,
+		{
+			action: 'token.revoke',
+			notFound: 'That token does not exist.',
+			already: (row) => `“${row.name}” was already revoked.`
+		},
+		now
+	);
 }
 
 /** Resolves a bearer token to a rig actor, or says why it is refused. Records its last use. */
@@ -79,7 +78,7 @@ export async function verifyToken(
 	const [row] = await db
 		.select()
 		.from(apiTokens)
-		.where(eq(apiTokens.tokenHash, sha256(secret)));
+		.where(eq(apiTokens.tokenHash, hashSecret(secret)));
 	if (!row) return { error: 'This API token is not known. Ask an administrator for a rig token.' };
 	if (row.revokedAt)
 		return {

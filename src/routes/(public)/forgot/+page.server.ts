@@ -3,7 +3,7 @@ import { allowAnonymous } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { forgotSchema } from '$lib/schemas/auth';
 import { parseForm } from '$lib/server/validation';
-import { askForPasswordReset } from '$lib/server/services/users';
+import { askForPasswordReset } from '$lib/server/services/account-links';
 import { baseUrl } from '$lib/server/base-url';
 import type { Actions, PageServerLoad } from './$types';
 

@@ -13,12 +13,14 @@ import { parseForm } from '$lib/server/validation';
 import {
 	addRangeToShipment,
 	addToShipment,
+	removeFromShipment
+} from '$lib/server/services/shipment-packing';
+import {
 	deleteDraftShipment,
-	dispatchShipment,
 	getShipment,
-	removeFromShipment,
 	updateShipmentNote
 } from '$lib/server/services/shipments';
+import { dispatchShipment } from '$lib/server/services/shipment-dispatch';
 import { baseUrl } from '$lib/server/base-url';
 import { errorFrom, failFrom } from '$lib/server/http';
 import type { Actions, PageServerLoad } from './$types';

@@ -6,7 +6,8 @@ import { placeModuleSchema, removeModuleSchema } from '$lib/schemas/site';
 import { parseForm } from '$lib/server/validation';
 import { errorFrom, failFrom } from '$lib/server/http';
 import { baseUrl } from '$lib/server/base-url';
-import { getSystem, placeModule, removeModule } from '$lib/server/services/systems';
+import { getSystem } from '$lib/server/services/systems';
+import { placeModule, removeModule } from '$lib/server/services/system-modules';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {

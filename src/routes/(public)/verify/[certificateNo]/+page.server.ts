@@ -1,6 +1,6 @@
 import { allowAnonymous } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { verifyCertificate } from '$lib/server/services/certificates';
+import { verifyCertificate } from '$lib/server/services/certificate-verification';
 import type { PageServerLoad } from './$types';
 
 /** Where a certificate's QR code leads: anyone may check that it is genuine and unchanged. */

@@ -4,10 +4,8 @@ import { getDb } from '$lib/server/db';
 import { can } from '$lib/policy';
 import { commissioningSchema, photoSchema } from '$lib/schemas/commissioning';
 import { parseForm } from '$lib/server/validation';
-import {
-	loadSystemForCommissioning,
-	submitCommissioning
-} from '$lib/server/services/commissioning';
+import { loadSystemForCommissioning } from '$lib/server/services/commissioning';
+import { submitCommissioning } from '$lib/server/services/commissioning-submit';
 import { listAttachments, savePhoto } from '$lib/server/services/attachments';
 import { AppError } from '$lib/server/errors';
 import { errorFrom, failFrom } from '$lib/server/http';

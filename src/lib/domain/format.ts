@@ -4,7 +4,7 @@
  * everywhere. Calendar days (YYYY-MM-DD business dates) are printed as the day they name;
  * instants (timestamps) in the organisation's time zone. Safe for the browser.
  */
-import { DEFAULT_LOCALE, DEFAULT_TIME_ZONE, type CalendarSettings } from '$lib/domain/calendar';
+import { DEFAULT_LOCALE, DEFAULT_TIME_ZONE, type CalendarSettings } from './calendar';
 
 /** Fraction digits a unit is shown with unless the caller asks otherwise (common practice). */
 const UNIT_DIGITS: Record<string, number> = {
