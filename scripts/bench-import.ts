@@ -116,7 +116,7 @@ async function runRound(round: number) {
 			headers: { cookie: adminCookie }
 		});
 		if (!r.ok) throw new Error(`diagnostics: ${r.status} ${await r.text()}`);
-		return (await r.json()) as { maxMs: number };
+		return (await r.json()) as { maxMs: number; memoryMB: Record<string, number> };
 	};
 	const pid = server.proc.pid!;
 	await fetch(`${server.origin}/favicon.svg`);
@@ -125,6 +125,16 @@ async function runRound(round: number) {
 	await loopDelay(true);
 	const mem0 = rssMb(pid);
 	const probe = stallProbe(server.origin);
+	// The server's heap and buffers every 100 ms (where memory growth goes, when it grows).
+	const heap = { heapUsed: 0, external: 0, arrayBuffers: 0 };
+	let sampling = true;
+	const sampler = (async () => {
+		while (sampling) {
+			const m = (await loopDelay(false)).memoryMB;
+			for (const k of Object.keys(heap) as (keyof typeof heap)[]) heap[k] = Math.max(heap[k], m[k]);
+			await new Promise((r) => setTimeout(r, 100));
+		}
+	})();
 	const tA = performance.now();
 	const res = await fetch(`${server.origin}/api/imports/factory-tests?name=bench.csv`, {
 		method: 'POST',
@@ -142,6 +152,8 @@ async function runRound(round: number) {
 	const committed = await res2.json();
 	const tC = performance.now();
 	const probeMs = await probe();
+	sampling = false;
+	await sampler;
 	const stallMs = (await loopDelay(false)).maxMs;
 	if (!res2.ok || committed.import.status !== 'committed')
 		throw new Error(`commit failed: ${JSON.stringify(committed).slice(0, 300)}`);
@@ -231,7 +243,7 @@ async function runRound(round: number) {
 		load: loadavg()[0]
 	};
 	log(
-		`Round ${round + 1}: preview ${r.previewS.toFixed(2)} s, commit ${r.commitS.toFixed(2)} s → ${Math.round(r.rowsPerSecond).toLocaleString('en-GB')} rows/s; anchor ${anchorS.toFixed(2)} s → ${Math.round(r.anchorRowsPerSecond).toLocaleString('en-GB')} rows/s; ratio ${r.ratio.toFixed(2)}; server memory ${mem0.rss.toFixed(0)} → peak ${mem1.peak.toFixed(0)} MB (+${r.memoryGrowthMB.toFixed(0)}); event loop held ≤ ${stallMs.toFixed(0)} ms (slowest probe ${probeMs.toFixed(0)} ms); load ${r.load.toFixed(2)}`
+		`Round ${round + 1}: preview ${r.previewS.toFixed(2)} s, commit ${r.commitS.toFixed(2)} s → ${Math.round(r.rowsPerSecond).toLocaleString('en-GB')} rows/s; anchor ${anchorS.toFixed(2)} s → ${Math.round(r.anchorRowsPerSecond).toLocaleString('en-GB')} rows/s; ratio ${r.ratio.toFixed(2)}; server memory ${mem0.rss.toFixed(0)} → peak ${mem1.peak.toFixed(0)} MB (+${r.memoryGrowthMB.toFixed(0)}; peak heap ${heap.heapUsed} MB, external ${heap.external} MB of which buffers ${heap.arrayBuffers} MB); event loop held ≤ ${stallMs.toFixed(0)} ms (slowest probe ${probeMs.toFixed(0)} ms); load ${r.load.toFixed(2)}`
 	);
 	return r;
 }

@@ -138,6 +138,25 @@ describe('the commit in plan slices', () => {
 		expect([...seen].every((c) => c === 0 || c === n)).toBe(true);
 	});
 
+	it('an import previewed before plans were kept in slices is judged again at commit', async () => {
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'old.csv', content: csv([line(serials[3], 400_000)]), bytes: 0 },
+			NOW
+		);
+		await db.$client.execute({
+			sql: 'DELETE FROM import_plan_chunks WHERE import_id = ?',
+			args: [p.import.id]
+		});
+		const c = await commitImport(db, workshop, p.import.id, NOW);
+		expect(c.import).toMatchObject({ status: 'committed', accepted: 1, passed: 1 });
+		expect(c.preview.map((r) => r.serial)).toEqual([serials[3]]);
+		expect(
+			await db.select().from(factoryTests).where(eq(factoryTests.importId, p.import.id))
+		).toHaveLength(1);
+	});
+
 	it('a refused file leaves no plan behind', async () => {
 		// The unclosed quote is found only in a later slice of the file (after about 256 KB).
 		const rows = Array.from({ length: 6000 }, (_, i) => line(serials[3], 300_000 + i));
@@ -149,6 +168,43 @@ describe('the commit in plan slices', () => {
 		expect((await db.select({ id: importPlanChunks.id }).from(importPlanChunks)).length).toBe(
 			before
 		);
+	});
+});
+
+describe('preview and store in one call (?commit=accepted)', () => {
+	it('stores a small file in the preview’s own transaction', async () => {
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'one-call.csv', content: csv(manyRows(30, 410_000)), bytes: 0 },
+			NOW,
+			{ commit: true }
+		);
+		expect(p.committed).toBe(true);
+		expect(p.import).toMatchObject({ status: 'committed', accepted: 30, passed: 30 });
+		expect(
+			await db.select().from(factoryTests).where(eq(factoryTests.importId, p.import.id))
+		).toHaveLength(30);
+		const audit = await db.$client.execute({
+			sql: "SELECT count(*) AS n FROM audit_log WHERE action = 'import.commit' AND entity_id = ?",
+			args: [String(p.import.id)]
+		});
+		expect(Number(audit.rows[0].n)).toBe(1);
+	});
+
+	it('leaves a file of more than eight plan slices previewed, for commitImport', async () => {
+		const n = CHUNK_ROWS * 8 + 1;
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'big-one-call.csv', content: csv(manyRows(n, 420_000)), bytes: 0 },
+			NOW,
+			{ commit: true }
+		);
+		expect(p.committed).toBe(false);
+		expect(p.import.status).toBe('previewed');
+		const c = await commitImport(db, workshop, p.import.id, NOW);
+		expect(c.import).toMatchObject({ status: 'committed', accepted: n });
 	});
 });
 

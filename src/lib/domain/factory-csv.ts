@@ -742,7 +742,7 @@ export type FileScan =
 	  };
 
 /** About this many characters are split and checked at a time. */
-const SLICE_CHARS = 256 * 1024;
+const SLICE_CHARS = 64 * 1024;
 
 /** The file's line break, from its first one (Papa Parse is told it, so every slice agrees). */
 function lineBreak(text: string): '\r\n' | '\n' | '\r' {

@@ -18,9 +18,22 @@ export interface EventLoopDelay {
 	samples: number;
 	/** Since when (epoch ms). */
 	sinceMs: number;
+	/** `process.memoryUsage()` now, MB: rss, heapUsed, external, arrayBuffers. */
+	memoryMB: Record<'rss' | 'heapUsed' | 'external' | 'arrayBuffers', number>;
 }
 
 let since = 0;
+
+function memoryMB() {
+	const m = process.memoryUsage();
+	const mb = (n: number) => Math.round(n / 1e5) / 10;
+	return {
+		rss: mb(m.rss),
+		heapUsed: mb(m.heapUsed),
+		external: mb(m.external),
+		arrayBuffers: mb(m.arrayBuffers)
+	};
+}
 
 export function eventLoopDelay(reset: boolean, now = Date.now()): EventLoopDelay {
 	if (env.PACKLEDGER_DIAGNOSTICS !== '1')
@@ -36,7 +49,8 @@ export function eventLoopDelay(reset: boolean, now = Date.now()): EventLoopDelay
 		p99Ms: histogram.count ? ms(histogram.percentile(99)) : 0,
 		meanMs: histogram.count ? ms(histogram.mean) : 0,
 		samples: histogram.count,
-		sinceMs: since
+		sinceMs: since,
+		memoryMB: memoryMB()
 	};
 	if (reset) {
 		histogram.reset();

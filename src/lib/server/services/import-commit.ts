@@ -57,9 +57,10 @@ async function replan(db: Db, importId: number, now: Date): Promise<PreviewRow[]
 	const plan = planWriter(db, planKey, now);
 	try {
 		const a = await analyseFactoryFile(db, f.content, now, (chunk) => plan.write(chunk));
-		await plan.done();
+		const rest = await plan.rest();
 		await withWriteLock(db, async () =>
 			(await importWriter(db)).batch([
+				...rest,
 				{
 					sql: `UPDATE import_plan_chunks SET import_id = ?1 WHERE plan_key = ?2
 						        AND NOT EXISTS (SELECT 1 FROM import_plan_chunks WHERE import_id = ?1)`,
@@ -106,29 +107,11 @@ export async function commitImport(
 		const chunks = await planChunkIds(db, importId);
 		const tx = await (await importWriter(db)).transaction();
 		try {
-			// Claimed first, in the transaction: another app server committing the same import
-			// at the same time stores nothing twice.
-			const claimed = await tx.execute({
-				sql: "UPDATE imports SET status = 'committed', committed_at = ? WHERE id = ? AND status = 'previewed'",
-				args: [now.getTime(), importId]
-			});
-			if (claimed.rowsAffected === 0) {
+			if (!(await storePlan(tx, actor, importId, chunks, row.accepted, now))) {
 				await tx.rollback();
 				const [after] = await db.select().from(imports).where(eq(imports.id, importId));
 				return summary(after, { alreadySent: true });
 			}
-			let stored = 0;
-			for (const chunk of chunks) {
-				const [inserted] = (await tx.batch([
-					{ sql: INSERT_CHUNK_SQL, args: [chunk, importId] },
-					{ sql: STATE_UPDATE_SQL, args: [now.getTime(), chunk] },
-					{ sql: 'DELETE FROM import_plan_chunks WHERE id = ?', args: [chunk] }
-				])) as { rowsAffected: number }[];
-				stored += inserted.rowsAffected;
-				// Through the in-process client, the event loop gets a turn between slices.
-				await breathe();
-			}
-			await storeCounts(tx, actor, importId, stored, row.accepted, now);
 			await tx.commit();
 		} finally {
 			tx.close();
@@ -136,6 +119,42 @@ export async function commitImport(
 		const [after] = await db.select().from(imports).where(eq(imports.id, importId));
 		return summary(after, { preview });
 	});
+}
+
+/**
+ * Inside an open write transaction: claims the previewed import, stores its plan slices (in
+ * file order) and their states, deletes them, stores the counts and the audit entry. False
+ * when the import was no longer previewed (another app server committed it first): the caller
+ * rolls back.
+ */
+export async function storePlan(
+	tx: WriteTx,
+	actor: Actor,
+	importId: number,
+	chunks: number[],
+	planned: number,
+	now: Date
+): Promise<boolean> {
+	// Claimed first, in the transaction: another app server committing the same import at the
+	// same time stores nothing twice.
+	const claimed = await tx.execute({
+		sql: "UPDATE imports SET status = 'committed', committed_at = ? WHERE id = ? AND status = 'previewed'",
+		args: [now.getTime(), importId]
+	});
+	if (claimed.rowsAffected === 0) return false;
+	let stored = 0;
+	for (const chunk of chunks) {
+		const [inserted] = await tx.batch([
+			{ sql: INSERT_CHUNK_SQL, args: [chunk, importId] },
+			{ sql: STATE_UPDATE_SQL, args: [now.getTime(), chunk] },
+			{ sql: 'DELETE FROM import_plan_chunks WHERE id = ?', args: [chunk] }
+		]);
+		stored += inserted.rowsAffected;
+		// Through the in-process client, the event loop gets a turn between slices.
+		await breathe();
+	}
+	await storeCounts(tx, actor, importId, stored, planned, now);
+	return true;
 }
 
 /** The counts of what was stored (recounted only if rows went missing since the preview) and the audit entry. */

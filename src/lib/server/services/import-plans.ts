@@ -1,3 +1,4 @@
+import type { InStatement } from '@libsql/client';
 import type { Db } from '$lib/server/db';
 import { withWriteLock } from '$lib/server/db';
 import type { PlanChunk } from './import-analysis';
@@ -6,36 +7,49 @@ import { importWriter } from './import-writer';
 /** A plan no import row ever claimed (a preview that failed or a server that stopped) is dropped after this long. */
 const ORPHAN_MS = 60 * 60 * 1000;
 
+/** Plan slices written together (about 2 MB): a small file's plan goes with the preview's last batch. */
+const SLICES_PER_WRITE = 8;
+
+const insertSlice = (planKey: string, chunk: PlanChunk, now: Date): InStatement => ({
+	sql: 'INSERT INTO import_plan_chunks (plan_key, seq, rows, states, created_at) VALUES (?, ?, ?, ?, ?)',
+	args: [planKey, chunk.seq, chunk.rows, chunk.states, now.getTime()]
+});
+
 /**
- * Writes a preview's plan slices as they are made, each in its own short write (queued behind
- * this process's other writers, never holding the preview's loop): the reading of the file goes
- * on while a commit elsewhere holds the write lock. `done` waits for every write and rethrows
- * the first failure; `discard` removes what was written (a preview that failed stores nothing).
+ * Writes a preview's plan slices as they are made, a few at a time, each write queued behind
+ * this process's other writers without holding the preview's loop: the reading of the file
+ * goes on while a commit elsewhere holds the write lock. `rest` hands over the slices not
+ * written yet (for the preview's last batch) after waiting for every write and rethrowing the
+ * first failure; `discard` removes what was written (a preview that failed stores nothing).
  */
 export function planWriter(db: Db, planKey: string, now: Date) {
 	let queue: Promise<void> = Promise.resolve();
 	let failure: unknown = null;
+	let pending: InStatement[] = [];
 	return {
 		write(chunk: PlanChunk) {
+			pending.push(insertSlice(planKey, chunk, now));
+			if (pending.length < SLICES_PER_WRITE) return;
+			const stmts = pending;
+			pending = [];
 			queue = queue.then(() =>
 				failure
 					? undefined
-					: withWriteLock(db, async () =>
-							(await importWriter(db)).execute({
-								sql: 'INSERT INTO import_plan_chunks (plan_key, seq, rows, states, created_at) VALUES (?, ?, ?, ?, ?)',
-								args: [planKey, chunk.seq, chunk.rows, chunk.states, now.getTime()]
-							})
-						).then(
+					: withWriteLock(db, async () => (await importWriter(db)).batch(stmts)).then(
 							() => undefined,
 							(e) => void (failure = e)
 						)
 			);
 		},
-		async done() {
+		async rest(): Promise<InStatement[]> {
 			await queue;
 			if (failure) throw failure;
+			const stmts = pending;
+			pending = [];
+			return stmts;
 		},
 		async discard() {
+			pending = [];
 			await queue;
 			await withWriteLock(db, async () =>
 				(await importWriter(db)).execute({
@@ -54,15 +68,11 @@ export const claimPlanStatement = (planKey: string, sha256: string) => ({
 	args: [sha256, planKey]
 });
 
-/** Drops plan slices that no import claimed within the hour. */
-export function dropOrphanPlans(db: Db, now: Date) {
-	return withWriteLock(db, async () =>
-		(await importWriter(db)).execute({
-			sql: 'DELETE FROM import_plan_chunks WHERE import_id IS NULL AND created_at < ?',
-			args: [now.getTime() - ORPHAN_MS]
-		})
-	);
-}
+/** The statement that drops plan slices no import claimed within the hour (in the preview's last batch). */
+export const dropOrphansStatement = (now: Date): InStatement => ({
+	sql: 'DELETE FROM import_plan_chunks WHERE import_id IS NULL AND created_at < ?',
+	args: [now.getTime() - ORPHAN_MS]
+});
 
 /** The ids of an import's plan slices, in file order. */
 export async function planChunkIds(db: Db, importId: number): Promise<number[]> {

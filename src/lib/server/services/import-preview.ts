@@ -1,12 +1,14 @@
 import { createHash, randomUUID } from 'node:crypto';
 import { and, eq } from 'drizzle-orm';
+import type { InStatement } from '@libsql/client';
 import type { Db } from '$lib/server/db';
 import { withWriteLock } from '$lib/server/db';
 import { imports } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { analyseFactoryFile } from './import-analysis';
-import { claimPlanStatement, dropOrphanPlans, planWriter } from './import-plans';
+import { claimPlanStatement, dropOrphansStatement, planWriter } from './import-plans';
 import { summary, type ImportResult } from './import-summary';
+import { storePlan } from './import-commit';
 import { importWriter } from './import-writer';
 
 /** Characters hashed between two turns of the event loop. */
@@ -34,15 +36,18 @@ export async function sha256Text(text: string): Promise<string> {
  * Step one: validates a rig file and keeps it with its counts and its commit plan (the
  * accepted rows as insert-ready JSON slices, in the database, so any app server can commit
  * it), storing no results. A file already sent (same SHA-256) returns the earlier import.
- * The file is read a slice at a time and each plan slice is written as it is made, so the
- * event loop is never held for long and the whole plan is never in memory at once.
+ * The file is read a slice at a time and plan slices are written as they are made, so the
+ * event loop is never held for long and the whole plan is never in memory at once. With
+ * `commit`, a file whose plan is still all in hand (up to 8,000 accepted rows) is also stored,
+ * in the same transaction (`committed` says so); a larger one is left for `commitImport`.
  */
 export async function previewImport(
 	db: Db,
 	actor: Actor,
 	file: { name: string; content: string; bytes: number },
-	now = new Date()
-): Promise<ImportResult> {
+	now = new Date(),
+	options: { commit?: boolean } = {}
+): Promise<ImportResult & { committed?: boolean }> {
 	const sha256 = await sha256Text(file.content);
 	const [earlier] = await db
 		.select()
@@ -50,46 +55,65 @@ export async function previewImport(
 		.where(and(eq(imports.kind, 'factory_tests'), eq(imports.sha256, sha256)));
 	if (earlier) return summary(earlier, { alreadySent: true });
 
-	await dropOrphanPlans(db, now);
 	const planKey = randomUUID();
 	const plan = planWriter(db, planKey, now);
 	let id: number;
 	let preview;
+	let committed = false;
 	try {
 		const a = await analyseFactoryFile(db, file.content, now, (chunk) => plan.write(chunk));
 		preview = a.preview;
-		await plan.done();
+		const rest = await plan.rest();
 		const rejected = new Set(a.errors.map((e) => e.row)).size;
-		const result = await withWriteLock(db, async () =>
-			(await importWriter(db)).batch([
-				{
-					sql: `INSERT INTO imports (kind, sha256, file_name, bytes, uploaded_by, token_id, uploader_label, created_at, status, rows_total, accepted, rejected, duplicates, passed, failed, errors)
-					      VALUES ('factory_tests', ?, ?, ?, ?, ?, ?, ?, 'previewed', ?, ?, ?, ?, ?, ?, ?)`,
-					args: [
-						sha256,
-						file.name.slice(0, 200),
-						file.bytes,
-						actor.userId,
-						actor.tokenId ?? null,
-						actor.label,
-						now.getTime(),
-						a.rowsTotal,
-						a.accepted,
-						rejected,
-						a.duplicates.length,
-						a.passed,
-						a.accepted - a.passed,
-						JSON.stringify(a.errors)
-					]
-				},
-				{
-					sql: 'INSERT INTO import_files (import_id, content) VALUES (last_insert_rowid(), ?)',
-					args: [file.content]
-				},
-				claimPlanStatement(planKey, sha256)
-			])
-		);
-		id = Number(result[0].lastInsertRowid);
+		const statements: InStatement[] = [
+			{
+				sql: `INSERT INTO imports (kind, sha256, file_name, bytes, uploaded_by, token_id, uploader_label, created_at, status, rows_total, accepted, rejected, duplicates, passed, failed, errors)
+				      VALUES ('factory_tests', ?, ?, ?, ?, ?, ?, ?, 'previewed', ?, ?, ?, ?, ?, ?, ?)`,
+				args: [
+					sha256,
+					file.name.slice(0, 200),
+					file.bytes,
+					actor.userId,
+					actor.tokenId ?? null,
+					actor.label,
+					now.getTime(),
+					a.rowsTotal,
+					a.accepted,
+					rejected,
+					a.duplicates.length,
+					a.passed,
+					a.accepted - a.passed,
+					JSON.stringify(a.errors)
+				]
+			},
+			{
+				// As UTF-8 bytes (moved to the writer's thread, not copied), stored as text.
+				sql: 'INSERT INTO import_files (import_id, content) VALUES (last_insert_rowid(), CAST(? AS TEXT))',
+				args: [Buffer.from(file.content, 'utf8')]
+			},
+			...rest,
+			claimPlanStatement(planKey, sha256),
+			dropOrphansStatement(now)
+		];
+		// A small file sent with ?commit=accepted (its whole plan still in hand) is previewed and
+		// stored in one transaction: one sync instead of two.
+		const storeNow = options.commit === true && rest.length === a.chunks;
+		id = await withWriteLock(db, async () => {
+			const writer = await importWriter(db);
+			if (!storeNow) return Number((await writer.batch(statements))[0].lastInsertRowid);
+			const tx = await writer.transaction();
+			try {
+				const done = await tx.batch(statements);
+				const importId = Number(done[0].lastInsertRowid);
+				const chunkIds = done.slice(2, 2 + rest.length).map((r) => Number(r.lastInsertRowid));
+				await storePlan(tx, actor, importId, chunkIds, a.accepted, now);
+				await tx.commit();
+				committed = true;
+				return importId;
+			} finally {
+				tx.close();
+			}
+		});
 	} catch (e) {
 		// Nothing of a refused file stays: its plan slices go (the import row was never written).
 		await plan.discard();
@@ -102,5 +126,5 @@ export async function previewImport(
 		throw e;
 	}
 	const [row] = await db.select().from(imports).where(eq(imports.id, id));
-	return summary(row, { preview });
+	return { ...summary(row, { preview }), committed };
 }

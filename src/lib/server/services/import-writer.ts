@@ -13,9 +13,14 @@ import type { Db } from '$lib/server/db';
  * so the worker never holds a transaction another writer of this process would wait on
  * inside SQLite.
  */
+export interface StatementResult {
+	rowsAffected: number;
+	lastInsertRowid?: bigint | null;
+}
+
 export interface WriteTx {
-	execute(stmt: InStatement): Promise<{ rowsAffected: number }>;
-	batch(stmts: InStatement[]): Promise<unknown>;
+	execute(stmt: InStatement): Promise<StatementResult>;
+	batch(stmts: InStatement[]): Promise<StatementResult[]>;
 	commit(): Promise<void>;
 	rollback(): Promise<void>;
 	close(): void;
@@ -110,9 +115,16 @@ class WorkerWriter implements ImportWriter {
 		w.ref();
 		if (this.#idle) clearTimeout(this.#idle);
 		const id = this.#next++;
+		// Byte arguments (a stored file) move to the worker instead of being copied.
+		const transfer: ArrayBuffer[] = [];
+		for (const st of message.stmts ?? (message.stmt ? [message.stmt] : []))
+			if (typeof st !== 'string' && Array.isArray(st.args))
+				for (const a of st.args)
+					if (a instanceof Uint8Array && a.byteOffset === 0 && a.buffer instanceof ArrayBuffer)
+						transfer.push(a.buffer);
 		return new Promise<T>((resolve, reject) => {
 			this.#pending.set(id, { resolve: resolve as (v: unknown) => void, reject });
-			w.postMessage({ id, ...message });
+			w.postMessage({ id, ...message }, transfer);
 		});
 	}
 

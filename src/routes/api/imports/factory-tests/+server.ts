@@ -16,10 +16,18 @@ export const POST: RequestHandler = async (event) => {
 	const file = await readUploadedText(event.request, event.url, MAX_IMPORT_BYTES);
 	const db = await getDb();
 	try {
-		const preview = await previewImport(db, actor, file);
-		if (event.url.searchParams.get('commit') !== 'accepted')
-			return json(preview, { status: preview.alreadySent ? 200 : 201 });
-		const committed = await commitImport(db, actor, preview.import.id);
+		const storeToo = event.url.searchParams.get('commit') === 'accepted';
+		const { committed: storedWithPreview, ...preview } = await previewImport(
+			db,
+			actor,
+			file,
+			undefined,
+			{ commit: storeToo }
+		);
+		if (!storeToo) return json(preview, { status: preview.alreadySent ? 200 : 201 });
+		const committed = storedWithPreview
+			? { ...preview, alreadySent: false }
+			: await commitImport(db, actor, preview.import.id);
 		// Say what this call did: alreadySent only when the rows had been stored before and
 		// nothing was stored now; a file previewed earlier and stored now is not "already sent".
 		return json(
