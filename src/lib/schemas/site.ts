@@ -9,7 +9,6 @@ import type {
 	CLIMATE_BANDS as DB_CLIMATE_BANDS,
 	SITE_APPLICATIONS as DB_SITE_APPLICATIONS
 } from '$lib/server/db/schema';
-import type { InverterWindow } from '$lib/domain/design-check';
 import { designCheckInputSchema, designModuleSchema, inverterWindowSchema } from './design-check';
 import { readDecimal } from './fields';
 
@@ -192,25 +191,6 @@ export const systemSchema = z
 			issue('preferredMinV', 'Preferred minimum must be below the preferred maximum.');
 	});
 export type SystemInput = z.infer<typeof systemSchema>;
-
-/** The inverter's window as the design check takes it, from a system form or a stored system (nulls = not given). */
-export function toInverterWindow(s: {
-	inverterMinV: number;
-	inverterMaxV: number;
-	preferredMinV?: number | null;
-	preferredMaxV?: number | null;
-	maxChargeA?: number | null;
-	maxDischargeA?: number | null;
-}): InverterWindow {
-	return {
-		minV: s.inverterMinV,
-		maxV: s.inverterMaxV,
-		preferredMinV: s.preferredMinV ?? undefined,
-		preferredMaxV: s.preferredMaxV ?? undefined,
-		maxChargeA: s.maxChargeA ?? undefined,
-		maxDischargeA: s.maxDischargeA ?? undefined
-	};
-}
 
 /**
  * Body of `POST /api/design-check`: either the module's figures (`module`) or a model code
