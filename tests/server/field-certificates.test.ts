@@ -121,7 +121,9 @@ describe('readings that catch typos', () => {
 		const { system } = await twoStringSystem();
 		await expect(
 			submitCommissioning(db, tech, system.id, form({ 'stringVoltageV.1': '5165' }), DAY)
-		).rejects.toThrow(/5,165 V is about 100 times the 51\.65 V expected .* check the decimal point/);
+		).rejects.toThrow(
+			/5,165 V is about 100 times the 51\.65 V expected .* check the decimal point/
+		);
 		const rows = await db
 			.select()
 			.from(commissionings)
