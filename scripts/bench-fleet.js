@@ -6,7 +6,7 @@
 //
 //   npm run bench:fleet [-- --clients 4] [-- --requests 200] [-- --json]
 import { spawnSync } from 'node:child_process';
-import { existsSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import { loadavg } from 'node:os';
 import { createClient } from '@libsql/client';
 import { startBenchServer, signInCookie } from './lib/bench-server.js';
@@ -20,11 +20,26 @@ const CLIENTS = opt('--clients', Number(process.env.BENCH_CONCURRENCY ?? 4));
 const REQUESTS = Math.min(opt('--requests', 200), 2000);
 const asJson = args.includes('--json');
 const PORT = Number(process.env.BENCH_PORT ?? 4172);
+if (!Number.isInteger(CLIENTS) || CLIENTS < 1 || CLIENTS > 64) {
+	console.error('--clients takes a whole number from 1 to 64.');
+	process.exit(2);
+}
 const dbDir = 'data/bench-fleet';
 const FLEET = 200_000;
 const errors = new Set();
 
+/** The server's CPU time so far (user + system, ms), from /proc: a figure the machine's load does not inflate. */
+const cpuMs = (pid) => {
+	try {
+		const f = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1].split(' ');
+		return ((Number(f[11]) + Number(f[12])) * 1000) / 100; // utime, stime in 1/100 s (USER_HZ)
+	} catch {
+		return NaN;
+	}
+};
+
 async function load(origin, path, cookie) {
+	const cpu0 = cpuMs(server.proc.pid);
 	const times = [];
 	let next = 0;
 	let failures = 0;
@@ -48,7 +63,8 @@ async function load(origin, path, cookie) {
 	await Promise.all(Array.from({ length: CLIENTS }, worker));
 	times.sort((a, b) => a - b);
 	const q = (p) => times[Math.min(times.length - 1, Math.ceil(p * times.length) - 1)];
-	return { p50: q(0.5), p95: q(0.95), p99: q(0.99), max: times.at(-1), failures };
+	const cpu = (cpuMs(server.proc.pid) - cpu0) / REQUESTS;
+	return { p50: q(0.5), p95: q(0.95), p99: q(0.99), max: times.at(-1), cpu, failures };
 }
 
 async function fleetSize() {
@@ -87,10 +103,11 @@ try {
 	const first = await get('/api/modules?pageSize=10&sort=serial&dir=asc');
 	const lot = (await get('/api/modules?pageSize=10')).items[0].cellLots[0];
 	const c = createClient({ url: `file:${dbDir}/bench.db` });
+	// The largest import of the invented fleet (one per rig and test day).
 	const importId = Number(
 		(
 			await c.execute(
-				'SELECT import_id AS id FROM factory_tests GROUP BY import_id ORDER BY count(*) DESC LIMIT 1'
+				'SELECT import_id AS id FROM factory_tests WHERE import_id IS NOT NULL GROUP BY import_id ORDER BY count(*) DESC LIMIT 1'
 			)
 		).rows[0]?.id ?? 1
 	);
@@ -130,7 +147,7 @@ try {
 		const r = await load(server.origin, path, cookie);
 		out.push({ name, ...r });
 		console.log(
-			`${name.padEnd(34)} p50 ${r.p50.toFixed(1).padStart(6)}  p95 ${r.p95.toFixed(1).padStart(6)}  p99 ${r.p99.toFixed(1).padStart(6)}  max ${r.max.toFixed(1).padStart(6)}${r.failures ? `  FAILURES ${r.failures}` : ''}`
+			`${name.padEnd(34)} p50 ${r.p50.toFixed(1).padStart(6)}  p95 ${r.p95.toFixed(1).padStart(6)}  p99 ${r.p99.toFixed(1).padStart(6)}  max ${r.max.toFixed(1).padStart(6)}  server CPU ${r.cpu.toFixed(2)} ms/req${r.failures ? `  FAILURES ${r.failures}` : ''}`
 		);
 	}
 	const tr = await get(`/api/trace?lot=${encodeURIComponent(lot)}`);
@@ -138,7 +155,7 @@ try {
 	const traceName = `trace by cell lot (${tr.total} modules)`;
 	out.push({ name: traceName, ...t });
 	console.log(
-		`${traceName.padEnd(34)} p50 ${t.p50.toFixed(1).padStart(6)}  p95 ${t.p95.toFixed(1).padStart(6)}  p99 ${t.p99.toFixed(1).padStart(6)}  max ${t.max.toFixed(1).padStart(6)}`
+		`${traceName.padEnd(34)} p50 ${t.p50.toFixed(1).padStart(6)}  p95 ${t.p95.toFixed(1).padStart(6)}  p99 ${t.p99.toFixed(1).padStart(6)}  max ${t.max.toFixed(1).padStart(6)}  server CPU ${t.cpu.toFixed(2)} ms/req`
 	);
 	const fleet = out.slice(0, -1);
 	const worst = fleet.reduce((a, b) => (b.p95 > a.p95 ? b : a));
@@ -155,7 +172,14 @@ if (asJson) {
 	console.log(
 		JSON.stringify({
 			clients: CLIENTS,
-			cases: out.map((r) => ({ name: r.name, p50: r1(r.p50), p95: r1(r.p95), p99: r1(r.p99) }))
+			load: loadavg()[0],
+			cases: out.map((r) => ({
+				name: r.name,
+				p50: r1(r.p50),
+				p95: r1(r.p95),
+				p99: r1(r.p99),
+				cpuMsPerRequest: Math.round(r.cpu * 100) / 100
+			}))
 		})
 	);
 }

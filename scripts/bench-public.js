@@ -1,14 +1,17 @@
 // The public record page (what a label's QR code opens) against a bare node:http server
 // sending the same HTML, in the same run, with the same clients on 127.0.0.1.
 // Target (issue 17): the page ≥ 0.25 × the bare server's requests per second.
-// Also measured: a rescan that brings the page's ETag (304 without rendering).
+// Measured in one run, in turn: the app sending the page as it is (Accept-Encoding: identity),
+// the bare server (the same bytes), the app compressing it (gzip, as browsers ask), and a
+// rescan that brings the page's ETag (304 without rendering).
 //
 //   npm run bench:public [-- --clients 8] [-- --seconds 5] [-- --json]   (BENCH_PORT, BENCH_PORT+1)
 import { spawn } from 'node:child_process';
 import { writeFileSync } from 'node:fs';
 import { loadavg } from 'node:os';
 import { createClient } from '@libsql/client';
-import { startBenchServer } from './lib/bench-server.js';
+import { get } from 'node:http';
+import { startBenchServer, assertPortFree } from './lib/bench-server.js';
 
 const args = process.argv.slice(2);
 const opt = (name, fallback) => {
@@ -20,6 +23,21 @@ const SECONDS = Math.min(opt('--seconds', 5), 60);
 const asJson = args.includes('--json');
 const PORT = Number(process.env.BENCH_PORT ?? 4175);
 const dbDir = 'data/bench-public';
+
+/** Waits (up to 60 s) until a server answers 200 at `url`. */
+async function waitFor(url) {
+	for (const end = Date.now() + 60_000; Date.now() < end;) {
+		if (
+			await fetch(url).then(
+				(r) => r.ok,
+				() => false
+			)
+		)
+			return;
+		await new Promise((r) => setTimeout(r, 100));
+	}
+	throw new Error(`${url} did not answer within 60 s`);
+}
 
 /** Requests per second over SECONDS with CLIENTS concurrent loops, and errors. */
 async function rate(url, headers = {}, expect = 200) {
@@ -54,7 +72,8 @@ try {
 	);
 	c.close();
 	const url = `${server.origin}/m/${serial}`;
-	const first = await fetch(url);
+	const identity = { 'accept-encoding': 'identity' };
+	const first = await fetch(url, { headers: identity });
 	const html = await first.text();
 	const etag = first.headers.get('etag');
 	if (first.status !== 200 || !etag)
@@ -62,6 +81,7 @@ try {
 	// The bare server: a child process of its own (like the app), the same bytes and type.
 	writeFileSync(`${dbDir}/page.html`, html);
 	const barePort = PORT + 1;
+	await assertPortFree(barePort);
 	bare = spawn(
 		'node',
 		[
@@ -71,21 +91,22 @@ try {
 		{ stdio: 'inherit' }
 	);
 	const bareUrl = `http://127.0.0.1:${barePort}/`;
-	for (let i = 0; i < 50; i++) {
-		if (
-			await fetch(bareUrl).then(
-				(r) => r.ok,
-				() => false
-			)
-		)
-			break;
-		await new Promise((r) => setTimeout(r, 100));
-	}
-	// Warm both, then measure in turn: app, bare, app's revalidation.
-	await rate(url);
+	await waitFor(bareUrl);
+	// The compressed page's size, as a browser receives it.
+	const zipped = await new Promise((resolve, reject) =>
+		get(url, { headers: { 'accept-encoding': 'gzip' } }, (res) => {
+			let n = 0;
+			res.on('data', (c) => (n += c.length));
+			res.on('end', () => resolve({ bytes: n, encoding: res.headers['content-encoding'] }));
+		}).on('error', reject)
+	);
+	// Warm both, then measure in turn: app, bare, app with gzip, app's revalidation.
+	await rate(url, identity);
+	await rate(bareUrl, identity);
 	const loadBefore = load();
-	const app = await rate(url);
-	const plain = await rate(bareUrl);
+	const app = await rate(url, identity);
+	const plain = await rate(bareUrl, identity);
+	const gzipped = await rate(url, { 'accept-encoding': 'gzip' });
 	const revalidated = await rate(url, { 'if-none-match': etag }, 304);
 	const result = {
 		clients: CLIENTS,
@@ -94,13 +115,16 @@ try {
 		appPerSecond: Math.round(app.perSecond),
 		barePerSecond: Math.round(plain.perSecond),
 		ratio: Math.round((app.perSecond / plain.perSecond) * 1000) / 1000,
+		gzipBytes: zipped.encoding === 'gzip' ? zipped.bytes : null,
+		gzipPerSecond: Math.round(gzipped.perSecond),
+		gzipRatio: Math.round((gzipped.perSecond / plain.perSecond) * 1000) / 1000,
 		revalidatedPerSecond: Math.round(revalidated.perSecond),
 		revalidatedRatio: Math.round((revalidated.perSecond / plain.perSecond) * 1000) / 1000,
-		errors: app.errors + plain.errors + revalidated.errors,
+		errors: app.errors + plain.errors + gzipped.errors + revalidated.errors,
 		load: `${loadBefore} → ${load()}`
 	};
 	console.log(
-		`Public record /m/${serial} (${(result.htmlBytes / 1024).toFixed(1)} KB), ${CLIENTS} clients × ${SECONDS} s: app ${result.appPerSecond} req/s, bare node:http ${result.barePerSecond} req/s → ratio ${result.ratio} (target ≥ 0.25); with If-None-Match ${result.revalidatedPerSecond} req/s (304) → ${result.revalidatedRatio}; errors ${result.errors}; load ${result.load}`
+		`Public record /m/${serial} (${(result.htmlBytes / 1024).toFixed(1)} KB), ${CLIENTS} clients × ${SECONDS} s: app ${result.appPerSecond} req/s, bare node:http ${result.barePerSecond} req/s → ratio ${result.ratio} (target ≥ 0.25); gzip (${((result.gzipBytes ?? 0) / 1024).toFixed(1)} KB) ${result.gzipPerSecond} req/s → ${result.gzipRatio}; with If-None-Match ${result.revalidatedPerSecond} req/s (304) → ${result.revalidatedRatio}; errors ${result.errors}; load ${result.load}`
 	);
 	if (asJson) console.log(JSON.stringify(result));
 	if (result.errors) process.exitCode = 1;

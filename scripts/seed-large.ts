@@ -218,6 +218,61 @@ await insertJson(
 	moduleRows
 );
 await insertJson('module_cell_lots', ['module_id', 'lot_code'], lotRows);
+// One import per rig and test day (UTC), as the rig uploads its day's file: the fleet's
+// `importId` filter then meets imports of a realistic size (a few hundred results).
+const importOf = new Map<number, number>();
+const perDay = new Map<number, number>();
+for (const r of testRows) {
+	const d = Math.floor(Number(r[2]) / DAY);
+	perDay.set(d, (perDay.get(d) ?? 0) + 1);
+}
+const testDays = [...perDay.keys()].sort((a, b) => a - b);
+const firstImport = Number(
+	(await c.execute('SELECT coalesce(max(id), 0) + 1 AS id FROM imports')).rows[0].id
+);
+testDays.forEach((d, i) => importOf.set(d, firstImport + i));
+await insertJson(
+	'imports',
+	[
+		'id',
+		'kind',
+		'sha256',
+		'file_name',
+		'bytes',
+		'uploaded_by',
+		'uploader_label',
+		'status',
+		'rows_total',
+		'accepted',
+		'rejected',
+		'duplicates',
+		'errors',
+		'created_at',
+		'committed_at'
+	],
+	testDays.map((d) => {
+		const n = perDay.get(d)!;
+		const day = new Date(d * DAY).toISOString().slice(0, 10);
+		return [
+			importOf.get(d),
+			'factory_tests',
+			`large-${day}`.padEnd(64, '0'),
+			`rig-1-${day}.csv`,
+			n * 80,
+			workshopId,
+			'RIG-1 (invented fleet)',
+			'committed',
+			n,
+			n,
+			0,
+			0,
+			'[]',
+			d * DAY + 20 * 3_600_000,
+			d * DAY + 20 * 3_600_000
+		];
+	})
+);
+for (const r of testRows) r.push(importOf.get(Math.floor(Number(r[2]) / DAY))!);
 await insertJson(
 	'factory_tests',
 	[
@@ -231,7 +286,8 @@ await insertJson(
 		'insulation_mohm',
 		'outcome',
 		'failures',
-		'rig'
+		'rig',
+		'import_id'
 	],
 	testRows
 );

@@ -1,12 +1,9 @@
 import { sequence } from '@sveltejs/kit/hooks';
 import type { ServerInit } from '@sveltejs/kit';
 import { authHandle, standardAuthEndpoints } from '$lib/server/auth';
-import {
-	actorHandle,
-	assertAuthSecret,
-	contextHandle,
-	publicRevalidation
-} from '$lib/server/hooks';
+import { actorHandle, assertAuthSecret, contextHandle } from '$lib/server/hooks';
+import { publicPage } from '$lib/server/public-page';
+import { compressHtml } from '$lib/server/compression';
 import { getDb } from '$lib/server/db';
 import { securityHeaders } from '$lib/server/security-headers';
 import { originCheck } from '$lib/server/origin-check';
@@ -17,11 +14,12 @@ export const init: ServerInit = async () => {
 };
 
 export const handle = sequence(
+	compressHtml,
 	securityHeaders,
 	originCheck,
 	contextHandle,
 	standardAuthEndpoints,
 	authHandle,
 	actorHandle,
-	publicRevalidation
+	publicPage
 );

@@ -2,6 +2,7 @@
 // Every benchmark passes its own port (127.0.0.1 only); BENCH_PORT overrides the default.
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, rmSync } from 'node:fs';
+import { createServer } from 'node:net';
 
 export async function startBenchServer({
 	port = Number(process.env.BENCH_PORT ?? 4171),
@@ -35,7 +36,12 @@ export async function startBenchServer({
 		const s = spawnSync('npm', ['run', 'db:seed', '--silent'], { stdio: 'inherit', env });
 		if (s.status !== 0) throw new Error('seed failed');
 	}
-	const proc = spawn('node', [build], { stdio: ['ignore', 'ignore', 'inherit'], env });
+	// Another server already on the port would answer the health probe, take the benchmark's
+	// requests and, when its owner stops it, reset them: refuse to start instead.
+	await assertPortFree(port);
+	// BENCH_NODE_ARGS passes flags to the server's node, e.g. "--cpu-prof --cpu-prof-dir=tmp/prof".
+	const nodeArgs = (process.env.BENCH_NODE_ARGS ?? '').split(' ').filter(Boolean);
+	const proc = spawn('node', [...nodeArgs, build], { stdio: ['ignore', 'ignore', 'inherit'], env });
 	let stopping = false;
 	// A server that dies under load says so (and how), rather than surfacing as a client's ECONNRESET.
 	proc.once('exit', (code, signal) => {
@@ -44,14 +50,7 @@ export async function startBenchServer({
 				`\nThe benchmark's server (pid ${proc.pid}) exited unexpectedly: ${signal ? `signal ${signal}` : `exit code ${code}`}.`
 			);
 	});
-	for (let i = 0; i < 100; i++) {
-		try {
-			if ((await fetch(`${origin}/signin`)).ok) break;
-		} catch {
-			/* not up yet */
-		}
-		await new Promise((r) => setTimeout(r, 200));
-	}
+	await waitForHealth(origin, proc);
 	return {
 		origin,
 		env,
@@ -61,6 +60,42 @@ export async function startBenchServer({
 			proc.kill('SIGTERM');
 		}
 	};
+}
+
+/** Throws when something already listens on 127.0.0.1:port. */
+export function assertPortFree(port) {
+	return new Promise((resolve, reject) => {
+		const probe = createServer();
+		probe.once('error', () =>
+			reject(new Error(`Port ${port} is in use by another process: pass a free BENCH_PORT.`))
+		);
+		probe.listen(port, '127.0.0.1', () => probe.close(() => resolve()));
+	});
+}
+
+/**
+ * Waits until GET /api/health answers 200: migrations on a 200,000-module register (new
+ * indexes, the serial search table) can take a minute on a busy machine, so the wait is long
+ * (BENCH_START_TIMEOUT seconds, default 300) and ends at once if the server exits.
+ */
+export async function waitForHealth(origin, proc) {
+	const limit = Date.now() + Number(process.env.BENCH_START_TIMEOUT ?? 300) * 1000;
+	let exited = false;
+	proc?.once('exit', () => (exited = true));
+	while (Date.now() < limit && !exited) {
+		try {
+			if ((await fetch(`${origin}/api/health`)).ok) return;
+		} catch {
+			/* not up yet */
+		}
+		await new Promise((r) => setTimeout(r, 250));
+	}
+	proc?.kill('SIGTERM');
+	throw new Error(
+		exited
+			? `The benchmark's server at ${origin} exited before it was ready.`
+			: `The benchmark's server at ${origin} was not ready within ${process.env.BENCH_START_TIMEOUT ?? 300} s (BENCH_START_TIMEOUT).`
+	);
 }
 
 /** Signs in through Auth.js's standard endpoints; returns a Cookie header value. */

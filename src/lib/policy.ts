@@ -101,7 +101,9 @@ export const POLICY = {
 	/** Every e-mail the register has sent. */
 	viewOutbox: ADMIN,
 	/** The append-only audit trail. */
-	viewAudit: ADMIN
+	viewAudit: ADMIN,
+	/** The server's own measurements (event-loop delay), when PACKLEDGER_DIAGNOSTICS=1. */
+	viewDiagnostics: ADMIN
 } as const satisfies Record<string, readonly RoleName[]>;
 
 export type Capability = keyof typeof POLICY;

@@ -62,7 +62,8 @@ const EXPECTED: Record<string, string[]> = {
 	manageRuleSets: [A],
 	manageTokens: [A],
 	viewOutbox: [A],
-	viewAudit: [A]
+	viewAudit: [A],
+	viewDiagnostics: [A]
 };
 
 describe('policy: named capabilities and the roles that hold them', () => {

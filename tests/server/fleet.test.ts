@@ -27,7 +27,8 @@ import {
 	type FleetQuery
 } from '$lib/schemas/fleet';
 import type { Actor } from '$lib/server/actor';
-import { actorFor, createSeededDb } from '../factories/db';
+import { actorFor, createSeededDb, createTestDb } from '../factories/db';
+import { openDb } from '$lib/server/db/client';
 import { assignToDealer, makeModules } from '../factories/modules';
 
 let db: Db;
@@ -358,6 +359,53 @@ describe('dealer scope', () => {
 	});
 });
 
+describe('counts kept between requests', () => {
+	it('follow writes from this process and from a second app server on the same file', async () => {
+		const a = await createSeededDb();
+		const url = (await a.$client.execute('PRAGMA database_list')).rows[0].file as string;
+		const b = await openDb(`file:${url}`);
+		const admin = await actorFor(a, 'admin@tidewater.example');
+		const workshop = await actorFor(a, 'workshop@tidewater.example');
+		const count = async (db: Db) => (await listModules(db, admin, q({ model: 'TC-HC-12' }))).total;
+		expect(await count(a)).toBe(0);
+		expect(await count(a)).toBe(0); // now kept
+		// A write through this process's own pool …
+		await makeModules(a, workshop, { code: 'TC-HC-12', count: 2 });
+		expect(await count(a)).toBe(2);
+		// … and one by another process (its own client on the same file).
+		expect(await count(b)).toBe(2);
+		await b.$client.execute({
+			sql: `INSERT INTO modules (serial, model_id, state) SELECT 'PL12-26-' || printf('%06d', 900000 + value) || 'X', (SELECT id FROM module_models WHERE code = 'TC-HC-12'), 'allocated' FROM json_each('[1,2,3]')`
+		});
+		expect(await count(a)).toBe(5);
+		expect(await count(b)).toBe(5);
+		// The trigram index follows inserts made outside the services too.
+		expect((await listModules(a, admin, q({ q: '900002' }))).items.map((i) => i.serial)).toEqual([
+			'PL12-26-900002X'
+		]);
+	});
+
+	it('gives instants exactly as Date.prototype.toISOString does (the JSON of a Date)', async () => {
+		const c = await createTestDb();
+		// Milliseconds on both sides of midnight, the year 2000 and 2028 leap days, a far year.
+		const ms = [
+			0,
+			1,
+			999,
+			Date.UTC(2000, 1, 29, 23, 59, 59, 999),
+			Date.UTC(2028, 1, 29, 0, 0, 0, 1),
+			Date.UTC(2026, 11, 31, 23, 59, 59, 998),
+			Date.UTC(2099, 6, 1, 12, 30, 15, 123),
+			...Array.from({ length: 200 }, (_, i) => 1_700_000_000_000 + i * 86_399_997)
+		];
+		const r = await c.$client.execute({
+			sql: `SELECT json_group_array(strftime('%Y-%m-%dT%H:%M:%fZ', value / 1000.0, 'unixepoch')) FROM json_each(?)`,
+			args: [JSON.stringify(ms)]
+		});
+		expect(JSON.parse(String(r.rows[0][0]))).toEqual(ms.map((m) => new Date(m).toISOString()));
+	});
+});
+
 describe('exportModules', () => {
 	it('writes a header, every matching row in the table order, and neutralises formula-looking cells', async () => {
 		const csv = await exportModules(db, staff, q({ sort: 'serial', dir: 'asc' }));
@@ -533,7 +581,50 @@ describe('a larger register', () => {
 					bigDealer,
 					{ sort: 'serial', dir: 'asc', page: 2 },
 					(r) => r.dealer === bigDealer.organisationId
-				]
+				],
+				// Combined filters, each plan: state + model by serial, state by dealer, text inside a
+				// serial (trigram index for 3+ characters), the scope with a state by model or tested.
+				[
+					null,
+					{ state: 'shipped', model: 'TC-HC-48', sort: 'serial', dir: 'asc', page: 2 },
+					(r) => r.state === 'shipped' && codeOf.get(r.modelId) === 'TC-HC-48'
+				],
+				[
+					null,
+					{ state: 'shipped', sort: 'dealer', dir: 'asc', page: 3 },
+					(r) => r.state === 'shipped'
+				],
+				[null, { q: '00012', sort: 'builtAt', dir: 'desc' }, (r) => r.serial.includes('00012')],
+				[null, { q: '5-0001', sort: 'state', dir: 'asc' }, (r) => r.serial.includes('5-0001')],
+				[
+					bigDealer,
+					{ state: 'commissioned', sort: 'model', dir: 'desc', page: 2 },
+					(r) => r.dealer === bigDealer.organisationId && r.state === 'commissioned'
+				],
+				[
+					bigDealer,
+					{ state: 'shipped', model: 'TC-HC-24', sort: 'serial', dir: 'desc' },
+					(r) =>
+						r.dealer === bigDealer.organisationId &&
+						r.state === 'shipped' &&
+						codeOf.get(r.modelId) === 'TC-HC-24'
+				],
+				[
+					bigDealer,
+					{ q: '000', sort: 'shippedAt', dir: 'asc', page: 2 },
+					(r) => r.dealer === bigDealer.organisationId && r.serial.includes('000')
+				],
+				[
+					null,
+					{ model: 'TC-HC-24', builtFrom: '2025-04-01', sort: 'state', dir: 'desc', page: 4 },
+					(r) => codeOf.get(r.modelId) === 'TC-HC-24' && r.builtAt! >= Date.UTC(2025, 3, 1)
+				],
+				[
+					null,
+					{ state: 'in_stock', sort: 'shippedAt', dir: 'desc', page: 2 },
+					(r) => r.state === 'in_stock'
+				],
+				[null, { sort: 'builtAt', dir: 'asc', page: 150 }, () => true]
 			];
 		const sortKey: Record<string, (r: (typeof rows)[number]) => string | number | null> = {
 			serial: (r) => r.serial,
@@ -554,12 +645,15 @@ describe('a larger register', () => {
 					return (a.id - b.id) * sign;
 				})
 				.map((r) => r.serial);
-			const got = await listModules(big, actor ?? staff, query);
-			const from = (query.page - 1) * query.pageSize;
-			expect(got.total, JSON.stringify(raw)).toBe(expected.length);
-			expect(serials(got), JSON.stringify(raw)).toEqual(
-				expected.slice(from, from + query.pageSize)
-			);
+			// Every plan gives the same page: the default, always walking an index in order (few 0),
+			// always reading the matches through their filters and sorting them (few unbounded).
+			for (const few of [undefined, 0, Infinity]) {
+				const got = await listModules(big, actor ?? staff, query, { few });
+				const from = (query.page - 1) * query.pageSize;
+				const what = `${JSON.stringify(raw)} few ${few}`;
+				expect(got.total, what).toBe(expected.length);
+				expect(serials(got), what).toEqual(expected.slice(from, from + query.pageSize));
+			}
 		}
 	});
 });

@@ -2,7 +2,10 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { mailOutbox, moduleEvents } from '$lib/server/db/schema';
-import { sendServiceNotice, traceCsv, traceModules } from '$lib/server/services/trace';
+import { sendServiceNotice, traceCsv, traceJson, traceModules } from '$lib/server/services/trace';
+import { modules } from '$lib/server/db/schema';
+import { inArray } from 'drizzle-orm';
+import { STATE_LABELS } from '$lib/module-states';
 import { dashboardFigures, mondayOf } from '$lib/server/services/dashboard';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
@@ -33,6 +36,63 @@ describe('traceability', () => {
 			])
 		);
 		expect(r.items.find((i) => i.serial === lotA[4])!.whereNow).toMatch(/^Workshop/);
+	});
+
+	it('answers the API as one JSON text: items by serial without ids, counts per dealer', async () => {
+		const r = JSON.parse(await traceJson(db, { lot: 'HCL-2611-A' }));
+		expect(Object.keys(r)).toEqual(['total', 'truncated', 'byDealer', 'items']);
+		expect([r.total, r.truncated]).toEqual([5, false]);
+		const rows = await db
+			.select({ serial: modules.serial, builtAt: modules.builtAt })
+			.from(modules)
+			.where(inArray(modules.serial, lotA));
+		const sorted = [...lotA].sort();
+		expect(r.items.map((i: { serial: string }) => i.serial)).toEqual(sorted);
+		const first = r.items[0];
+		expect(Object.keys(first)).toEqual([
+			'serial',
+			'state',
+			'model',
+			'builtAt',
+			'dealer',
+			'site',
+			'system',
+			'whereNow'
+		]);
+		// The instant as JSON.stringify gives a Date.
+		expect(first.builtAt).toBe(rows.find((x) => x.serial === sorted[0])!.builtAt!.toISOString());
+		const where = Object.fromEntries(
+			r.items.map((i: { serial: string; whereNow: string }) => [i.serial, i.whereNow])
+		);
+		expect(where[lotA[0]]).toBe('At Saltmarsh Solar');
+		expect(where[lotA[4]]).toBe(`Workshop — ${STATE_LABELS.built}`);
+		// Most units first; a tie keeps the order of the first serial.
+		expect(r.byDealer.map((d: { dealer: string; count: number }) => [d.dealer, d.count])).toEqual([
+			['Saltmarsh Solar', 2],
+			['Tidewater Cellworks (not shipped)', 2],
+			['Ridgeline Off-Grid Supply', 1]
+		]);
+	});
+
+	it('reads build dates as days on the assembler calendar (Etc/GMT-10 is UTC+10, IANA tz database)', async () => {
+		// 13:59:59.999Z is 23:59:59.999 on 1 March there; 14:00Z is midnight starting 2 March.
+		const own = await createSeededDb();
+		const workshop = await actorFor(own, 'workshop@tidewater.example');
+		const pair = await makeModules(own, workshop, { count: 2, built: 2, lots: ['HCL-2603-Z'] });
+		await own
+			.update(modules)
+			.set({ builtAt: new Date('2026-03-01T13:59:59.999Z') })
+			.where(eq(modules.serial, pair[0]));
+		await own
+			.update(modules)
+			.set({ builtAt: new Date('2026-03-01T14:00:00.000Z') })
+			.where(eq(modules.serial, pair[1]));
+		const day = async (d: string) =>
+			(await traceModules(own, { lot: 'HCL-2603-Z', builtFrom: d, builtTo: d })).items.map(
+				(i) => i.serial
+			);
+		expect(await day('2026-03-01')).toEqual([pair[0]]);
+		expect(await day('2026-03-02')).toEqual([pair[1]]);
 	});
 
 	it('exports the list as CSV', async () => {

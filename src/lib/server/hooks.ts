@@ -4,8 +4,6 @@ import { requestContext } from '$lib/server/request-context';
 import type { Actor } from '$lib/server/actor';
 import { verifyToken } from '$lib/server/services/tokens';
 import { findActor } from '$lib/server/services/actors';
-import { getPublicRecord, publicRecordEtag } from '$lib/server/services/modules';
-import { version } from '$app/environment';
 
 /** Makes the client's address visible to Auth.js's authorize (for rate limiting). */
 export const contextHandle: Handle = ({ event, resolve }) =>
@@ -84,39 +82,3 @@ export function assertAuthSecret(): void {
 		process.exit(1);
 	}
 }
-
-/**
- * An anonymous GET of a public record that brings the validator it was given answers 304
- * without rendering: the record comes from the in-memory cache (one small query for the
- * data version), and the hash is compared. Anything else goes on to the page.
- */
-export const publicRevalidation: Handle = async ({ event, resolve }) => {
-	const { pathname } = event.url;
-	const tag = event.request.headers.get('if-none-match');
-	if (
-		!tag ||
-		event.locals.user ||
-		event.request.method !== 'GET' ||
-		pathname.length > 60 ||
-		!pathname.startsWith('/m/')
-	)
-		return resolve(event);
-	const serial = /^\/m\/([A-Za-z0-9-]{1,40})\/?$/.exec(pathname)?.[1];
-	if (!serial) return resolve(event);
-	try {
-		const record = await getPublicRecord(
-			await getDb(),
-			serial,
-			new Date().toISOString().slice(0, 10)
-		);
-		const etag = publicRecordEtag(record, version);
-		if (tag.split(',').some((t) => t.trim() === etag))
-			return new Response(null, {
-				status: 304,
-				headers: { etag, 'cache-control': 'public, no-cache', vary: 'Cookie' }
-			});
-	} catch {
-		// An unknown serial: the page itself answers with its 404.
-	}
-	return resolve(event);
-};

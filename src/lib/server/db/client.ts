@@ -17,11 +17,40 @@ export async function openDb(url: string = DEFAULT_DATABASE_URL, authToken?: str
 		mkdirSync(dirname(resolve(path)), { recursive: true });
 	}
 	const client = createClient({ url, authToken, timeout: 5000 });
-	if (url.startsWith('file:') && !url.includes(':memory:')) {
+	const local = url.startsWith('file:') && !url.includes(':memory:');
+	if (local) {
 		// WAL lets the fleet table read while the workshop writes; it persists in the file.
 		await client.execute('PRAGMA journal_mode = WAL');
 	}
-	return drizzle(client, { schema }) as Db;
+	const db = drizzle(client, { schema }) as Db;
+	if (local) localUrls.set(db, url);
+	return db;
+}
+
+const localUrls = new WeakMap<object, string>();
+const readers = new WeakMap<object, Client>();
+
+/**
+ * The connection that large read-only queries (fleet, trace, public record) run on. For a
+ * local file it is a connection of its own that never writes: its page cache is 64 MB (the
+ * pool's connections keep SQLite's 2,000 pages, ~8 MB, and read a 150 MB register through
+ * the operating system page by page), and `PRAGMA data_version` on it changes with every
+ * commit by any other connection, this process's writes included (see `dataVersion`).
+ * Through a libSQL server or for `:memory:` it is the client itself.
+ */
+export function readerOf(db: Db): Client {
+	const url = localUrls.get(db);
+	if (!url) return db.$client;
+	let reader = readers.get(db);
+	if (!reader) {
+		// One connection: SQLite calls run on this thread one at a time anyway, and it never
+		// holds a transaction, so nothing waits behind one.
+		reader = createClient({ url, timeout: 5000, concurrency: 1 });
+		readers.set(db, reader);
+		void reader.execute('PRAGMA cache_size = -65536');
+		void reader.execute('PRAGMA query_only = 1');
+	}
+	return reader;
 }
 
 export async function migrateDb(db: Db, migrationsFolder = resolve('drizzle')): Promise<void> {
@@ -29,23 +58,30 @@ export async function migrateDb(db: Db, migrationsFolder = resolve('drizzle')): 
 }
 
 const locks = new WeakMap<object, Promise<unknown>>();
-const localWrites = new WeakMap<object, number>();
 
 /**
- * A value that changes whenever the data may have changed: this process's write count
- * (writes through `withWriteLock`), this connection's `total_changes()`, and SQLite's
- * `PRAGMA data_version`, which
- * changes when another connection (another app server on the same file) commits. Through
- * a remote libSQL server there is no such signal: null, and callers do not cache.
+ * A value that changes whenever the data may have changed, for caches that must stay right
+ * across several app servers on one file. It is `PRAGMA data_version` read on the reader
+ * connection (`readerOf`): SQLite changes it whenever another connection — another process,
+ * or this process's own pool, which is where every write is made — commits (sqlite.org,
+ * "PRAGMA data_version"). The reader never writes, so no write goes unseen; and it is one
+ * connection for the life of the process, so two values are always comparable (values of two
+ * different connections are not). Read it before the data it guards: a commit in between
+ * then only costs a second read. Through a remote libSQL server there is no such signal:
+ * null, and callers do not cache.
  */
 export async function dataVersion(db: Db): Promise<string | null> {
-	const url = (db.$client as { protocol?: string }).protocol;
-	if (url !== 'file') return null;
-	// total_changes() counts this connection's own writes, even one made outside withWriteLock.
-	const r = await db.$client.execute(
-		'SELECT data_version, total_changes() FROM pragma_data_version()'
-	);
-	return `${Number(r.rows[0][0])}:${Number(r.rows[0][1])}:${localWrites.get(db) ?? 0}`;
+	if (!localUrls.has(db)) return null;
+	const r = await readerOf(db).execute('PRAGMA data_version');
+	return String(r.rows[0][0]);
+}
+
+/**
+ * `dataVersion` as an SQL expression, for a statement on the reader connection that reads
+ * the version in the same snapshot as its data; NULL where there is no version.
+ */
+export function dataVersionSql(db: Db): string {
+	return localUrls.has(db) ? '(SELECT data_version FROM pragma_data_version())' : 'NULL';
 }
 
 /**
@@ -64,7 +100,6 @@ export async function withWriteLock<T>(db: Db, fn: () => Promise<T>): Promise<T>
 	try {
 		return await fn();
 	} finally {
-		localWrites.set(db, (localWrites.get(db) ?? 0) + 1);
 		release();
 		if (locks.get(db) === chained) locks.delete(db);
 	}

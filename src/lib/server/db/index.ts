@@ -16,5 +16,5 @@ export function getDb(): Promise<Db> {
 }
 
 export type { Db, Tx } from './client';
-export { writeTx, withWriteLock, runBatch, dataVersion } from './client';
+export { writeTx, withWriteLock, runBatch, dataVersion, dataVersionSql, readerOf } from './client';
 export type { TxHook } from './client';

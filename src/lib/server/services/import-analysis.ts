@@ -22,11 +22,7 @@ export interface PreviewRow {
 	failures: string[];
 }
 
-/**
- * What a file comes to. `rows` is the insert-ready JSON array of the accepted rows (one
- * array per row, in TEST_COLUMNS order without the import id); `states` the JSON array of
- * [module id, outcome, tested at] of each module's latest accepted result.
- */
+/** What a file comes to; its accepted rows went to the plan slices (`PlanChunk`) as they were judged. */
 export interface Analysis {
 	rowsTotal: number;
 	accepted: number;
@@ -34,9 +30,23 @@ export interface Analysis {
 	errors: RowError[];
 	duplicates: { row: number; serial: string }[];
 	preview: PreviewRow[];
+	chunks: number;
+}
+
+/**
+ * One slice of the commit plan: `rows` the insert-ready JSON array of up to `CHUNK_ROWS`
+ * accepted rows (one array per row, in PLAN_COLUMNS order), `states` the JSON array of
+ * [module id, outcome, tested at] of each module's latest result among them (a later row wins
+ * a tie, as across slices, which the commit applies in `seq` order).
+ */
+export interface PlanChunk {
+	seq: number;
 	rows: string;
 	states: string;
 }
+
+/** Rows per plan slice: the commit's longest statement stores this many (tens of ms). */
+export const CHUNK_ROWS = 1000;
 
 /** The columns each accepted row fills, in the order of its JSON array (import id apart). */
 export const PLAN_COLUMNS = [
@@ -71,13 +81,29 @@ const breathe = () => new Promise<void>((r) => setImmediate(r));
  * serials and row keys are looked up in one query each, with the values as one JSON
  * parameter and the answer as one JSON value (no per-parameter or per-row cost).
  */
-export async function analyseFactoryFile(db: Db, content: string, now: Date): Promise<Analysis> {
+export async function analyseFactoryFile(
+	db: Db,
+	content: string,
+	now: Date,
+	emit: (chunk: PlanChunk) => void
+): Promise<Analysis> {
 	const models = new Map((await db.select().from(moduleModels)).map((m) => [m.id, m]));
 	const errors: RowError[] = [];
 	const duplicates: Analysis['duplicates'] = [];
 	const preview: PreviewRow[] = [];
-	const parts: string[] = [];
-	const latest = new Map<number, { ms: number; pass: boolean }>();
+	let parts: string[] = [];
+	let latest = new Map<number, { ms: number; pass: boolean }>();
+	let accepted = 0;
+	let seq = 0;
+	const flush = () => {
+		if (parts.length === 0) return;
+		const states: string[] = [];
+		for (const [id, l] of latest) states.push(`[${id},"${l.pass ? 'pass' : 'fail'}",${l.ms}]`);
+		emit({ seq: seq++, rows: `[${parts.join(',')}]`, states: `[${states.join(',')}]` });
+		accepted += parts.length;
+		parts = [];
+		latest = new Map();
+	};
 	let passed = 0;
 	let held: Held[] = [];
 	let serialColumn = 'serial';
@@ -142,6 +168,7 @@ export async function analyseFactoryFile(db: Db, content: string, now: Date): Pr
 			);
 			const last = latest.get(mod.id);
 			if (!last || last.ms <= h.testedAtMs) latest.set(mod.id, { ms: h.testedAtMs, pass });
+			if (parts.length >= CHUNK_ROWS) flush();
 			if (preview.length < PREVIEW_ROWS)
 				preview.push({
 					row: h.row,
@@ -190,16 +217,6 @@ export async function analyseFactoryFile(db: Db, content: string, now: Date): Pr
 	for (const e of errors) if (e.column === 'serial') e.column = serialColumn;
 	errors.push(...file.errors);
 	errors.sort((a, b) => a.row - b.row);
-	const states: string[] = [];
-	for (const [id, l] of latest) states.push(`[${id},"${l.pass ? 'pass' : 'fail'}",${l.ms}]`);
-	return {
-		rowsTotal: file.rowsTotal,
-		accepted: parts.length,
-		passed,
-		errors,
-		duplicates,
-		preview,
-		rows: `[${parts.join(',')}]`,
-		states: `[${states.join(',')}]`
-	};
+	flush();
+	return { rowsTotal: file.rowsTotal, accepted, passed, errors, duplicates, preview, chunks: seq };
 }

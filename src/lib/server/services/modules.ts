@@ -187,11 +187,12 @@ function preparePublicQuery(db: Db) {
 }
 
 /**
- * Public records already built, per serial and day, kept while the data version stands
- * (`dataVersion`: this process's writes and SQLite's data_version for other processes). The
- * record is the same for everyone, so one read serves every scan of a label until a write.
+ * Public records already built, per database, serial and day, kept while the data version
+ * stands (`dataVersion`: PRAGMA data_version on a read-only connection, which every commit by
+ * this process or another app server on the file changes). The record is the same for
+ * everyone, so one read serves every scan of a label until a write.
  */
-const publicCache = new Map<string, { version: string; record: PublicRecord }>();
+const publicCaches = new WeakMap<Db, Map<string, { version: string; record: PublicRecord }>>();
 
 /** The public record of a module: rated data, build month, warranty state, contact. No customer data. */
 export async function getPublicRecord(db: Db, serialText: string, today: string) {
@@ -202,6 +203,8 @@ export async function getPublicRecord(db: Db, serialText: string, today: string)
 		);
 	const version = await dataVersion(db);
 	const key = `${parsed.serial}|${today}`;
+	let publicCache = publicCaches.get(db);
+	if (!publicCache) publicCaches.set(db, (publicCache = new Map()));
 	const hit = version ? publicCache.get(key) : undefined;
 	if (hit && hit.version === version) return hit.record;
 	let query = preparedFor.get(db);

@@ -1,5 +1,6 @@
 import { desc, eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
+import { withWriteLock } from '$lib/server/db';
 import { apiTokens, users } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { recordAudit } from './audit';
@@ -83,7 +84,14 @@ export async function verifyToken(
 		return {
 			error: `This API token (“${row.name}”) was revoked on ${await businessDay(db, row.revokedAt)}. Ask an administrator for a new one.`
 		};
-	await db.update(apiTokens).set({ lastUsedAt: now }).where(eq(apiTokens.id, row.id));
+	// The last use, to the minute: a rig sending every few seconds writes once a minute. The
+	// write queues with this process's other writers (during a long import commit it waits its
+	// turn instead of busy-waiting for SQLite's lock on the event loop), and the request does
+	// not wait for it.
+	if (!row.lastUsedAt || now.getTime() - row.lastUsedAt.getTime() >= 60_000)
+		void withWriteLock(db, () =>
+			db.update(apiTokens).set({ lastUsedAt: now }).where(eq(apiTokens.id, row.id))
+		).catch((e) => console.warn('token last use not recorded:', e));
 	return {
 		actor: {
 			userId: null,

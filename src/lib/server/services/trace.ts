@@ -1,9 +1,8 @@
-import { and, eq, gte, lt, sql, type SQL } from 'drizzle-orm';
 import { CAUTIONS_IN_BRIEF } from '$lib/safety';
 import Papa from 'papaparse';
 import type { Db } from '$lib/server/db';
 import { withWriteLock } from '$lib/server/db';
-import { moduleModels, modules, organisations, sites, systems } from '$lib/server/db/schema';
+import { organisations } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { InvalidInputError } from '$lib/server/errors';
 import { neutraliseCell } from '$lib/domain/factory-csv';
@@ -11,119 +10,9 @@ import { STATE_LABELS } from '$lib/module-states';
 import type { TraceQuery } from '$lib/schemas/trace';
 import { sendMail } from '$lib/server/mail';
 import { fleetSearch } from '$lib/schemas/fleet';
-import { addCalendarDays, startOfCalendarDay } from '$lib/domain/calendar';
-import { assemblerCalendar } from './calendar';
+import { TRACE_LIMIT, traceModules } from './trace-query';
 
-export const TRACE_LIMIT = 50_000;
-
-function conditions(q: TraceQuery, timeZone: string): SQL[] {
-	const where: SQL[] = [];
-	if (q.lot)
-		where.push(
-			sql`${modules.id} IN (SELECT module_id FROM module_cell_lots WHERE lot_code = ${q.lot})`
-		);
-	if (q.model) where.push(eq(moduleModels.code, q.model));
-	// Build dates are days on the assembler's calendar: a range runs from the first day's
-	// start to the end of the last day in its time zone.
-	if (q.builtFrom) where.push(gte(modules.builtAt, startOfCalendarDay(q.builtFrom, timeZone)));
-	if (q.builtTo)
-		where.push(lt(modules.builtAt, startOfCalendarDay(addCalendarDays(q.builtTo, 1), timeZone)));
-	if (q.importId)
-		where.push(
-			sql`${modules.id} IN (SELECT module_id FROM factory_tests WHERE import_id = ${q.importId})`
-		);
-	return where;
-}
-
-/**
- * Finds the modules affected by a cell lot, model, build date range or import, and where
- * each is now: in the workshop, at which dealer, at which site. For the assembler's staff.
- */
-export async function traceModules(db: Db, q: TraceQuery) {
-	const { timeZone } = await assemblerCalendar(db);
-	// One JSON value back instead of one result row per module: libSQL's row
-	// materialisation and drizzle's mapping cost ~6 µs a row, JSON.parse well under 1.
-	const v = db
-		.select({
-			id: modules.id,
-			serial: modules.serial,
-			state: modules.state,
-			model: sql`${moduleModels.code}`.as('model'),
-			builtAt: modules.builtAt,
-			dealerId: modules.dealerOrgId,
-			dealer: sql`${organisations.name}`.as('dealer'),
-			site: sql`${sites.name}`.as('site'),
-			system: sql`${systems.name}`.as('system')
-		})
-		.from(modules)
-		.innerJoin(moduleModels, eq(modules.modelId, moduleModels.id))
-		.leftJoin(organisations, eq(modules.dealerOrgId, organisations.id))
-		.leftJoin(systems, eq(modules.systemId, systems.id))
-		.leftJoin(sites, eq(systems.siteId, sites.id))
-		.where(and(...conditions(q, timeZone)))
-		.orderBy(modules.serial)
-		.limit(TRACE_LIMIT + 1)
-		.as('v');
-	const [{ json }] = await db
-		.select({
-			json: sql<string>`json_group_array(json_array(${v.id}, ${v.serial}, ${v.state}, ${v.model}, ${v.builtAt}, ${v.dealerId}, ${v.dealer}, ${v.site}, ${v.system}))`
-		})
-		.from(v);
-	type Packed = [
-		number,
-		string,
-		string,
-		string,
-		number | null,
-		number | null,
-		string | null,
-		string | null,
-		string | null
-	];
-	const rows = (JSON.parse(json) as Packed[]).map(
-		([id, serial, state, model, built, dealerId, dealer, site, system]) => ({
-			id,
-			serial,
-			state: state as (typeof modules.$inferSelect)['state'],
-			model,
-			builtAt: built === null ? null : new Date(built),
-			dealerId,
-			dealer,
-			site,
-			system
-		})
-	);
-	const truncated = rows.length > TRACE_LIMIT;
-	const items = rows.slice(0, TRACE_LIMIT).map((r) => ({ ...r, whereNow: whereNow(r) }));
-	const byDealer = new Map<
-		string,
-		{ dealer: string; dealerId: number | null; count: number; atSites: number }
-	>();
-	for (const r of items) {
-		const key = r.dealer ?? 'Tidewater Cellworks (not shipped)';
-		const entry = byDealer.get(key) ?? { dealer: key, dealerId: r.dealerId, count: 0, atSites: 0 };
-		entry.count++;
-		if (r.site) entry.atSites++;
-		byDealer.set(key, entry);
-	}
-	return {
-		items,
-		truncated,
-		total: items.length,
-		byDealer: [...byDealer.values()].sort((a, b) => b.count - a.count)
-	};
-}
-
-function whereNow(r: {
-	state: string;
-	dealer: string | null;
-	site: string | null;
-	system: string | null;
-}) {
-	if (r.site) return `${r.site} (${r.system}), via ${r.dealer ?? 'Tidewater Cellworks'}`;
-	if (r.dealer) return `At ${r.dealer}`;
-	return `Workshop — ${STATE_LABELS[r.state] ?? r.state}`;
-}
+export { TRACE_LIMIT, traceJson, traceModules, type TraceItem } from './trace-query';
 
 export async function traceCsv(db: Db, q: TraceQuery): Promise<string> {
 	const { items } = await traceModules(db, q);

@@ -1,7 +1,7 @@
 import { json } from '@sveltejs/kit';
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { listModules } from '$lib/server/services/fleet';
+import { listModulesJson } from '$lib/server/services/fleet';
 import { fleetQueryProblem, parseFleetQuery } from '$lib/schemas/fleet';
 import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
@@ -12,7 +12,10 @@ export const GET: RequestHandler = async (event) => {
 	const query = parseFleetQuery(event.url.searchParams);
 	if (!query.success) return json(fleetQueryProblem(query.error), { status: 400 });
 	try {
-		return json(await listModules(await getDb(), actor, query.data));
+		// The page comes from SQLite as JSON text already: passed on as it is, not parsed and re-encoded.
+		return new Response(await listModulesJson(await getDb(), actor, query.data), {
+			headers: { 'content-type': 'application/json' }
+		});
 	} catch (e) {
 		return jsonFrom(e);
 	}

@@ -24,7 +24,7 @@ export const load: PageServerLoad = async (event) => {
 				)
 			: null;
 		// Without a session the page is the same for everyone: a validator, so a rescan of the
-		// label (or a proxy) revalidates with If-None-Match and gets 304 (see hooks' publicRevalidation).
+		// label (or a proxy) revalidates with If-None-Match and gets 304 (see src/lib/server/public-page.ts).
 		if (!user)
 			event.setHeaders({
 				etag: publicRecordEtag(publicRecord, version),

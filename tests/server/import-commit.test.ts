@@ -1,0 +1,169 @@
+import { createHash } from 'node:crypto';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { eq } from 'drizzle-orm';
+import { createClient } from '@libsql/client';
+import type { Db } from '$lib/server/db';
+import { factoryTests, importPlanChunks, imports, modules } from '$lib/server/db/schema';
+import { commitImport, previewImport } from '$lib/server/services/imports';
+import { sha256Text } from '$lib/server/services/import-preview';
+import { CHUNK_ROWS } from '$lib/server/services/import-analysis';
+import type { Actor } from '$lib/server/actor';
+import { actorFor, createSeededDb } from '../factories/db';
+import { makeModules } from '../factories/modules';
+
+const HEADER =
+	'serial,tested_at,capacity_ah,energy_wh,dcir_mohm,ocv_v,cell_spread_mv,insulation_mohm,ambient_c,rig,operator';
+const base = Date.parse('2026-11-20T00:00:00Z');
+const at = (i: number) => new Date(base + i * 1000).toISOString();
+const line = (serial: string, i: number, cap = 46.8) =>
+	`${serial},${at(i)},${cap},2390,5.1,51.2,8,500,22.5,RIG-2,T.Vale`;
+const csv = (lines: string[]) => [HEADER, ...lines].join('\r\n') + '\r\n';
+const NOW = new Date('2026-11-25T00:00:00Z');
+
+let db: Db;
+let workshop: Actor;
+let serials: string[];
+beforeAll(async () => {
+	db = await createSeededDb();
+	workshop = await actorFor(db, 'workshop@tidewater.example');
+	serials = await makeModules(db, workshop, { count: 4, built: 4 });
+});
+
+/** More rows than one plan slice holds: three modules tested again and again. */
+function manyRows(n: number, offset: number, failAt = -1) {
+	return Array.from({ length: n }, (_, i) =>
+		line(serials[i % 3], offset + i, i === failAt ? 44 : 46.8)
+	);
+}
+
+describe('the commit in plan slices', () => {
+	it('keeps a plan of several slices and stores all of it, the latest result of each module setting its state', async () => {
+		const n = CHUNK_ROWS * 2 + 7;
+		// The last row of module 0 fails (44 Ah is below the 45 Ah minimum of TC-HC-48), in the
+		// third slice; module 1's and 2's last rows pass.
+		const lastOf0 = n - 1 - ((n - 1) % 3);
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'many.csv', content: csv(manyRows(n, 0, lastOf0)), bytes: 0 },
+			NOW
+		);
+		expect(p.import).toMatchObject({ accepted: n, rejected: 0, failed: 1 });
+		const chunks = await db
+			.select()
+			.from(importPlanChunks)
+			.where(eq(importPlanChunks.importId, p.import.id));
+		expect(chunks.map((c) => c.seq)).toEqual([0, 1, 2]);
+
+		const c = await commitImport(db, workshop, p.import.id, NOW);
+		expect(c.import).toMatchObject({ status: 'committed', accepted: n, passed: n - 1, failed: 1 });
+		const stored = await db
+			.select({ id: factoryTests.id })
+			.from(factoryTests)
+			.where(eq(factoryTests.importId, p.import.id));
+		expect(stored).toHaveLength(n);
+		const state = async (s: string) =>
+			(await db.select().from(modules).where(eq(modules.serial, s)))[0];
+		expect((await state(serials[0])).state).toBe('test_failed');
+		expect((await state(serials[0])).testedAt?.toISOString()).toBe(at(lastOf0));
+		expect((await state(serials[1])).state).toBe('in_stock');
+		// The plan is gone once stored.
+		expect(
+			await db.select().from(importPlanChunks).where(eq(importPlanChunks.importId, p.import.id))
+		).toEqual([]);
+	});
+
+	it('stores nothing when a slice fails half-way, and keeps the plan for another try', async () => {
+		const n = CHUNK_ROWS * 2 + 3;
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'broken.csv', content: csv(manyRows(n, 100_000)), bytes: 0 },
+			NOW
+		);
+		const before = (await db.select({ id: factoryTests.id }).from(factoryTests)).length;
+		const [m0] = await db.select().from(modules).where(eq(modules.serial, serials[0]));
+		// The second slice no longer reads as JSON: its insert fails after the first slice's rows
+		// and states were written inside the transaction.
+		await db.$client.execute({
+			sql: "UPDATE import_plan_chunks SET rows = '[not json' WHERE import_id = ? AND seq = 1",
+			args: [p.import.id]
+		});
+		await expect(commitImport(db, workshop, p.import.id, NOW)).rejects.toThrow(/JSON/i);
+		expect((await db.select({ id: factoryTests.id }).from(factoryTests)).length).toBe(before);
+		const [m0After] = await db.select().from(modules).where(eq(modules.serial, serials[0]));
+		expect(m0After.testedAt).toEqual(m0.testedAt);
+		const [row] = await db.select().from(imports).where(eq(imports.id, p.import.id));
+		expect(row.status).toBe('previewed');
+		expect(
+			await db.select().from(importPlanChunks).where(eq(importPlanChunks.importId, p.import.id))
+		).toHaveLength(3);
+	});
+
+	it('a reader during the commit sees none of the import or all of it', async () => {
+		const n = CHUNK_ROWS * 3;
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'watched.csv', content: csv(manyRows(n, 200_000)), bytes: 0 },
+			NOW
+		);
+		// Another connection, as another app server would read.
+		const file = String(
+			(await db.$client.execute("SELECT file FROM pragma_database_list WHERE name = 'main'"))
+				.rows[0].file
+		);
+		const other = createClient({ url: `file:${file}` });
+		const seen = new Set<number>();
+		let done = false;
+		const watching = (async () => {
+			while (!done) {
+				const r = await other.execute({
+					sql: 'SELECT count(*) AS n FROM factory_tests WHERE import_id = ?',
+					args: [p.import.id]
+				});
+				seen.add(Number(r.rows[0].n));
+				await new Promise((r) => setImmediate(r));
+			}
+		})();
+		await commitImport(db, workshop, p.import.id, NOW);
+		done = true;
+		await watching;
+		const last = await other.execute({
+			sql: 'SELECT count(*) AS n FROM factory_tests WHERE import_id = ?',
+			args: [p.import.id]
+		});
+		other.close();
+		expect(Number(last.rows[0].n)).toBe(n);
+		expect([...seen].every((c) => c === 0 || c === n)).toBe(true);
+	});
+
+	it('a refused file leaves no plan behind', async () => {
+		// The unclosed quote is found only in a later slice of the file (after about 256 KB).
+		const rows = Array.from({ length: 6000 }, (_, i) => line(serials[3], 300_000 + i));
+		rows.push(`${serials[3]},"${at(999_999)},46.8,2390,5.1,51.2,8,500,22.5,RIG-2,T.Vale`);
+		const before = (await db.select({ id: importPlanChunks.id }).from(importPlanChunks)).length;
+		await expect(
+			previewImport(db, workshop, { name: 'quote.csv', content: csv(rows), bytes: 0 }, NOW)
+		).rejects.toThrow(/never closed/);
+		expect((await db.select({ id: importPlanChunks.id }).from(importPlanChunks)).length).toBe(
+			before
+		);
+	});
+});
+
+describe('sha256Text', () => {
+	it('gives the FIPS 180-2 digest of "abc"', async () => {
+		// FIPS 180-2, appendix B.1 (one-block message "abc").
+		expect(await sha256Text('abc')).toBe(
+			'ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad'
+		);
+	});
+
+	it('matches a one-shot digest when a slice boundary falls inside a surrogate pair', async () => {
+		// node:crypto over the whole UTF-8 text at once is the independent reference.
+		const text = 'a'.repeat((1 << 20) - 1) + '\u{1F50B}' + 'b'.repeat(10);
+		const whole = createHash('sha256').update(Buffer.from(text, 'utf8')).digest('hex');
+		expect(await sha256Text(text)).toBe(whole);
+	});
+});
