@@ -100,7 +100,7 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 		'implausible'
 	);
 	await expect(page.getByTestId('verdict-string_voltage')).toContainText(
-		'5165 V is about 100 times the 51.65 V expected'
+		'5,165 V is about 100 times the 51.65 V expected'
 	);
 	await expect(page.getByTestId('verdict-string_voltage')).toContainText('check the decimal point');
 	await expect(page.getByRole('button', { name: 'Submit the checklist' })).toBeDisabled();
@@ -117,11 +117,11 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 	await answerYes(page, [...CHECKS, STRING_DEVICE_CHECK]);
 
 	// 2 strings × 60.5 V / 6.0 mΩ = 20 167 A: a 10 kA device is refused with the numbers.
-	await expect(page.getByTestId('fault-current')).toContainText('20.2 kA (20167 A)');
+	await expect(page.getByTestId('fault-current')).toContainText('20.2 kA (20,167 A)');
 	await fillFields(page, { deviceRatingA: '400', deviceDcRatingV: '80', deviceBreakingKA: '10' });
 	const device = page.getByTestId('verdict-protective_device');
 	await expect(device).toHaveAttribute('data-status', 'fail');
-	await expect(device).toContainText('breaking capacity 10 kA, below the 20.2 kA (20167 A)');
+	await expect(device).toContainText('breaking capacity 10 kA, below the 20.2 kA (20,167 A)');
 	await device.scrollIntoViewIfNeeded();
 	await page.screenshot({ path: 'test-results/field-breaking-refused.png' });
 	await byName('deviceBreakingKA').fill('25');
@@ -169,7 +169,7 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 		'Ines Calloway',
 		'Breaking capacity',
 		'25.0 kA',
-		'at least 20.2 kA (20167 A)',
+		'at least 20.2 kA (20,167 A)',
 		'51.65 V',
 		'51.66 V',
 		'at least 500 V DC',
@@ -231,7 +231,7 @@ test('POST /api/design-check answers the bank’s fault current and refuses a de
 	expect(r.shortCircuitCurrentA).toBe(20167);
 	expect(r.protection.fits).toBe(false);
 	expect(r.protection.problems).toEqual([
-		expect.stringContaining('breaking capacity 10 kA, below the 20.2 kA (20167 A)')
+		expect.stringContaining('breaking capacity 10 kA, below the 20.2 kA (20,167 A)')
 	]);
 	// Existing fields unchanged; suggestions carry the reason for their rank.
 	expect(r.fitsWindow).toBe(true);

@@ -26,6 +26,7 @@ import { OFFLINE_CODE_LIST, precached } from '$lib/offline/precache';
 import { MODELS_KEY } from '$lib/offline/views';
 import { checkDesign, type DesignModule } from '$lib/domain/design-check';
 import { designCheckRequestSchema } from '$lib/schemas/site';
+import { deviceCalendarDay } from '$lib/domain/calendar';
 
 const sw = self as unknown as ServiceWorkerGlobalScope;
 const APP_CACHE = `pl-app-${version}`;
@@ -166,7 +167,7 @@ async function actOffline(request: Request, url: URL, route: FieldRoute): Promis
 	const state = await loadState(current.db);
 	const out = offlineAction(state, route, action, form, {
 		id: crypto.randomUUID(),
-		today: new Date().toLocaleDateString('en-CA'),
+		today: deviceCalendarDay(new Date()),
 		origin: sw.location.origin
 	});
 	if (out.add) await addOp(current.db, out.add);

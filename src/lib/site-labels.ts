@@ -7,7 +7,6 @@ import type {
 	CLIMATE_BANDS as DB_CLIMATE_BANDS,
 	SITE_APPLICATIONS as DB_SITE_APPLICATIONS
 } from '$lib/server/db/schema';
-import type { InverterWindow } from '$lib/domain/design-check';
 
 export type SiteApplication = (typeof DB_SITE_APPLICATIONS)[number];
 
@@ -34,21 +33,4 @@ export const CLIMATE_BAND_LABELS: Record<ClimateBand, string> = {
 };
 export const CLIMATE_BANDS = Object.keys(CLIMATE_BAND_LABELS) as ClimateBand[];
 
-/** The inverter's window as the design check takes it, from a system form or a stored system (nulls = not given). */
-export function toInverterWindow(s: {
-	inverterMinV: number;
-	inverterMaxV: number;
-	preferredMinV?: number | null;
-	preferredMaxV?: number | null;
-	maxChargeA?: number | null;
-	maxDischargeA?: number | null;
-}): InverterWindow {
-	return {
-		minV: s.inverterMinV,
-		maxV: s.inverterMaxV,
-		preferredMinV: s.preferredMinV ?? undefined,
-		preferredMaxV: s.preferredMaxV ?? undefined,
-		maxChargeA: s.maxChargeA ?? undefined,
-		maxDischargeA: s.maxDischargeA ?? undefined
-	};
-}
+export { toInverterWindow } from '$lib/domain/design-check';

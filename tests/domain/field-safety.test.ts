@@ -21,7 +21,7 @@ import {
 } from '../../src/lib/domain/commissioning';
 
 describe('Prospective short-circuit current (REFERENCES §10; IEC 61660-1 source model, from memory)', () => {
-	it('worked example: 2 strings of modules with 16.5 V maximum and 2.0 mΩ → 16 500 A', () => {
+	it('worked example: 2 strings of modules with 16.5 V maximum and 2.0 mΩ → 16,500 A', () => {
 		// Recomputed by hand: I_k = P × U_max / R = 2 × 16.5 V / 0.002 Ω = 16 500 A.
 		expect(
 			bankShortCircuitA({
@@ -33,7 +33,7 @@ describe('Prospective short-circuit current (REFERENCES §10; IEC 61660-1 source
 		).toBeCloseTo(16_500, 6);
 	});
 
-	it('series count cancels: 4 × 16.5 V behind 4 × 2.0 mΩ per string gives the same 16 500 A', () => {
+	it('series count cancels: 4 × 16.5 V behind 4 × 2.0 mΩ per string gives the same 16,500 A', () => {
 		expect(
 			bankShortCircuitA({
 				parallel: 2,
@@ -44,11 +44,11 @@ describe('Prospective short-circuit current (REFERENCES §10; IEC 61660-1 source
 		).toBeCloseTo(16_500, 6);
 	});
 
-	it('one string is U / R (the single-source case): 16.5 V / 2.0 mΩ = 8 250 A', () => {
+	it('one string is U / R (the single-source case): 16.5 V / 2.0 mΩ = 8,250 A', () => {
 		expect(prospectiveShortCircuitA(16.5, 0.002)).toBeCloseTo(8_250, 6);
 	});
 
-	it('the demo 2 × 2 of 30.25 V / 3.0 mΩ modules: 2 × 30.25 / 0.003 = 20 166.7 A (the 16–19 kA class of the review)', () => {
+	it('the demo 2 × 2 of 30.25 V / 3.0 mΩ modules: 2 × 30.25 / 0.003 = 20,166.7 A (the 16–19 kA class of the review)', () => {
 		expect(
 			bankShortCircuitA({
 				parallel: 2,
@@ -83,7 +83,7 @@ describe('Protective device verdicts (NEC 210.20 / 706.30 style 125 %, IEC 60947
 		expect(v.problems).toEqual([]);
 	});
 
-	it('exact ties pass: 500 A for 125 % of 400 A, 66 V for 66 V, 16.5 kA for 16 500 A', () => {
+	it('exact ties pass: 500 A for 125 % of 400 A, 66 V for 66 V, 16.5 kA for 16,500 A', () => {
 		const v = judgeProtection(
 			{ ratedCurrentA: 500, ratedVoltageDcV: 66, breakingCapacityKA: 16.5 },
 			duty
@@ -91,14 +91,14 @@ describe('Protective device verdicts (NEC 210.20 / 706.30 style 125 %, IEC 60947
 		expect(v.fits).toBe(true);
 	});
 
-	it('refuses 10 kA against 16 500 A with both numbers', () => {
+	it('refuses 10 kA against 16,500 A with both numbers', () => {
 		const v = judgeProtection(
 			{ ratedCurrentA: 500, ratedVoltageDcV: 80, breakingCapacityKA: 10 },
 			duty
 		);
 		expect(v.fits).toBe(false);
 		expect(v.problems).toHaveLength(1);
-		expect(v.problems[0]).toContain('breaking capacity 10 kA, below the 16.5 kA (16500 A)');
+		expect(v.problems[0]).toContain('breaking capacity 10 kA, below the 16.5 kA (16,500 A)');
 	});
 
 	it('refuses 499.9 A (just under 125 % of 400 A = 500 A) and 65.9 V (just under 66 V), each with numbers', () => {
@@ -201,7 +201,7 @@ describe('Readings that catch typos (implausible, common practice margins 1.2 ×
 		const r = evaluateCommissioning(twoStrings, m);
 		const i = r.items.find((x) => x.key === 'string_voltage')!;
 		expect(i.status).toBe('implausible');
-		expect(i.reason).toContain('String 1 voltage: 5165 V is about 100 times the 51.65 V expected');
+		expect(i.reason).toContain('String 1 voltage: 5,165 V is about 100 times the 51.65 V expected');
 		expect(i.reason).toContain('check the decimal point');
 		expect(i.reason).not.toContain('not recorded');
 		expect(r.implausible).toHaveLength(1);
@@ -249,12 +249,12 @@ describe('Breaking capacity and per-string devices in the checklist (REFERENCES 
 		protectiveDevice: { ratingA: 400, dcVoltageRatingV: 80, breakingCapacityKA: 10 }
 	};
 
-	it('a 10 kA device is refused against the 20 167 A the two strings can deliver', () => {
+	it('a 10 kA device is refused against the 20,167 A the two strings can deliver', () => {
 		const r = evaluateCommissioning(twoStrings, base);
 		expect(r.shortCircuitA).toBe(20_167);
 		const i = r.items.find((x) => x.key === 'protective_device')!;
 		expect(i.status).toBe('fail');
-		expect(i.reason).toContain('breaking capacity 10 kA, below the 20.2 kA (20167 A)');
+		expect(i.reason).toContain('breaking capacity 10 kA, below the 20.2 kA (20,167 A)');
 	});
 
 	it('a 25 kA device passes; its reason repeats all three numbers', () => {
@@ -273,7 +273,7 @@ describe('Breaking capacity and per-string devices in the checklist (REFERENCES 
 			(x) => x.key === 'string_protection'
 		)!;
 		expect(ask.status).toBe('not_measured');
-		expect(ask.reason).toContain('fed by the other 1 string, up to 10084 A');
+		expect(ask.reason).toContain('fed by the other 1 string, up to 10,084 A');
 		const no = evaluateCommissioning(twoStrings, { stringProtection: false }).items.find(
 			(x) => x.key === 'string_protection'
 		)!;
@@ -328,7 +328,7 @@ describe('Rule sets: limits and citations come from the set', () => {
 		]);
 		expect(rows.find((r) => r.what === 'Breaking capacity')).toMatchObject({
 			value: '25.0 kA',
-			limit: 'at least 20.2 kA (20167 A)'
+			limit: 'at least 20.2 kA (20,167 A)'
 		});
 		expect(rows.find((r) => r.what.startsWith('Largest'))).toMatchObject({
 			value: '0.02 V',
@@ -351,7 +351,7 @@ describe('checkDesign answers the fault current and judges the planned device (A
 	};
 	const inverter = { minV: 36, maxV: 64 };
 
-	it('2 × 2 TC-HC-24 with 3.2 mΩ: 2 × 30.25 V / 3.2 mΩ = 18 906 A; a 500 A / 80 V / 10 kA device is refused', async () => {
+	it('2 × 2 TC-HC-24 with 3.2 mΩ: 2 × 30.25 V / 3.2 mΩ = 18,906 A; a 500 A / 80 V / 10 kA device is refused', async () => {
 		const { checkDesign } = await import('../../src/lib/domain/design-check');
 		const r = checkDesign({
 			module: HC24,
@@ -364,7 +364,7 @@ describe('checkDesign answers the fault current and judges the planned device (A
 		expect(r.shortCircuitCurrentA).toBe(18_906);
 		expect(r.protection?.fits).toBe(false);
 		expect(r.protection?.problems).toEqual([
-			'Protective device breaking capacity 10 kA, below the 18.9 kA (18906 A) the bank can deliver into a short circuit: the device could fail to break the fault; choose one rated to break at least 18.9 kA DC.'
+			'Protective device breaking capacity 10 kA, below the 18.9 kA (18,906 A) the bank can deliver into a short circuit: the device could fail to break the fault; choose one rated to break at least 18.9 kA DC.'
 		]);
 		expect(r.stringProtectionNote).toContain('fed by the other 1 string');
 		// Existing fields stay as they were.

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { createFormat } from '$lib/domain/format';
+import { createFormat, NEUTRAL } from '$lib/domain/format';
 
 const NBSP = '\u00a0';
 
@@ -43,5 +43,36 @@ describe('createFormat: one way to print on every page', () => {
 		expect(gb.day(null)).toBe('—');
 		expect(gb.number(undefined)).toBe('—');
 		expect(gb.unit(Number.NaN, 'V')).toBe('—');
+	});
+});
+
+// Messages from pure code (domain rules, schema errors) print through NEUTRAL, built on the same
+// createFormat as the pages. Expected values are Intl's own output for the locale, and CLDR's
+// published patterns (en: "," groups of three, "." decimals; de: "." groups, "," decimals).
+describe('NEUTRAL: the one formatter of messages from pure code', () => {
+	it('is the default locale (en-GB) and groups as Intl does for it', () => {
+		expect(NEUTRAL.locale).toBe('en-GB');
+		for (const x of [999, 1000, 20_167, 10_115_300, 1_000_000])
+			expect(NEUTRAL.number(x)).toBe(new Intl.NumberFormat('en-GB').format(x));
+		expect(NEUTRAL.number(10_115_300)).toBe('10,115,300');
+	});
+
+	it('prints a reading with at least and at most so many decimals (decimal)', () => {
+		expect(NEUTRAL.decimal(51, 1, 2)).toBe('51.0');
+		expect(NEUTRAL.decimal(51.256, 1, 2)).toBe('51.26');
+		expect(NEUTRAL.decimal(1500.5, 1, 2)).toBe('1,500.5');
+		expect(createFormat({ locale: 'de-DE' }).decimal(1500.5, 1, 2)).toBe('1.500,5');
+	});
+
+	it('prints the time of day in the zone (08:00 in UTC+10 is 22:00 UTC the day before)', () => {
+		const gb = createFormat({ locale: 'en-GB', timeZone: 'Etc/GMT-10' });
+		expect(gb.time(new Date('2026-11-29T22:00:00Z'))).toBe('08:00');
+		expect(gb.time(null)).toBe('—');
+	});
+
+	it('a page in the default locale and a message print the same figure the same way', () => {
+		const page = createFormat({ locale: 'en-GB', timeZone: 'Etc/GMT-10' });
+		expect(page.number(20_167)).toBe(NEUTRAL.number(20_167));
+		expect(page.unit(10_115_300, 'Wh')).toBe(NEUTRAL.unit(10_115_300, 'Wh'));
 	});
 });

@@ -69,12 +69,12 @@ describe('exact ties: at or above the promise declines (stated precision: 0.01 p
 		expect(a.promisedRetentionPct).toBe(91.5);
 		expect(a.recommendation).toBe('decline');
 		expect(a.reasons).toContain(
-			'Retention 91.50 % (256.2 Ah of 280.0 Ah) is at or above the 91.50 % promised at 20 000 equivalent full cycles: the module performs as warranted.'
+			'Retention 91.50 % (256.2 Ah of 280.0 Ah) is at or above the 91.50 % promised at 20,000 equivalent full cycles: the module performs as warranted.'
 		);
 		expect(a.retentionPrecisionPct).toBe(0.01);
 	});
 
-	it('sweeps 3 360 exact ties over twelve rated capacities and two kinds of promise: every one declines with an "at or above" sentence (calc)', () => {
+	it('sweeps 3,360 exact ties over twelve rated capacities and two kinds of promise: every one declines with an "at or above" sentence (calc)', () => {
 		let ties = 0;
 		let floatWouldCover = 0;
 		// Ties built in integers: retention j/4 % needs measured = rated × j / 400 Ah exactly.
@@ -230,7 +230,7 @@ describe('mean kinetic temperature (Haynes 1971; USP ⟨1160⟩)', () => {
 		expect(() => meanKineticTempC([{ tempC: 20, hours: -1 }], 43640)).toThrow(RangeError);
 	});
 
-	it('derates 20 000 rated cycles to ≈ 11 213 for the 15/45 °C profile, where the plain mean 30 °C would give ≈ 14 960 (calc)', () => {
+	it('derates 20,000 rated cycles to ≈ 11,213 for the 15/45 °C profile, where the plain mean 30 °C would give ≈ 14,960 (calc)', () => {
 		const ea = eaFit(25, 20000, 55, 4000);
 		const af = (c: number) => Math.exp((ea / R) * (1 / K(25) - 1 / K(c)));
 		const expectedMkt =

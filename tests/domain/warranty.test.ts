@@ -77,7 +77,7 @@ describe('Arrhenius (docs/references.md §5)', () => {
 		expect(arrheniusFactor(ea, 25, 35)).toBeGreaterThan(arrheniusFactor(ea, 45, 55));
 	});
 
-	it('common practice: titanate-type cells rated 20 000 cycles at 25 °C still give 4 000 at 55 °C; the fit gives Ea ≈ 43.6 kJ/mol (docs/references.md §5, calc)', () => {
+	it('common practice: titanate-type cells rated 20,000 cycles at 25 °C still give 4,000 at 55 °C; the fit gives Ea ≈ 43.6 kJ/mol (docs/references.md §5, calc)', () => {
 		const ea = fitActivationEnergy(25, 20000, 55, 4000);
 		// Ea = R ln(20000/4000) / (1/298.15 − 1/328.15); recomputed here: 43.641 kJ/mol.
 		const expected = (8.314462618 * Math.log(5)) / (1 / 298.15 - 1 / 328.15);
@@ -96,7 +96,7 @@ describe('Arrhenius (docs/references.md §5)', () => {
 });
 
 describe('deratedCycles (docs/references.md §5)', () => {
-	it('at 40 °C the derated cycles lie between the two rated points: 8 606 (calc)', () => {
+	it('at 40 °C the derated cycles lie between the two rated points: 8,606 (calc)', () => {
 		const d = deratedCycles(terms, 40);
 		const ea = (R_GAS * Math.log(5)) / (1 / K(25) - 1 / K(55));
 		expect(d.cycles).toBeCloseTo(20000 / af(ea, 25, 40), 6);
@@ -105,7 +105,7 @@ describe('deratedCycles (docs/references.md §5)', () => {
 		expect(Math.round(d.cycles)).toBe(8606);
 		expect(d.derated).toBe(true);
 		expect(d.reason).toBe(
-			'At an average cell temperature of 40 °C the rated cycles derate from 20 000 to 8 606 (Arrhenius fit through 20 000 at 25 °C and 4 000 at 55 °C, Ea 43.6 kJ/mol).'
+			'At an average cell temperature of 40 °C the rated cycles derate from 20,000 to 8,606 (Arrhenius fit through 20,000 at 25 °C and 4,000 at 55 °C, Ea 43.6 kJ/mol).'
 		);
 	});
 
@@ -121,7 +121,7 @@ describe('deratedCycles (docs/references.md §5)', () => {
 			expect(d.factor).toBe(1);
 		}
 		expect(deratedCycles(terms, 20).reason).toBe(
-			'The average cell temperature of 20 °C is at or below the 25 °C reference, so the 20 000 cycles rated at 25 °C apply without derating.'
+			'The average cell temperature of 20 °C is at or below the 25 °C reference, so the 20,000 cycles rated at 25 °C apply without derating.'
 		);
 	});
 
@@ -129,7 +129,7 @@ describe('deratedCycles (docs/references.md §5)', () => {
 		const d = deratedCycles(terms, null);
 		expect(d.cycles).toBe(20000);
 		expect(d.reason).toBe(
-			'No average cell temperature was given, so the 20 000 cycles rated at 25 °C are used without derating.'
+			'No average cell temperature was given, so the 20,000 cycles rated at 25 °C are used without derating.'
 		);
 	});
 
@@ -141,12 +141,12 @@ describe('deratedCycles (docs/references.md §5)', () => {
 });
 
 describe('cycles and capacity (docs/references.md §2)', () => {
-	it('energy basis: 1 433 600 Wh over a 14 336 Wh battery = 100.0 EFC (docs/references.md §2, calc)', () => {
+	it('energy basis: 1,433,600 Wh over a 14,336 Wh battery = 100.0 EFC (docs/references.md §2, calc)', () => {
 		expect(usableWh).toBeCloseTo(14336, 9);
 		expect(equivalentFullCycles({ throughputWh: 1433600, usableWh: 14336 })).toBe(100);
 	});
 
-	it('charge basis, not used for assessment: (150 000 + 142 000) Ah / (2 × 280 Ah) = 521.43 (docs/references.md §2, calc)', () => {
+	it('charge basis, not used for assessment: (150,000 + 142,000) Ah / (2 × 280 Ah) = 521.43 (docs/references.md §2, calc)', () => {
 		expect(equivalentFullCyclesChargeBasis(150000, 142000, 280)).toBeCloseTo(521.43, 2);
 	});
 
@@ -230,12 +230,12 @@ describe('assessClaim', () => {
 		expect(a.retentionPct).toBe(72.61);
 		expect(a.promisedRetentionPct).toBe(90.88);
 		expect(a.reasons).toContain(
-			'Retention 72.61 % (203.3 Ah of 280.0 Ah) is below the 90.88 % promised at 9 120 equivalent full cycles.'
+			'Retention 72.61 % (203.3 Ah of 280.0 Ah) is below the 90.88 % promised at 9,120 equivalent full cycles.'
 		);
 		expect(a.reasons).toContain(
-			'Discharge throughput of 130 744 320 Wh over 14 336 Wh usable gives 9 120 equivalent full cycles (energy basis).'
+			'Discharge throughput of 130,744,320 Wh over 14,336 Wh usable gives 9,120 equivalent full cycles (energy basis).'
 		);
-		expect(a.reasons).toContain('9 120 equivalent full cycles are within the 20 000 rated cycles.');
+		expect(a.reasons).toContain('9,120 equivalent full cycles are within the 20,000 rated cycles.');
 		expect(a.reasons[0]).toBe(
 			'The claim of 2024-06-10 is 4.28 years into the 15-year term from commissioning on 2020-03-01, which runs to 2035-03-01.'
 		);
@@ -248,13 +248,13 @@ describe('assessClaim', () => {
 		expect(a.deratedRatedCycles).toBe(Math.round(deratedCycles(terms, 40).cycles * 100) / 100);
 	});
 
-	it('declines when retention is at or above the promise: SoH 252/280 = 90.0 % against 90.0 % promised at 10 000 EFC (docs/references.md §2)', () => {
+	it('declines when retention is at or above the promise: SoH 252/280 = 90.0 % against 90.0 % promised at 10,000 EFC (docs/references.md §2)', () => {
 		const a = assessClaim(claim({ measuredCapacityAh: 252, throughputWh: 10000 * usableWh }));
 		expect(a.retentionPct).toBe(90);
 		expect(a.promisedRetentionPct).toBe(90);
 		expect(a.recommendation).toBe('decline');
 		expect(a.reasons).toContain(
-			'Retention 90.00 % (252.0 Ah of 280.0 Ah) is at or above the 90.00 % promised at 10 000 equivalent full cycles: the module performs as warranted.'
+			'Retention 90.00 % (252.0 Ah of 280.0 Ah) is at or above the 90.00 % promised at 10,000 equivalent full cycles: the module performs as warranted.'
 		);
 	});
 
@@ -262,7 +262,7 @@ describe('assessClaim', () => {
 		const hot = assessClaim(claim({ throughputWh: 9000 * usableWh, avgCellTempC: 40 }));
 		expect(hot.recommendation).toBe('decline');
 		expect(hot.reasons).toContain(
-			'9 000 equivalent full cycles exceed the 8 606 rated cycles, so the cycle warranty is used up.'
+			'9,000 equivalent full cycles exceed the 8,606 rated cycles, so the cycle warranty is used up.'
 		);
 		expect(
 			assessClaim(claim({ throughputWh: 9000 * usableWh, avgCellTempC: 25 })).recommendation
@@ -320,7 +320,7 @@ describe('assessClaim', () => {
 		expect(a.equivalentFullCycles).toBe(9120);
 		expect(a.recommendation).toBe('cover');
 		expect(a.reasons).toContain(
-			'No energy throughput was given, so the reported count of 9 120 cycles is taken as equivalent full cycles.'
+			'No energy throughput was given, so the reported count of 9,120 cycles is taken as equivalent full cycles.'
 		);
 	});
 
@@ -332,7 +332,7 @@ describe('assessClaim', () => {
 		expect(
 			a.reasons.some((r) =>
 				r.includes(
-					'The reported count of 25 000 cycles was not used: the throughput takes precedence.'
+					'The reported count of 25,000 cycles was not used: the throughput takes precedence.'
 				)
 			)
 		).toBe(true);
@@ -342,7 +342,7 @@ describe('assessClaim', () => {
 		const a = assessClaim(claim({ avgCellTempC: undefined }));
 		expect(a.deratedRatedCycles).toBe(20000);
 		expect(a.reasons).toContain(
-			'No average cell temperature was given, so the 20 000 cycles rated at 25 °C are used without derating.'
+			'No average cell temperature was given, so the 20,000 cycles rated at 25 °C are used without derating.'
 		);
 	});
 
@@ -377,13 +377,13 @@ describe('assessClaim', () => {
 		).toBe(false);
 	});
 
-	it('compares at the stated precision: 259.1/280 = 92.5357… % reads 92.54 % and ties with 92.54 % promised at 7 460 EFC, so it declines (calc)', () => {
+	it('compares at the stated precision: 259.1/280 = 92.5357… % reads 92.54 % and ties with 92.54 % promised at 7,460 EFC, so it declines (calc)', () => {
 		const a = assessClaim(claim({ measuredCapacityAh: 259.1, throughputWh: 7460 * usableWh }));
 		expect(a.retentionPct).toBe(92.54);
 		expect(a.promisedRetentionPct).toBe(92.54);
 		expect(a.recommendation).toBe('decline');
 		expect(a.reasons).toContain(
-			'Retention 92.54 % (259.1 Ah of 280.0 Ah) is at or above the 92.54 % promised at 7 460 equivalent full cycles: the module performs as warranted.'
+			'Retention 92.54 % (259.1 Ah of 280.0 Ah) is at or above the 92.54 % promised at 7,460 equivalent full cycles: the module performs as warranted.'
 		);
 		// One hundredth lower (259.0 Ah = 92.50 %) is below and covered.
 		const b = assessClaim(claim({ measuredCapacityAh: 259.0, throughputWh: 7460 * usableWh }));

@@ -322,7 +322,7 @@ describe('assessment from the warranty snapshot', () => {
 			retentionPct: direct.retentionPct
 		});
 		expect(result.reasons).toEqual(expect.arrayContaining(direct.reasons));
-		expect(result.reasons.join(' ')).toMatch(/whole system's.*4 modules.*6 900 000 Wh/);
+		expect(result.reasons.join(' ')).toMatch(/whole system's.*4 modules.*6,900,000 Wh/);
 		expect(result.recommendation).toBe('cover');
 	});
 

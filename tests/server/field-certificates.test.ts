@@ -121,7 +121,9 @@ describe('readings that catch typos', () => {
 		const { system } = await twoStringSystem();
 		await expect(
 			submitCommissioning(db, tech, system.id, form({ 'stringVoltageV.1': '5165' }), DAY)
-		).rejects.toThrow(/5165 V is about 100 times the 51\.65 V expected .* check the decimal point/);
+		).rejects.toThrow(
+			/5,165 V is about 100 times the 51\.65 V expected .* check the decimal point/
+		);
 		const rows = await db
 			.select()
 			.from(commissionings)
@@ -137,7 +139,7 @@ describe('breaking capacity', () => {
 		expect(r.overall).toBe('fail');
 		expect(r.certificateNo).toBeNull();
 		expect(r.items.find((i) => i.key === 'protective_device')!.reason).toContain(
-			'breaking capacity 10 kA, below the 20.2 kA (20167 A)'
+			'breaking capacity 10 kA, below the 20.2 kA (20,167 A)'
 		);
 	});
 });

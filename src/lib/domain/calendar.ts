@@ -44,6 +44,14 @@ export function calendarDay(now: Date | number, timeZone: string): string {
 	return format(now, 'yyyy-MM-dd', { in: tz(timeZone) });
 }
 
+/**
+ * The calendar day of `now` on the device's own clock and zone: what a phone working offline
+ * dates its own work with until the register dates it on the assembler's calendar.
+ */
+export function deviceCalendarDay(now: Date | number): string {
+	return format(now, 'yyyy-MM-dd');
+}
+
 /** The calendar year that `now` falls in, in `timeZone`: yearly numbers restart with it. */
 export function calendarYear(now: Date | number, timeZone: string): number {
 	return Number(calendarDay(now, timeZone).slice(0, 4));

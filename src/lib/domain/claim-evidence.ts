@@ -23,7 +23,7 @@ export interface EvidenceFigures {
 	log?: { lastAt?: string | null } | null;
 }
 
-/** Numbers in the assessment's sentences, printed by the one formatting module (`$lib/format`). */
+/** Numbers in the assessment's sentences, printed by the one formatting module (`domain/format`). */
 export function fmtNumber(x: number, decimals = 0, locale?: string): string {
 	return createFormat({ locale }).number(x, decimals);
 }

@@ -10,6 +10,7 @@ import {
 	judgeProtection,
 	type InsulationRequirement
 } from './electrical';
+import { NEUTRAL } from './format';
 
 export type CommissioningModel = Pick<
 	ModelSpec,
@@ -174,12 +175,8 @@ export interface CommissioningResult {
 	insulation: InsulationRequirement;
 }
 
-const num = (x: number, maxDigits = 2, minDigits = 1) =>
-	x.toLocaleString('en-US', {
-		minimumFractionDigits: minDigits,
-		maximumFractionDigits: maxDigits,
-		useGrouping: false
-	});
+/** A reading in a message: at least `minDigits`, at most `maxDigits` fraction digits, grouped as pages group. */
+const num = (x: number, maxDigits = 2, minDigits = 1) => NEUTRAL.decimal(x, minDigits, maxDigits);
 const V = (x: number) => `${num(x, 2)} V`;
 const mV = (x: number) => `${Math.round(x * 1000)} mV`;
 const roundMv = (x: number) => Math.round(x * 1000) / 1000;
@@ -486,7 +483,7 @@ function checkProtectiveDevice(ctx: Ctx): Outcome {
 	const fault =
 		shortCircuitA === null
 			? 'a breaking capacity above the bank’s fault current (the module’s internal resistance is not on record, so it cannot be computed)'
-			: `a breaking capacity of at least ${num(shortCircuitA / 1000, 1)} kA (${Math.round(shortCircuitA)} A prospective short-circuit current)`;
+			: `a breaking capacity of at least ${num(shortCircuitA / 1000, 1)} kA (${NEUTRAL.number(shortCircuitA)} A prospective short-circuit current)`;
 	if (
 		!dev ||
 		!isNum(dev.ratingA) ||
@@ -526,7 +523,7 @@ function checkStringProtection(ctx: Ctx): Outcome {
 	const fed =
 		shortCircuitA === null
 			? 'all the other strings'
-			: `the other ${system.parallel - 1} string${system.parallel === 2 ? '' : 's'}, up to ${Math.round(((system.parallel - 1) / system.parallel) * shortCircuitA)} A`;
+			: `the other ${system.parallel - 1} string${system.parallel === 2 ? '' : 's'}, up to ${NEUTRAL.number(((system.parallel - 1) / system.parallel) * shortCircuitA)} A`;
 	const why = `a fault inside one string is fed by ${fed}, and only a device in that string separates it (${ctx.cite.stringProtection})`;
 	if (m.stringProtection === true)
 		return pass(`Each of the ${system.parallel} strings has its own overcurrent device: ${why}.`);
@@ -770,7 +767,7 @@ export function readingsTable(
 			limit:
 				f.shortCircuitA === null
 					? 'above the fault current (not computable)'
-					: `at least ${num(f.shortCircuitA / 1000, 1)} kA (${f.shortCircuitA} A)`
+					: `at least ${num(f.shortCircuitA / 1000, 1)} kA (${NEUTRAL.number(f.shortCircuitA)} A)`
 		}
 	);
 	const { minC, maxC } = operatingTempRange(system.model);

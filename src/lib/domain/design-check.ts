@@ -6,10 +6,10 @@
  */
 import { currentForCRate, type ModelSpec } from './model';
 import { bankShortCircuitA, judgeProtection, type ProtectiveDevice } from './electrical';
+import { NEUTRAL } from './format';
 
-/** The module data the check needs; a subset of ModelSpec, plus its DC internal resistance. */
-export type DesignModule = Pick<
-	ModelSpec,
+/** The model figures the check reads. */
+type DesignFigures =
 	| 'cellsSeries'
 	| 'cellMinV'
 	| 'cellNominalV'
@@ -17,24 +17,18 @@ export type DesignModule = Pick<
 	| 'ratedAh'
 	| 'usableWh'
 	| 'maxContinuousC'
-	| 'burstC'
-> & {
+	| 'burstC';
+
+/** The module data the check needs; a subset of ModelSpec, plus its DC internal resistance. */
+export type DesignModule = Pick<ModelSpec, DesignFigures> & {
 	/** DC internal resistance of one module, mΩ (data sheet or factory-test mean); needed for the fault current. */
 	internalResistanceMOhm?: number;
 };
 
 /** A stored module model's row as far as the design check reads it (the DB column names). */
-export type DesignModelRow = Pick<
-	ModelSpec,
-	| 'cellsSeries'
-	| 'cellMinV'
-	| 'cellNominalV'
-	| 'cellMaxV'
-	| 'ratedAh'
-	| 'usableWh'
-	| 'maxContinuousC'
-	| 'burstC'
-> & { internalResistanceMohm?: number | null };
+export type DesignModelRow = Pick<ModelSpec, DesignFigures> & {
+	internalResistanceMohm?: number | null;
+};
 
 /**
  * The figures the design check needs, from a stored model row: the one mapping used by the
@@ -285,7 +279,7 @@ export function stringProtectionNote(parallel: number, shortCircuitA: number | n
 	const fed =
 		shortCircuitA === null
 			? 'the other strings'
-			: `the other ${parallel - 1} string${parallel === 2 ? '' : 's'} (up to ${Math.round(((parallel - 1) / parallel) * shortCircuitA)} A of the ${Math.round(shortCircuitA)} A)`;
+			: `the other ${parallel - 1} string${parallel === 2 ? '' : 's'} (up to ${NEUTRAL.number(((parallel - 1) / parallel) * shortCircuitA)} A of the ${NEUTRAL.number(shortCircuitA)} A)`;
 	return (
 		`Give each of the ${parallel} strings its own overcurrent device: a fault inside one string is fed by ${fed}, ` +
 		`and only a device in that string separates it from them (common practice).`
@@ -382,4 +376,43 @@ function suggestionReason(
 			? `${s.energyKWh.toFixed(1)} kWh, exactly the target`
 			: `${s.energyKWh.toFixed(1)} kWh, ${surplus.toFixed(2)} kWh above the ${targetKWh.toFixed(1)} kWh target`;
 	return `${where}; ${energy}; ${modules} module${modules === 1 ? '' : 's'}.`;
+}
+
+/** The inverter's window as the design check takes it, from a system form or a stored system (nulls = not given). */
+export function toInverterWindow(s: {
+	inverterMinV: number;
+	inverterMaxV: number;
+	preferredMinV?: number | null;
+	preferredMaxV?: number | null;
+	maxChargeA?: number | null;
+	maxDischargeA?: number | null;
+}): InverterWindow {
+	return {
+		minV: s.inverterMinV,
+		maxV: s.inverterMaxV,
+		preferredMinV: s.preferredMinV ?? undefined,
+		preferredMaxV: s.preferredMaxV ?? undefined,
+		maxChargeA: s.maxChargeA ?? undefined,
+		maxDischargeA: s.maxDischargeA ?? undefined
+	};
+}
+
+/** The inverter fields of a system form or a stored system. */
+export type InverterFields = Parameters<typeof toInverterWindow>[0];
+
+/**
+ * The design check of one system, entered or stored: its model's figures, its strings and its
+ * inverter's window. The server (saving and showing a system) and the phone's offline pages
+ * judge a system through this one call.
+ */
+export function checkSystemDesign(
+	model: DesignModelRow,
+	system: { series: number; parallel: number } & InverterFields
+): DesignCheckResult {
+	return checkDesign({
+		module: designModuleOf(model),
+		series: system.series,
+		parallel: system.parallel,
+		inverter: toInverterWindow(system)
+	});
 }

@@ -3,6 +3,7 @@
  * Each names its source; rules of thumb say "common practice", unverified recollections
  * say "from memory" (see docs/references.md §2, §4, §9).
  */
+import { NEUTRAL } from './format';
 
 function requirePositive(name: string, value: number): void {
 	if (!Number.isFinite(value) || value <= 0) {
@@ -223,12 +224,12 @@ export function judgeProtection(device: ProtectiveDevice, duty: ProtectionDuty):
 				? {
 						key: 'breaking',
 						ok: true,
-						text: `breaking capacity ${f1(device.breakingCapacityKA)} kA, at or above the ${kA(duty.shortCircuitA)} (${Math.round(duty.shortCircuitA)} A) prospective short-circuit current`
+						text: `breaking capacity ${f1(device.breakingCapacityKA)} kA, at or above the ${kA(duty.shortCircuitA)} (${NEUTRAL.number(duty.shortCircuitA)} A) prospective short-circuit current`
 					}
 				: {
 						key: 'breaking',
 						ok: false,
-						text: `breaking capacity ${f1(device.breakingCapacityKA)} kA, below the ${kA(duty.shortCircuitA)} (${Math.round(duty.shortCircuitA)} A) the bank can deliver into a short circuit: the device could fail to break the fault; choose one rated to break at least ${kA(duty.shortCircuitA)} DC`
+						text: `breaking capacity ${f1(device.breakingCapacityKA)} kA, below the ${kA(duty.shortCircuitA)} (${NEUTRAL.number(duty.shortCircuitA)} A) the bank can deliver into a short circuit: the device could fail to break the fault; choose one rated to break at least ${kA(duty.shortCircuitA)} DC`
 					}
 		);
 	}

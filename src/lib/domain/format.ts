@@ -1,8 +1,10 @@
 /**
- * How every page, e-mail and PDF prints dates, numbers and units: one `Intl` formatter per
- * locale and time zone (the assembler organisation's), so the same figure reads the same
- * everywhere. Calendar days (YYYY-MM-DD business dates) are printed as the day they name;
- * instants (timestamps) in the organisation's time zone. Safe for the browser.
+ * How everything prints dates, numbers and units: one `Intl` formatter per locale and time
+ * zone, so the same figure reads the same everywhere. Pages take the assembler organisation's
+ * (through `useFormat` in components/ui/format-context, which builds on this); messages of
+ * pure code (domain rules, zod schemas) use `NEUTRAL`, the default locale, unless a locale is
+ * passed. Calendar days (YYYY-MM-DD business dates) are printed as the day they name;
+ * instants (timestamps) in the time zone. Pure, safe for the browser.
  */
 import { DEFAULT_LOCALE, DEFAULT_TIME_ZONE, type CalendarSettings } from './calendar';
 
@@ -32,10 +34,14 @@ export interface Format {
 	day(value: string | Date | number | null | undefined): string;
 	/** An instant as date and time in the organisation's zone. */
 	dateTime(value: string | Date | number | null | undefined): string;
+	/** An instant's time of day in the organisation's zone. */
+	time(value: string | Date | number | null | undefined): string;
 	/** A number with the locale's grouping; `digits` fraction digits at most (0 by default). */
 	number(value: number | null | undefined, digits?: number): string;
 	/** A number with exactly `digits` fraction digits (tables of statistics line up). */
 	fixed(value: number | null | undefined, digits: number): string;
+	/** A number with at least `min` and at most `max` fraction digits (a reading: `51.0`, `51.25`). */
+	decimal(value: number | null | undefined, min: number, max: number): string;
 	/** A number to `digits` significant digits (chart axes and their ticks). */
 	significant(value: number | null | undefined, digits: number): string;
 	/** A number and its unit (`10,115,300 Wh`); digits default by unit. */
@@ -68,6 +74,7 @@ export function createFormat(settings: Partial<CalendarSettings> = {}): Format {
 		timeStyle: 'short',
 		timeZone
 	});
+	const timeOfDay = new Intl.DateTimeFormat(locale, { timeStyle: 'short', timeZone });
 	const numbers = new Map<number, Intl.NumberFormat>();
 	const numberFormat = (digits: number) => {
 		let f = numbers.get(digits);
@@ -87,6 +94,20 @@ export function createFormat(settings: Partial<CalendarSettings> = {}): Format {
 				maximumFractionDigits: digits
 			});
 			fixedFormats.set(digits, f);
+		}
+		return f;
+	};
+
+	const decimalFormats = new Map<string, Intl.NumberFormat>();
+	const decimalFormat = (min: number, max: number) => {
+		const k = `${min}-${max}`;
+		let f = decimalFormats.get(k);
+		if (!f) {
+			f = new Intl.NumberFormat(locale, {
+				minimumFractionDigits: min,
+				maximumFractionDigits: Math.max(min, max)
+			});
+			decimalFormats.set(k, f);
 		}
 		return f;
 	};
@@ -116,6 +137,11 @@ export function createFormat(settings: Partial<CalendarSettings> = {}): Format {
 			const d = toDate(value);
 			return d ? dateTime.format(d) : EMPTY;
 		},
+		time(value) {
+			if (value === null || value === undefined || value === '') return EMPTY;
+			const d = toDate(value);
+			return d ? timeOfDay.format(d) : EMPTY;
+		},
 		number(value, digits = 0) {
 			if (value === null || value === undefined || !Number.isFinite(value)) return EMPTY;
 			return numberFormat(digits).format(value);
@@ -123,6 +149,10 @@ export function createFormat(settings: Partial<CalendarSettings> = {}): Format {
 		fixed(value, digits) {
 			if (value === null || value === undefined || !Number.isFinite(value)) return EMPTY;
 			return fixedFormat(digits).format(value);
+		},
+		decimal(value, min, max) {
+			if (value === null || value === undefined || !Number.isFinite(value)) return EMPTY;
+			return decimalFormat(min, max).format(value);
 		},
 		significant(value, digits) {
 			if (value === null || value === undefined || !Number.isFinite(value)) return EMPTY;
@@ -137,3 +167,10 @@ export function createFormat(settings: Partial<CalendarSettings> = {}): Format {
 	cache.set(key, format);
 	return format;
 }
+
+/**
+ * The formatter of the default locale and UTC: what messages from pure code (a domain rule's
+ * reason, a schema's error) print numbers with when no locale is passed, so a figure there
+ * reads as it does on a page in that locale (`10,115,300`, never `10 115 300`).
+ */
+export const NEUTRAL: Format = createFormat();

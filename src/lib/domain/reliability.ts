@@ -10,6 +10,7 @@
  * Johnson's adjusted ranks with Benard's median-rank approximation for the probability plot.
  */
 import jStat from 'jstat';
+import { NEUTRAL } from './format';
 
 /** Standard normal 97.5 % quantile, for two-sided 95 % bounds. */
 export const Z_975 = 1.959963984540054;
@@ -35,7 +36,7 @@ export function poissonInterval(events: number, confidence = 0.95): Interval {
 	if (!Number.isInteger(events) || events < 0)
 		throw new RangeError('The number of events must be a whole number, 0 or more.');
 	if (events > MAX_EVENTS)
-		throw new RangeError(`At most ${MAX_EVENTS.toLocaleString('en')} events can be assessed.`);
+		throw new RangeError(`At most ${NEUTRAL.number(MAX_EVENTS)} events can be assessed.`);
 	if (!(confidence > 0 && confidence < 1))
 		throw new RangeError('The confidence level must be between 0 and 1.');
 	const alpha = 1 - confidence;
@@ -91,7 +92,7 @@ function validate(times: readonly number[], censored: readonly boolean[]) {
 			`times has ${times.length} entries but censored has ${censored.length}: give one flag per time.`
 		);
 	if (times.length > MAX_UNITS)
-		throw new RangeError(`At most ${MAX_UNITS.toLocaleString('en')} times can be fitted at once.`);
+		throw new RangeError(`At most ${NEUTRAL.number(MAX_UNITS)} times can be fitted at once.`);
 	for (let i = 0; i < times.length; i++) {
 		const t = times[i];
 		if (typeof t !== 'number' || !Number.isFinite(t) || t <= 0)
@@ -174,8 +175,7 @@ export function fitWeibull(times: readonly number[], censored: readonly boolean[
 			ok: false,
 			failures: d,
 			censored: c,
-			reason:
-				'The failure times are too close together for a Weibull fit (β would exceed 10 000). Check the ages on record.'
+			reason: `The failure times are too close together for a Weibull fit (β would exceed ${NEUTRAL.number(10_000)}). Check the ages on record.`
 		};
 	while (g(lo).value > 0 && lo > 1e-9) lo /= 2;
 	let beta = Math.min(Math.max(1, lo), hi);

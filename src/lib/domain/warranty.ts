@@ -8,6 +8,7 @@
  */
 import { addYears, differenceInCalendarDays, format, isValid, parseISO } from 'date-fns';
 import type { WarrantyTerms } from './model';
+import { NEUTRAL } from './format';
 
 /** Molar gas constant, J/(mol·K). CODATA 2018; exact in the 2019 SI. */
 export const R_GAS = 8.314462618;
@@ -595,13 +596,12 @@ export function assessClaim(input: ClaimInput): ClaimAssessment {
 }
 
 // ---------------------------------------------------------------------------
-// Text formatting: numbers grouped by spaces (9 120), units after a space (55 °C, 72.4 %).
+// Text formatting: numbers grouped as every page groups them (NEUTRAL: 9,120), a true minus
+// sign for a negative figure, units after a space (55 °C, 72.4 %).
 
 function fmt(x: number, decimals: number): string {
-	const [int, frac] = Math.abs(x).toFixed(decimals).split('.');
-	const grouped = int.length > 3 ? int.replace(/\B(?=(\d{3})+(?!\d))/g, ' ') : int;
 	const sign = x < 0 && Number(x.toFixed(decimals)) !== 0 ? '−' : '';
-	return sign + grouped + (frac ? `.${frac}` : '');
+	return sign + NEUTRAL.fixed(Math.abs(x), decimals);
 }
 
 const fmtTemp = (c: number): string => `${fmt(c, Number.isInteger(c) ? 0 : 1)} °C`;

@@ -5,9 +5,9 @@
  * page carries on as it does online. Nothing is sent from here.
  */
 import { evaluateCommissioning } from '$lib/domain/commissioning';
-import { checkDesign, designModuleOf } from '$lib/domain/design-check';
+import { checkSystemDesign } from '$lib/domain/design-check';
 import { commissioningSchema, toMeasurements } from '$lib/schemas/commissioning';
-import { placeModuleSchema, siteSchema, systemSchema, toInverterWindow } from '$lib/schemas/site';
+import { placeModuleSchema, siteSchema, systemSchema } from '$lib/schemas/site';
 import type { SyncOperationType } from '$lib/schemas/sync';
 import type { FieldRoute } from './routes';
 import type { QueuedOp } from './store';
@@ -78,12 +78,7 @@ export function offlineAction(
 			const message = `There is no module model ${s.modelCode} on this phone; choose one from the list.`;
 			return fail(400, { message, issues: [{ path: 'modelCode', message }], values: fields });
 		}
-		const result = checkDesign({
-			module: designModuleOf(model),
-			series: s.series,
-			parallel: s.parallel,
-			inverter: toInverterWindow(s)
-		});
+		const result = checkSystemDesign(model, s);
 		if (!result.fitsWindow)
 			return fail(400, {
 				message: `${s.series} × ${s.modelCode} per string does not fit the inverter's DC window, so the system was not saved.`,

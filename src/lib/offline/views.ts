@@ -5,11 +5,11 @@
  * Pure: the store's contents in, the page's data out (used by the offline pages and the
  * service worker).
  */
-import { checkDesign, designModuleOf } from '$lib/domain/design-check';
+import { checkSystemDesign, type DesignModelRow } from '$lib/domain/design-check';
 import { currentForCRate } from '$lib/domain/model';
 import { extractSerialFromScan } from '$lib/domain/serial';
 import { DEFAULT_RULE_SET, type CommissioningSystem } from '$lib/domain/commissioning';
-import { systemSchema, toInverterWindow } from '$lib/schemas/site';
+import { systemSchema } from '$lib/schemas/site';
 import { fieldPath, type FieldRoute, type Ref } from './routes';
 import type { QueuedOp, StoredPage } from './store';
 
@@ -20,21 +20,9 @@ type Data = Record<string, unknown>;
 // The shapes below follow the page loads of src/routes/(app)/{sites,systems}/… (their services'
 // answers); tests/offline/views.test.ts compares them with the server's for the same records.
 type Slot = { stringNo: number; position: number; serial: string | null; state: string | null };
-export type ModelRow = Record<string, unknown> & {
-	id: number;
-	code: string;
-	name: string;
-	retiredAt?: unknown;
-	cellsSeries: number;
-	cellMinV: number;
-	cellNominalV: number;
-	cellMaxV: number;
-	ratedAh: number;
-	usableWh: number;
-	maxContinuousC: number;
-	burstC: number;
-	internalResistanceMohm?: number | null;
-};
+/** A kept model row: what the design check reads (as the server's row has it), and its name. */
+export type ModelRow = Record<string, unknown> &
+	DesignModelRow & { id: number; code: string; name: string; retiredAt?: unknown };
 
 export interface OfflineState {
 	pages: Map<string, StoredPage>;
@@ -182,12 +170,7 @@ function localSystem(state: OfflineState, op: QueuedOp): { data: Data; model: Mo
 				dealerName: site.dealerName ?? null
 			},
 			model: { id: model.id, code: model.code, name: model.name },
-			design: checkDesign({
-				module: designModuleOf(model),
-				series: system.series,
-				parallel: system.parallel,
-				inverter: toInverterWindow(system)
-			}),
+			design: checkSystemDesign(model, system),
 			strings,
 			filled: 0,
 			total,

@@ -4,6 +4,7 @@
  */
 import { z } from 'zod';
 import type { DesignCheckInput, DesignModule, InverterWindow } from '$lib/domain/design-check';
+import { NEUTRAL } from '$lib/domain/format';
 
 const positive = (label: string) =>
 	z
@@ -28,7 +29,7 @@ export const designModuleSchema = z
 		burstC: positive('Burst C-rate'),
 		internalResistanceMOhm: positive('Module internal resistance (mΩ)')
 			.max(10_000, {
-				error: 'Module internal resistance (mΩ) must be at most 10 000 mΩ; check the unit'
+				error: `Module internal resistance (mΩ) must be at most ${NEUTRAL.number(10_000)} mΩ; check the unit`
 			})
 			.optional()
 	})

@@ -6,6 +6,7 @@
 import { z } from 'zod';
 import { Gs1Error, toGtin14 } from '$lib/domain/gs1';
 import { readDecimal } from './fields';
+import { NEUTRAL } from '$lib/domain/format';
 
 /** Form text to number by the one decimal rule: blank → undefined (so "required" can be said), "12,5" → 12.5. */
 const fromText = (v: unknown) => {
@@ -155,14 +156,16 @@ const fields = z.object({
 		z
 			.number({ error: 'Replacement cost must be a number (or blank).' })
 			.min(0, { error: 'Replacement cost must not be negative.' })
-			.max(10_000_000, { error: 'Replacement cost must be at most 10 000 000; check the figure.' })
+			.max(10_000_000, {
+				error: `Replacement cost must be at most ${NEUTRAL.number(10_000_000)}; check the figure.`
+			})
 			.nullable()
 	)
 });
 
 type Fields = z.output<typeof fields>;
 const isNum = (x: unknown): x is number => typeof x === 'number' && Number.isFinite(x);
-const fmt = (x: number, digits = 0) => x.toLocaleString('en-GB', { maximumFractionDigits: digits });
+const fmt = (x: number, digits = 0) => NEUTRAL.number(x, digits);
 
 /**
  * Cross-field rules. They run even when another field failed (`when`), comparing only

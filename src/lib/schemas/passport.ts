@@ -6,6 +6,7 @@
 import { z } from 'zod';
 import { optionalText, queryInt, recordId } from './fields';
 import { PASSPORT_ITEM_BY_KEY, type ItemInput } from '$lib/domain/passport-items';
+import { NEUTRAL } from '$lib/domain/format';
 
 const FIELDS = new Set(['value', 'unit', 'street', 'postalCode', 'country', 'min', 'max']);
 
@@ -15,7 +16,10 @@ const FIELDS = new Set(['value', 'unit', 'street', 'postalCode', 'country', 'min
  * forged form cannot slip anything in; each value is bounded (tables up to 20 000 characters).
  */
 export const passportItemsFormSchema = z
-	.record(z.string().max(60), z.string().max(20_000, 'An entry is longer than 20 000 characters.'))
+	.record(
+		z.string().max(60),
+		z.string().max(20_000, `An entry is longer than ${NEUTRAL.number(20_000)} characters.`)
+	)
 	.transform((raw, ctx) => {
 		const out: Record<string, ItemInput> = {};
 		for (const [name, value] of Object.entries(raw)) {

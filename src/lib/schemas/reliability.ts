@@ -6,6 +6,7 @@
 import { z } from 'zod';
 import { blankToUndefined as blank, optionalCalendarDate } from './fields';
 import { MAX_EVENTS, MAX_UNITS } from '$lib/domain/reliability';
+import { NEUTRAL } from '$lib/domain/format';
 
 export const SLICE_DIMENSIONS = [
 	'model',
@@ -79,14 +80,14 @@ export const weibullRequestSchema = z
 			)
 			.min(1, { error: 'Give at least one time.' })
 			.max(MAX_UNITS, {
-				error: `At most ${MAX_UNITS.toLocaleString('en')} times can be fitted at once.`
+				error: `At most ${NEUTRAL.number(MAX_UNITS)} times can be fitted at once.`
 			}),
 		censored: z
 			.array(z.boolean({ error: 'Each censored flag must be true or false.' }), {
 				error: 'censored must be a list of true/false, one per time.'
 			})
 			.max(MAX_UNITS, {
-				error: `At most ${MAX_UNITS.toLocaleString('en')} censored flags can be given.`
+				error: `At most ${NEUTRAL.number(MAX_UNITS)} censored flags can be given.`
 			})
 	})
 	.refine((r) => r.times.length === r.censored.length, {
@@ -100,7 +101,7 @@ export const rateRequestSchema = z.object({
 		.number({ error: 'events must be a whole number.' })
 		.int({ error: 'events must be a whole number.' })
 		.min(0, { error: 'events must not be negative.' })
-		.max(MAX_EVENTS, { error: `events must be at most ${MAX_EVENTS.toLocaleString('en')}.` }),
+		.max(MAX_EVENTS, { error: `events must be at most ${NEUTRAL.number(MAX_EVENTS)}.` }),
 	exposure: z
 		.number({ error: 'exposure must be a number of unit-years.' })
 		.positive({ error: 'exposure must be above 0 unit-years.' })

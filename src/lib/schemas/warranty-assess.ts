@@ -5,6 +5,7 @@
 import { z } from 'zod';
 import { isCalendarDate } from '$lib/domain/calendar';
 import { calendarDate, decimal, optionalText, requiredText } from './fields';
+import { NEUTRAL } from '$lib/domain/format';
 
 const TEMP_MIN_C = -40;
 const TEMP_MAX_C = 120;
@@ -61,12 +62,14 @@ export const temperatureProfileSchema = z
 			hours: z
 				.number({ error: 'Each profile span needs its hours as a number.' })
 				.min(0, { error: 'Profile hours must not be negative.' })
-				.max(1_000_000, { error: 'A profile span cannot last more than 1 000 000 hours.' })
+				.max(1_000_000, {
+					error: `A profile span cannot last more than ${NEUTRAL.number(1_000_000)} hours.`
+				})
 		}),
 		{ error: 'temperatureProfile must be a list of { tempC, hours }.' }
 	)
 	.max(MAX_PROFILE_SPANS, {
-		error: `A temperature profile may have at most ${MAX_PROFILE_SPANS.toLocaleString('en')} spans; group the readings by temperature first.`
+		error: `A temperature profile may have at most ${NEUTRAL.number(MAX_PROFILE_SPANS)} spans; group the readings by temperature first.`
 	})
 	.refine((p) => p.length === 0 || p.some((s) => s.hours > 0), {
 		error: 'The temperature profile covers no time: give the hours at each temperature.'

@@ -3,6 +3,7 @@
  * row a label and either a value or the reason it is absent ("not yet provided" …).
  */
 import type { Passport, ItemStatus } from '$lib/domain/passport';
+import { NEUTRAL } from '$lib/domain/format';
 
 export interface ViewRow {
 	label: string;
@@ -27,9 +28,7 @@ const STATUS_WORDS: Record<ItemStatus['status'], string> = {
 
 type Obj = Record<string, unknown>;
 const fmt = (n: unknown, unit = '') =>
-	typeof n === 'number'
-		? `${n.toLocaleString('en-GB', { maximumFractionDigits: 4 })}${unit ? ` ${unit}` : ''}`
-		: null;
+	typeof n === 'number' ? `${NEUTRAL.number(n, 4)}${unit ? ` ${unit}` : ''}` : null;
 const addr = (a: unknown) => {
 	const x = a as Obj | undefined;
 	return x ? `${x.streetAddress}, ${x.postalCode}, ${x.addressCountry}` : null;

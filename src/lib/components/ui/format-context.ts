@@ -19,8 +19,10 @@ export function provideFormat(settings: () => Partial<CalendarSettings>): void {
 		},
 		day: (v) => current().day(v),
 		dateTime: (v) => current().dateTime(v),
+		time: (v) => current().time(v),
 		number: (v, d) => current().number(v, d),
 		fixed: (v, d) => current().fixed(v, d),
+		decimal: (v, min, max) => current().decimal(v, min, max),
 		significant: (v, d) => current().significant(v, d),
 		unit: (v, u, d) => current().unit(v, u, d)
 	};

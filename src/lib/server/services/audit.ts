@@ -10,6 +10,7 @@ import {
 import Papa from 'papaparse';
 import { containsText } from '$lib/server/db/like';
 import { neutraliseCell } from '$lib/domain/factory-csv';
+import { addCalendarDays, startOfCalendarDay } from '$lib/domain/calendar';
 import type { AuditQuery } from '$lib/schemas/audit';
 import type { Actor } from '$lib/server/actor';
 
@@ -60,31 +61,6 @@ export async function recordEvent(
 /** Most entries one CSV export carries. */
 export const AUDIT_EXPORT_CAP = 50_000;
 
-/** Milliseconds of the first instant of a calendar day in a time zone (IANA name). */
-function dayStartMs(date: string, timeZone: string): number {
-	const [y, m, d] = date.split('-').map(Number);
-	const guess = Date.UTC(y, m - 1, d);
-	// The zone's offset at that instant, read back through Intl (no hand-written offsets).
-	const parts = new Intl.DateTimeFormat('en-US', {
-		timeZone,
-		hourCycle: 'h23',
-		year: 'numeric',
-		month: 'numeric',
-		day: 'numeric',
-		hour: 'numeric',
-		minute: 'numeric',
-		second: 'numeric'
-	}).formatToParts(new Date(guess));
-	const get = (t: string) => Number(parts.find((p) => p.type === t)?.value);
-	const local = Date.UTC(get('year'), get('month') - 1, get('day'), get('hour'), get('minute'));
-	return guess - (local - guess);
-}
-
-function nextDay(date: string): string {
-	const [y, m, d] = date.split('-').map(Number);
-	return new Date(Date.UTC(y, m - 1, d + 1)).toISOString().slice(0, 10);
-}
-
 function conditions(q: AuditQuery, timeZone: string): SQL | undefined {
 	const where: (SQL | undefined)[] = [];
 	if (q.actor) where.push(containsText(auditLog.actorLabel, q.actor));
@@ -98,8 +74,9 @@ function conditions(q: AuditQuery, timeZone: string): SQL | undefined {
 				: or(eq(auditLog.action, q.action), like(auditLog.action, `${q.action}.%`))
 		);
 	}
-	if (q.from) where.push(gte(auditLog.at, new Date(dayStartMs(q.from, timeZone))));
-	if (q.to) where.push(lt(auditLog.at, new Date(dayStartMs(nextDay(q.to), timeZone))));
+	// Whole days on the assembler's calendar: from its first instant to the next day's first.
+	if (q.from) where.push(gte(auditLog.at, startOfCalendarDay(q.from, timeZone)));
+	if (q.to) where.push(lt(auditLog.at, startOfCalendarDay(addCalendarDays(q.to, 1), timeZone)));
 	return where.length ? and(...where) : undefined;
 }
 

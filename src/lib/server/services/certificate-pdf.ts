@@ -4,6 +4,7 @@ import type { CommissioningItem } from '$lib/domain/commissioning';
 import { signaturePath, type Signature } from '$lib/schemas/signature';
 import type { CertificateData } from './certificates';
 import { PdfWriter } from './pdf-writer';
+import { NEUTRAL } from '$lib/domain/format';
 
 export interface CertificateExtras {
 	/** Photo bytes in certificate order; JPEG and PNG are drawn as thumbnails, others are listed. */
@@ -92,7 +93,7 @@ export async function certificatePdf(
 		'Fault current',
 		data.shortCircuitA === null
 			? 'not computed (module internal resistance not on record)'
-			: `${(data.shortCircuitA / 1000).toFixed(1)} kA (${data.shortCircuitA} A) prospective short-circuit current: ` +
+			: `${(data.shortCircuitA / 1000).toFixed(1)} kA (${NEUTRAL.number(data.shortCircuitA)} A) prospective short-circuit current: ` +
 					`${sys.parallel} string${sys.parallel === 1 ? '' : 's'} in parallel × ${moduleMaxV} V module maximum ÷ ` +
 					`${data.internalResistanceMOhm ?? '?'} mΩ module internal resistance, cable resistance neglected (conservative)`
 	);

@@ -1,5 +1,6 @@
 import { sql } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
+import { calendarDay } from '$lib/domain/calendar';
 import type { Actor } from '$lib/server/actor';
 import { dealerScopeOf } from '$lib/server/actor';
 import {
@@ -18,14 +19,8 @@ import {
 /** The assembler's time zone: business days (build month, service start) are its calendar days. */
 export const ASSEMBLER_TIME_ZONE = 'Etc/GMT-10';
 
-const dayFormat = new Intl.DateTimeFormat('en-CA', {
-	timeZone: ASSEMBLER_TIME_ZONE,
-	year: 'numeric',
-	month: '2-digit',
-	day: '2-digit'
-});
 /** The calendar day of an instant in the assembler's time zone, 'YYYY-MM-DD'. */
-export const assemblerDay = (d: Date): string => dayFormat.format(d);
+export const assemblerDay = (d: Date): string => calendarDay(d, ASSEMBLER_TIME_ZONE);
 
 type Row = {
 	id: number;

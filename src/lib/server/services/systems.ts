@@ -10,11 +10,12 @@ import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { InvalidInputError, NotFoundError } from '$lib/server/errors';
 import {
 	checkDesign,
+	checkSystemDesign,
 	designModuleOf,
 	type DesignCheckResult,
 	type DesignModule
 } from '$lib/domain/design-check';
-import { toInverterWindow, type DesignCheckRequest, type SystemInput } from '$lib/schemas/site';
+import type { DesignCheckRequest, SystemInput } from '$lib/schemas/site';
 import { nextEmptySlot } from '$lib/domain/system-slots';
 import { recordAudit } from './audit';
 import { assertMayChangeSites, dealerName, findSite } from './sites';
@@ -116,12 +117,7 @@ export async function createSystem(
 		const message = `There is no module model ${input.modelCode}; choose one from the list.`;
 		throw new InvalidInputError(message, [{ path: 'modelCode', message }]);
 	}
-	const result = checkDesign({
-		module: designModuleOf(model),
-		series: input.series,
-		parallel: input.parallel,
-		inverter: toInverterWindow(input)
-	});
+	const result = checkSystemDesign(model, input);
 	if (!result.fitsWindow) {
 		throw new InvalidInputError(
 			`${input.series} × ${model.code} per string does not fit the inverter's DC window, so the system was not saved.`,
@@ -196,12 +192,7 @@ export async function getSystem(db: Db, actor: Actor, id: number) {
 			dealerName: await dealerName(db, site.dealerOrgId)
 		},
 		model: { id: model.id, code: model.code, name: model.name },
-		design: checkDesign({
-			module: designModuleOf(model),
-			series: system.series,
-			parallel: system.parallel,
-			inverter: toInverterWindow(system)
-		}),
+		design: checkSystemDesign(model, system),
 		strings,
 		filled: placed.length,
 		total,

@@ -16,6 +16,29 @@ import { membershipProblem } from '$lib/domain/membership';
 
 export const INVITE_VALID_HOURS = 72;
 
+/** Issues an invitation link and mails it (the link is kept readable in the fake outbox only). */
+async function sendInvitation(
+	db: Db,
+	baseUrl: string,
+	now: Date,
+	p: {
+		to: string;
+		name: string;
+		userId: number;
+		by: string;
+		role: Role;
+		organisation: string;
+		again?: boolean;
+	}
+) {
+	const link = `${baseUrl}/welcome/${await issueLink(db, p.userId, 'invite', INVITE_VALID_HOURS, now)}`;
+	await sendMail(db, {
+		to: p.to,
+		...accountInvited({ ...p, link, hours: INVITE_VALID_HOURS }),
+		oneTimeLinks: [link]
+	});
+}
+
 /**
  * Creates a user without a password and e-mails a one-time link to set one.
  * @returns the new user's id
@@ -60,19 +83,13 @@ export async function inviteUser(
 		});
 		return u.id;
 	});
-	const token = await issueLink(db, userId, 'invite', INVITE_VALID_HOURS, now);
-	const link = `${baseUrl}/welcome/${token}`;
-	await sendMail(db, {
+	await sendInvitation(db, baseUrl, now, {
 		to: input.email,
-		...accountInvited({
-			name: input.name,
-			by: actor.label,
-			role: input.role,
-			organisation: org.name,
-			link,
-			hours: INVITE_VALID_HOURS
-		}),
-		oneTimeLinks: [link]
+		name: input.name,
+		userId,
+		by: actor.label,
+		role: input.role,
+		organisation: org.name
 	});
 	return userId;
 }
@@ -125,20 +142,14 @@ export async function resendInvitation(
 			at: now
 		});
 	});
-	const token = await issueLink(db, u.id, 'invite', INVITE_VALID_HOURS, now);
-	const link = `${baseUrl}/welcome/${token}`;
-	await sendMail(db, {
+	await sendInvitation(db, baseUrl, now, {
 		to: u.email,
-		...accountInvited({
-			name: u.name,
-			by: actor.label,
-			role: u.role,
-			organisation: u.organisation,
-			link,
-			hours: INVITE_VALID_HOURS,
-			again: true
-		}),
-		oneTimeLinks: [link]
+		name: u.name,
+		userId: u.id,
+		by: actor.label,
+		role: u.role,
+		organisation: u.organisation,
+		again: true
 	});
 }
 
