@@ -472,7 +472,7 @@ const serialCountOf = sql<number>`(SELECT count(*) FROM claim_modules cm WHERE c
 
 /**
  * The claims queue, oldest claim first unless sorted otherwise: filters by state,
- * dealer, model and minimum age; a dealer's people see their organisation's claims only
+ * dealer, model, minimum age and serial (exact or its beginning); a dealer's people see their organisation's claims only
  * (a dealer filter from them is ignored). Each item says whether it is past the
  * response-time target ({@link TARGET_RESPONSE_DAYS} calendar days to a decision).
  */
@@ -492,6 +492,12 @@ export async function listClaims(
 	if (q.model)
 		where.push(
 			sql`EXISTS (SELECT 1 FROM claim_modules cm JOIN modules m ON m.id = cm.module_id JOIN module_models mm ON mm.id = m.model_id WHERE cm.claim_id = ${claims.id} AND mm.code = ${q.model})`
+		);
+	// Exact or prefix: the schema allows only letters, digits and hyphens, so the text holds
+	// no LIKE wildcard; the serial index answers a prefix LIKE (case-sensitive LIKE below).
+	if (q.serial)
+		where.push(
+			sql`EXISTS (SELECT 1 FROM claim_modules cm JOIN modules m ON m.id = cm.module_id WHERE cm.claim_id = ${claims.id} AND (m.serial = ${q.serial} OR substr(m.serial, 1, ${q.serial.length}) = ${q.serial}))`
 		);
 	if (q.minAgeDays)
 		where.push(lte(claims.filedAt, new Date(now.getTime() - q.minAgeDays * DAY_MS)));
@@ -595,7 +601,13 @@ export async function getClaim(db: Db, actor: Actor, claimId: number, now = new 
 			warrantyEndsOn: modules.warrantyEndsOn,
 			replacementSerial: replacement.serial,
 			returnFindings: claimModules.returnFindings,
-			returnCause: claimModules.returnCause
+			returnCause: claimModules.returnCause,
+			raNumber: claimModules.raNumber,
+			receivedAt: claimModules.receivedAt,
+			arrivalCondition: claimModules.arrivalCondition,
+			inspectedAt: claimModules.inspectedAt,
+			returnOutcome: claimModules.returnOutcome,
+			returnOutcomeAt: claimModules.returnOutcomeAt
 		})
 		.from(claimModules)
 		.innerJoin(modules, eq(claimModules.moduleId, modules.id))
@@ -620,6 +632,11 @@ export async function getClaim(db: Db, actor: Actor, claimId: number, now = new 
 			decisionReason: claim.decisionReason,
 			decidedAt: claim.decidedAt,
 			decidedBy: people.find((p) => p.id === claim.decidedBy)?.name ?? null,
+			kind: claim.kind,
+			evidenceRequest:
+				claim.state === 'awaiting_evidence' && claim.evidenceRequest
+					? { text: claim.evidenceRequest, at: claim.evidenceRequestedAt }
+					: null,
 			storedAssessment: claim.assessment
 				? (JSON.parse(claim.assessment) as ClaimAssessmentResult)
 				: null,

@@ -22,6 +22,8 @@ import { NotFoundError } from '$lib/server/errors';
 import { extractSerialFromScan, parseSerial } from '$lib/domain/serial';
 import { toPublicRecord, type PublicRecord } from '$lib/domain/public-record';
 import { factoryTestsOf } from './workshop';
+import { assemblerCalendar } from './calendar';
+import { calendarDay } from '$lib/domain/calendar';
 
 type ModuleRow = typeof modules.$inferSelect;
 
@@ -86,8 +88,10 @@ async function conditionFacts(
 		.orderBy(desc(moduleEvents.at))
 		.limit(1);
 	const [campaign] = await openCampaignsOf(db, mod.id);
+	// Business dates are the assembler's calendar day, not the UTC day of the instant.
+	const { timeZone } = await assemblerCalendar(db);
 	return {
-		lastTest: last ? { on: last.testedAt.toISOString().slice(0, 10), outcome: last.outcome } : null,
+		lastTest: last ? { on: calendarDay(last.testedAt, timeZone), outcome: last.outcome } : null,
 		reworked: !!rework && mod.state === 'built',
 		campaign: campaign
 			? { reference: campaign.reference, title: campaign.title, remedy: campaign.remedy }
@@ -96,7 +100,7 @@ async function conditionFacts(
 		scrapped:
 			mod.state === 'scrapped'
 				? {
-						on: (mod.scrappedAt ?? mod.updatedAt ?? new Date(0)).toISOString().slice(0, 10),
+						on: calendarDay(mod.scrappedAt ?? mod.updatedAt ?? new Date(0), timeZone),
 						reason: mod.scrapReason ?? 'no reason recorded'
 					}
 				: null,
