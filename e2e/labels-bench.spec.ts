@@ -38,6 +38,12 @@ test('allocate 24 serials, print the A4 sheet, scan one label at the bench and r
 	await page.keyboard.press('Enter');
 	await expect(page.getByRole('status')).toContainText(`${serial} registered as built`);
 	await expect(page.getByLabel(/Scan a module label/)).toBeFocused();
+	// The latest builds say when, and the shift's count includes this one.
+	await expect(page.getByTestId('shift-count')).toContainText(
+		/[1-9]\d* modules? built in this shift/
+	);
+	await expect(page.locator('aside li').filter({ hasText: serial })).toContainText(/\d{1,2}:\d{2}/);
+	await page.screenshot({ path: 'test-results/bench-after-build.png', fullPage: true });
 
 	// The same label again is refused with a reason, and a foreign code too.
 	await page.keyboard.type(serial);

@@ -3,7 +3,7 @@ import { eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { auditLog, moduleCellLots, moduleEvents, modules } from '$lib/server/db/schema';
 import { allocateSerials } from '$lib/server/services/allocations';
-import { registerBuild } from '$lib/server/services/builds';
+import { registerBuild, shiftBuildCount } from '$lib/server/services/builds';
 import {
 	findModule,
 	getModuleRecord,
@@ -72,6 +72,24 @@ describe('serial allocation', () => {
 });
 
 describe('build registration', () => {
+	it('counts the builds of the last 8 hours for the bench, the exact boundary included', async () => {
+		const now = new Date('2031-05-06T16:00:00Z');
+		const before = await shiftBuildCount(db, workshop, now);
+		const [a, b, c] = await makeModules(db, workshop, { count: 3 });
+		const build = (serial: string, at: string) =>
+			registerBuild(
+				db,
+				workshop,
+				serial,
+				{ cellLots: ['HCL-2611-A'], checks: ALL_CHECKS, notes: '' },
+				new Date(at)
+			);
+		await build(a, '2031-05-06T07:59:59.999Z'); // 8 h and 1 ms ago: the shift before
+		await build(b, '2031-05-06T08:00:00.000Z'); // exactly 8 h ago: this shift
+		await build(c, '2031-05-06T15:59:00.000Z');
+		expect(await shiftBuildCount(db, workshop, now)).toBe(before + 2);
+	});
+
 	it('records lots, checks, event and audit; a second build is refused', async () => {
 		const [serial] = await makeModules(db, workshop, { count: 1 });
 		await registerBuild(db, workshop, serial, {

@@ -1,4 +1,4 @@
-import { and, desc, eq, inArray } from 'drizzle-orm';
+import { and, count, desc, eq, gte, inArray } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import { moduleCellLots, moduleModels, modules, users } from '$lib/server/db/schema';
@@ -112,4 +112,17 @@ export async function recentBuilds(db: Db, actor: Actor, limit = 8) {
 		.where(eq(modules.builtBy, actor.userId ?? -1))
 		.orderBy(desc(modules.builtAt))
 		.limit(limit);
+}
+
+/** How far back the bench's "this shift" count reaches: one 8-hour shift (common practice). */
+export const SHIFT_HOURS = 8;
+
+/** How many modules the actor has built in the last `SHIFT_HOURS` hours up to `now`. */
+export async function shiftBuildCount(db: Db, actor: Actor, now = new Date()): Promise<number> {
+	const since = new Date(now.getTime() - SHIFT_HOURS * 3_600_000);
+	const [row] = await db
+		.select({ n: count() })
+		.from(modules)
+		.where(and(eq(modules.builtBy, actor.userId ?? -1), gte(modules.builtAt, since)));
+	return row?.n ?? 0;
 }

@@ -5,7 +5,13 @@ import { getDb } from '$lib/server/db';
 import { buildSchema } from '$lib/schemas/build';
 import { parseForm } from '$lib/server/validation';
 import { serialFromScan } from '$lib/server/services/modules';
-import { benchTarget, recentBuilds, registerBuild } from '$lib/server/services/builds';
+import {
+	benchTarget,
+	recentBuilds,
+	registerBuild,
+	shiftBuildCount,
+	SHIFT_HOURS
+} from '$lib/server/services/builds';
 import { AppError } from '$lib/server/errors';
 import { baseUrl } from '$lib/server/base-url';
 import { failFrom } from '$lib/server/http';
@@ -34,6 +40,7 @@ export const load: PageServerLoad = async (event) => {
 		scanError,
 		scan,
 		recent: await recentBuilds(db, actor),
+		shift: { count: await shiftBuildCount(db, actor), hours: SHIFT_HOURS },
 		done: event.url.searchParams.get('done')
 	};
 };
