@@ -19,13 +19,10 @@ import type { Actor } from '$lib/server/actor';
 import { closeMailer } from '$lib/server/mail';
 import { claimFigures } from '$lib/server/services/dashboard';
 import { UNKNOWN_SERIAL } from '$lib/server/services/modules';
-import {
-	fileClaim,
-	getClaim,
-	listClaims,
-	loadClaim,
-	readInverterLog
-} from '$lib/server/services/claims';
+import { fileClaim } from '$lib/server/services/claim-filing';
+import { getClaim, loadClaim } from '$lib/server/services/claims';
+import { listClaims } from '$lib/server/services/claim-queue';
+import { readInverterLog } from '$lib/server/services/claim-log';
 import {
 	addEvidence,
 	commentOnClaim,

@@ -13,7 +13,7 @@ import { migrateDb, openDb, type Db } from '$lib/server/db/client';
 import { campaignSteps } from '$lib/server/db/schema';
 import { seedDemo } from '$lib/server/seed/demo';
 import { seedDemoFleet } from '$lib/server/seed/demo-fleet';
-import { openCampaign } from '$lib/server/services/campaigns';
+import { openCampaign } from '$lib/server/services/campaign-opening';
 import { leaseOf, REMINDER_JOB, runReminderRound, takeLease } from '$lib/server/services/jobs';
 import { reminderIntervalMs } from '$lib/server/scheduler';
 import { actorFor } from '../factories/db';

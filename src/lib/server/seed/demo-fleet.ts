@@ -13,7 +13,7 @@ import { createSystem, placeModule } from '$lib/server/services/systems';
 import { submitCommissioning } from '$lib/server/services/commissioning';
 import { actorForEmail } from './demo-actors';
 import { buildAndTest, measurements, run, ship } from './demo-steps';
-import { fileClaim } from '$lib/server/services/claims';
+import { fileClaim } from '$lib/server/services/claim-filing';
 import { decideClaim, moveClaim, replaceModule } from '$lib/server/services/claim-workflow';
 import { seedDemoHistory } from './demo-history';
 import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';

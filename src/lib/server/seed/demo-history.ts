@@ -12,7 +12,7 @@ import type { ClimateBand } from '$lib/schemas/site';
 import { createSite } from '$lib/server/services/sites';
 import { createSystem, placeModule } from '$lib/server/services/systems';
 import { submitCommissioning } from '$lib/server/services/commissioning';
-import { fileClaim } from '$lib/server/services/claims';
+import { fileClaim } from '$lib/server/services/claim-filing';
 import { decideClaim, moveClaim, replaceModule } from '$lib/server/services/claim-workflow';
 import { actOnReturn } from '$lib/server/services/returns';
 import type { ReturnActionInput } from '$lib/schemas/returns';

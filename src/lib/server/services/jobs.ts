@@ -9,7 +9,7 @@ import type { Db } from '$lib/server/db';
 import { withWriteLock } from '$lib/server/db';
 import { jobLeases } from '$lib/server/db/schema';
 import { SYSTEM_ACTOR } from '$lib/server/actor';
-import { sendDueReminders } from './campaigns';
+import { sendDueReminders } from './campaign-reminders';
 
 /**
  * Takes the lease of job `name` for `ttlMs` if nobody holds an unexpired one.
