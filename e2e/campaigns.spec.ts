@@ -15,7 +15,12 @@ test('a campaign over a cell lot reaches both dealers, each resolves its own mod
 	expect(bad.status()).toBe(400);
 	expect((await bad.json()).message).toMatch(/names no modules/);
 
-	await officer.goto('/campaigns?lot=HCL-2640-B');
+	// From the traceability result: the campaign form opens with the lot filled in.
+	await officer.goto('/trace?lot=HCL-2640-B');
+	await expect(officer.getByTestId('trace-result')).toBeVisible();
+	await officer.getByRole('link', { name: 'Open a campaign for these modules' }).click();
+	await expect(officer).toHaveURL(/\/campaigns\?lot=HCL-2640-B#open-campaign$/);
+	await expect(officer.getByLabel('Cell lot')).toHaveValue('HCL-2640-B');
 	await officer.getByLabel('Title').fill('Interconnect torque check, lot HCL-2640-B');
 	await officer
 		.getByLabel('Notice to dealers')

@@ -5,12 +5,14 @@ import { actorHandle, assertAuthSecret, contextHandle } from '$lib/server/hooks'
 import { publicPage } from '$lib/server/public-page';
 import { compressHtml } from '$lib/server/compression';
 import { getDb } from '$lib/server/db';
+import { startScheduler } from '$lib/server/scheduler';
 import { securityHeaders } from '$lib/server/security-headers';
 import { originCheck } from '$lib/server/origin-check';
 
 export const init: ServerInit = async () => {
 	assertAuthSecret();
-	await getDb(); // applies pending migrations, so an empty database is ready at start-up
+	const db = await getDb(); // applies pending migrations, so an empty database is ready at start-up
+	startScheduler(db); // campaign reminders, one server per round (a lease in the database)
 };
 
 export const handle = sequence(

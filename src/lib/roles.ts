@@ -79,6 +79,13 @@ export const NAV: NavItem[] = [
 		blurb: 'Scan passed modules onto a shipment, print the packing list, dispatch to a dealer.'
 	},
 	{
+		href: '/returns',
+		group: 'workshop',
+		label: 'Returns',
+		capability: 'handleReturn',
+		blurb: 'Scan returned modules in, inspect them, then rework, keep or scrap them.'
+	},
+	{
 		href: '/sites',
 		group: 'field',
 		label: 'Sites',

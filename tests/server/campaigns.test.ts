@@ -9,13 +9,10 @@ import type { Db } from '$lib/server/db';
 import { campaigns, campaignSteps, mailOutbox } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { seedDemoFleet } from '$lib/server/seed/demo-fleet';
-import {
-	actOnCampaignModule,
-	getCampaign,
-	listCampaignModules,
-	openCampaign,
-	sendDueReminders
-} from '$lib/server/services/campaigns';
+import { actOnCampaignModule } from '$lib/server/services/campaign-steps';
+import { getCampaign, listCampaignModules } from '$lib/server/services/campaigns';
+import { openCampaign } from '$lib/server/services/campaign-opening';
+import { sendDueReminders } from '$lib/server/services/campaign-reminders';
 import { getPublicRecord } from '$lib/server/services/modules';
 import { actorFor, createSeededDb } from '../factories/db';
 

@@ -15,7 +15,8 @@ import { attachments, claims, modules, organisations } from '$lib/server/db/sche
 import type { Actor } from '$lib/server/actor';
 import { seedDemo } from '$lib/server/seed/demo';
 import { seedDemoFleet } from '$lib/server/seed/demo-fleet';
-import { fileClaim, getClaim as getClaimView } from '$lib/server/services/claims';
+import { fileClaim } from '$lib/server/services/claim-filing';
+import { getClaim as getClaimView } from '$lib/server/services/claims';
 import type { ClaimAssessmentResult } from '$lib/server/services/claim-assessment';
 
 /** The officer's view, whose assessment is never withheld. */

@@ -16,13 +16,10 @@ import type { Actor } from '$lib/server/actor';
 import { closeMailer } from '$lib/server/mail';
 import { claimFigures } from '$lib/server/services/dashboard';
 import { UNKNOWN_SERIAL } from '$lib/server/services/modules';
-import {
-	fileClaim,
-	getClaim,
-	listClaims,
-	loadClaim,
-	readInverterLog
-} from '$lib/server/services/claims';
+import { fileClaim } from '$lib/server/services/claim-filing';
+import { getClaim, loadClaim } from '$lib/server/services/claims';
+import { listClaims } from '$lib/server/services/claim-queue';
+import { readInverterLog } from '$lib/server/services/claim-log';
 import {
 	addEvidence,
 	commentOnClaim,
@@ -32,6 +29,7 @@ import {
 	replaceModule
 } from '$lib/server/services/claim-workflow';
 import { assessmentFor } from '$lib/server/services/claim-assessment';
+import { actOnReturn } from '$lib/server/services/returns';
 import { assessClaim } from '$lib/domain/warranty';
 import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';
 import { formatSerial } from '$lib/domain/serial';
@@ -558,7 +556,11 @@ describe('replacement', () => {
 
 		const original = await stateOf(failed);
 		const result = await replaceModule(db, warranty, id, failed, good, undefined, NOW);
-		expect(result).toEqual({ replacement: good, state: 'replacement_sent' });
+		expect(result).toEqual({
+			replacement: good,
+			raNumber: expect.stringMatching(/^RA-2026-\d{4}$/),
+			state: 'replacement_sent'
+		});
 		const repl = await stateOf(good);
 		expect(repl).toMatchObject({
 			state: 'commissioned',
@@ -589,6 +591,25 @@ describe('replacement', () => {
 			`Claim ${reference}: Replacement sent`
 		]);
 
+		// Inspected once it is back at the workshop (issue 13, item 3).
+		await expect(
+			recordReturnInspection(
+				db,
+				warranty,
+				id,
+				failed,
+				{ cause: 'no_fault_found', findings: 'Inspected before it arrived.' },
+				NOW
+			)
+		).rejects.toThrow(/scan it in first/);
+		await actOnReturn(
+			db,
+			workshop,
+			failed,
+			{ action: 'receive', condition: 'intact' },
+			undefined,
+			NOW
+		);
 		await recordReturnInspection(
 			db,
 			warranty,

@@ -21,6 +21,10 @@ export const ARRIVAL_CONDITIONS = {
 	swollen_hot_or_leaking: 'Swollen, warm, smelling or leaking'
 } as const;
 export type ArrivalCondition = keyof typeof ARRIVAL_CONDITIONS;
+export const ARRIVAL_CONDITION_KEYS = Object.keys(ARRIVAL_CONDITIONS) as [
+	ArrivalCondition,
+	...ArrivalCondition[]
+];
 
 /** A damaged module needs quarantine before anyone opens or tests it (common practice). */
 export function needsQuarantine(condition: ArrivalCondition): boolean {
@@ -28,16 +32,10 @@ export function needsQuarantine(condition: ArrivalCondition): boolean {
 }
 
 /**
- * The return authorisation number of the n-th module (from 1) of a claim: RA-{year}-{claim
- * number}-{n}, e.g. claim CL-2026-0007's second module → RA-2026-0007-2. It is unique because
- * the claim reference is.
+ * Return authorisation numbers are a yearly sequence of their own, RA-{year}-{NNNN}, counted
+ * on the assembler's calendar year like claim and shipment references (e.g. RA-2026-0001).
  */
-export function raNumberFor(claimReference: string, n: number): string {
-	if (!claimReference.startsWith('CL-'))
-		throw new Error(`Not a claim reference: ${claimReference}`);
-	if (!Number.isInteger(n) || n < 1) throw new Error('The module position starts at 1.');
-	return `RA-${claimReference.slice(3)}-${n}`;
-}
+export const RA_SEQUENCE = { code: 'RA', width: 4 } as const;
 
 /** Where a return stands, from what is recorded. */
 export type ReturnStep = 'on_its_way' | 'received' | 'inspected' | 'closed';
@@ -59,3 +57,50 @@ export const RETURN_STEP_LABELS: Record<ReturnStep, string> = {
 	inspected: 'Inspected',
 	closed: 'Done'
 };
+
+/** What the workshop does with a return, in order: scan it in, inspect it, then decide. */
+export const RETURN_ACTIONS = ['receive', 'inspect', 'rework', 'keep', 'scrap'] as const;
+export type ReturnAction = (typeof RETURN_ACTIONS)[number];
+
+/** The module move each action makes (see module-lifecycle.ts) and the outcome it records. */
+export const RETURN_ACTION_MOVES = {
+	receive: { move: 'receiveReturn', outcome: null },
+	inspect: { move: 'inspectReturn', outcome: null },
+	rework: { move: 'rework', outcome: 'reworked' },
+	keep: { move: 'keepForAnalysis', outcome: 'kept_for_analysis' },
+	scrap: { move: 'scrap', outcome: 'scrapped' }
+} as const satisfies Record<ReturnAction, { move: string; outcome: ReturnOutcome | null }>;
+
+/**
+ * The actions open at a step. A module kept for analysis may still be reworked or scrapped
+ * once the analysis is done; a reworked or scrapped return is finished.
+ */
+export function returnActionsAt(
+	step: ReturnStep,
+	outcome: ReturnOutcome | null
+): readonly ReturnAction[] {
+	if (step === 'on_its_way') return ['receive'];
+	if (step === 'received') return ['inspect'];
+	if (step === 'inspected') return ['rework', 'keep', 'scrap'];
+	return outcome === 'kept_for_analysis' ? ['rework', 'scrap'] : [];
+}
+
+/**
+ * Why an action cannot be taken now, in words a person can act on; null when it can.
+ * `raNumber` names the return in the message.
+ */
+export function refusalOf(
+	action: ReturnAction,
+	r: { raNumber: string; step: ReturnStep; outcome: ReturnOutcome | null }
+): string | null {
+	if (returnActionsAt(r.step, r.outcome).includes(action)) return null;
+	if (action === 'receive')
+		return `Return ${r.raNumber} was already received; it is not on its way back.`;
+	if (action === 'inspect')
+		return r.step === 'on_its_way'
+			? `Return ${r.raNumber} has not arrived yet: scan it in first.`
+			: `Return ${r.raNumber} was already inspected; an inspection is recorded once.`;
+	if (r.step === 'on_its_way' || r.step === 'received')
+		return `Return ${r.raNumber} must be ${r.step === 'on_its_way' ? 'received and ' : ''}inspected before it is reworked, kept or scrapped.`;
+	return `Return ${r.raNumber} is finished (${RETURN_OUTCOME_LABELS[r.outcome ?? 'scrapped'].toLowerCase()}).`;
+}

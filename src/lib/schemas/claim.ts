@@ -220,6 +220,17 @@ export const claimQuerySchema = z.object({
 	dealer: queryInt(1, Number.MAX_SAFE_INTEGER, 'Dealer'),
 	model: optionalText(40, 'A model code has at most 40 characters.'),
 	minAgeDays: queryInt(0, 100_000, 'Minimum age'),
+	/** A serial, whole or its beginning (e.g. `PL48-26-0001`): claims naming a module it matches. */
+	serial: z.preprocess(
+		(v) => (typeof v === 'string' ? v.trim().toUpperCase() || undefined : v),
+		z
+			.string()
+			.max(40, { error: 'A serial has at most 40 characters: type it or its beginning.' })
+			.regex(/^[A-Z0-9-]+$/, {
+				error: 'Search by serial with letters, digits and hyphens only (e.g. PL48-26-0001).'
+			})
+			.optional()
+	),
 	page: z.preprocess(blankToUndefined, z.coerce.number().int().min(1).default(1)),
 	pageSize: z.preprocess(blankToUndefined, z.coerce.number().int().min(1).max(100).default(25)),
 	sort: z.preprocess(blankToUndefined, z.enum(CLAIM_SORTS).default('filedAt')),

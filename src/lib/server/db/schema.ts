@@ -296,6 +296,17 @@ export const auditLog = sqliteTable(
 	(t) => [index('audit_entity_idx').on(t.entity, t.entityId)]
 );
 
+/**
+ * Leases of scheduled jobs: when two app servers share the database, the one holding a job's
+ * unexpired lease runs it and the other skips that round.
+ */
+export const jobLeases = sqliteTable('job_leases', {
+	name: text('name').primaryKey(),
+	holder: text('holder').notNull(),
+	expiresAt: integer('expires_at', { mode: 'timestamp_ms' }).notNull(),
+	lastRunAt: integer('last_run_at', { mode: 'timestamp_ms' })
+});
+
 /** Messages kept by the local fake SMTP server (and copies of those sent through real SMTP). */
 export const mailOutbox = sqliteTable('mail_outbox', {
 	id: integer('id').primaryKey({ autoIncrement: true }),

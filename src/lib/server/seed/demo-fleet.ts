@@ -14,7 +14,7 @@ import { placeModule } from '$lib/server/services/system-modules';
 import { submitCommissioning } from '$lib/server/services/commissioning-submit';
 import { actorForEmail } from './demo-actors';
 import { buildAndTest, measurements, run, ship } from './demo-steps';
-import { fileClaim } from '$lib/server/services/claims';
+import { fileClaim } from '$lib/server/services/claim-filing';
 import { decideClaim, moveClaim, replaceModule } from '$lib/server/services/claim-workflow';
 import { seedDemoHistory } from './demo-history';
 import { claimEvidenceSchema } from '$lib/schemas/warranty-assess';

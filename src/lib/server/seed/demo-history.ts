@@ -13,8 +13,10 @@ import { createSite } from '$lib/server/services/sites';
 import { createSystem } from '$lib/server/services/systems';
 import { placeModule } from '$lib/server/services/system-modules';
 import { submitCommissioning } from '$lib/server/services/commissioning-submit';
-import { fileClaim } from '$lib/server/services/claims';
+import { fileClaim } from '$lib/server/services/claim-filing';
 import { decideClaim, moveClaim, replaceModule } from '$lib/server/services/claim-workflow';
+import { actOnReturn } from '$lib/server/services/returns';
+import type { ReturnActionInput } from '$lib/schemas/returns';
 import { updateModel } from '$lib/server/services/models';
 import { modelInputSchema } from '$lib/schemas/model';
 import { actorForEmail } from './demo-actors';
@@ -295,6 +297,20 @@ export async function seedDemoHistory(db: Db) {
 				undefined,
 				plusDays(when, 10)
 			);
+			// The failed module came back, was inspected and scrapped: a closed return.
+			const failed = cohort.serials[mi];
+			const step = (input: ReturnActionInput, days: number) =>
+				actOnReturn(db, officer, failed, input, undefined, plusDays(when, days));
+			await step({ action: 'receive', condition: 'intact' }, 24);
+			await step(
+				{
+					action: 'inspect',
+					cause: 'cell_fade_premature',
+					findings: 'Two cell groups below the warranted capacity for their cycle count.'
+				},
+				30
+			);
+			await step({ action: 'scrap', reason: 'Cells past reuse; sent to the recycler.' }, 31);
 		}
 	}
 }

@@ -7,7 +7,7 @@ import { assertCan, type Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
 import { mayRecordReplacement, stateAfterReplacement } from '$lib/domain/claim-workflow';
 import { endOf, mayReplace } from '$lib/domain/module-lifecycle';
-import { RETURN_CAUSES, type ReturnInspectionInput } from '$lib/schemas/claim';
+import { type ReturnInspectionInput } from '$lib/schemas/claim';
 import { STATE_LABELS } from '$lib/module-states';
 import { recordAudit, recordEvent } from './audit';
 import { findModule, serialFromScan } from './modules';
@@ -15,6 +15,7 @@ import { loadClaim, mailFiler, requireOfficer } from './claims';
 
 import { label, logStep, setState } from './claim-steps';
 import { replacementRecorded } from '$lib/server/mail/templates/claims';
+import { actOnReturn, authoriseReturn } from './returns';
 
 /**
  * Puts a replacement module into the failed module's place under a covered claim. The
@@ -78,7 +79,7 @@ export async function replaceModule(
 		? `string ${slot.stringNo}, position ${slot.position} of ${sys?.name ?? 'the system'}`
 		: (sys?.name ?? 'the system');
 
-	const allReplaced = await writeTx(db, async (tx) => {
+	const { allReplaced, raNumber } = await writeTx(db, async (tx) => {
 		if (slot)
 			await tx
 				.update(systemSlots)
@@ -145,6 +146,7 @@ export async function replaceModule(
 			detail: { claim: claim.reference },
 			at: now
 		});
+		const raNumber = await authoriseReturn(tx, actor, claim, failed, now);
 		const open = await tx
 			.select({ id: claimModules.moduleId })
 			.from(claimModules)
@@ -170,11 +172,12 @@ export async function replaceModule(
 				failed: failed.serial,
 				replacement: repl.serial,
 				slot: slot ?? null,
-				warrantyEndsOn: failed.warrantyEndsOn
+				warrantyEndsOn: failed.warrantyEndsOn,
+				raNumber
 			},
 			at: now
 		});
-		return !open.length;
+		return { allReplaced: !open.length, raNumber };
 	});
 	await mailFiler(
 		db,
@@ -185,16 +188,21 @@ export async function replaceModule(
 			replacementSerial: repl.serial,
 			where,
 			warrantyEndsOn: failed.warrantyEndsOn,
-			allReplaced
+			allReplaced,
+			raNumber
 		})
 	);
 	return {
 		replacement: repl.serial,
+		raNumber,
 		state: allReplaced ? ('replacement_sent' as const) : claim.state
 	};
 }
 
-/** Records what the inspection of a returned module found and its cause (one of RETURN_CAUSES). */
+/**
+ * Records the inspection of a returned module of this claim (findings and cause, once, after
+ * it was received): the claim page's form, through the returns desk's own step.
+ */
 export async function recordReturnInspection(
 	db: Db,
 	actor: Actor,
@@ -205,50 +213,12 @@ export async function recordReturnInspection(
 ) {
 	requireOfficer(actor);
 	const claim = await loadClaim(db, actor, claimId);
-	if (!(input.cause in RETURN_CAUSES))
-		throw new InvalidInputError('Choose the cause from the list.', [
-			{ path: 'cause', message: 'Choose the cause from the list.' }
-		]);
-	const findings = input.findings.trim();
-	if (findings.length < 10)
-		throw new InvalidInputError('Write what the inspection found (at least 10 characters).', [
-			{ path: 'findings', message: 'Write what the inspection found (at least 10 characters).' }
-		]);
 	const mod = await findModule(db, actor, serial);
 	const [link] = await db
-		.select()
+		.select({ id: claimModules.moduleId })
 		.from(claimModules)
 		.where(and(eq(claimModules.claimId, claim.id), eq(claimModules.moduleId, mod.id)));
 	if (!link) throw new NotFoundError(`${mod.serial} is not on claim ${claim.reference}.`);
-	const cause = RETURN_CAUSES[input.cause];
-	await writeTx(db, async (tx) => {
-		await tx
-			.update(claimModules)
-			.set({ returnFindings: findings, returnCause: input.cause })
-			.where(and(eq(claimModules.claimId, claim.id), eq(claimModules.moduleId, mod.id)));
-		await recordEvent(tx, actor, {
-			moduleId: mod.id,
-			kind: 'claim_updated',
-			summary: `Return inspection under claim ${claim.reference}: ${cause}`,
-			detail: { claim: claim.reference, cause: input.cause, findings },
-			at: now
-		});
-		await logStep(
-			tx,
-			actor,
-			claim,
-			claim.state,
-			`Return inspection of ${mod.serial}: ${cause}. ${findings}`,
-			now
-		);
-		await recordAudit(tx, actor, {
-			action: 'claim.inspect',
-			entity: 'claim',
-			entityId: claim.reference,
-			before: { returnCause: link.returnCause, returnFindings: link.returnFindings },
-			after: { serial: mod.serial, returnCause: input.cause, returnFindings: findings },
-			at: now
-		});
-	});
+	await actOnReturn(db, actor, mod.serial, { action: 'inspect', ...input }, undefined, now);
 	return { serial: mod.serial, cause: input.cause };
 }

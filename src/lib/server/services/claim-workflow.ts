@@ -38,6 +38,11 @@ export async function moveClaim(
 	const { to } = input;
 	const comment = input.comment?.trim() || null;
 	checkRule(() => assertTransition(claim.reference, claim.state, to));
+	// Asking for evidence says what is needed: the dealer sees it first on the claim page.
+	if (to === 'awaiting_evidence' && (comment?.length ?? 0) < 10)
+		throw new InvalidInputError('Say which evidence you need (at least 10 characters).', [
+			{ path: 'comment', message: 'Say which evidence you need (at least 10 characters).' }
+		]);
 	if (to === 'replacement_sent') {
 		const missing = await db
 			.select({ serial: modules.serial })
@@ -50,7 +55,14 @@ export async function moveClaim(
 			);
 	}
 	await writeTx(db, async (tx) => {
-		await setState(tx, claim, { state: to }, now);
+		await setState(
+			tx,
+			claim,
+			to === 'awaiting_evidence'
+				? { state: to, evidenceRequest: comment, evidenceRequestedAt: now }
+				: { state: to },
+			now
+		);
 		await logStep(tx, actor, claim, to, comment, now, `Claim ${claim.reference}: ${label(to)}`);
 		await recordAudit(tx, actor, {
 			action: 'claim.move',

@@ -1,10 +1,8 @@
 import { createHash } from 'node:crypto';
-import { and, asc, desc, eq, isNull, like, ne, or, sql } from 'drizzle-orm';
+import { and, asc, desc, eq, like, or, sql } from 'drizzle-orm';
 import { dataVersion, type Db } from '$lib/server/db';
 import { alias } from 'drizzle-orm/sqlite-core';
 import {
-	campaignModules,
-	campaigns,
 	claimModules,
 	claims,
 	factoryTests,
@@ -22,87 +20,7 @@ import { NotFoundError } from '$lib/server/errors';
 import { extractSerialFromScan, parseSerial } from '$lib/domain/serial';
 import { toPublicRecord, type PublicRecord } from '$lib/domain/public-record';
 import { factoryTestsOf } from './workshop';
-
-type ModuleRow = typeof modules.$inferSelect;
-
-/** Open service campaigns naming a module (its step not yet resolved), newest first. */
-export async function openCampaignsOf(db: Db, moduleId: number) {
-	return db
-		.select({
-			id: campaigns.id,
-			reference: campaigns.reference,
-			title: campaigns.title,
-			remedy: campaigns.remedy,
-			state: campaignModules.state
-		})
-		.from(campaignModules)
-		.innerJoin(campaigns, eq(campaignModules.campaignId, campaigns.id))
-		.where(
-			and(
-				eq(campaignModules.moduleId, moduleId),
-				ne(campaignModules.state, 'resolved'),
-				isNull(campaigns.closedAt)
-			)
-		)
-		.orderBy(desc(campaigns.id));
-}
-
-/** Which module replaced this one under a claim, and which one this one replaced. */
-async function replacementsOf(db: Db, moduleId: number) {
-	const other = alias(modules, 'other');
-	const [by] = await db
-		.select({ serial: other.serial })
-		.from(claimModules)
-		.innerJoin(other, eq(claimModules.replacementModuleId, other.id))
-		.where(eq(claimModules.moduleId, moduleId))
-		.limit(1);
-	const [of] = await db
-		.select({ serial: other.serial })
-		.from(claimModules)
-		.innerJoin(other, eq(claimModules.moduleId, other.id))
-		.where(eq(claimModules.replacementModuleId, moduleId))
-		.limit(1);
-	return { replacedBy: by?.serial ?? null, replaces: of?.serial ?? null };
-}
-
-/** What the condition sentence needs beyond the module row. */
-async function conditionFacts(
-	db: Db,
-	mod: Pick<
-		ModuleRow,
-		'id' | 'state' | 'scrappedAt' | 'scrapReason' | 'updatedAt' | 'lifecycleStatus'
-	>
-) {
-	const [last] = await db
-		.select({ testedAt: factoryTests.testedAt, outcome: factoryTests.outcome })
-		.from(factoryTests)
-		.where(eq(factoryTests.moduleId, mod.id))
-		.orderBy(desc(factoryTests.testedAt), desc(factoryTests.id))
-		.limit(1);
-	const [rework] = await db
-		.select({ at: moduleEvents.at })
-		.from(moduleEvents)
-		.where(and(eq(moduleEvents.moduleId, mod.id), eq(moduleEvents.kind, 'reworked')))
-		.orderBy(desc(moduleEvents.at))
-		.limit(1);
-	const [campaign] = await openCampaignsOf(db, mod.id);
-	return {
-		lastTest: last ? { on: last.testedAt.toISOString().slice(0, 10), outcome: last.outcome } : null,
-		reworked: !!rework && mod.state === 'built',
-		campaign: campaign
-			? { reference: campaign.reference, title: campaign.title, remedy: campaign.remedy }
-			: null,
-		...(await replacementsOf(db, mod.id)),
-		scrapped:
-			mod.state === 'scrapped'
-				? {
-						on: (mod.scrappedAt ?? mod.updatedAt ?? new Date(0)).toISOString().slice(0, 10),
-						reason: mod.scrapReason ?? 'no reason recorded'
-					}
-				: null,
-		lifecycleStatus: mod.lifecycleStatus
-	};
-}
+import { conditionFacts, openCampaignsOf } from './module-facts';
 
 export const UNKNOWN_SERIAL = (serial: string) =>
 	`No module ${serial} is in the register. Check the serial on the label (it looks like PL48-26-000123F).`;

@@ -5,7 +5,7 @@
  * factory tests of a module with their measured values, newest first.
  */
 import { and, desc, eq, inArray } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import type { Db, Tx } from '$lib/server/db';
 import { writeTx } from '$lib/server/db';
 import { factoryTests, moduleCellLots, modules } from '$lib/server/db/schema';
 import { assertCan, type Actor } from '$lib/server/actor';
@@ -22,6 +22,68 @@ const stateWords = (s: string) => (STATE_LABELS[s] ?? s).toLowerCase();
 /** A person's words as one sentence: no doubled full stop when they ended with one. */
 const asSentence = (t: string) => `${withoutFullStop(t)}.`;
 
+type ModuleRow = typeof modules.$inferSelect;
+
+/**
+ * The rework's writes inside the caller's transaction (the returns desk adds its own): the
+ * module back to built with no test outcome, the timeline and the audit. Returns the passport
+ * status it now has.
+ */
+export async function applyRework(tx: Tx, actor: Actor, mod: ModuleRow, work: string, now: Date) {
+	const lifecycleStatus = statusAfterRework(mod.commissionedAt !== null, mod.lifecycleStatus);
+	const done = await tx
+		.update(modules)
+		.set({ state: endOf('rework'), testOutcome: null, lifecycleStatus, updatedAt: now })
+		.where(and(eq(modules.id, mod.id), inArray(modules.state, statesFrom('rework'))))
+		.returning({ id: modules.id });
+	if (!done.length) throw new ConflictError(`${mod.serial} changed meanwhile; reload the page.`);
+	await recordEvent(tx, actor, {
+		moduleId: mod.id,
+		kind: 'reworked',
+		summary: `Reworked: ${asSentence(work)} Waits for a retest.`,
+		detail: { work, from: mod.state },
+		at: now
+	});
+	await recordAudit(tx, actor, {
+		action: 'module.rework',
+		entity: 'module',
+		entityId: mod.serial,
+		before: {
+			state: mod.state,
+			testOutcome: mod.testOutcome,
+			lifecycleStatus: mod.lifecycleStatus
+		},
+		after: { state: 'built', testOutcome: null, lifecycleStatus, work },
+		at: now
+	});
+	return lifecycleStatus;
+}
+
+/** The scrapping's writes inside the caller's transaction: state, reason, timeline, audit. */
+export async function applyScrap(tx: Tx, actor: Actor, mod: ModuleRow, reason: string, now: Date) {
+	const done = await tx
+		.update(modules)
+		.set({ state: endOf('scrap'), scrapReason: reason, scrappedAt: now, updatedAt: now })
+		.where(and(eq(modules.id, mod.id), inArray(modules.state, statesFrom('scrap'))))
+		.returning({ id: modules.id });
+	if (!done.length) throw new ConflictError(`${mod.serial} changed meanwhile; reload the page.`);
+	await recordEvent(tx, actor, {
+		moduleId: mod.id,
+		kind: 'scrapped',
+		summary: `Scrapped: ${reason}`,
+		detail: { reason, from: mod.state },
+		at: now
+	});
+	await recordAudit(tx, actor, {
+		action: 'module.scrap',
+		entity: 'module',
+		entityId: mod.serial,
+		before: { state: mod.state },
+		after: { state: 'scrapped', reason, passportStatus: 'waste' },
+		at: now
+	});
+}
+
 /**
  * Records the rework of a failed (or returned and inspected) module: what was done. The
  * module goes back to built and waits for a retest, whose result supersedes the last; the
@@ -37,39 +99,7 @@ export async function reworkModule(
 	assertCan(actor, 'reworkModule', 'Rework is recorded by the workshop.');
 	const mod = await findModule(db, actor, serial);
 	checkRule(() => assertTransition(mod.state, 'rework', endOf('rework')));
-	const lifecycleStatus = statusAfterRework(mod.commissionedAt !== null, mod.lifecycleStatus);
-	await writeTx(db, async (tx) => {
-		const done = await tx
-			.update(modules)
-			.set({
-				state: endOf('rework'),
-				testOutcome: null,
-				lifecycleStatus,
-				updatedAt: now
-			})
-			.where(and(eq(modules.id, mod.id), inArray(modules.state, statesFrom('rework'))))
-			.returning({ id: modules.id });
-		if (!done.length) throw new ConflictError(`${mod.serial} changed meanwhile; reload the page.`);
-		await recordEvent(tx, actor, {
-			moduleId: mod.id,
-			kind: 'reworked',
-			summary: `Reworked: ${asSentence(input.work)} Waits for a retest.`,
-			detail: { work: input.work, from: mod.state },
-			at: now
-		});
-		await recordAudit(tx, actor, {
-			action: 'module.rework',
-			entity: 'module',
-			entityId: mod.serial,
-			before: {
-				state: mod.state,
-				testOutcome: mod.testOutcome,
-				lifecycleStatus: mod.lifecycleStatus
-			},
-			after: { state: 'built', testOutcome: null, lifecycleStatus, work: input.work },
-			at: now
-		});
-	});
+	const lifecycleStatus = await writeTx(db, (tx) => applyRework(tx, actor, mod, input.work, now));
 	return { serial: mod.serial, state: endOf('rework'), passportStatus: lifecycleStatus };
 }
 
@@ -90,29 +120,7 @@ export async function scrapModule(
 		throw new ConflictError(
 			`${mod.serial} is ${stateWords(mod.state)}: only a module held in the workshop (built, failed, in stock, or returned and inspected) can be scrapped.`
 		);
-	await writeTx(db, async (tx) => {
-		const done = await tx
-			.update(modules)
-			.set({ state: endOf('scrap'), scrapReason: input.reason, scrappedAt: now, updatedAt: now })
-			.where(and(eq(modules.id, mod.id), inArray(modules.state, statesFrom('scrap'))))
-			.returning({ id: modules.id });
-		if (!done.length) throw new ConflictError(`${mod.serial} changed meanwhile; reload the page.`);
-		await recordEvent(tx, actor, {
-			moduleId: mod.id,
-			kind: 'scrapped',
-			summary: `Scrapped: ${input.reason}`,
-			detail: { reason: input.reason, from: mod.state },
-			at: now
-		});
-		await recordAudit(tx, actor, {
-			action: 'module.scrap',
-			entity: 'module',
-			entityId: mod.serial,
-			before: { state: mod.state },
-			after: { state: 'scrapped', reason: input.reason, passportStatus: 'waste' },
-			at: now
-		});
-	});
+	await writeTx(db, (tx) => applyScrap(tx, actor, mod, input.reason, now));
 	return { serial: mod.serial, state: endOf('scrap'), passportStatus: 'waste' as const };
 }
 

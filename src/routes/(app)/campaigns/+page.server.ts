@@ -5,7 +5,9 @@ import { can } from '$lib/policy';
 import { openCampaignFormSchema } from '$lib/schemas/campaign';
 import { parseForm } from '$lib/server/validation';
 import { failFrom } from '$lib/server/http';
-import { listCampaigns, openCampaign, sendDueReminders } from '$lib/server/services/campaigns';
+import { listCampaigns } from '$lib/server/services/campaigns';
+import { openCampaign } from '$lib/server/services/campaign-opening';
+import { sendDueReminders } from '$lib/server/services/campaign-reminders';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {

@@ -1,6 +1,6 @@
 import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
-import { claimFilterOptions } from '$lib/server/services/claims';
+import { claimFilterOptions } from '$lib/server/services/claim-queue';
 import type { PageServerLoad } from './$types';
 
 /** Filter choices only: the queue itself comes from /api/claims through +page.ts, so filters and sorting stay in the URL. */

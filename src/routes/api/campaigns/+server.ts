@@ -3,7 +3,8 @@ import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { openCampaignSchema } from '$lib/schemas/campaign';
 import { parseJson } from '$lib/server/validation';
-import { listCampaigns, openCampaign } from '$lib/server/services/campaigns';
+import { listCampaigns } from '$lib/server/services/campaigns';
+import { openCampaign } from '$lib/server/services/campaign-opening';
 import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
 

@@ -5,10 +5,11 @@ import { jsonFrom } from '$lib/server/http';
 import { parseJson, parseQuery } from '$lib/server/validation';
 import { baseUrl } from '$lib/server/base-url';
 import { claimQuerySchema, fileClaimApiSchema } from '$lib/schemas/claim';
-import { fileClaim, listClaims } from '$lib/server/services/claims';
+import { fileClaim } from '$lib/server/services/claim-filing';
+import { listClaims } from '$lib/server/services/claim-queue';
 import type { RequestHandler } from './$types';
 
-/** The claims queue as JSON: `?state=&dealer=&model=&minAgeDays=&page=&pageSize=&sort=&dir=`. A dealer gets own claims only. */
+/** The claims queue as JSON: `?state=&dealer=&model=&minAgeDays=&serial=&page=&pageSize=&sort=&dir=` (`serial`: whole or its beginning). A dealer gets own claims only. */
 export const GET: RequestHandler = async (event) => {
 	const actor = requireCan(event, 'viewClaims');
 	const parsed = parseQuery(claimQuerySchema, event.url.searchParams);

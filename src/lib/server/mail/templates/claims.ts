@@ -88,9 +88,10 @@ export function replacementRecorded(p: {
 	where: string;
 	warrantyEndsOn: string | null;
 	allReplaced: boolean;
+	raNumber: string;
 }): Mail {
 	return {
 		subject: `Claim ${p.reference}: ${p.allReplaced ? label('replacement_sent') : `replacement for ${p.failedSerial}`}`,
-		text: `${p.failedSerial} is replaced by ${p.replacementSerial} in ${p.where}. The replacement carries the rest of the original warranty${p.warrantyEndsOn ? `, to ${p.warrantyEndsOn}` : ''}.${p.allReplaced ? `\n\nEvery module of claim ${p.reference} now has its replacement.` : ''}\n\nSend the failed module back as arranged; isolate it and protect its terminals for transport.`
+		text: `${p.failedSerial} is replaced by ${p.replacementSerial} in ${p.where}. The replacement carries the rest of the original warranty${p.warrantyEndsOn ? `, to ${p.warrantyEndsOn}` : ''}.${p.allReplaced ? `\n\nEvery module of claim ${p.reference} now has its replacement.` : ''}\n\nSend the failed module back under return authorisation ${p.raNumber}: write the number on the parcel. Isolate the module and protect its terminals for transport. We write to you when it arrives and again when it is inspected.`
 	};
 }

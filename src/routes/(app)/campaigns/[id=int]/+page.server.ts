@@ -3,11 +3,8 @@ import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { campaignActionSchema } from '$lib/schemas/campaign';
 import { errorFrom, failFrom } from '$lib/server/http';
-import {
-	actOnCampaignModule,
-	getCampaign,
-	listCampaignModules
-} from '$lib/server/services/campaigns';
+import { actOnCampaignModule } from '$lib/server/services/campaign-steps';
+import { getCampaign, listCampaignModules } from '$lib/server/services/campaigns';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {

@@ -53,6 +53,7 @@ export const load: PageServerLoad = async (event) => {
 			photos,
 			officer,
 			canReplace: can(actor.role, 'replaceModule'),
+			canHandleReturn: !actor.dealerScoped && can(actor.role, 'handleReturn'),
 			isFiler: actor.userId === null ? false : detail.claim.filedBy?.id === actor.userId
 		};
 	} catch (e) {

@@ -5,7 +5,8 @@ import { parseForm, toIssues } from '$lib/server/validation';
 import { failFrom } from '$lib/server/http';
 import { baseUrl } from '$lib/server/base-url';
 import { fileClaimFormSchema, logMappingSchema, MAX_LOG_BYTES } from '$lib/schemas/claim';
-import { fileClaim, logDealerFor, readInverterLog } from '$lib/server/services/claims';
+import { fileClaim } from '$lib/server/services/claim-filing';
+import { logDealerFor, readInverterLog } from '$lib/server/services/claim-log';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {

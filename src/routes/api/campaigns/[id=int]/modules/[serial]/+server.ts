@@ -3,7 +3,7 @@ import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { campaignActionSchema } from '$lib/schemas/campaign';
 import { parseJson } from '$lib/server/validation';
-import { actOnCampaignModule } from '$lib/server/services/campaigns';
+import { actOnCampaignModule } from '$lib/server/services/campaign-steps';
 import { jsonFrom } from '$lib/server/http';
 import type { RequestHandler } from './$types';
 
