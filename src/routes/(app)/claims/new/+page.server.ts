@@ -7,12 +7,15 @@ import { baseUrl } from '$lib/server/base-url';
 import { fileClaimFormSchema, logMappingSchema, MAX_LOG_BYTES } from '$lib/schemas/claim';
 import { fileClaim } from '$lib/server/services/claim-filing';
 import { logDealerFor, readInverterLog } from '$lib/server/services/claim-log';
+import { businessDay } from '$lib/server/services/calendar';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const actor = requireCan(event, 'fileClaim');
 	const kind = event.url.searchParams.get('kind') === 'on-delivery' ? 'on-delivery' : 'in-service';
 	return {
+		// "First seen on" starts at today on the assembler's calendar, not the browser's UTC date.
+		today: await businessDay(await getDb(), new Date()),
 		dealerScoped: actor.dealerScoped,
 		serial: event.url.searchParams.get('serial') ?? '',
 		kind
