@@ -25,6 +25,7 @@ async function getClaim(...a: Parameters<typeof getClaimView>) {
 	return { ...v, assessment: v.assessment as ClaimAssessmentResult };
 }
 import { decideClaim, moveClaim } from '$lib/server/services/claim-workflow';
+import { replaceModule } from '$lib/server/services/claim-replacement';
 import { faultsFor } from '$lib/domain/claim-workflow';
 import { POST as claimsPost } from '../../src/routes/api/claims/+server';
 import { actorFor } from '../factories/db';
@@ -278,5 +279,43 @@ describe('filing with photos and without throughput', () => {
 			NOW
 		);
 		expect(await stateOf(saltShipped[1])).toBe('shipped');
+	});
+
+	it('covered on delivery: the replacement goes to the dealer as stock (shipped), not into service', async () => {
+		const failedSerial = ridgeShipped[2];
+		const res = await post(ridgeline, {
+			kind: 'on-delivery',
+			serials: [failedSerial],
+			fault: 'damaged_in_transport',
+			observedOn: '2026-11-24',
+			description: 'The case arrived crushed on one side; the module was not unpacked further.'
+		});
+		expect(res.status).toBe(201);
+		const { id } = await res.json();
+		const [failed] = await db.select().from(modules).where(eq(modules.serial, failedSerial));
+		const [spare] = await db
+			.select()
+			.from(modules)
+			.where(and(eq(modules.state, 'in_stock'), eq(modules.modelId, failed.modelId)))
+			.orderBy(modules.serial)
+			.limit(1);
+		await moveClaim(db, officer, id, { to: 'in_review' }, NOW);
+		await decideClaim(
+			db,
+			officer,
+			id,
+			{ decision: 'covered', reason: 'The carrier confirmed the crushed pallet on delivery.' },
+			NOW
+		);
+		await replaceModule(db, officer, id, failedSerial, spare.serial, undefined, NOW);
+		const [repl] = await db.select().from(modules).where(eq(modules.id, spare.id));
+		expect(repl).toMatchObject({
+			state: 'shipped',
+			systemId: null,
+			commissionedAt: null,
+			dealerOrgId: ridgeline.organisationId
+		});
+		expect(repl.shippedAt?.getTime()).toBe(NOW.getTime());
+		expect(await stateOf(failedSerial)).toBe('returned');
 	});
 });

@@ -92,14 +92,17 @@ export async function replaceModule(
 						eq(systemSlots.moduleId, failed.id)
 					)
 				);
+		// On delivery the replacement goes to the dealer's stock (sent, not in service); in service
+		// it takes the failed module's place in the commissioned system at once.
+		const onDelivery = claim.kind === 'on-delivery';
 		const moved = await tx
 			.update(modules)
 			.set({
-				state: endOf('fitAsReplacement'),
-				systemId: failed.systemId ?? claim.systemId,
-				dealerOrgId: failed.dealerOrgId,
+				state: onDelivery ? endOf('sendAsReplacement') : endOf('fitAsReplacement'),
+				systemId: onDelivery ? null : (failed.systemId ?? claim.systemId),
+				dealerOrgId: failed.dealerOrgId ?? claim.dealerOrgId,
 				shippedAt: repl.shippedAt ?? now,
-				commissionedAt: now,
+				commissionedAt: onDelivery ? null : now,
 				warrantyStartsOn: failed.warrantyStartsOn,
 				warrantyEndsOn: failed.warrantyEndsOn,
 				warrantyTerms: failed.warrantyTerms,
