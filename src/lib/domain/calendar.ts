@@ -8,11 +8,7 @@
 import { TZDate, tz } from '@date-fns/tz';
 import { format } from 'date-fns';
 
-export {
-	DEFAULT_LOCALE,
-	DEFAULT_TIME_ZONE,
-	type CalendarSettings
-} from './calendar-settings';
+export { DEFAULT_LOCALE, DEFAULT_TIME_ZONE, type CalendarSettings } from './calendar-settings';
 
 /** True for a time zone the platform knows by IANA name (e.g. `Etc/GMT-10`, `UTC`). */
 export function isTimeZone(s: string): boolean {
