@@ -8,7 +8,8 @@
 // network is idle. Pages: a label's public record, the build bench, a site, a system, its
 // commissioning checklist, claim filing.
 //
-//   node scripts/page-weight.js [--json] [path email|-]   (BENCH_PORT; PAGE_WEIGHT_FILES=1 lists files)
+//   node scripts/page-weight.js [--json] [path email|-]   (BENCH_PORT; PAGE_WEIGHT_FILES=1 lists files;
+//   PAGE_WEIGHT_SHOTS=dir saves a 390 × 844 screenshot of each page there)
 import { chromium } from '@playwright/test';
 import { gzipSync } from 'node:zlib';
 import { createClient } from '@libsql/client';
@@ -98,6 +99,10 @@ try {
 		const res = await page.goto(server.origin + p.path, { waitUntil: 'networkidle' });
 		if (!res || res.status() !== 200) throw new Error(`${p.path} answered ${res?.status()}`);
 		await Promise.all(pending);
+		if (process.env.PAGE_WEIGHT_SHOTS)
+			await page.screenshot({
+				path: `${process.env.PAGE_WEIGHT_SHOTS}/${p.name.replace(/[^a-z]+/gi, '-')}.png`
+			});
 		const firstPaint = firstPaintFiles(
 			await res.text(),
 			(await res.allHeaders()).link ?? '',
