@@ -5,6 +5,17 @@ import { answerYes, CHECKS, field, fillFields, plainPng, signOff } from './check
 // The machine is shared: give the phone's pages time (service worker install, IndexedDB).
 const expect = baseExpect.configure({ timeout: 20_000 });
 
+/** The offline tests' system: two TC-HC-48 in one string on a 70–130 V inverter. */
+const twoInSeries = (name: string) => ({
+	name,
+	model: 'TC-HC-48',
+	series: 2,
+	parallel: 1,
+	inverter: 'Invented 5 kW inverter',
+	minV: 70,
+	maxV: 130
+});
+
 test.use({ viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true });
 
 test('a technician with no signal: site taken offline, system, modules, checklist with photos and sign-off, reload, back online, synced once, certificate issued, replay stores nothing', async ({
@@ -44,15 +55,7 @@ test('a technician with no signal: site taken offline, system, modules, checklis
 	await page.screenshot({ path: 'test-results/offline-site.png', fullPage: true });
 
 	await page.getByRole('link', { name: /Add a system/ }).click();
-	await fillSystem(page, {
-		name: 'Relay bank',
-		model: 'TC-HC-48',
-		series: 2,
-		parallel: 1,
-		inverter: 'Invented 5 kW inverter',
-		minV: 70,
-		maxV: 130
-	});
+	await fillSystem(page, twoInSeries('Relay bank'));
 	await page.getByRole('button', { name: 'Save system' }).click();
 	await expect(page.getByText('System saved. Scan the modules into their places.')).toBeVisible();
 	await expect(badge).toHaveText(/^\s*1 change waiting\s*$/);
@@ -213,15 +216,7 @@ test('a slot filled by a colleague while the phone was offline: the phone shows 
 	});
 	await page.getByRole('button', { name: 'Save site' }).click();
 	await page.getByRole('link', { name: /Add a system/ }).click();
-	await fillSystem(page, {
-		name: 'Pump bank',
-		model: 'TC-HC-48',
-		series: 2,
-		parallel: 1,
-		inverter: 'Invented 5 kW inverter',
-		minV: 70,
-		maxV: 130
-	});
+	await fillSystem(page, twoInSeries('Pump bank'));
 	await page.getByRole('button', { name: 'Save system' }).click();
 	await page.waitForURL(/\/systems\/\d+/);
 	const systemPath = new URL(page.url()).pathname;
