@@ -1,7 +1,8 @@
 // What a phone downloads before it can use each field page of the production build, on the
 // demo data: JavaScript and CSS, raw and gzip (level 9, as the precompressed files are). The
-// budget (issue 17): at most 60 KB of JavaScript gzip per field page at first paint
-// (PAGE_WEIGHT_BUDGET_KB); any page over it makes the script exit 1. First paint is the code
+// budget (issue 17): at most 60 KB of JavaScript gzip per field page, counting everything the
+// page loads until the network is idle — first paint + later (PAGE_WEIGHT_BUDGET_KB); any page
+// over it makes the script exit 1. Both parts are printed and in the JSON. First paint is the code
 // the page's answer names (its <script src> and stylesheets, and the modulepreload links SvelteKit
 // sends in the `Link` header for every module the page statically needs to hydrate); code the page fetches later by itself (the offline layer once it is up, the camera when
 // asked for, signature_pad as the sign-off nears) is counted apart, as "later", until the
@@ -122,7 +123,9 @@ try {
 			jsKB: kb(sum('script', 'raw', firstPaint)),
 			jsGzipKB: kb(sum('script', 'gz', firstPaint)),
 			cssGzipKB: kb(sum('stylesheet', 'gz', firstPaint)),
-			laterJsGzipKB: kb(sum('script', 'gz') - sum('script', 'gz', firstPaint))
+			laterJsGzipKB: kb(sum('script', 'gz') - sum('script', 'gz', firstPaint)),
+			// What the budget judges: every script the page loaded, first paint and later.
+			totalJsGzipKB: kb(sum('script', 'gz'))
 		};
 		results.push(r);
 		if (process.env.PAGE_WEIGHT_FILES)
@@ -131,7 +134,7 @@ try {
 					`    ${f.type.padEnd(10)} ${String(f.gz).padStart(6)} ${firstPaint.has(u) ? '     ' : 'later'} ${u.replace(server.origin, '')}`
 				);
 		console.log(
-			`${r.name.padEnd(28)} ${r.path.padEnd(26)} JS ${String(r.jsKB).padStart(6)} KB raw, ${String(r.jsGzipKB).padStart(5)} KB gzip${r.jsGzipKB > BUDGET_KB ? `  OVER the ${BUDGET_KB} KB budget` : ''}; CSS ${r.cssGzipKB} KB gzip; later ${r.laterJsGzipKB} KB JS gzip (${r.as})`
+			`${r.name.padEnd(28)} ${r.path.padEnd(26)} JS ${String(r.jsKB).padStart(6)} KB raw, ${String(r.jsGzipKB).padStart(5)} KB gzip at first paint + ${String(r.laterJsGzipKB).padStart(4)} KB later = ${String(r.totalJsGzipKB).padStart(5)} KB JS gzip${r.totalJsGzipKB > BUDGET_KB ? `  OVER the ${BUDGET_KB} KB budget` : ''}; CSS ${r.cssGzipKB} KB gzip (${r.as})`
 		);
 		await ctx.close();
 	}
@@ -173,11 +176,11 @@ function firstPaintFiles(html, link, origin, files) {
 	return fetched;
 }
 
-const over = results.filter((r) => r.jsGzipKB > BUDGET_KB);
+const over = results.filter((r) => r.totalJsGzipKB > BUDGET_KB);
 console.log(
 	over.length
-		? `${over.length} field page(s) over ${BUDGET_KB} KB of JavaScript gzip.`
-		: `Every field page within ${BUDGET_KB} KB of JavaScript gzip.`
+		? `${over.length} field page(s) over ${BUDGET_KB} KB of JavaScript gzip (first paint + later).`
+		: `Every field page within ${BUDGET_KB} KB of JavaScript gzip (first paint + later).`
 );
 if (asJson) console.log(JSON.stringify({ budgetKB: BUDGET_KB, pages: results }));
 if (over.length) process.exitCode = 1;

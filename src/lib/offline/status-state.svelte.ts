@@ -31,3 +31,7 @@ export const worksOffline = (role: string | undefined) => !!role && FIELD_ROLES.
  */
 let layer: Promise<typeof import('./status.svelte')> | null = null;
 export const offlineLayer = () => (layer ??= import('./status.svelte'));
+
+/** "Take offline" and clearing the phone at sign-out (./site-pages), fetched when asked for. */
+let pages: Promise<typeof import('./site-pages')> | null = null;
+export const sitePages = () => (pages ??= import('./site-pages'));

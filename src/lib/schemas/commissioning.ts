@@ -12,9 +12,10 @@ import { decimal, nullableText, readDecimal, yesNo } from './fields';
 import type { CommissioningMeasurements } from '$lib/domain/commissioning';
 import { signatureField } from './signature';
 
-import { nestForm } from './commissioning-fields';
+import { nestForm } from './commissioning-nest';
 
-export { CODES_TAKE_PRECEDENCE, COMMISSIONING_CAUTIONS, nestForm } from './commissioning-fields';
+export { CODES_TAKE_PRECEDENCE, COMMISSIONING_CAUTIONS } from './commissioning-fields';
+export { nestForm };
 
 /** Form text to a number: the one decimal rule (`domain/decimal.ts`), re-exported for the page. */
 export { readDecimal };
