@@ -7,6 +7,10 @@
 // read from inside (GET /api/diagnostics/event-loop, Node's monitorEventLoopDelay, the server
 // started with PACKLEDGER_DIAGNOSTICS=1) and from outside: a static file is fetched every
 // 20 ms while the import runs, and its slowest answer is printed beside it.
+// An extra anchor, labelled as such: the same rows through better-sqlite3 (devDependency
+// only, one prepared INSERT in a transaction), the "different driver path" issue 17 asks to
+// measure; its fields `betterSqliteRowsPerSecond` and `ratioToBetterSqlite` are added to the
+// JSON line when it is installed.
 //
 //   npm run bench:import [-- --json] [-- --rounds 3]   (BENCH_ROWS, BENCH_PORT; 127.0.0.1 only)
 import { createClient } from '@libsql/client';
@@ -230,6 +234,11 @@ async function runRound(round: number) {
 	const anchorS = (performance.now() - tP) / 1000;
 	anchorDb.close();
 
+	// 5. An extra anchor, for comparison only (the app keeps @libsql/client): what a different
+	// driver path gives for the same rows into another empty copy of the table, better-sqlite3
+	// (a devDependency) with one prepared single-row INSERT in one transaction.
+	const betterS = await betterSqliteAnchor(schemaSql, cols, values);
+
 	const secs = (tC - tA) / 1000;
 	const r = {
 		rowsPerSecond: N / secs,
@@ -238,14 +247,44 @@ async function runRound(round: number) {
 		memoryGrowthMB: mem1.peak - mem0.rss,
 		previewS: (tB - tA) / 1000,
 		commitS: (tC - tB) / 1000,
+		betterSqliteRowsPerSecond: betterS === null ? null : N / betterS,
 		stallMs,
 		probeMs,
 		load: loadavg()[0]
 	};
 	log(
-		`Round ${round + 1}: preview ${r.previewS.toFixed(2)} s, commit ${r.commitS.toFixed(2)} s → ${Math.round(r.rowsPerSecond).toLocaleString('en-GB')} rows/s; anchor ${anchorS.toFixed(2)} s → ${Math.round(r.anchorRowsPerSecond).toLocaleString('en-GB')} rows/s; ratio ${r.ratio.toFixed(2)}; server memory ${mem0.rss.toFixed(0)} → peak ${mem1.peak.toFixed(0)} MB (+${r.memoryGrowthMB.toFixed(0)}; peak heap ${heap.heapUsed} MB, external ${heap.external} MB of which buffers ${heap.arrayBuffers} MB); event loop held ≤ ${stallMs.toFixed(0)} ms (slowest probe ${probeMs.toFixed(0)} ms); load ${r.load.toFixed(2)}`
+		`Round ${round + 1}: preview ${r.previewS.toFixed(2)} s, commit ${r.commitS.toFixed(2)} s → ${Math.round(r.rowsPerSecond).toLocaleString('en-GB')} rows/s; anchor ${anchorS.toFixed(2)} s → ${Math.round(r.anchorRowsPerSecond).toLocaleString('en-GB')} rows/s; ratio ${r.ratio.toFixed(2)}${betterS === null ? '' : `; better-sqlite3 ${betterS.toFixed(2)} s → ${Math.round(N / betterS).toLocaleString('en-GB')} rows/s (route ${(betterS / secs).toFixed(2)} of it)`}; server memory ${mem0.rss.toFixed(0)} → peak ${mem1.peak.toFixed(0)} MB (+${r.memoryGrowthMB.toFixed(0)}; peak heap ${heap.heapUsed} MB, external ${heap.external} MB of which buffers ${heap.arrayBuffers} MB); event loop held ≤ ${stallMs.toFixed(0)} ms (slowest probe ${probeMs.toFixed(0)} ms); load ${r.load.toFixed(2)}`
 	);
 	return r;
+}
+
+/** Seconds for the rows through better-sqlite3, or null when it is not installed. */
+async function betterSqliteAnchor(
+	schemaSql: string[],
+	cols: string[],
+	values: (string | number | null)[][]
+): Promise<number | null> {
+	let Database: typeof import('better-sqlite3');
+	try {
+		Database = (await import('better-sqlite3')).default;
+	} catch {
+		return null;
+	}
+	const file = `${dir}/anchor-better.db`;
+	rmSync(file, { force: true });
+	const b = new Database(file);
+	b.pragma('journal_mode = WAL');
+	for (const s of schemaSql) b.exec(s);
+	const insert = b.prepare(
+		`INSERT INTO factory_tests (${cols.join(',')}) VALUES (${cols.map(() => '?').join(',')})`
+	);
+	const t0 = performance.now();
+	b.transaction(() => {
+		for (const v of values) insert.run(v);
+	})();
+	const s = (performance.now() - t0) / 1000;
+	b.close();
+	return s;
 }
 
 const results = [];
@@ -272,6 +311,23 @@ const summary = {
 	memoryGrowthMB: Number(show('memory growth', (r) => r.memoryGrowthMB, 0, ' MB').toFixed(1)),
 	previewS: Number(show('preview', (r) => r.previewS, 2, ' s').toFixed(3)),
 	commitS: Number(show('commit', (r) => r.commitS, 2, ' s').toFixed(3)),
+	...(results.every((r) => r.betterSqliteRowsPerSecond !== null)
+		? (() => {
+				const better = Math.round(
+					show('better-sqlite3 rows/s', (r) => r.betterSqliteRowsPerSecond ?? 0)
+				);
+				return {
+					betterSqliteRowsPerSecond: better,
+					ratioToBetterSqlite: Number(
+						show(
+							'ratio to better-sqlite3',
+							(r) => r.rowsPerSecond / (r.betterSqliteRowsPerSecond ?? 1),
+							2
+						).toFixed(3)
+					)
+				};
+			})()
+		: {}),
 	maxStallMs: Math.round(show('event-loop stall', (r) => r.stallMs, 0, ' ms')),
 	probeMs: Math.round(show('slowest probe', (r) => r.probeMs, 0, ' ms'))
 };

@@ -85,7 +85,7 @@ export async function analyseFactoryFile(
 	db: Db,
 	content: string,
 	now: Date,
-	emit: (chunk: PlanChunk) => void
+	emit: (chunk: PlanChunk) => void | Promise<void>
 ): Promise<Analysis> {
 	const models = new Map((await db.select().from(moduleModels)).map((m) => [m.id, m]));
 	const errors: RowError[] = [];
@@ -95,11 +95,14 @@ export async function analyseFactoryFile(
 	let latest = new Map<number, { ms: number; pass: boolean }>();
 	let accepted = 0;
 	let seq = 0;
+	// A promise from `emit` (its writes fell behind) is waited for before the next slice.
+	let behind: void | Promise<void>;
 	const flush = () => {
 		if (parts.length === 0) return;
 		const states: string[] = [];
 		for (const [id, l] of latest) states.push(`[${id},"${l.pass ? 'pass' : 'fail'}",${l.ms}]`);
-		emit({ seq: seq++, rows: `[${parts.join(',')}]`, states: `[${states.join(',')}]` });
+		behind =
+			emit({ seq: seq++, rows: `[${parts.join(',')}]`, states: `[${states.join(',')}]` }) ?? behind;
 		accepted += parts.length;
 		parts = [];
 		latest = new Map();
@@ -207,6 +210,8 @@ export async function analyseFactoryFile(
 		const slice = held;
 		held = [];
 		await judge(slice);
+		if (behind) await behind;
+		behind = undefined;
 		await breathe();
 		step = scan.next();
 	}
@@ -218,5 +223,6 @@ export async function analyseFactoryFile(
 	errors.push(...file.errors);
 	errors.sort((a, b) => a.row - b.row);
 	flush();
+	if (behind) await behind;
 	return { rowsTotal: file.rowsTotal, accepted, passed, errors, duplicates, preview, chunks: seq };
 }
