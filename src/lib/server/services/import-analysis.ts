@@ -70,6 +70,8 @@ export const PLAN_COLUMNS = [
 type Held = Omit<ScannedRow, 'pulse'> & { row: number };
 const str = (s: string | null) => (s === null ? 'null' : JSON.stringify(s));
 const num = (n: number | null) => (n === null ? 'null' : String(n));
+/** A passing row's failures, `[]` as a JSON string inside the row's array (made once, not per row). */
+const NO_FAILURES = JSON.stringify('[]');
 /** Lets other requests run between slices of a large file. */
 const breathe = () => new Promise<void>((r) => setImmediate(r));
 
@@ -167,7 +169,7 @@ export async function analyseFactoryFile(
 			if (pass) passed++;
 			const failures = verdict.failures.map(({ check, message }) => ({ check, message }));
 			parts.push(
-				`[${mod.id},${str(h.key)},${h.testedAtMs},${h.capacityAh},${num(h.energyWh)},${h.dcirMohm},"${h.dcirSource}",${num(h.ocvV)},${h.cellSpreadMv},${h.insulationMohm},${num(h.ambientC)},${str(h.rig)},${str(h.operator)},"${verdict.outcome}",${str(JSON.stringify(failures))}]`
+				`[${mod.id},${str(h.key)},${h.testedAtMs},${h.capacityAh},${num(h.energyWh)},${h.dcirMohm},"${h.dcirSource}",${num(h.ocvV)},${h.cellSpreadMv},${h.insulationMohm},${num(h.ambientC)},${str(h.rig)},${str(h.operator)},"${verdict.outcome}",${pass ? NO_FAILURES : str(JSON.stringify(failures))}]`
 			);
 			const last = latest.get(mod.id);
 			if (!last || last.ms <= h.testedAtMs) latest.set(mod.id, { ms: h.testedAtMs, pass });

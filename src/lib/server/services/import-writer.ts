@@ -71,6 +71,14 @@ parentPort.on('message', async ({ id, op, stmt, stmts }) => {
 });
 `;
 
+/**
+ * The worker's own heap: it holds one message's statements at a time (a few MB of plan slices;
+ * a stored file's bytes move in as a buffer, outside the heap), so a small heap that is
+ * collected early keeps the server's memory from growing with garbage (V8 lets a heap grow
+ * towards its limit before a full collection).
+ */
+const WORKER_LIMITS = { maxOldGenerationSizeMb: 64, maxYoungGenerationSizeMb: 8 };
+
 /** A worker is let go after this long without work (the next import starts another). */
 const IDLE_MS = 60_000;
 
@@ -87,7 +95,11 @@ class WorkerWriter implements ImportWriter {
 
 	#start(): Worker {
 		if (this.#worker) return this.#worker;
-		const w = new Worker(WORKER_SOURCE, { eval: true, workerData: { url: this.#url } });
+		const w = new Worker(WORKER_SOURCE, {
+			eval: true,
+			workerData: { url: this.#url },
+			resourceLimits: WORKER_LIMITS
+		});
 		w.on('message', ({ id, value, error }) => {
 			const p = this.#pending.get(id);
 			if (!p) return;
