@@ -14,7 +14,7 @@ import { makeModules } from '../factories/modules';
 const HEADER =
 	'serial,tested_at,capacity_ah,energy_wh,dcir_mohm,ocv_v,cell_spread_mv,insulation_mohm,ambient_c,rig,operator';
 const NOW = new Date('2026-11-25T00:00:00Z');
-const upload = (bytes: Uint8Array) =>
+const upload = (bytes: Uint8Array<ArrayBuffer>) =>
 	readUploadedText(
 		new Request('http://127.0.0.1/api/imports/factory-tests', {
 			method: 'POST',

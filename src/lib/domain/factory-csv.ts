@@ -886,9 +886,9 @@ function quickRow(rec: string[], at: Positions, nowMs: number, out: ScannedRow):
 }
 
 /**
- * Reads and checks a whole rig file in one pass, slice by slice: each slice (about 256 KB,
- * ending at a line break outside quotes) is split by Papa Parse and its rows checked at
- * once, so the file's records, raw rows and values are never all held together. Each valid
+ * Reads and checks a whole rig file in one pass, slice by slice: each slice (about 64 KB,
+ * ending at a line break outside quotes) is split by Papa Parse a record at a time and each
+ * row checked as it comes, so no slice's records, let alone the file's, are held together. Each valid
  * row that does not repeat an earlier row's key goes to `accept` in one object reused for
  * every row (copy what you keep). The generator yields after each slice, so a server can
  * let other requests run; `validateFactoryCsv` runs it to the end at once.
@@ -1026,13 +1026,15 @@ export function* scanFactoryCsv(
 		start = end;
 		yield;
 	}
-	if (!head) return { ok: false, error: 'The file is empty.' };
+	// Set by `take` (TypeScript does not follow assignments made inside a closure).
+	const found = head as Extract<ReturnType<typeof readHeader>, { ok: true }> | null;
+	if (!found) return { ok: false, error: 'The file is empty.' };
 	if (rowsTotal === 0) return { ok: false, error: 'The file has a header but no data rows.' };
 	errors.sort((a, b) => a.row - b.row);
 	return {
 		ok: true,
-		headerMap: head.headerMap,
-		ignoredColumns: head.ignoredColumns,
+		headerMap: found.headerMap,
+		ignoredColumns: found.ignoredColumns,
 		rowsTotal,
 		errors
 	};

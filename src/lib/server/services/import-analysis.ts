@@ -98,13 +98,17 @@ export async function analyseFactoryFile(
 	let accepted = 0;
 	let seq = 0;
 	// A promise from `emit` (its writes fell behind) is waited for before the next slice.
-	let behind: void | Promise<void>;
+	const writes: { behind?: Promise<void> } = {};
 	const flush = () => {
 		if (parts.length === 0) return;
 		const states: string[] = [];
 		for (const [id, l] of latest) states.push(`[${id},"${l.pass ? 'pass' : 'fail'}",${l.ms}]`);
-		behind =
-			emit({ seq: seq++, rows: `[${parts.join(',')}]`, states: `[${states.join(',')}]` }) ?? behind;
+		const wait = emit({
+			seq: seq++,
+			rows: `[${parts.join(',')}]`,
+			states: `[${states.join(',')}]`
+		});
+		if (wait) writes.behind = wait;
 		accepted += parts.length;
 		parts = [];
 		latest = new Map();
@@ -212,8 +216,8 @@ export async function analyseFactoryFile(
 		const slice = held;
 		held = [];
 		await judge(slice);
-		if (behind) await behind;
-		behind = undefined;
+		if (writes.behind) await writes.behind;
+		writes.behind = undefined;
 		await breathe();
 		step = scan.next();
 	}
@@ -225,6 +229,6 @@ export async function analyseFactoryFile(
 	errors.push(...file.errors);
 	errors.sort((a, b) => a.row - b.row);
 	flush();
-	if (behind) await behind;
+	if (writes.behind) await writes.behind;
 	return { rowsTotal: file.rowsTotal, accepted, passed, errors, duplicates, preview, chunks: seq };
 }
