@@ -1,5 +1,5 @@
 import { test, expect } from './roles';
-import { stateFile } from './roles';
+import { fillSite, fillSystem, phoneAsTech, shippedSerials } from './site-forms';
 import {
 	answerYes,
 	CHECKS,
@@ -16,37 +16,31 @@ test('Ridgeline technician on a phone: site, system with a corrected design, mod
 	browser,
 	as
 }) => {
-	const ctx = await browser.newContext({
-		storageState: stateFile('ridgelineTech'),
-		viewport: { width: 390, height: 844 },
-		isMobile: true,
-		hasTouch: true
-	});
+	const ctx = await phoneAsTech(browser);
 	const page = await ctx.newPage();
-	const units = await (
-		await page.request.get(
-			'/api/modules?model=TC-HC-48&state=shipped&sort=serial&dir=asc&pageSize=10'
-		)
-	).json();
-	const serials: string[] = units.items.slice(0, 2).map((i: { serial: string }) => i.serial);
+	const serials = await shippedSerials(page, 2);
 	expect(serials).toHaveLength(2);
 
 	await page.goto('/sites/new');
-	await page.getByLabel('Site name').fill('Quarry Road workshop');
-	await page.getByText('Workshop, farm or yard').click();
-	await page.getByLabel('Owner’s name').fill('Tamsin Orrell');
-	await page.getByLabel('Phone or e-mail').fill('tamsin@quarry-road.example');
-	await page.getByLabel('Address').fill('Unit 3, Quarry Road, Ridgeline hills');
+	await fillSite(page, {
+		name: 'Quarry Road workshop',
+		kind: 'Workshop, farm or yard',
+		owner: 'Tamsin Orrell',
+		contact: 'tamsin@quarry-road.example',
+		address: 'Unit 3, Quarry Road, Ridgeline hills'
+	});
 	await page.getByRole('button', { name: 'Save site' }).click();
 	await page.getByRole('link', { name: /Add a system/ }).click();
 
-	await page.getByLabel('Name', { exact: true }).fill('Shed north');
-	await page.getByLabel('Module model').selectOption('TC-HC-48');
-	await page.getByLabel(/Modules per string/).fill('2');
-	await page.getByLabel(/Strings in parallel/).fill('2');
-	await page.getByLabel('Inverter make and model').fill('Invented 5 kW off-grid inverter');
-	await page.getByLabel(/Battery DC minimum/).fill('38');
-	await page.getByLabel(/Battery DC maximum/).fill('64');
+	await fillSystem(page, {
+		name: 'Shed north',
+		model: 'TC-HC-48',
+		series: 2,
+		parallel: 2,
+		inverter: 'Invented 5 kW off-grid inverter',
+		minV: 38,
+		maxV: 64
+	});
 	await expect(page.getByText(/above the inverter's 64(\.0)? V DC maximum/)).toBeVisible();
 	await page.screenshot({ path: 'test-results/phone-design-overshoot.png', fullPage: true });
 	await page.getByLabel(/Modules per string/).fill('1');

@@ -1,5 +1,5 @@
 import { test, expect } from './roles';
-import { stateFile } from './roles';
+import { fillSite, fillSystem, phoneAsTech, shippedSerials } from './site-forms';
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { PNG } from 'pngjs';
@@ -35,40 +35,34 @@ test('a technician on a phone commissions a two-string system: breaking capacity
 	browser
 }) => {
 	test.setTimeout(180_000);
-	const ctx = await browser.newContext({
-		storageState: stateFile('ridgelineTech'),
-		viewport: { width: 390, height: 844 },
-		isMobile: true,
-		hasTouch: true
-	});
+	const ctx = await phoneAsTech(browser);
 	const page = await ctx.newPage();
 	const errors: string[] = [];
 	page.on('console', (m) => m.type() === 'error' && errors.push(m.text()));
-	const units = await (
-		await page.request.get(
-			'/api/modules?model=TC-HC-48&state=shipped&sort=serial&dir=asc&pageSize=10'
-		)
-	).json();
-	const serials: string[] = units.items.slice(0, 2).map((i: { serial: string }) => i.serial);
+	const serials = await shippedSerials(page, 2);
 	expect(serials).toHaveLength(2);
 
 	await page.goto('/sites/new');
 	await fitsThePhone(page);
-	await page.getByLabel('Site name').fill('Larchmoor relay hut');
-	await page.getByText('Telecom or radio hut').click();
-	await page.getByLabel('Owner’s name').fill('Ines Calloway');
-	await page.getByLabel('Phone or e-mail').fill('ines@larchmoor.example');
-	await page.getByLabel('Address').fill('Relay track 2, Ridgeline hills');
+	await fillSite(page, {
+		name: 'Larchmoor relay hut',
+		kind: 'Telecom or radio hut',
+		owner: 'Ines Calloway',
+		contact: 'ines@larchmoor.example',
+		address: 'Relay track 2, Ridgeline hills'
+	});
 	await page.getByRole('button', { name: 'Save site' }).click();
 	await page.getByRole('link', { name: /Add a system/ }).click();
 	await fitsThePhone(page);
-	await page.getByLabel('Name', { exact: true }).fill('Relay bank');
-	await page.getByLabel('Module model').selectOption('TC-HC-48');
-	await page.getByLabel(/Modules per string/).fill('1');
-	await page.getByLabel(/Strings in parallel/).fill('2');
-	await page.getByLabel('Inverter make and model').fill('Invented 48 V rectifier');
-	await page.getByLabel(/Battery DC minimum/).fill('38');
-	await page.getByLabel(/Battery DC maximum/).fill('64');
+	await fillSystem(page, {
+		name: 'Relay bank',
+		model: 'TC-HC-48',
+		series: 1,
+		parallel: 2,
+		inverter: 'Invented 48 V rectifier',
+		minV: 38,
+		maxV: 64
+	});
 	await page.getByRole('button', { name: 'Save system' }).click();
 
 	const saved = page.getByTestId('system-saved');

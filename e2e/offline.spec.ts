@@ -1,8 +1,20 @@
 import { test, expect as baseExpect, stateFile } from './roles';
+import { fillSite, fillSystem, phoneAsTech, shippedSerials } from './site-forms';
 import { answerYes, CHECKS, field, fillFields, plainPng, signOff } from './checklist';
 
 // The machine is shared: give the phone's pages time (service worker install, IndexedDB).
 const expect = baseExpect.configure({ timeout: 20_000 });
+
+/** The offline tests' system: two TC-HC-48 in one string on a 70–130 V inverter. */
+const twoInSeries = (name: string) => ({
+	name,
+	model: 'TC-HC-48',
+	series: 2,
+	parallel: 1,
+	inverter: 'Invented 5 kW inverter',
+	minV: 70,
+	maxV: 130
+});
 
 test.use({ viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true });
 
@@ -10,28 +22,20 @@ test('a technician with no signal: site taken offline, system, modules, checklis
 	browser
 }) => {
 	test.setTimeout(120_000);
-	const ctx = await browser.newContext({
-		storageState: stateFile('ridgelineTech'),
-		viewport: { width: 390, height: 844 },
-		isMobile: true,
-		hasTouch: true
-	});
+	const ctx = await phoneAsTech(browser);
 	const page = await ctx.newPage();
-	const units = await (
-		await page.request.get(
-			'/api/modules?model=TC-HC-48&state=shipped&sort=serial&dir=asc&pageSize=10'
-		)
-	).json();
-	const serials: string[] = units.items.slice(0, 2).map((i: { serial: string }) => i.serial);
+	const serials = await shippedSerials(page, 2);
 	expect(serials).toHaveLength(2);
 
 	// With a signal: the site is recorded and taken offline.
 	await page.goto('/sites/new');
-	await page.getByLabel('Site name').fill('Cairn Ridge relay hut');
-	await page.getByText('Telecom or radio hut').click();
-	await page.getByLabel('Owner’s name').fill('Brannoc Hale');
-	await page.getByLabel('Phone or e-mail').fill('+61 400 555 010');
-	await page.getByLabel('Address').fill('Cairn Ridge track, km 14, Ridgeline hills');
+	await fillSite(page, {
+		name: 'Cairn Ridge relay hut',
+		kind: 'Telecom or radio hut',
+		owner: 'Brannoc Hale',
+		contact: '+61 400 555 010',
+		address: 'Cairn Ridge track, km 14, Ridgeline hills'
+	});
 	await page.getByRole('button', { name: 'Save site' }).click();
 	await page.waitForURL(/\/sites\/\d+/);
 	const sitePath = new URL(page.url()).pathname;
@@ -51,13 +55,7 @@ test('a technician with no signal: site taken offline, system, modules, checklis
 	await page.screenshot({ path: 'test-results/offline-site.png', fullPage: true });
 
 	await page.getByRole('link', { name: /Add a system/ }).click();
-	await page.getByLabel('Name', { exact: true }).fill('Relay bank');
-	await page.getByLabel('Module model').selectOption('TC-HC-48');
-	await page.getByLabel(/Modules per string/).fill('2');
-	await page.getByLabel(/Strings in parallel/).fill('1');
-	await page.getByLabel('Inverter make and model').fill('Invented 5 kW inverter');
-	await page.getByLabel(/Battery DC minimum/).fill('70');
-	await page.getByLabel(/Battery DC maximum/).fill('130');
+	await fillSystem(page, twoInSeries('Relay bank'));
 	await page.getByRole('button', { name: 'Save system' }).click();
 	await expect(page.getByText('System saved. Scan the modules into their places.')).toBeVisible();
 	await expect(badge).toHaveText(/^\s*1 change waiting\s*$/);
@@ -207,27 +205,18 @@ test('a slot filled by a colleague while the phone was offline: the phone shows 
 	const phone = { viewport: { width: 390, height: 844 }, isMobile: true, hasTouch: true };
 	const ctx = await browser.newContext({ storageState: stateFile('ridgelineTech'), ...phone });
 	const page = await ctx.newPage();
-	const units = await (
-		await page.request.get(
-			'/api/modules?model=TC-HC-48&state=shipped&sort=serial&dir=asc&pageSize=10'
-		)
-	).json();
-	const [mine, theirs] = units.items.slice(0, 2).map((i: { serial: string }) => i.serial);
+	const [mine, theirs] = await shippedSerials(page, 2);
 	await page.goto('/sites/new');
-	await page.getByLabel('Site name').fill('Tor End pump shed');
-	await page.getByText('Workshop, farm or yard').click();
-	await page.getByLabel('Owner’s name').fill('Elowen Marsk');
-	await page.getByLabel('Phone or e-mail').fill('elowen@tor-end.example');
-	await page.getByLabel('Address').fill('Tor End lane, Ridgeline hills');
+	await fillSite(page, {
+		name: 'Tor End pump shed',
+		kind: 'Workshop, farm or yard',
+		owner: 'Elowen Marsk',
+		contact: 'elowen@tor-end.example',
+		address: 'Tor End lane, Ridgeline hills'
+	});
 	await page.getByRole('button', { name: 'Save site' }).click();
 	await page.getByRole('link', { name: /Add a system/ }).click();
-	await page.getByLabel('Name', { exact: true }).fill('Pump bank');
-	await page.getByLabel('Module model').selectOption('TC-HC-48');
-	await page.getByLabel(/Modules per string/).fill('2');
-	await page.getByLabel(/Strings in parallel/).fill('1');
-	await page.getByLabel('Inverter make and model').fill('Invented 5 kW inverter');
-	await page.getByLabel(/Battery DC minimum/).fill('70');
-	await page.getByLabel(/Battery DC maximum/).fill('130');
+	await fillSystem(page, twoInSeries('Pump bank'));
 	await page.getByRole('button', { name: 'Save system' }).click();
 	await page.waitForURL(/\/systems\/\d+/);
 	const systemPath = new URL(page.url()).pathname;

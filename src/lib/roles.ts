@@ -223,3 +223,24 @@ export function navGroupsFor(role: RoleName): NavGroup[] {
 		items: mine.filter((n) => n.group === g.key)
 	})).filter((g) => g.items.length > 0);
 }
+
+/** The header's menu for one person: what the shell shows, without the table it comes from. */
+export interface Menu {
+	roleLabel: string;
+	groups: { key: NavGroupKey; label: string; items: { href: string; label: string }[] }[];
+}
+
+/**
+ * The menu of a role, built on the server (the root layout's load), so the browser does not
+ * download the whole area table and the policy to draw a header.
+ */
+export function menuFor(role: RoleName): Menu {
+	return {
+		roleLabel: ROLE_LABELS[role] ?? role,
+		groups: navGroupsFor(role).map((g) => ({
+			key: g.key,
+			label: g.label,
+			items: g.items.map((i) => ({ href: i.href, label: i.label }))
+		}))
+	};
+}

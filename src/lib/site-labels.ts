@@ -33,4 +33,4 @@ export const CLIMATE_BAND_LABELS: Record<ClimateBand, string> = {
 };
 export const CLIMATE_BANDS = Object.keys(CLIMATE_BAND_LABELS) as ClimateBand[];
 
-export { toInverterWindow } from '$lib/domain/design-check';
+export { toInverterWindow } from '$lib/domain/inverter-window';

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import {
+	blankPreview,
 	evaluateCommissioning,
 	operatingTempRange,
 	type CommissioningLimits,
@@ -282,5 +283,24 @@ describe('Ambient temperature: overlap of the charge and discharge ranges', () =
 		const i = item({ ...good, ambientC: -15 }, 'ambient_temperature');
 		expect(i.status).toBe('fail');
 		expect(i.reason).toContain('outside -10 to 45 °C, the overlap of the model');
+	});
+});
+
+describe('blankPreview: the checklist before anything is measured', () => {
+	it('is the evaluation of no readings, with the nominal string voltage and the ambient overlap', () => {
+		const p = blankPreview(system);
+		expect(p.result).toEqual(evaluateCommissioning(system, {}));
+		expect(p.result.overall).toBe('incomplete');
+		// Nominal string voltage: 2 modules × 11 cells × 2.35 V = 51.7 V (the model's figures above).
+		expect(p.nominalStringV).toBeCloseTo(51.7, 9);
+		// The overlap of charge (−10 to 45 °C) and discharge (−30 to 55 °C): −10 to 45 °C.
+		expect(p.ambient).toEqual({ minC: -10, maxC: 45 });
+	});
+
+	it('judges by the rule set given, like the evaluation', () => {
+		const rules = { limits: { moduleOcvToleranceV: 0.1 } };
+		const p = blankPreview(system, rules);
+		expect(p.result).toEqual(evaluateCommissioning(system, {}, rules));
+		expect(p.result.interStringLimitV).not.toBe(blankPreview(system).result.interStringLimitV);
 	});
 });

@@ -14,7 +14,7 @@ import {
 	ROLE_NAMES,
 	rolesFor
 } from '../../src/lib/policy';
-import { NAV, NAV_GROUPS, navFor, navGroupsFor } from '../../src/lib/roles';
+import { menuFor, NAV, NAV_GROUPS, navFor, navGroupsFor } from '../../src/lib/roles';
 
 const A = 'admin',
 	W = 'workshop',
@@ -151,5 +151,20 @@ describe('navigation follows the policy', () => {
 					.map((n) => n.href)
 					.sort()
 			);
+	});
+
+	it('the menu the layout sends is the grouping, with only what the header draws', () => {
+		for (const role of ['admin', 'workshop', 'field_tech', 'warranty', 'dealer'] as const) {
+			const menu = menuFor(role);
+			expect(menu.groups.map((g) => g.key)).toEqual(navGroupsFor(role).map((g) => g.key));
+			expect(menu.groups.flatMap((g) => g.items.map((i) => i.href)).sort()).toEqual(
+				navFor(role)
+					.map((n) => n.href)
+					.sort()
+			);
+			for (const i of menu.groups.flatMap((g) => g.items))
+				expect(Object.keys(i).sort()).toEqual(['href', 'label']);
+		}
+		expect(menuFor('field_tech').roleLabel).toBe('Field technician');
 	});
 });

@@ -6,7 +6,10 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import { createSeededDb, actorFor } from '../factories/db';
 import { seedDemoFleet } from '$lib/server/seed/demo-fleet';
-import { reliabilityReport, assemblerDay } from '$lib/server/services/reliability';
+import { reliabilityReport } from '$lib/server/services/reliability';
+import { updateAssemblerCalendar } from '$lib/server/services/calendar';
+import { modules } from '$lib/server/db/schema';
+import { and, eq, isNotNull } from 'drizzle-orm';
 import { reliabilityQuerySchema } from '$lib/schemas/reliability';
 import { claimRate } from '$lib/domain/reliability';
 import type { Db } from '$lib/server/db';
@@ -67,10 +70,43 @@ describe('reliabilityReport on the demo fleet', () => {
 		expect(r.weibull.beta).toBeNull();
 	});
 
-	it('business days are the assembler’s calendar days (Etc/GMT-10): 13:59 UTC is the same day, 14:00 UTC the next', () => {
-		expect(assemblerDay(new Date('2024-02-28T13:59:59Z'))).toBe('2024-02-28');
-		expect(assemblerDay(new Date('2024-02-28T14:00:00Z'))).toBe('2024-02-29');
-		expect(assemblerDay(new Date('2024-02-29T14:00:00Z'))).toBe('2024-03-01');
+	it('business days are the calendar days of the zone the organisation sets, not a fixed one', async () => {
+		// Zones from the IANA tz database ("etcetera" file; POSIX signs): Etc/GMT-10 is UTC+10,
+		// Etc/GMT+5 is UTC−5. 2012-02-29 14:00 UTC is 1 March 00:00 at UTC+10 and still
+		// 29 February (09:00) at UTC−5; one second earlier it is 29 February in both (leap day).
+		const officer = await actorFor(db, 'warranty@tidewater.example');
+		const admin = await actorFor(db, 'admin@tidewater.example');
+		const [mod] = await db
+			.select({ id: modules.id, builtAt: modules.builtAt })
+			.from(modules)
+			.where(and(isNotNull(modules.commissionedAt), isNotNull(modules.builtAt)))
+			.limit(1);
+		const builtIn = async (at: string) => {
+			await db
+				.update(modules)
+				.set({ builtAt: new Date(at) })
+				.where(eq(modules.id, mod.id));
+			const r = await reliabilityReport(db, officer, q({ asOf: '2026-12-01' }));
+			return r.options.buildMonth.filter((m) => m === '2012-02' || m === '2012-03');
+		};
+		const reportOn = async (now: string) =>
+			(await reliabilityReport(db, officer, q(), new Date(now))).asOf;
+		try {
+			await updateAssemblerCalendar(db, admin, { timeZone: 'Etc/GMT-10', locale: 'en-GB' });
+			expect(await builtIn('2012-02-29T13:59:59Z')).toEqual(['2012-02']);
+			expect(await builtIn('2012-02-29T14:00:00Z')).toEqual(['2012-03']);
+			expect(await reportOn('2026-11-30T14:00:00Z')).toBe('2026-12-01');
+			await updateAssemblerCalendar(db, admin, { timeZone: 'Etc/GMT+5', locale: 'en-GB' });
+			expect(await builtIn('2012-02-29T14:00:00Z')).toEqual(['2012-02']);
+			expect(await builtIn('2012-03-01T04:59:59Z')).toEqual(['2012-02']);
+			expect(await builtIn('2012-03-01T05:00:00Z')).toEqual(['2012-03']);
+			expect(await reportOn('2026-11-30T14:00:00Z')).toBe('2026-11-30');
+			expect(await reportOn('2026-12-01T04:59:59Z')).toBe('2026-11-30');
+			expect(await reportOn('2026-12-01T05:00:00Z')).toBe('2026-12-01');
+		} finally {
+			await db.update(modules).set({ builtAt: mod.builtAt }).where(eq(modules.id, mod.id));
+			await updateAssemblerCalendar(db, admin, { timeZone: 'Etc/GMT-10', locale: 'en-GB' });
+		}
 	});
 
 	it('the admin’s replacement cost prices the reserve', async () => {

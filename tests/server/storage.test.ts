@@ -1,25 +1,16 @@
+/**
+ * Uploads: the SDK mapping of the S3 store, and what savePhoto accepts, refuses and keeps
+ * (on local disk). The store's round trip on each backend, disk and an S3-compatible bucket,
+ * is one suite in storage-backends.test.ts.
+ */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, readdirSync } from 'node:fs';
+import { mkdtempSync } from 'node:fs';
 import { createHash } from 'node:crypto';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import {
-	attachments,
-	moduleModels,
-	organisations,
-	sites,
-	systems,
-	users
-} from '$lib/server/db/schema';
-import {
-	createS3Store,
-	deleteObject,
-	getObject,
-	putObject,
-	type S3Module
-} from '$lib/server/storage';
+import { attachments } from '$lib/server/db/schema';
+import { createS3Store, type S3Module } from '$lib/server/storage';
 import {
 	listAttachments,
 	PHOTO_MAX_BYTES,
@@ -28,6 +19,7 @@ import {
 } from '$lib/server/services/attachments';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
+import { workshopSystem } from '../factories/sites';
 
 const saved = { UPLOAD_DIR: process.env.UPLOAD_DIR, S3_BUCKET: process.env.S3_BUCKET };
 let dir: string;
@@ -45,36 +37,15 @@ beforeAll(async () => {
 	tech = await actorFor(db, 'tech@tidewater.example');
 	saltmarshDealer = await actorFor(db, 'dealer@saltmarsh.example');
 	ridgelineDealer = await actorFor(db, 'dealer@ridgeline.example');
-	const [org] = await db
-		.select()
-		.from(organisations)
-		.where(eq(organisations.name, 'Saltmarsh Solar'));
-	const [me] = await db.select().from(users).where(eq(users.email, 'tech@tidewater.example'));
-	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.code, 'TC-HC-48'));
-	const [site] = await db
-		.insert(sites)
-		.values({
-			dealerOrgId: org.id,
+	systemId = await workshopSystem(db, {
+		site: {
 			name: 'Gull Rock workshop',
 			ownerName: 'Odo Marram',
 			ownerContact: '+00 555 0100',
-			address: '2 Quay Road, Saltmarsh',
-			application: 'workshop',
-			createdBy: me.id
-		})
-		.returning();
-	[{ id: systemId }] = await db
-		.insert(systems)
-		.values({
-			siteId: site.id,
-			name: 'Workshop bank',
-			modelId: model.id,
-			series: 2,
-			parallel: 1,
-			inverterMinV: 70,
-			inverterMaxV: 130
-		})
-		.returning();
+			address: '2 Quay Road, Saltmarsh'
+		},
+		systemName: 'Workshop bank'
+	});
 });
 afterAll(() => {
 	for (const [k, v] of Object.entries(saved)) {
@@ -114,36 +85,6 @@ const HEIC = new Uint8Array([
 	...Buffer.from('mif1heic')
 ]);
 const TEXT = new TextEncoder().encode('string voltages: 101.2 V, 101.3 V\n');
-
-describe('local storage', () => {
-	it('puts, gets and deletes an object under UPLOAD_DIR', async () => {
-		await putObject('test/abc-1', JPEG, 'image/jpeg');
-		const got = await getObject('test/abc-1');
-		expect(got?.contentType).toBe('image/jpeg');
-		expect(Array.from(got!.bytes)).toEqual(Array.from(JPEG));
-		expect(readdirSync(join(dir, 'test'))).toContain('abc-1');
-		await deleteObject('test/abc-1');
-		expect(await getObject('test/abc-1')).toBeNull();
-		expect(await getObject('test/never-stored')).toBeNull();
-	});
-
-	it('refuses keys that are not generated keys', async () => {
-		for (const key of [
-			'../etc/passwd',
-			'a/../../b',
-			'/abs/path',
-			'Upper/Case',
-			'with.dot',
-			'a//b',
-			'trailing/',
-			'',
-			'a b'
-		]) {
-			await expect(putObject(key, JPEG, 'image/jpeg'), key).rejects.toThrow(/Invalid storage key/);
-			await expect(getObject(key), key).rejects.toThrow(/Invalid storage key/);
-		}
-	});
-});
 
 describe('S3 store', () => {
 	it('maps put/get/delete to the SDK commands, and a missing key to null', async () => {

@@ -8,15 +8,7 @@
 import { TZDate, tz } from '@date-fns/tz';
 import { format } from 'date-fns';
 
-/** Used until an administrator sets the organisation's own zone. */
-export const DEFAULT_TIME_ZONE = 'UTC';
-export const DEFAULT_LOCALE = 'en-GB';
-
-/** The assembler's calendar settings, as stored on its organisation. */
-export interface CalendarSettings {
-	timeZone: string;
-	locale: string;
-}
+export { DEFAULT_LOCALE, DEFAULT_TIME_ZONE, type CalendarSettings } from './calendar-settings';
 
 /** True for a time zone the platform knows by IANA name (e.g. `Etc/GMT-10`, `UTC`). */
 export function isTimeZone(s: string): boolean {

@@ -676,6 +676,30 @@ export function evaluateCommissioning(
 	};
 }
 
+/** What the checklist shows before anything is measured (see blankPreview). */
+export interface BlankPreview {
+	result: CommissioningResult;
+	/** A string's expected voltage while no module reading is in: its nominal voltage. */
+	nominalStringV: number;
+	ambient: { minC: number; maxC: number };
+}
+
+/**
+ * The checklist's preview with nothing measured, worked out where the page's data is made
+ * (the server's load, or the phone's offline copy), so the page paints without this module;
+ * the page fetches it with the first reading typed and evaluates from then on.
+ */
+export function blankPreview(
+	system: CommissioningSystem,
+	rules: Parameters<typeof evaluateCommissioning>[2] = DEFAULT_RULE_SET
+): BlankPreview {
+	return {
+		result: evaluateCommissioning(system, {}, rules),
+		nominalStringV: expectedStringV(system.series, system.model, null).expectedV,
+		ambient: operatingTempRange(system.model)
+	};
+}
+
 export interface ReadingRow {
 	group: string;
 	what: string;

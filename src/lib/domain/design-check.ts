@@ -7,6 +7,9 @@
 import { currentForCRate, type ModelSpec } from './model';
 import { bankShortCircuitA, judgeProtection, type ProtectiveDevice } from './electrical';
 import { NEUTRAL } from './format';
+import { toInverterWindow, type InverterWindow } from './inverter-window';
+
+export { toInverterWindow, type InverterWindow };
 
 /** The model figures the check reads. */
 type DesignFigures =
@@ -46,17 +49,6 @@ export function designModuleOf(m: DesignModelRow): DesignModule {
 		burstC: m.burstC,
 		...(m.internalResistanceMohm ? { internalResistanceMOhm: m.internalResistanceMohm } : {})
 	};
-}
-
-export interface InverterWindow {
-	/** DC window the inverter operates in. */
-	minV: number;
-	maxV: number;
-	/** Narrower range the maker recommends (full power, best efficiency); optional. */
-	preferredMinV?: number;
-	preferredMaxV?: number;
-	maxChargeA?: number;
-	maxDischargeA?: number;
 }
 
 export interface DesignVariant {
@@ -376,25 +368,6 @@ function suggestionReason(
 			? `${s.energyKWh.toFixed(1)} kWh, exactly the target`
 			: `${s.energyKWh.toFixed(1)} kWh, ${surplus.toFixed(2)} kWh above the ${targetKWh.toFixed(1)} kWh target`;
 	return `${where}; ${energy}; ${modules} module${modules === 1 ? '' : 's'}.`;
-}
-
-/** The inverter's window as the design check takes it, from a system form or a stored system (nulls = not given). */
-export function toInverterWindow(s: {
-	inverterMinV: number;
-	inverterMaxV: number;
-	preferredMinV?: number | null;
-	preferredMaxV?: number | null;
-	maxChargeA?: number | null;
-	maxDischargeA?: number | null;
-}): InverterWindow {
-	return {
-		minV: s.inverterMinV,
-		maxV: s.inverterMaxV,
-		preferredMinV: s.preferredMinV ?? undefined,
-		preferredMaxV: s.preferredMaxV ?? undefined,
-		maxChargeA: s.maxChargeA ?? undefined,
-		maxDischargeA: s.maxDischargeA ?? undefined
-	};
 }
 
 /** The inverter fields of a system form or a stored system. */

@@ -6,7 +6,7 @@
  * passed. Calendar days (YYYY-MM-DD business dates) are printed as the day they name;
  * instants (timestamps) in the time zone. Pure, safe for the browser.
  */
-import { DEFAULT_LOCALE, DEFAULT_TIME_ZONE, type CalendarSettings } from './calendar';
+import { DEFAULT_LOCALE, DEFAULT_TIME_ZONE, type CalendarSettings } from './calendar-settings';
 
 /** Fraction digits a unit is shown with unless the caller asks otherwise (common practice). */
 const UNIT_DIGITS: Record<string, number> = {

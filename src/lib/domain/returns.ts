@@ -1,8 +1,11 @@
 /**
  * Returns of failed modules under a covered claim: the return authorisation number, the steps
  * (on its way back → received → inspected → reworked, kept for analysis or scrapped), and what
- * the module's condition on arrival means for the people handling it. Pure.
+ * the module's condition on arrival means for the people handling it, and each step in words.
+ * Pure.
  */
+import { RETURN_CAUSES } from '$lib/claim-states';
+import type { ReturnActionInput } from '$lib/schemas/returns';
 
 export const RETURN_OUTCOMES = ['reworked', 'kept_for_analysis', 'scrapped'] as const;
 export type ReturnOutcome = (typeof RETURN_OUTCOMES)[number];
@@ -103,4 +106,43 @@ export function refusalOf(
 	if (r.step === 'on_its_way' || r.step === 'received')
 		return `Return ${r.raNumber} must be ${r.step === 'on_its_way' ? 'received and ' : ''}inspected before it is reworked, kept or scrapped.`;
 	return `Return ${r.raNumber} is finished (${RETURN_OUTCOME_LABELS[r.outcome ?? 'scrapped'].toLowerCase()}).`;
+}
+
+/** The step in words for the timelines and the e-mail, and its facts for the audit. */
+export function describeReturnStep(
+	input: ReturnActionInput,
+	raNumber: string,
+	claimReference: string
+) {
+	const under = `return ${raNumber} (claim ${claimReference})`;
+	switch (input.action) {
+		case 'receive': {
+			const words = ARRIVAL_CONDITIONS[input.condition];
+			const quarantine = needsQuarantine(input.condition) ? ' Held in quarantine.' : '';
+			return {
+				summary: `Received back under ${under}: ${words.toLowerCase()}.${quarantine}${input.note ? ` ${input.note}` : ''}`,
+				detail: { raNumber, condition: input.condition, note: input.note ?? null }
+			};
+		}
+		case 'inspect':
+			return {
+				summary: `Inspected under ${under}: ${RETURN_CAUSES[input.cause]}. ${input.findings}`,
+				detail: { raNumber, cause: input.cause, findings: input.findings }
+			};
+		case 'rework':
+			return {
+				summary: `Reworked after ${under}: ${input.work}`,
+				detail: { raNumber, outcome: 'reworked', work: input.work }
+			};
+		case 'keep':
+			return {
+				summary: `Kept for analysis after ${under}.${input.note ? ` ${input.note}` : ''}`,
+				detail: { raNumber, outcome: 'kept_for_analysis', note: input.note ?? null }
+			};
+		case 'scrap':
+			return {
+				summary: `Scrapped after ${under}: ${input.reason}`,
+				detail: { raNumber, outcome: 'scrapped', reason: input.reason }
+			};
+	}
 }

@@ -1,7 +1,8 @@
 /**
  * The page side of the offline layer: who is signed in on the phone, how many changes wait,
  * sending them when the network is back, keeping the field pages the technician opens, and
- * "take offline". Shared rune state for the badge, the pages and the offline list.
+ * "take offline". The rune state the badge, the pages and the offline list share is in
+ * status-state.svelte.ts, which every page loads; this module comes after the first paint.
  */
 import { parse } from 'devalue';
 import { parseFieldPath } from './routes';
@@ -15,25 +16,9 @@ import {
 	type OfflineUser
 } from './store';
 import type { SyncReport } from './sync';
+import { offline, worksOffline } from './status-state.svelte';
 
-/** Roles that work on site; other people's pages are not kept on the phone. */
-const FIELD_ROLES = new Set(['field_tech', 'admin']);
-
-class OfflineStatus {
-	user = $state<OfflineUser | null>(null);
-	/** Changes on the phone not yet in the register (waiting, blocked or rejected). */
-	pending = $state(0);
-	/** Of those, the ones the register refused: they wait for the technician's choice. */
-	rejected = $state(0);
-	online = $state(true);
-	syncing = $state(false);
-	last = $state<SyncReport | null>(null);
-	/** Bumped after every change to the queue, so pages that list it read it again. */
-	version = $state(0);
-}
-export const offline = new OfflineStatus();
-
-export const worksOffline = (role: string | undefined) => !!role && FIELD_ROLES.has(role);
+export { offline, worksOffline };
 
 export async function refreshCounts(): Promise<void> {
 	if (!offline.user) return;

@@ -8,7 +8,11 @@
 import { checkSystemDesign, type DesignModelRow } from '$lib/domain/design-check';
 import { currentForCRate } from '$lib/domain/model';
 import { extractSerialFromScan } from '$lib/domain/serial';
-import { DEFAULT_RULE_SET, type CommissioningSystem } from '$lib/domain/commissioning';
+import {
+	blankPreview,
+	DEFAULT_RULE_SET,
+	type CommissioningSystem
+} from '$lib/domain/commissioning';
 import { systemSchema } from '$lib/schemas/site';
 import { fieldPath, type FieldRoute, type Ref } from './routes';
 import type { QueuedOp, StoredPage } from './store';
@@ -320,6 +324,11 @@ function commissionView(state: OfflineState, ref: Ref): View {
 		if (slot && !slot.module) slot.module = { id: 0, serial: p.serial, state: 'installed' };
 	}
 	target.emptySlots = target.strings.flat().filter((s) => !s.module);
+	// A checklist kept before the server sent its blank preview, or one made on the phone.
+	target.preview ??= blankPreview(
+		target.evaluationSystem as CommissioningSystem,
+		target.ruleSet as Parameters<typeof blankPreview>[1]
+	);
 	const mine = state.ops.filter((o) => sameRef(o.payload.systemId, ref) && overlay(o, savedAt));
 	const photos = data.photos as Data[];
 	for (const o of mine.filter((o) => o.type === 'addPhoto' && o.status !== 'rejected')) {

@@ -1,6 +1,6 @@
 import { getContext, setContext } from 'svelte';
 import { createFormat, type Format } from '$lib/domain/format';
-import type { CalendarSettings } from '$lib/domain/calendar';
+import type { CalendarSettings } from '$lib/domain/calendar-settings';
 
 const KEY = Symbol('format');
 

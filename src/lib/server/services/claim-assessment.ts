@@ -1,23 +1,16 @@
-import { and, asc, count, desc, eq } from 'drizzle-orm';
+import { and, asc, count, eq } from 'drizzle-orm';
 import { attachments } from '$lib/server/db/schema';
 import { assessFaultClaim, needsThroughput, type ClaimFault } from '$lib/domain/claim-workflow';
 import { deriveFigures } from '$lib/domain/model';
 import type { Db, Tx } from '$lib/server/db';
-import {
-	claimModules,
-	claims,
-	commissionings,
-	moduleModels,
-	modules,
-	systemSlots,
-	systems
-} from '$lib/server/db/schema';
+import { claimModules, claims, moduleModels, modules } from '$lib/server/db/schema';
 import { assessClaim, type ClaimAssessment, type ClaimInput } from '$lib/domain/warranty';
 import { warrantyTermsOf, type WarrantyTerms } from '$lib/domain/model';
 import { warrantyTermsSchema, type ClaimEvidence } from '$lib/schemas/warranty-assess';
 import type { LogSummaryEvidence } from '$lib/schemas/claim';
 import { calendarDay } from '$lib/domain/calendar';
 import { assemblerCalendar } from './calendar';
+import { modulesInSystem, stopChargeProof, type StopChargeProof } from './claim-system-facts';
 import { fmtNumber, implausibleEvidence, perModuleThroughput } from '$lib/domain/claim-evidence';
 
 export { fmtNumber, implausibleEvidence, perModuleThroughput };
@@ -42,7 +35,7 @@ export interface ClaimAssessmentResult extends ClaimAssessment {
 	/** The first claimed module's input, which the what-if panel starts from. */
 	input: ClaimInput;
 	throughputShare: { systemWh: number; modules: number; perModuleWh: number } | null;
-	stopCharge: { proven: boolean; certificateNo: string | null; commissionedOn: string } | null;
+	stopCharge: StopChargeProof;
 	modules: { serial: string; assessment: ClaimAssessment }[];
 }
 
@@ -77,58 +70,6 @@ export function termsOf(
 	return {
 		terms: current,
 		note: `The warranty terms recorded at commissioning could not be read, so the ${model.code}'s current terms are used: check the module's record.`
-	};
-}
-
-/** Modules in a system: its slots, else the modules pointing at it, else series × parallel. */
-export async function modulesInSystem(conn: Conn, systemId: number | null): Promise<number> {
-	// A claim on delivery has no system: its modules stand alone.
-	if (systemId === null) return 1;
-	const [slots] = await conn
-		.select({ n: count() })
-		.from(systemSlots)
-		.where(eq(systemSlots.systemId, systemId));
-	if (slots.n > 0) return slots.n;
-	const [mods] = await conn
-		.select({ n: count() })
-		.from(modules)
-		.where(eq(modules.systemId, systemId));
-	if (mods.n > 0) return mods.n;
-	const [sys] = await conn
-		.select({ series: systems.series, parallel: systems.parallel })
-		.from(systems)
-		.where(eq(systems.id, systemId));
-	return Math.max(1, (sys?.series ?? 1) * (sys?.parallel ?? 1));
-}
-
-/** Whether the latest passing commissioning of the system proved the stop-charge signal. */
-export async function stopChargeProof(
-	conn: Conn,
-	systemId: number | null
-): Promise<ClaimAssessmentResult['stopCharge']> {
-	if (systemId === null) return null;
-	const [c] = await conn
-		.select({
-			items: commissionings.items,
-			certificateNo: commissionings.certificateNo,
-			commissionedOn: commissionings.commissionedOn
-		})
-		.from(commissionings)
-		.where(and(eq(commissionings.systemId, systemId), eq(commissionings.overall, 'pass')))
-		.orderBy(desc(commissionings.commissionedOn), desc(commissionings.id))
-		.limit(1);
-	if (!c) return null;
-	let items: { key?: string; status?: string }[] = [];
-	try {
-		items = JSON.parse(c.items);
-	} catch {
-		/* an unreadable record proves nothing */
-	}
-	const item = Array.isArray(items) ? items.find((i) => i?.key === 'stop_charge') : undefined;
-	return {
-		proven: item?.status === 'pass',
-		certificateNo: c.certificateNo,
-		commissionedOn: c.commissionedOn
 	};
 }
 

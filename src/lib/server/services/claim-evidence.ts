@@ -15,10 +15,10 @@ import { loadClaim, mailFiler } from './claims';
 import {
 	fmtNumber,
 	implausibleEvidence,
-	modulesInSystem,
 	parseEvidence,
 	type StoredEvidence
 } from './claim-assessment';
+import { modulesInSystem } from './claim-system-facts';
 import { assemblerCalendar } from './calendar';
 
 import { label, logStep, setState } from './claim-steps';

@@ -29,7 +29,8 @@ import { STATE_LABELS } from '$lib/module-states';
 import { toIssues } from '$lib/server/validation';
 import { recordAudit, recordEvent } from './audit';
 import { findModule, serialFromScan } from './modules';
-import { implausibleEvidence, modulesInSystem, type StoredEvidence } from './claim-assessment';
+import { implausibleEvidence, type StoredEvidence } from './claim-assessment';
+import { modulesInSystem } from './claim-system-facts';
 import { assemblerCalendar, businessDay, businessYear } from './calendar';
 import { nextYearlyReference } from './sequences';
 import {

@@ -13,6 +13,7 @@ import {
 } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import {
+	blankPreview,
 	evaluateCommissioning,
 	systemCurrentLimitA,
 	type CommissioningSystem
@@ -135,6 +136,7 @@ export async function loadSystemForCommissioning(
 			maxV: roundMv(cells * model.cellMaxV)
 		},
 		evaluationSystem,
+		preview: blankPreview(evaluationSystem, ruleSet),
 		attempts
 	};
 }

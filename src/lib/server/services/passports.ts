@@ -22,7 +22,8 @@ import {
 } from '$lib/domain/passport';
 import { findModule } from './modules';
 import { getModelPassportItems } from './passport-items';
-import { modulesInSystem, parseEvidence, perModuleThroughput } from './claim-assessment';
+import { parseEvidence, perModuleThroughput } from './claim-assessment';
+import { modulesInSystem } from './claim-system-facts';
 import { useGrant } from './passport-grants';
 import { assemblerCalendar } from './calendar';
 import { calendarDay } from '$lib/domain/calendar';

@@ -1,6 +1,7 @@
 import { sql } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
 import { calendarDay } from '$lib/domain/calendar';
+import { assemblerCalendar } from './calendar';
 import type { Actor } from '$lib/server/actor';
 import { dealerScopeOf } from '$lib/server/actor';
 import {
@@ -16,11 +17,8 @@ import {
 	type SliceDimension
 } from '$lib/schemas/reliability';
 
-/** The assembler's time zone: business days (build month, service start) are its calendar days. */
-export const ASSEMBLER_TIME_ZONE = 'Etc/GMT-10';
-
-/** The calendar day of an instant in the assembler's time zone, 'YYYY-MM-DD'. */
-export const assemblerDay = (d: Date): string => calendarDay(d, ASSEMBLER_TIME_ZONE);
+/** An instant's calendar day, 'YYYY-MM-DD', in the zone given. */
+type DayOf = (d: Date) => string;
 
 type Row = {
 	id: number;
@@ -70,24 +68,24 @@ async function loadRecords(db: Db, dealerScope: number | null): Promise<Row[]> {
 	return JSON.parse(res[0]?.j ?? '[]') as Row[];
 }
 
-function toRecord(r: Row): ServiceRecord {
+/** A module's service record; business days (service start, build month) are `day`'s. */
+function toRecord(r: Row, day: DayOf): ServiceRecord {
 	const lots = arrayOf(r.lots);
 	const claims = arrayOf(r.claims);
 	return {
-		inServiceFrom: assemblerDay(new Date(r.commissionedAt)),
-		leftServiceOn: r.leftAt === null ? null : assemblerDay(new Date(r.leftAt)),
+		inServiceFrom: day(new Date(r.commissionedAt)),
+		leftServiceOn: r.leftAt === null ? null : day(new Date(r.leftAt)),
 		warrantyEndsOn: r.warrantyEndsOn,
 		replacementCost: r.cost,
 		claims: claims.map((c) => ({
-			filedOn: assemblerDay(new Date(c.at)),
+			filedOn: day(new Date(c.at)),
 			covered: c.decision === 'covered',
 			decided: c.decision !== null
 		})),
 		keys: {
 			model: r.model,
 			lot: lots,
-			buildMonth:
-				r.builtAt === null ? '(not recorded)' : assemblerDay(new Date(r.builtAt)).slice(0, 7),
+			buildMonth: r.builtAt === null ? '(not recorded)' : day(new Date(r.builtAt)).slice(0, 7),
 			dealer: r.dealer ?? 'Own installations',
 			application: r.application ?? '(not recorded)',
 			climate: r.climate ?? '(not recorded)'
@@ -130,8 +128,11 @@ export async function reliabilityReport(
 	q: ReliabilityQuery,
 	now = new Date()
 ): Promise<ReliabilityReport> {
-	const asOf = q.asOf ?? assemblerDay(now);
-	const all = (await loadRecords(db, dealerScopeOf(actor))).map(toRecord);
+	// Business days are the assembler's calendar days, in the zone its organisation sets.
+	const { timeZone } = await assemblerCalendar(db);
+	const day: DayOf = (d) => calendarDay(d, timeZone);
+	const asOf = q.asOf ?? day(now);
+	const all = (await loadRecords(db, dealerScopeOf(actor))).map((r) => toRecord(r, day));
 	const filters: Partial<Record<SliceDimension, string>> = {};
 	for (const [field, dim] of FILTERS) {
 		const want = q[field];

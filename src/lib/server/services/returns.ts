@@ -14,17 +14,16 @@ import { assertCan, type Actor } from '$lib/server/actor';
 import { checkRule, ConflictError, ForbiddenError } from '$lib/server/errors';
 import { assertTransition, MODULE_MOVES } from '$lib/domain/module-lifecycle';
 import {
-	ARRIVAL_CONDITIONS,
 	needsQuarantine,
 	RA_SEQUENCE,
 	refusalOf,
 	RETURN_ACTION_MOVES,
 	returnActionsAt,
 	returnStep,
+	describeReturnStep,
 	type ArrivalCondition,
 	type ReturnOutcome
 } from '$lib/domain/returns';
-import { RETURN_CAUSES } from '$lib/claim-states';
 import type { ReturnActionInput } from '$lib/schemas/returns';
 import { returnStepMail } from '$lib/server/mail/templates/returns';
 import { recordAudit, recordEvent } from './audit';
@@ -149,7 +148,7 @@ export async function actOnReturn(
 	checkRule(() => assertTransition(mod.state, move, to));
 
 	const where = and(eq(claimModules.claimId, claim.id), eq(claimModules.moduleId, mod.id));
-	const { summary, detail } = describe(input, raNumber, claim.reference);
+	const { summary, detail } = describeReturnStep(input, raNumber, claim.reference);
 	await writeTx(db, async (tx) => {
 		if (input.action === 'rework') await applyRework(tx, actor, mod, input.work, now);
 		else if (input.action === 'scrap') await applyScrap(tx, actor, mod, input.reason, now);
@@ -235,41 +234,6 @@ function stepAfter(action: ReturnActionInput['action'], now: Date, outcome: Retu
 	if (action === 'receive') return { receivedAt: now };
 	if (action === 'inspect') return { inspectedAt: now };
 	return { returnOutcome: outcome };
-}
-
-/** The step in words for the timelines and the e-mail, and its facts for the audit. */
-function describe(input: ReturnActionInput, raNumber: string, claimReference: string) {
-	const under = `return ${raNumber} (claim ${claimReference})`;
-	switch (input.action) {
-		case 'receive': {
-			const words = ARRIVAL_CONDITIONS[input.condition];
-			const quarantine = needsQuarantine(input.condition) ? ' Held in quarantine.' : '';
-			return {
-				summary: `Received back under ${under}: ${words.toLowerCase()}.${quarantine}${input.note ? ` ${input.note}` : ''}`,
-				detail: { raNumber, condition: input.condition, note: input.note ?? null }
-			};
-		}
-		case 'inspect':
-			return {
-				summary: `Inspected under ${under}: ${RETURN_CAUSES[input.cause]}. ${input.findings}`,
-				detail: { raNumber, cause: input.cause, findings: input.findings }
-			};
-		case 'rework':
-			return {
-				summary: `Reworked after ${under}: ${input.work}`,
-				detail: { raNumber, outcome: 'reworked', work: input.work }
-			};
-		case 'keep':
-			return {
-				summary: `Kept for analysis after ${under}.${input.note ? ` ${input.note}` : ''}`,
-				detail: { raNumber, outcome: 'kept_for_analysis', note: input.note ?? null }
-			};
-		case 'scrap':
-			return {
-				summary: `Scrapped after ${under}: ${input.reason}`,
-				detail: { raNumber, outcome: 'scrapped', reason: input.reason }
-			};
-	}
 }
 
 /** Returns still open (on their way, received, inspected or kept for analysis), oldest first. */

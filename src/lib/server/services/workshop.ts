@@ -24,6 +24,30 @@ const asSentence = (t: string) => `${withoutFullStop(t)}.`;
 
 type ModuleRow = typeof modules.$inferSelect;
 
+/** What each workshop move needs of a module's state, in the words of the refusal. */
+const HELD_FOR = {
+	scrap:
+		'only a module held in the workshop (built, failed, in stock, or returned and inspected) can be scrapped.',
+	correctBuild:
+		'a build record is corrected only while the module is in the workshop (built, failed or in stock).'
+} as const;
+
+/**
+ * The module the person may see, checked for the move: a refusal says where the module is and
+ * what the move needs.
+ */
+async function moduleForMove(
+	db: Db,
+	actor: Actor,
+	serial: string,
+	move: keyof typeof HELD_FOR
+): Promise<ModuleRow> {
+	const mod = await findModule(db, actor, serial);
+	if (!mayMove(mod.state, move))
+		throw new ConflictError(`${mod.serial} is ${stateWords(mod.state)}: ${HELD_FOR[move]}`);
+	return mod;
+}
+
 /**
  * The rework's writes inside the caller's transaction (the returns desk adds its own): the
  * module back to built with no test outcome, the timeline and the audit. Returns the passport
@@ -115,11 +139,7 @@ export async function scrapModule(
 	now = new Date()
 ) {
 	assertCan(actor, 'scrapModule', 'Modules are scrapped by the workshop.');
-	const mod = await findModule(db, actor, serial);
-	if (!mayMove(mod.state, 'scrap'))
-		throw new ConflictError(
-			`${mod.serial} is ${stateWords(mod.state)}: only a module held in the workshop (built, failed, in stock, or returned and inspected) can be scrapped.`
-		);
+	const mod = await moduleForMove(db, actor, serial, 'scrap');
 	await writeTx(db, (tx) => applyScrap(tx, actor, mod, input.reason, now));
 	return { serial: mod.serial, state: endOf('scrap'), passportStatus: 'waste' as const };
 }
@@ -137,11 +157,7 @@ export async function correctBuild(
 	now = new Date()
 ) {
 	assertCan(actor, 'correctBuild', 'Build records are corrected by the workshop.');
-	const mod = await findModule(db, actor, serial);
-	if (!mayMove(mod.state, 'correctBuild'))
-		throw new ConflictError(
-			`${mod.serial} is ${stateWords(mod.state)}: a build record is corrected only while the module is in the workshop (built, failed or in stock).`
-		);
+	const mod = await moduleForMove(db, actor, serial, 'correctBuild');
 	const before = {
 		cellLots: mod.cellLots ? (JSON.parse(mod.cellLots) as string[]) : [],
 		checks: mod.buildChecks ? Object.keys(JSON.parse(mod.buildChecks)) : [],

@@ -1,24 +1,30 @@
 /**
- * Uploads on shared storage (issue 17, item 9): the same photos and attachments on local disk
- * and in an S3-compatible bucket, through the real `@aws-sdk/client-s3` against s3rver (a
- * local S3-compatible fake from npm) that this file starts and stops itself. Database
- * backups go to the same bucket and restore from it.
+ * Uploads on shared storage (issue 17, item 9): one suite run per storage backend — local disk
+ * and an S3-compatible bucket, through the real `@aws-sdk/client-s3` against s3rver (a local
+ * S3-compatible fake from npm) that this file starts and stops itself: the store's round trip
+ * (put, get, delete, a missing key, refused keys), and photos and attachments through the
+ * service. Database backups go to the same bucket and restore from it.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createHash } from 'node:crypto';
 import { existsSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { eq } from 'drizzle-orm';
 import S3rver from 's3rver';
 import { ListObjectsV2Command, S3Client } from '@aws-sdk/client-s3';
 import type { Db } from '$lib/server/db';
-import { moduleModels, organisations, sites, systems, users } from '$lib/server/db/schema';
-import { openS3Store, s3ConfigFromEnv } from '$lib/server/storage';
+import {
+	deleteObject,
+	getObject,
+	openS3Store,
+	putObject,
+	s3ConfigFromEnv
+} from '$lib/server/storage';
 import { listAttachments, readAttachment, savePhoto } from '$lib/server/services/attachments';
 import { backupToStore, checkDatabaseFile, restoreFromStore } from '$lib/server/db/backup';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
+import { workshopSystem } from '../factories/sites';
 
 const BUCKET = 'packledger-test';
 const KEYS = ['UPLOAD_DIR', 'S3_BUCKET', 'S3_ENDPOINT', 'S3_REGION', 'S3_ACCESS_KEY_ID'] as const;
@@ -85,36 +91,15 @@ beforeAll(async () => {
 	tech = await actorFor(db, 'tech@tidewater.example');
 	dealer = await actorFor(db, 'dealer@saltmarsh.example');
 	otherDealer = await actorFor(db, 'dealer@ridgeline.example');
-	const [org] = await db
-		.select()
-		.from(organisations)
-		.where(eq(organisations.name, 'Saltmarsh Solar'));
-	const [me] = await db.select().from(users).where(eq(users.email, 'tech@tidewater.example'));
-	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.code, 'TC-HC-48'));
-	const [site] = await db
-		.insert(sites)
-		.values({
-			dealerOrgId: org.id,
+	systemId = await workshopSystem(db, {
+		site: {
 			name: 'Heron Point boathouse',
 			ownerName: 'Wren Tallis',
 			ownerContact: '+00 555 0142',
-			address: '9 Slipway Lane, Port Halden',
-			application: 'workshop',
-			createdBy: me.id
-		})
-		.returning();
-	[{ id: systemId }] = await db
-		.insert(systems)
-		.values({
-			siteId: site.id,
-			name: 'Boathouse bank',
-			modelId: model.id,
-			series: 2,
-			parallel: 1,
-			inverterMinV: 70,
-			inverterMaxV: 130
-		})
-		.returning();
+			address: '9 Slipway Lane, Port Halden'
+		},
+		systemName: 'Boathouse bank'
+	});
 }, 60_000);
 
 afterAll(async () => {
@@ -129,8 +114,48 @@ afterAll(async () => {
 describe.each([
 	['local disk', useDisk],
 	['an S3-compatible bucket (s3rver)', useS3]
-])('photos and attachments on %s', (where, use) => {
+])('uploads on %s', (where, use) => {
 	const owner = () => ({ ownerKind: 'system' as const, ownerId: systemId });
+	const onS3 = where.startsWith('an S3');
+
+	it('puts, gets and deletes an object; a missing key is null', async () => {
+		use();
+		const key = `test/round-trip-${onS3 ? 's3' : 'disk'}`;
+		await putObject(key, JPEG, 'image/jpeg');
+		const got = await getObject(key);
+		expect(got?.contentType).toBe('image/jpeg');
+		expect(Array.from(got!.bytes)).toEqual(Array.from(JPEG));
+		// Where it went: in the bucket with S3, under UPLOAD_DIR on disk, never both.
+		expect((await bucketKeys()).includes(key)).toBe(onS3);
+		expect(existsSync(join(work, 'uploads', key))).toBe(!onS3);
+		await deleteObject(key);
+		expect(await getObject(key)).toBeNull();
+		expect(await bucketKeys()).not.toContain(key);
+		expect(existsSync(join(work, 'uploads', key))).toBe(false);
+		expect(await getObject('test/never-stored')).toBeNull();
+		await deleteObject('test/never-stored');
+	});
+
+	it('refuses keys that are not generated keys, before the store is asked', async () => {
+		use();
+		const before = await bucketKeys();
+		for (const key of [
+			'../etc/passwd',
+			'a/../../b',
+			'/abs/path',
+			'Upper/Case',
+			'with.dot',
+			'a//b',
+			'trailing/',
+			'',
+			'a b'
+		]) {
+			await expect(putObject(key, JPEG, 'image/jpeg'), key).rejects.toThrow(/Invalid storage key/);
+			await expect(getObject(key), key).rejects.toThrow(/Invalid storage key/);
+			await expect(deleteObject(key), key).rejects.toThrow(/Invalid storage key/);
+		}
+		expect(await bucketKeys()).toEqual(before);
+	});
 
 	it('stores a photo, reads the same bytes back for its dealer, and refuses another dealer', async () => {
 		use();
@@ -150,15 +175,8 @@ describe.each([
 		expect((await listAttachments(db, dealer, owner())).map((a) => a.id)).toContain(row.id);
 
 		// Where it went: in the bucket with S3, under UPLOAD_DIR on disk, never both.
-		const keys = await bucketKeys();
-		const onDisk = existsSync(join(work, 'uploads', row.storageKey));
-		if (where.startsWith('an S3')) {
-			expect(keys).toContain(row.storageKey);
-			expect(onDisk).toBe(false);
-		} else {
-			expect(keys).not.toContain(row.storageKey);
-			expect(onDisk).toBe(true);
-		}
+		expect((await bucketKeys()).includes(row.storageKey)).toBe(onS3);
+		expect(existsSync(join(work, 'uploads', row.storageKey))).toBe(!onS3);
 	});
 
 	it('keeps a JPEG as a JPEG and a refused file out of the store', async () => {
