@@ -7,6 +7,10 @@
 // read from inside (GET /api/diagnostics/event-loop, Node's monitorEventLoopDelay, the server
 // started with PACKLEDGER_DIAGNOSTICS=1) and from outside: a static file is fetched every
 // 20 ms while the import runs, and its slowest answer is printed beside it.
+// An extra anchor, labelled as such: the same rows through a synchronous native driver (one
+// prepared INSERT in a transaction: better-sqlite3 when installed, else libsql), the
+// "different driver path" issue 17 asks to measure; its fields `nativeDriver`,
+// `nativeRowsPerSecond` and `ratioToNative` are added to the JSON line.
 //
 //   npm run bench:import [-- --json] [-- --rounds 3]   (BENCH_ROWS, BENCH_PORT; 127.0.0.1 only)
 import { createClient } from '@libsql/client';
@@ -120,6 +124,18 @@ async function runRound(round: number) {
 	};
 	const pid = server.proc.pid!;
 	await fetch(`${server.origin}/favicon.svg`);
+	// The first import of a fresh server loads and compiles the import route's modules and
+	// starts the writer's thread (one-off, a few hundred ms on a loaded machine): its longest
+	// stall is printed apart (`coldStallMs`); a one-row file of an unknown serial does it
+	// before the measured import, which is the one the figures are about.
+	await loopDelay(true);
+	const warm = await fetch(`${server.origin}/api/imports/factory-tests?name=warm-up.csv`, {
+		method: 'POST',
+		headers: { cookie, 'content-type': 'text/csv' },
+		body: `${HEADER}\r\nTC48-26-9999999,2026-11-01T05:00:00Z,46.5,2390,5.2,51.3,6,600,22.5,RIG-W,bench\r\n`
+	});
+	if (!warm.ok) throw new Error(`warm-up import: ${warm.status} ${await warm.text()}`);
+	const coldStallMs = (await loopDelay(false)).maxMs;
 	await loopDelay(true);
 	await new Promise((r) => setTimeout(r, 200));
 	await loopDelay(true);
@@ -230,6 +246,12 @@ async function runRound(round: number) {
 	const anchorS = (performance.now() - tP) / 1000;
 	anchorDb.close();
 
+	// 5. An extra anchor, for comparison only (the app keeps @libsql/client): what a different
+	// driver path gives for the same rows into another empty copy of the table, through a
+	// synchronous native driver with one prepared single-row INSERT in one transaction.
+	const native = await nativeAnchor(schemaSql, cols, values);
+	const betterS = native?.seconds ?? null;
+
 	const secs = (tC - tA) / 1000;
 	const r = {
 		rowsPerSecond: N / secs,
@@ -238,14 +260,69 @@ async function runRound(round: number) {
 		memoryGrowthMB: mem1.peak - mem0.rss,
 		previewS: (tB - tA) / 1000,
 		commitS: (tC - tB) / 1000,
+		nativeDriver: native?.driver ?? null,
+		nativeRowsPerSecond: betterS === null ? null : N / betterS,
 		stallMs,
+		coldStallMs,
 		probeMs,
 		load: loadavg()[0]
 	};
 	log(
-		`Round ${round + 1}: preview ${r.previewS.toFixed(2)} s, commit ${r.commitS.toFixed(2)} s → ${Math.round(r.rowsPerSecond).toLocaleString('en-GB')} rows/s; anchor ${anchorS.toFixed(2)} s → ${Math.round(r.anchorRowsPerSecond).toLocaleString('en-GB')} rows/s; ratio ${r.ratio.toFixed(2)}; server memory ${mem0.rss.toFixed(0)} → peak ${mem1.peak.toFixed(0)} MB (+${r.memoryGrowthMB.toFixed(0)}; peak heap ${heap.heapUsed} MB, external ${heap.external} MB of which buffers ${heap.arrayBuffers} MB); event loop held ≤ ${stallMs.toFixed(0)} ms (slowest probe ${probeMs.toFixed(0)} ms); load ${r.load.toFixed(2)}`
+		`Round ${round + 1}: preview ${r.previewS.toFixed(2)} s, commit ${r.commitS.toFixed(2)} s → ${Math.round(r.rowsPerSecond).toLocaleString('en-GB')} rows/s; anchor ${anchorS.toFixed(2)} s → ${Math.round(r.anchorRowsPerSecond).toLocaleString('en-GB')} rows/s; ratio ${r.ratio.toFixed(2)}${betterS === null ? '' : `; ${native?.driver} ${betterS.toFixed(2)} s → ${Math.round(N / betterS).toLocaleString('en-GB')} rows/s (route ${(betterS / secs).toFixed(2)} of it)`}; server memory ${mem0.rss.toFixed(0)} → peak ${mem1.peak.toFixed(0)} MB (+${r.memoryGrowthMB.toFixed(0)}; peak heap ${heap.heapUsed} MB, external ${heap.external} MB of which buffers ${heap.arrayBuffers} MB); event loop held ≤ ${stallMs.toFixed(0)} ms (first import of the server ${coldStallMs.toFixed(0)} ms; slowest probe ${probeMs.toFixed(0)} ms); load ${r.load.toFixed(2)}`
 	);
 	return r;
+}
+
+/**
+ * Seconds for the rows through a synchronous native driver with one prepared INSERT in one
+ * transaction: `better-sqlite3` when it is installed (not a dependency: it compiles from
+ * source here, `npm install --no-save better-sqlite3@12.11.1` to add it), else `libsql`, the
+ * native driver under `@libsql/client` with the same API, which the request path's reader
+ * already uses. Null when neither loads.
+ */
+async function nativeAnchor(
+	schemaSql: string[],
+	cols: string[],
+	values: (string | number | null)[][]
+): Promise<{ seconds: number; driver: string } | null> {
+	type NativeDb = {
+		pragma(s: string): unknown;
+		exec(s: string): unknown;
+		prepare(s: string): { run(...a: unknown[]): unknown };
+		transaction(f: () => void): () => void;
+		close(): void;
+	};
+	let b: NativeDb | null = null;
+	let driver = '';
+	const file = `${dir}/anchor-native.db`;
+	rmSync(file, { force: true });
+	for (const name of ['better-sqlite3', 'libsql']) {
+		try {
+			const Database = (await import(/* @vite-ignore */ name)).default as new (
+				f: string
+			) => NativeDb;
+			b = new Database(file);
+			driver = name;
+			break;
+		} catch (e) {
+			log(`  (${name} anchor not available: ${(e as Error).message.split('\n')[0]})`);
+		}
+	}
+	if (!b) return null;
+	b.pragma('journal_mode = WAL');
+	// As for the libSQL anchor: the table alone, its foreign keys name tables this file lacks.
+	b.pragma('foreign_keys = OFF');
+	for (const s of schemaSql) b.exec(s);
+	const insert = b.prepare(
+		`INSERT INTO factory_tests (${cols.join(',')}) VALUES (${cols.map(() => '?').join(',')})`
+	);
+	const t0 = performance.now();
+	b.transaction(() => {
+		for (const v of values) insert.run(v);
+	})();
+	const seconds = (performance.now() - t0) / 1000;
+	b.close();
+	return { seconds, driver };
 }
 
 const results = [];
@@ -272,7 +349,25 @@ const summary = {
 	memoryGrowthMB: Number(show('memory growth', (r) => r.memoryGrowthMB, 0, ' MB').toFixed(1)),
 	previewS: Number(show('preview', (r) => r.previewS, 2, ' s').toFixed(3)),
 	commitS: Number(show('commit', (r) => r.commitS, 2, ' s').toFixed(3)),
+	...(results.every((r) => r.nativeRowsPerSecond !== null)
+		? (() => {
+				const driver = results[0].nativeDriver;
+				const better = Math.round(show(`${driver} rows/s`, (r) => r.nativeRowsPerSecond ?? 0));
+				return {
+					nativeDriver: driver,
+					nativeRowsPerSecond: better,
+					ratioToNative: Number(
+						show(
+							`ratio to ${driver}`,
+							(r) => r.rowsPerSecond / (r.nativeRowsPerSecond ?? 1),
+							2
+						).toFixed(3)
+					)
+				};
+			})()
+		: {}),
 	maxStallMs: Math.round(show('event-loop stall', (r) => r.stallMs, 0, ' ms')),
+	coldStallMs: Math.round(show('first-import stall', (r) => r.coldStallMs, 0, ' ms')),
 	probeMs: Math.round(show('slowest probe', (r) => r.probeMs, 0, ' ms'))
 };
 if (asJson) console.log(JSON.stringify(summary));

@@ -544,6 +544,22 @@ describe('validateFactoryCsv — the one-pass reader agrees with the row checker
 		});
 	});
 
+	it('a quote never closed in a later slice names its row (line number of the file)', () => {
+		// More than 64 KB, so the rows are read in several slices; row 2,502 of the file (data
+		// row 2,501 after the header) opens a quote that never closes.
+		const lines: string[] = [];
+		for (let i = 0; i < 3000; i++)
+			lines.push(
+				`TW48-${String(i).padStart(5, '0')},2026-03-12T08:15:00Z,46.2,,2.1,,12,550,,RIG-2,${i === 2500 ? '"jm' : 'jm'}`
+			);
+		const text = csv(HEADER, ...lines) + '\r\n';
+		expect(text.length).toBeGreaterThan(2 * 64 * 1024);
+		const file = validateFactoryCsv(text, NOW);
+		expect(file.ok).toBe(false);
+		if (file.ok) return;
+		expect(file.error).toMatch(/^Row 2502 has a double quote \("\) that is never closed/);
+	});
+
 	it('reads a file of many slices with quoted line breaks at every position the same as whole', () => {
 		// More than two 256 KB slices; a quoted operator name with a CRLF inside on every 7th row.
 		const lines: string[] = [];

@@ -5,7 +5,7 @@ import { json, type Handle } from '@sveltejs/kit';
 import Credentials from '@auth/sveltekit/providers/credentials';
 import { randomBytes } from 'node:crypto';
 import { eq } from 'drizzle-orm';
-import { getDb } from '$lib/server/db';
+import { getDb, withWriteLock } from '$lib/server/db';
 import { organisations, users } from '$lib/server/db/schema';
 import { signInSchema } from '$lib/schemas/auth';
 import { hashPassword, verifyPassword } from './password';
@@ -63,7 +63,10 @@ async function authorize(credentials: Partial<Record<string, unknown>>) {
 		return null;
 	}
 	await signInSucceeded(db, email, address);
-	await db.update(users).set({ lastSignInAt: new Date() }).where(eq(users.id, user.id));
+	// Queued with this process's other writers, not busy-waiting for SQLite's lock.
+	await withWriteLock(db, () =>
+		db.update(users).set({ lastSignInAt: new Date() }).where(eq(users.id, user.id))
+	);
 	return {
 		id: String(user.id),
 		email: user.email,

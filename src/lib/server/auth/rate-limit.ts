@@ -1,5 +1,5 @@
 import { eq, sql } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import { withWriteLock, type Db } from '$lib/server/db';
 import { rateLimits } from '$lib/server/db/schema';
 
 /**
@@ -8,7 +8,10 @@ import { rateLimits } from '$lib/server/db/schema';
  * same database shares them and a restart forgets nothing. An attempt claims its slot with
  * one atomic upsert *before* the password is checked: forty parallel attempts on one account
  * get counts 1…40, and only the first five are checked (OWASP ASVS 4.0 V2.2.1; the numbers
- * themselves are common practice).
+ * themselves are common practice). The writes queue behind this process's other writers
+ * (`withWriteLock`): while an import's commit holds SQLite's write lock, an attempt waits its
+ * turn on a promise instead of busy-waiting for the lock on the event loop. Another process's
+ * transaction is still waited for by SQLite's busy timeout: the counts stay shared.
  */
 export const WINDOW_MS = 15 * 60 * 1000;
 export const MAX_FAILURES_PER_ACCOUNT = 5;
@@ -36,12 +39,14 @@ export async function claim(
 	now = Date.now()
 ): Promise<Claim> {
 	const expired = now - windowMs;
-	const [row] = await db.all<{ count: number; window_start: number }>(sql`
+	const [row] = await withWriteLock(db, () =>
+		db.all<{ count: number; window_start: number }>(sql`
 		INSERT INTO rate_limits (key, window_start, count) VALUES (${key}, ${now}, 1)
 		ON CONFLICT (key) DO UPDATE SET
 			window_start = CASE WHEN rate_limits.window_start <= ${expired} THEN excluded.window_start ELSE rate_limits.window_start END,
 			count = CASE WHEN rate_limits.window_start <= ${expired} THEN 1 ELSE rate_limits.count + 1 END
-		RETURNING count, window_start`);
+		RETURNING count, window_start`)
+	);
 	if (row.count <= limit) return { allowed: true, minutes: 0 };
 	return {
 		allowed: false,
@@ -86,9 +91,13 @@ export async function signInBlockedFor(
 
 /** A successful sign-in: the account's count is cleared and the client's attempt given back. */
 export async function signInSucceeded(db: Db, email: string, address: string): Promise<void> {
-	await db.delete(rateLimits).where(eq(rateLimits.key, accountKey(email)));
-	await db.run(
-		sql`UPDATE rate_limits SET count = max(count - 1, 0) WHERE key = ${addressKey(address)}`
+	await withWriteLock(db, () =>
+		db.batch([
+			db.delete(rateLimits).where(eq(rateLimits.key, accountKey(email))),
+			db.run(
+				sql`UPDATE rate_limits SET count = max(count - 1, 0) WHERE key = ${addressKey(address)}`
+			)
+		])
 	);
 }
 

@@ -4,6 +4,7 @@ import { migrate } from 'drizzle-orm/libsql/migrator';
 import { mkdirSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import * as schema from './schema';
+import { clientReader, LocalReader, type Reader } from './reader';
 
 export type Db = LibSQLDatabase<typeof schema> & { $client: Client };
 export type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
@@ -28,29 +29,40 @@ export async function openDb(url: string = DEFAULT_DATABASE_URL, authToken?: str
 }
 
 const localUrls = new WeakMap<object, string>();
-const readers = new WeakMap<object, Client>();
+const readers = new WeakMap<object, Reader>();
 
 /**
- * The connection that large read-only queries (fleet, trace, public record) run on. For a
- * local file it is a connection of its own that never writes: its page cache is 64 MB (the
- * pool's connections keep SQLite's 2,000 pages, ~8 MB, and read a 150 MB register through
- * the operating system page by page), and `PRAGMA data_version` on it changes with every
- * commit by any other connection, this process's writes included (see `dataVersion`).
- * Through a libSQL server or for `:memory:` it is the client itself.
+ * The connection that read-only queries on the request path run on (the session's user, the
+ * fleet, trace, the public record, the data version). For a local file it is a connection of
+ * its own that never writes (`LocalReader`: prepared statements kept, 64 MB of page cache,
+ * `query_only`), and `PRAGMA data_version` on it changes with every commit by any other
+ * connection, this process's writes included (see `dataVersion`). Through a libSQL server or
+ * for `:memory:` it is the client itself.
  */
-export function readerOf(db: Db): Client {
-	const url = localUrls.get(db);
-	if (!url) return db.$client;
+export function readerOf(db: Db): Reader {
 	let reader = readers.get(db);
 	if (!reader) {
+		const url = localUrls.get(db);
 		// One connection: SQLite calls run on this thread one at a time anyway, and it never
 		// holds a transaction, so nothing waits behind one.
-		reader = createClient({ url, timeout: 5000, concurrency: 1 });
+		reader = url ? new LocalReader(localPath(url)) : clientReader(db.$client);
 		readers.set(db, reader);
-		void reader.execute('PRAGMA cache_size = -65536');
-		void reader.execute('PRAGMA query_only = 1');
 	}
 	return reader;
+}
+
+/** The file of a `file:` URL (without a query string). */
+function localPath(url: string): string {
+	const path = url.slice('file:'.length);
+	const q = path.indexOf('?');
+	return q === -1 ? path : path.slice(0, q);
+}
+
+/** Closes the local reader of a database handle, if one was opened (tests, scripts). */
+export function closeReader(db: Db): void {
+	const reader = readers.get(db);
+	if (reader instanceof LocalReader) reader.close();
+	readers.delete(db);
 }
 
 export async function migrateDb(db: Db, migrationsFolder = resolve('drizzle')): Promise<void> {

@@ -16,5 +16,14 @@ export function getDb(): Promise<Db> {
 }
 
 export type { Db, Tx } from './client';
-export { writeTx, withWriteLock, runBatch, dataVersion, dataVersionSql, readerOf } from './client';
+export {
+	writeTx,
+	withWriteLock,
+	runBatch,
+	dataVersion,
+	dataVersionSql,
+	readerOf,
+	closeReader
+} from './client';
+export type { Reader, ReaderRow } from './reader';
 export type { TxHook } from './client';

@@ -4,7 +4,7 @@ import { simpleParser } from 'mailparser';
 import { and, desc, type SQL } from 'drizzle-orm';
 import { containsText } from '$lib/server/db/like';
 import { recordUrl } from '$lib/server/base-url';
-import type { Db } from '$lib/server/db';
+import { withWriteLock, type Db } from '$lib/server/db';
 import { mailOutbox } from '$lib/server/db/schema';
 
 export interface OutgoingMail {
@@ -79,14 +79,16 @@ async function startMailer(db: Db): Promise<Mailer> {
 			const work = simpleParser(stream)
 				.then(async (parsed) => {
 					const to = session.envelope.rcptTo.map((r) => r.address).join(', ');
-					await db.insert(mailOutbox).values({
-						at: new Date(),
-						fromAddr: session.envelope.mailFrom ? session.envelope.mailFrom.address : '',
-						toAddr: to,
-						subject: parsed.subject ?? '(no subject)',
-						text: parsed.text ?? '',
-						transport: 'fake'
-					});
+					await withWriteLock(db, () =>
+						db.insert(mailOutbox).values({
+							at: new Date(),
+							fromAddr: session.envelope.mailFrom ? session.envelope.mailFrom.address : '',
+							toAddr: to,
+							subject: parsed.subject ?? '(no subject)',
+							text: parsed.text ?? '',
+							transport: 'fake'
+						})
+					);
 					callback();
 				})
 				.catch((e) => callback(e as Error));
@@ -141,14 +143,16 @@ export async function sendMail(db: Db, mail: OutgoingMail): Promise<void> {
 	if (mailer.kind === 'fake') {
 		await mailer.settled();
 	} else {
-		await db.insert(mailOutbox).values({
-			at: new Date(),
-			fromAddr: MAIL_FROM(),
-			toAddr: Array.isArray(mail.to) ? mail.to.join(', ') : mail.to,
-			subject: mail.subject,
-			text: redactedCopy({ text: message.text, oneTimeLinks }),
-			transport: 'smtp'
-		});
+		await withWriteLock(db, () =>
+			db.insert(mailOutbox).values({
+				at: new Date(),
+				fromAddr: MAIL_FROM(),
+				toAddr: Array.isArray(mail.to) ? mail.to.join(', ') : mail.to,
+				subject: mail.subject,
+				text: redactedCopy({ text: message.text, oneTimeLinks }),
+				transport: 'smtp'
+			})
+		);
 	}
 }
 

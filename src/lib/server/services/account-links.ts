@@ -4,7 +4,7 @@
  */
 import { and, eq, isNull, sql } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { writeTx } from '$lib/server/db';
+import { withWriteLock, writeTx } from '$lib/server/db';
 import { users, userTokens } from '$lib/server/db/schema';
 import { ConflictError, NotFoundError } from '$lib/server/errors';
 import { hashPassword } from '$lib/server/auth/password';
@@ -25,9 +25,11 @@ export async function issueLink(
 	now: Date
 ): Promise<string> {
 	const { secret, tokenHash } = newSecret('', 32);
-	await db
-		.insert(userTokens)
-		.values({ userId, purpose, tokenHash, expiresAt: expiresAfter(now, hours) });
+	await withWriteLock(db, () =>
+		db
+			.insert(userTokens)
+			.values({ userId, purpose, tokenHash, expiresAt: expiresAfter(now, hours) })
+	);
 	return secret;
 }
 

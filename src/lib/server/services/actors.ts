@@ -1,5 +1,5 @@
-import { eq, sql, type SQL } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import { eq, Placeholder, sql, type SQL } from 'drizzle-orm';
+import { readerOf, type Db } from '$lib/server/db';
 import { organisations, users } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 
@@ -22,15 +22,40 @@ function actorQuery(db: Db) {
 }
 
 /**
- * The lookup by id runs on every signed-in request (the hook re-reads the user): prepared once
- * per database, so drizzle does not build its SQL again each time (~0.5 ms a request).
+ * The lookup by id runs on every signed-in request (the hook re-reads the user, so that a
+ * sign-out on any app server, a deactivation or a changed role counts at once). Its SQL is
+ * built by drizzle once, and it runs on the reader connection (`readerOf`), where its prepared
+ * statement is kept: ~15 µs instead of ~0.5 ms through drizzle and `@libsql/client` each time.
+ * The reader sees every commit made before the statement starts, this process's and others'.
  */
-const byIdFor = new WeakMap<Db, ReturnType<typeof prepareById>>();
-const prepareById = (db: Db) =>
-	actorQuery(db)
-		.where(eq(users.id, sql.placeholder('id')))
-		.limit(1)
-		.prepare();
+const byIdSql = new WeakMap<Db, { sql: string; params: unknown[] }>();
+const ACTOR_COLUMNS = Object.keys(ACTOR_ROW) as (keyof typeof ACTOR_ROW)[];
+
+async function actorRowById(db: Db, id: number) {
+	let query = byIdSql.get(db);
+	if (!query) {
+		query = actorQuery(db)
+			.where(eq(users.id, sql.placeholder('id')))
+			.limit(1)
+			.toSQL();
+		byIdSql.set(db, query);
+	}
+	// The parameters as drizzle lists them: the id's placeholder and the limit.
+	const args = query.params.map((p) => (p instanceof Placeholder ? id : p));
+	const [values] = (await readerOf(db).execute({ sql: query.sql, args })).rows;
+	if (!values) return undefined;
+	const raw = Object.fromEntries(ACTOR_COLUMNS.map((k, i) => [k, values[i]]));
+	return {
+		id: Number(raw.id),
+		email: String(raw.email),
+		role: raw.role as Actor['role'] & typeof users.$inferSelect.role,
+		active: !!raw.active,
+		orgId: Number(raw.orgId),
+		orgKind: raw.orgKind as typeof organisations.$inferSelect.kind,
+		orgActive: !!raw.orgActive,
+		sessionVersion: Number(raw.sessionVersion)
+	};
+}
 
 /** The Actor of an active user of an active organisation (by id or e-mail), with the organisation's kind deciding dealer scope; null if none. */
 export async function findActor(
@@ -39,9 +64,7 @@ export async function findActor(
 ): Promise<Actor | null> {
 	let row: Awaited<ReturnType<typeof actorQuery>>[number] | undefined;
 	if ('id' in by) {
-		let byId = byIdFor.get(db);
-		if (!byId) byIdFor.set(db, (byId = prepareById(db)));
-		[row] = await byId.execute({ id: by.id });
+		row = await actorRowById(db, by.id);
 	} else {
 		const where: SQL = eq(users.email, by.email);
 		[row] = await actorQuery(db).where(where).limit(1);

@@ -1,5 +1,4 @@
-import type { Client } from '@libsql/client';
-import { dataVersionSql, readerOf, type Db } from '$lib/server/db';
+import { dataVersionSql, readerOf, type Db, type Reader } from '$lib/server/db';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { FLEET_STATES, type FleetQuery, type FleetSort } from '$lib/schemas/fleet';
 import { conditions, viewKey, whereOf, type Condition } from './fleet-filters';
@@ -28,7 +27,7 @@ const GROUP_COL: Record<Grouped, string> = {
 const isGrouped = (s: FleetSort): s is Grouped => s === 'state' || s === 'model' || s === 'dealer';
 
 type Args = (string | number)[];
-async function scalar<T>(client: Client, sql: string, args: Args): Promise<T> {
+async function scalar<T>(client: Reader, sql: string, args: Args): Promise<T> {
 	return (await client.execute({ sql, args })).rows[0][0] as T;
 }
 
@@ -68,7 +67,7 @@ const idsOf = (select: string) => `SELECT json_group_array(id) FROM (${select})`
 
 /** Models by code, dealers by name then id: the order of a sort by model or dealer. */
 async function ranking(
-	client: Client,
+	client: Reader,
 	cache: ViewCache,
 	sort: Grouped
 ): Promise<(string | number)[]> {
@@ -177,7 +176,7 @@ async function pageOf(
 
 /** A page sorted by state, model or dealer: see `listModulesJson`. */
 async function groupedPage(
-	client: Client,
+	client: Reader,
 	cache: ViewCache,
 	conds: Condition[],
 	sort: Grouped,

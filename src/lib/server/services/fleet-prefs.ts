@@ -1,5 +1,5 @@
 import { and, asc, eq } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import { withWriteLock, type Db } from '$lib/server/db';
 import { moduleModels, organisations, userPrefs } from '$lib/server/db/schema';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { InvalidInputError } from '$lib/server/errors';
@@ -55,9 +55,11 @@ export async function setColumnPrefs(
 	}
 	const chosen = known(['serial', ...columns]);
 	const value = JSON.stringify(chosen);
-	await db
-		.insert(userPrefs)
-		.values({ userId, key: PREFS_KEY, value })
-		.onConflictDoUpdate({ target: [userPrefs.userId, userPrefs.key], set: { value } });
+	await withWriteLock(db, () =>
+		db
+			.insert(userPrefs)
+			.values({ userId, key: PREFS_KEY, value })
+			.onConflictDoUpdate({ target: [userPrefs.userId, userPrefs.key], set: { value } })
+	);
 	return chosen;
 }

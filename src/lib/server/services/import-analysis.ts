@@ -70,6 +70,8 @@ export const PLAN_COLUMNS = [
 type Held = Omit<ScannedRow, 'pulse'> & { row: number };
 const str = (s: string | null) => (s === null ? 'null' : JSON.stringify(s));
 const num = (n: number | null) => (n === null ? 'null' : String(n));
+/** A passing row's failures, `[]` as a JSON string inside the row's array (made once, not per row). */
+const NO_FAILURES = JSON.stringify('[]');
 /** Lets other requests run between slices of a large file. */
 const breathe = () => new Promise<void>((r) => setImmediate(r));
 
@@ -85,7 +87,7 @@ export async function analyseFactoryFile(
 	db: Db,
 	content: string,
 	now: Date,
-	emit: (chunk: PlanChunk) => void
+	emit: (chunk: PlanChunk) => void | Promise<void>
 ): Promise<Analysis> {
 	const models = new Map((await db.select().from(moduleModels)).map((m) => [m.id, m]));
 	const errors: RowError[] = [];
@@ -95,11 +97,18 @@ export async function analyseFactoryFile(
 	let latest = new Map<number, { ms: number; pass: boolean }>();
 	let accepted = 0;
 	let seq = 0;
+	// A promise from `emit` (its writes fell behind) is waited for before the next slice.
+	const writes: { behind?: Promise<void> } = {};
 	const flush = () => {
 		if (parts.length === 0) return;
 		const states: string[] = [];
 		for (const [id, l] of latest) states.push(`[${id},"${l.pass ? 'pass' : 'fail'}",${l.ms}]`);
-		emit({ seq: seq++, rows: `[${parts.join(',')}]`, states: `[${states.join(',')}]` });
+		const wait = emit({
+			seq: seq++,
+			rows: `[${parts.join(',')}]`,
+			states: `[${states.join(',')}]`
+		});
+		if (wait) writes.behind = wait;
 		accepted += parts.length;
 		parts = [];
 		latest = new Map();
@@ -164,7 +173,7 @@ export async function analyseFactoryFile(
 			if (pass) passed++;
 			const failures = verdict.failures.map(({ check, message }) => ({ check, message }));
 			parts.push(
-				`[${mod.id},${str(h.key)},${h.testedAtMs},${h.capacityAh},${num(h.energyWh)},${h.dcirMohm},"${h.dcirSource}",${num(h.ocvV)},${h.cellSpreadMv},${h.insulationMohm},${num(h.ambientC)},${str(h.rig)},${str(h.operator)},"${verdict.outcome}",${str(JSON.stringify(failures))}]`
+				`[${mod.id},${str(h.key)},${h.testedAtMs},${h.capacityAh},${num(h.energyWh)},${h.dcirMohm},"${h.dcirSource}",${num(h.ocvV)},${h.cellSpreadMv},${h.insulationMohm},${num(h.ambientC)},${str(h.rig)},${str(h.operator)},"${verdict.outcome}",${pass ? NO_FAILURES : str(JSON.stringify(failures))}]`
 			);
 			const last = latest.get(mod.id);
 			if (!last || last.ms <= h.testedAtMs) latest.set(mod.id, { ms: h.testedAtMs, pass });
@@ -207,6 +216,8 @@ export async function analyseFactoryFile(
 		const slice = held;
 		held = [];
 		await judge(slice);
+		if (writes.behind) await writes.behind;
+		writes.behind = undefined;
 		await breathe();
 		step = scan.next();
 	}
@@ -218,5 +229,6 @@ export async function analyseFactoryFile(
 	errors.push(...file.errors);
 	errors.sort((a, b) => a.row - b.row);
 	flush();
+	if (writes.behind) await writes.behind;
 	return { rowsTotal: file.rowsTotal, accepted, passed, errors, duplicates, preview, chunks: seq };
 }

@@ -21,17 +21,23 @@ const insertSlice = (planKey: string, chunk: PlanChunk, now: Date): InStatement 
  * goes on while a commit elsewhere holds the write lock. `rest` hands over the slices not
  * written yet (for the preview's last batch) after waiting for every write and rethrowing the
  * first failure; `discard` removes what was written (a preview that failed stores nothing).
+ * `write` answers a promise to wait for when the writes have fallen behind (more than one
+ * write in flight): the reader then waits, so the slices waiting in memory stay bounded
+ * (about 2 × SLICES_PER_WRITE) however slow the database is.
  */
 export function planWriter(db: Db, planKey: string, now: Date) {
 	let queue: Promise<void> = Promise.resolve();
 	let failure: unknown = null;
 	let pending: InStatement[] = [];
+	let inFlight = 0;
 	return {
-		write(chunk: PlanChunk) {
+		write(chunk: PlanChunk): Promise<void> | undefined {
 			pending.push(insertSlice(planKey, chunk, now));
 			if (pending.length < SLICES_PER_WRITE) return;
 			const stmts = pending;
 			pending = [];
+			const ahead = queue;
+			inFlight++;
 			queue = queue.then(() =>
 				failure
 					? undefined
@@ -40,6 +46,9 @@ export function planWriter(db: Db, planKey: string, now: Date) {
 							(e) => void (failure = e)
 						)
 			);
+			void queue.then(() => void inFlight--);
+			// Waiting for the earlier writes leaves this one alone in flight.
+			return inFlight > 1 ? ahead : undefined;
 		},
 		async rest(): Promise<InStatement[]> {
 			await queue;

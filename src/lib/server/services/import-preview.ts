@@ -11,6 +11,13 @@ import { summary, type ImportResult } from './import-summary';
 import { storePlan } from './import-commit';
 import { importWriter } from './import-writer';
 
+/**
+ * The stored file's bytes: `data` when the caller has the text's exact UTF-8 bytes (as
+ * `readUploadedText` gives them), else the text encoded.
+ */
+const fileBytes = (file: { content: string; data?: Uint8Array }): Uint8Array =>
+	file.data ?? Buffer.from(file.content, 'utf8');
+
 /** Characters hashed between two turns of the event loop. */
 const HASH_SLICE = 1 << 20;
 
@@ -32,6 +39,16 @@ export async function sha256Text(text: string): Promise<string> {
 	return hash.digest('hex');
 }
 
+/** SHA-256 of bytes, a slice at a time with the event loop let through between slices. */
+async function sha256Bytes(data: Uint8Array): Promise<string> {
+	const hash = createHash('sha256');
+	for (let i = 0; i < data.byteLength; i += HASH_SLICE) {
+		hash.update(data.subarray(i, i + HASH_SLICE));
+		if (i + HASH_SLICE < data.byteLength) await new Promise<void>((r) => setImmediate(r));
+	}
+	return hash.digest('hex');
+}
+
 /**
  * Step one: validates a rig file and keeps it with its counts and its commit plan (the
  * accepted rows as insert-ready JSON slices, in the database, so any app server can commit
@@ -44,11 +61,12 @@ export async function sha256Text(text: string): Promise<string> {
 export async function previewImport(
 	db: Db,
 	actor: Actor,
-	file: { name: string; content: string; bytes: number },
+	file: { name: string; content: string; bytes: number; data?: Uint8Array },
 	now = new Date(),
 	options: { commit?: boolean } = {}
 ): Promise<ImportResult & { committed?: boolean }> {
-	const sha256 = await sha256Text(file.content);
+	// The text's UTF-8 bytes, so the same digest either way.
+	const sha256 = file.data ? await sha256Bytes(file.data) : await sha256Text(file.content);
 	const [earlier] = await db
 		.select()
 		.from(imports)
@@ -89,7 +107,7 @@ export async function previewImport(
 			{
 				// As UTF-8 bytes (moved to the writer's thread, not copied), stored as text.
 				sql: 'INSERT INTO import_files (import_id, content) VALUES (last_insert_rowid(), CAST(? AS TEXT))',
-				args: [Buffer.from(file.content, 'utf8')]
+				args: [fileBytes(file)]
 			},
 			...rest,
 			claimPlanStatement(planKey, sha256),

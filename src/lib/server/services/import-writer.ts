@@ -11,7 +11,10 @@ import type { Db } from '$lib/server/db';
  * waits for messages. Through a remote libSQL server (`libsql://`, `http(s)://`) the client is
  * already asynchronous and is used as it is. Callers hold `withWriteLock` around every use,
  * so the worker never holds a transaction another writer of this process would wait on
- * inside SQLite.
+ * inside SQLite. The worker's connection does not checkpoint inside its COMMIT (SQLite's
+ * automatic checkpoint would copy a large import's tens of megabytes of WAL into the
+ * database file before the commit returns): it answers first, then runs a PASSIVE checkpoint
+ * (sqlite.org/wal.html#ckpt, sqlite.org/pragma.html#pragma_wal_checkpoint).
  */
 export interface StatementResult {
 	rowsAffected: number;
@@ -41,10 +44,14 @@ const WORKER_SOURCE = `
 const { parentPort, workerData } = require('node:worker_threads');
 const { createClient } = require('@libsql/client');
 const client = createClient({ url: workerData.url, timeout: 5000 });
+// This connection checkpoints after answering, not inside its COMMIT (see below).
+const ready = client.execute('PRAGMA wal_autocheckpoint = 0');
 let tx = null;
 const plain = (r) => ({ rowsAffected: r.rowsAffected, lastInsertRowid: r.lastInsertRowid ?? null });
 parentPort.on('message', async ({ id, op, stmt, stmts }) => {
+	let wrote = false;
 	try {
+		await ready;
 		let value = null;
 		if (op === 'execute') value = plain(await (tx ?? client).execute(stmt));
 		else if (op === 'batch') value = (await (tx ? tx.batch(stmts) : client.batch(stmts, 'write'))).map(plain);
@@ -52,12 +59,25 @@ parentPort.on('message', async ({ id, op, stmt, stmts }) => {
 		else if (op === 'commit') { const t = tx; tx = null; await t.commit(); }
 		else if (op === 'rollback') { const t = tx; tx = null; if (t) await t.rollback(); }
 		else if (op === 'close') { const t = tx; tx = null; if (t) t.close(); }
+		wrote = tx === null && (op === 'commit' || op === 'batch' || op === 'execute');
 		parentPort.postMessage({ id, value });
 	} catch (e) {
 		parentPort.postMessage({ id, error: { message: String(e && e.message), code: e && e.code } });
 	}
+	// The committed pages are copied into the database file after the caller has its answer
+	// (the commit itself is durable once the WAL is synced). PASSIVE: readers are not waited
+	// for and nothing is blocked; the next message waits for it.
+	if (wrote) await client.execute('PRAGMA wal_checkpoint(PASSIVE)').catch(() => {});
 });
 `;
+
+/**
+ * The worker's own heap: it holds one message's statements at a time (a few MB of plan slices;
+ * a stored file's bytes move in as a buffer, outside the heap), so a small heap that is
+ * collected early keeps the server's memory from growing with garbage (V8 lets a heap grow
+ * towards its limit before a full collection).
+ */
+const WORKER_LIMITS = { maxOldGenerationSizeMb: 64, maxYoungGenerationSizeMb: 8 };
 
 /** A worker is let go after this long without work (the next import starts another). */
 const IDLE_MS = 60_000;
@@ -75,7 +95,11 @@ class WorkerWriter implements ImportWriter {
 
 	#start(): Worker {
 		if (this.#worker) return this.#worker;
-		const w = new Worker(WORKER_SOURCE, { eval: true, workerData: { url: this.#url } });
+		const w = new Worker(WORKER_SOURCE, {
+			eval: true,
+			workerData: { url: this.#url },
+			resourceLimits: WORKER_LIMITS
+		});
 		w.on('message', ({ id, value, error }) => {
 			const p = this.#pending.get(id);
 			if (!p) return;

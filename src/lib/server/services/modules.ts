@@ -191,52 +191,66 @@ async function testEvents(db: Db, moduleId: number) {
 	}));
 }
 
+/**
+ * The record's own lookups, prepared once per database handle (`.prepare()` with
+ * placeholders): drizzle then builds their SQL once, not on every view of a record.
+ */
+function prepareRecordQueries(db: Db) {
+	const id = sql.placeholder('id');
+	return {
+		model: db.select().from(moduleModels).where(eq(moduleModels.id, id)).prepare(),
+		builder: db
+			.select({ name: users.name, email: users.email })
+			.from(users)
+			.where(eq(users.id, id))
+			.prepare(),
+		dealer: db
+			.select({ id: organisations.id, name: organisations.name, email: organisations.contactEmail })
+			.from(organisations)
+			.where(eq(organisations.id, id))
+			.prepare(),
+		events: db
+			.select()
+			.from(moduleEvents)
+			.where(eq(moduleEvents.moduleId, id))
+			.orderBy(desc(moduleEvents.at), desc(moduleEvents.id))
+			.prepare(),
+		placement: db
+			.select({ systemId: systems.id, system: systems.name, siteId: sites.id, site: sites.name })
+			.from(systems)
+			.innerJoin(sites, eq(systems.siteId, sites.id))
+			.where(eq(systems.id, id))
+			.prepare(),
+		claims: db
+			.select({
+				id: claims.id,
+				reference: claims.reference,
+				state: claims.state,
+				filedAt: claims.filedAt
+			})
+			.from(claimModules)
+			.innerJoin(claims, eq(claimModules.claimId, claims.id))
+			.where(eq(claimModules.moduleId, id))
+			.orderBy(desc(claims.filedAt))
+			.prepare()
+	};
+}
+const recordQueriesFor = new WeakMap<Db, ReturnType<typeof prepareRecordQueries>>();
+
 /** The full record for signed-in staff and the module's own dealer: module, model, builder, timeline. */
 export async function getModuleRecord(db: Db, actor: Actor, serialText: string) {
 	const mod = await findModule(db, actor, serialText);
-	const [model] = await db.select().from(moduleModels).where(eq(moduleModels.id, mod.modelId));
-	const [builder] = mod.builtBy
-		? await db
-				.select({ name: users.name, email: users.email })
-				.from(users)
-				.where(eq(users.id, mod.builtBy))
-		: [];
-	const [dealer] = mod.dealerOrgId
-		? await db
-				.select({
-					id: organisations.id,
-					name: organisations.name,
-					email: organisations.contactEmail
-				})
-				.from(organisations)
-				.where(eq(organisations.id, mod.dealerOrgId))
-		: [];
-	const stored = await db
-		.select()
-		.from(moduleEvents)
-		.where(eq(moduleEvents.moduleId, mod.id))
-		.orderBy(desc(moduleEvents.at), desc(moduleEvents.id));
+	let q = recordQueriesFor.get(db);
+	if (!q) recordQueriesFor.set(db, (q = prepareRecordQueries(db)));
+	const [model] = await q.model.execute({ id: mod.modelId });
+	const [builder] = mod.builtBy ? await q.builder.execute({ id: mod.builtBy }) : [];
+	const [dealer] = mod.dealerOrgId ? await q.dealer.execute({ id: mod.dealerOrgId }) : [];
+	const stored = await q.events.execute({ id: mod.id });
 	const events = [...stored, ...(await testEvents(db, mod.id))].sort(
 		(a, b) => b.at.getTime() - a.at.getTime() || b.id - a.id
 	);
-	const [placement] = mod.systemId
-		? await db
-				.select({ systemId: systems.id, system: systems.name, siteId: sites.id, site: sites.name })
-				.from(systems)
-				.innerJoin(sites, eq(systems.siteId, sites.id))
-				.where(eq(systems.id, mod.systemId))
-		: [];
-	const moduleClaims = await db
-		.select({
-			id: claims.id,
-			reference: claims.reference,
-			state: claims.state,
-			filedAt: claims.filedAt
-		})
-		.from(claimModules)
-		.innerJoin(claims, eq(claimModules.claimId, claims.id))
-		.where(eq(claimModules.moduleId, mod.id))
-		.orderBy(desc(claims.filedAt));
+	const [placement] = mod.systemId ? await q.placement.execute({ id: mod.systemId }) : [];
+	const moduleClaims = await q.claims.execute({ id: mod.id });
 	return {
 		module: {
 			...mod,

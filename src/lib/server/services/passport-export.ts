@@ -1,6 +1,6 @@
 import { and, asc, eq, gt } from 'drizzle-orm';
 import { Zip, ZipDeflate, strToU8 } from 'fflate';
-import type { Db } from '$lib/server/db';
+import { withWriteLock, type Db } from '$lib/server/db';
 import {
 	moduleCellLots,
 	moduleModels,
@@ -97,13 +97,15 @@ export async function exportPassports(
 		return rows;
 	}
 	const done = () =>
-		recordAudit(db, actor, {
-			action: 'passport.export',
-			entity: 'passport_export',
-			entityId: scope.label,
-			after: { format: input.format, tier, modules: count },
-			at: now
-		});
+		withWriteLock(db, () =>
+			recordAudit(db, actor, {
+				action: 'passport.export',
+				entity: 'passport_export',
+				entityId: scope.label,
+				after: { format: input.format, tier, modules: count },
+				at: now
+			})
+		);
 	const stamp = await businessDay(db, now);
 	if (input.format === 'jsonl') {
 		const enc = new TextEncoder();

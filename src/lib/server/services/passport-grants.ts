@@ -1,5 +1,5 @@
 import { and, desc, eq, sql } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import { writeTx, type Db } from '$lib/server/db';
 import { moduleCellLots, modules, passportGrants, users } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { SYSTEM_ACTOR } from '$lib/server/actor';
@@ -38,34 +38,37 @@ export async function issueGrant(
 	}
 	const { secret, tokenHash, prefix } = newSecret(GRANT_PREFIX);
 	const expiresAt = expiresAfter(now, input.days * 24);
-	const [row] = await db
-		.insert(passportGrants)
-		.values({
-			tokenHash,
-			prefix,
-			partyKind: input.partyKind,
-			partyName: input.partyName,
-			scopeKind: input.scopeKind,
-			scopeValue,
-			expiresAt,
-			createdBy: actor.userId!,
-			createdAt: now
-		})
-		.returning({ id: passportGrants.id });
-	await recordAudit(db, actor, {
-		action: 'passport_grant.issue',
-		entity: 'passport_grant',
-		entityId: row.id,
-		after: {
-			partyKind: input.partyKind,
-			partyName: input.partyName,
-			scopeKind: input.scopeKind,
-			scopeValue,
-			expiresAt
-		},
-		at: now
+	const id = await writeTx(db, async (tx) => {
+		const [row] = await tx
+			.insert(passportGrants)
+			.values({
+				tokenHash,
+				prefix,
+				partyKind: input.partyKind,
+				partyName: input.partyName,
+				scopeKind: input.scopeKind,
+				scopeValue,
+				expiresAt,
+				createdBy: actor.userId!,
+				createdAt: now
+			})
+			.returning({ id: passportGrants.id });
+		await recordAudit(tx, actor, {
+			action: 'passport_grant.issue',
+			entity: 'passport_grant',
+			entityId: row.id,
+			after: {
+				partyKind: input.partyKind,
+				partyName: input.partyName,
+				scopeKind: input.scopeKind,
+				scopeValue,
+				expiresAt
+			},
+			at: now
+		});
+		return row.id;
 	});
-	return { id: row.id, secret, expiresAt, scopeValue };
+	return { id, secret, expiresAt, scopeValue };
 }
 
 export async function listGrants(db: Db, limit = 200) {
@@ -152,17 +155,21 @@ export async function useGrant(
 		throw new ForbiddenError(
 			`This access link is for ${row.scopeKind === 'module' ? 'module' : 'cell lot'} ${row.scopeValue}, not for module ${mod.serial}.`
 		);
-	await db.update(passportGrants).set({ lastUsedAt: now }).where(eq(passportGrants.id, row.id));
-	await recordAudit(
-		db,
-		actor ?? { ...SYSTEM_ACTOR, label: `access link ${row.prefix}… (${row.partyName})` },
-		{
-			action: 'passport_grant.use',
-			entity: 'passport_grant',
-			entityId: row.id,
-			after: { serial: mod.serial, party: row.partyName },
-			at: now
-		}
-	);
+	// Every use is audited (who read which record), so it is written each time, with its last
+	// use, in one transaction queued with this process's writers (not busy-waiting on SQLite).
+	await writeTx(db, async (tx) => {
+		await tx.update(passportGrants).set({ lastUsedAt: now }).where(eq(passportGrants.id, row.id));
+		await recordAudit(
+			tx,
+			actor ?? { ...SYSTEM_ACTOR, label: `access link ${row.prefix}… (${row.partyName})` },
+			{
+				action: 'passport_grant.use',
+				entity: 'passport_grant',
+				entityId: row.id,
+				after: { serial: mod.serial, party: row.partyName },
+				at: now
+			}
+		);
+	});
 	return row;
 }

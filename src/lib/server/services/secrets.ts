@@ -6,7 +6,7 @@
  */
 import { createHash, randomBytes } from 'node:crypto';
 import { eq } from 'drizzle-orm';
-import type { Db } from '$lib/server/db';
+import { writeTx, type Db } from '$lib/server/db';
 import { apiTokens, passportGrants } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { ConflictError, NotFoundError } from '$lib/server/errors';
@@ -51,13 +51,16 @@ export async function revokeSecret<K extends Revocable>(
 	const [row] = (await db.select().from(table).where(eq(table.id, id))) as RowOf<K>[];
 	if (!row) throw new NotFoundError(words.notFound);
 	if (row.revokedAt) throw new ConflictError(words.already(row));
-	await db.update(table).set({ revokedAt: now }).where(eq(table.id, id));
-	await recordAudit(db, actor, {
-		action: words.action,
-		entity,
-		entityId: id,
-		before: { revokedAt: null },
-		after: { revokedAt: now },
-		at: now
+	// The change and its audit entry in one transaction, queued with this process's writers.
+	await writeTx(db, async (tx) => {
+		await tx.update(table).set({ revokedAt: now }).where(eq(table.id, id));
+		await recordAudit(tx, actor, {
+			action: words.action,
+			entity,
+			entityId: id,
+			before: { revokedAt: null },
+			after: { revokedAt: now },
+			at: now
+		});
 	});
 }

@@ -1,6 +1,6 @@
 import { desc, eq } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { withWriteLock } from '$lib/server/db';
+import { withWriteLock, writeTx } from '$lib/server/db';
 import { apiTokens, users } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { recordAudit } from './audit';
@@ -15,25 +15,28 @@ export const TOKEN_PREFIX = 'plk_';
  */
 export async function createToken(db: Db, actor: Actor, name: string, now = new Date()) {
 	const { secret, tokenHash, prefix } = newSecret(TOKEN_PREFIX);
-	const [row] = await db
-		.insert(apiTokens)
-		.values({
-			name,
-			tokenHash,
-			prefix,
-			scope: 'imports',
-			createdBy: actor.userId!,
-			createdAt: now
-		})
-		.returning({ id: apiTokens.id });
-	await recordAudit(db, actor, {
-		action: 'token.create',
-		entity: 'api_token',
-		entityId: row.id,
-		after: { name, scope: 'imports' },
-		at: now
+	const id = await writeTx(db, async (tx) => {
+		const [row] = await tx
+			.insert(apiTokens)
+			.values({
+				name,
+				tokenHash,
+				prefix,
+				scope: 'imports',
+				createdBy: actor.userId!,
+				createdAt: now
+			})
+			.returning({ id: apiTokens.id });
+		await recordAudit(tx, actor, {
+			action: 'token.create',
+			entity: 'api_token',
+			entityId: row.id,
+			after: { name, scope: 'imports' },
+			at: now
+		});
+		return row.id;
 	});
-	return { id: row.id, secret };
+	return { id, secret };
 }
 
 export async function listTokens(db: Db) {

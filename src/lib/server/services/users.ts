@@ -4,7 +4,7 @@
  */
 import { and, asc, eq, isNull, sql } from 'drizzle-orm';
 import type { Db } from '$lib/server/db';
-import { writeTx } from '$lib/server/db';
+import { withWriteLock, writeTx } from '$lib/server/db';
 import { organisations, users, userTokens, type Role } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { ConflictError, InvalidInputError, NotFoundError } from '$lib/server/errors';
@@ -158,10 +158,12 @@ export async function resendInvitation(
  * hook refuses any token issued with an older one, copies included (OWASP ASVS 4.0 V3.3.1).
  */
 export async function endSessions(db: Db, userId: number): Promise<void> {
-	await db
-		.update(users)
-		.set({ sessionVersion: sql`${users.sessionVersion} + 1` })
-		.where(eq(users.id, userId));
+	await withWriteLock(db, () =>
+		db
+			.update(users)
+			.set({ sessionVersion: sql`${users.sessionVersion} + 1` })
+			.where(eq(users.id, userId))
+	);
 }
 
 export async function listUsers(db: Db) {
