@@ -4,7 +4,11 @@
 // Targets (issue 17): every GET /api/modules case p95 < 20 ms at 4 clients; trace by lot
 // p95 < 50 ms. Bounded: REQUESTS per case, 127.0.0.1 on BENCH_PORT only.
 //
-//   npm run bench:fleet [-- --clients 4] [-- --requests 200] [-- --json]
+//   npm run bench:fleet [-- --clients 4] [-- --requests 200] [-- --no-page-cache] [-- --json]
+//
+// --no-page-cache runs the server with FLEET_PAGE_CACHE=0: every request reads its page from
+// the database (the counts are still kept), so the figures are those of the queries, not of
+// answers kept until the data changes.
 import { spawnSync } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 import { loadavg } from 'node:os';
@@ -19,6 +23,8 @@ const opt = (name, fallback) => {
 const CLIENTS = opt('--clients', Number(process.env.BENCH_CONCURRENCY ?? 4));
 const REQUESTS = Math.min(opt('--requests', 200), 2000);
 const asJson = args.includes('--json');
+const pageCache = !args.includes('--no-page-cache');
+const serverEnv = pageCache ? {} : { FLEET_PAGE_CACHE: '0' };
 const PORT = Number(process.env.BENCH_PORT ?? 4172);
 if (!Number.isInteger(CLIENTS) || CLIENTS < 1 || CLIENTS > 64) {
 	console.error('--clients takes a whole number from 1 to 64.');
@@ -81,7 +87,7 @@ async function fleetSize() {
 
 let server;
 if (process.env.BENCH_RESEED !== '1' && (await fleetSize()) >= FLEET)
-	server = await startBenchServer({ port: PORT, dbDir, seed: false, keep: true });
+	server = await startBenchServer({ port: PORT, dbDir, seed: false, keep: true, env: serverEnv });
 else {
 	console.log(`Seeding an invented fleet of ${FLEET.toLocaleString('en-GB')} modules…`);
 	server = await startBenchServer({ port: PORT, dbDir, seed: false });
@@ -92,7 +98,7 @@ else {
 		env: server.env
 	});
 	if (s.status !== 0) process.exit(1);
-	server = await startBenchServer({ port: PORT, dbDir, seed: false, keep: true });
+	server = await startBenchServer({ port: PORT, dbDir, seed: false, keep: true, env: serverEnv });
 }
 const out = [];
 try {
@@ -113,7 +119,7 @@ try {
 	);
 	c.close();
 	console.log(
-		`Fleet: ${first.total.toLocaleString('en-GB')} modules; ${CLIENTS} concurrent clients, ${REQUESTS} requests per case (ms); load ${loadavg()
+		`Fleet: ${first.total.toLocaleString('en-GB')} modules; ${CLIENTS} concurrent clients, ${REQUESTS} requests per case (ms); pages kept: ${pageCache ? 'yes' : 'no (FLEET_PAGE_CACHE=0)'}; load ${loadavg()
 			.map((l) => l.toFixed(2))
 			.join(' ')}`
 	);
@@ -172,6 +178,7 @@ if (asJson) {
 	console.log(
 		JSON.stringify({
 			clients: CLIENTS,
+			pageCache,
 			load: loadavg()[0],
 			cases: out.map((r) => ({
 				name: r.name,

@@ -16,6 +16,7 @@ import {
 	exportModules,
 	getColumnPrefs,
 	listModules,
+	listModulesJson,
 	setColumnPrefs,
 	type FleetItem
 } from '$lib/server/services/fleet';
@@ -383,6 +384,41 @@ describe('counts kept between requests', () => {
 		expect((await listModules(a, admin, q({ q: '900002' }))).items.map((i) => i.serial)).toEqual([
 			'PL12-26-900002X'
 		]);
+	});
+
+	it('keeps a whole page only for the same scope, view and data version', async () => {
+		const a = await createSeededDb();
+		const url = (await a.$client.execute('PRAGMA database_list')).rows[0].file as string;
+		const b = await openDb(`file:${url}`);
+		const workshop = await actorFor(a, 'workshop@tidewater.example');
+		const admin = await actorFor(a, 'admin@tidewater.example');
+		const salt = await actorFor(a, 'dealer@saltmarsh.example');
+		const ridge = await actorFor(a, 'dealer@ridgeline.example');
+		const made = await makeModules(a, workshop, { code: 'TC-HC-24', count: 4 });
+		await assignToDealer(a, made.slice(0, 2), 'Saltmarsh Solar');
+		await assignToDealer(a, made.slice(2), 'Ridgeline Off-Grid Supply');
+		const view = q({ sort: 'serial', dir: 'asc' });
+		const json = (actor: Actor, keep = true) => listModulesJson(a, actor, view, { keep });
+		const listed = async (actor: Actor) =>
+			(JSON.parse(await json(actor)) as { items: { serial: string; state: string }[] }).items;
+		// Each dealer's first request after the other's: their own units, never the other's page.
+		expect((await listed(salt)).map((i) => i.serial)).toEqual(made.slice(0, 2));
+		expect((await listed(ridge)).map((i) => i.serial)).toEqual(made.slice(2));
+		expect((await listed(salt)).map((i) => i.serial)).toEqual(made.slice(0, 2));
+		expect(await json(salt)).toBe(await json(salt, false));
+		// A change of a listed row by another app server (its own connection) shows at once:
+		// the kept page was of an older data version.
+		expect((await listed(salt))[0].state).toBe('shipped');
+		await b.$client.execute({
+			sql: `UPDATE modules SET state = 'installed' WHERE serial = ?`,
+			args: [made[0]]
+		});
+		expect((await listed(salt))[0].state).toBe('installed');
+		expect((await listed(admin)).find((i) => i.serial === made[0])?.state).toBe('installed');
+		// A write by this process's own pool too.
+		await a.update(modules).set({ state: 'returned' }).where(eq(modules.serial, made[1]));
+		expect((await listed(salt))[1].state).toBe('returned');
+		expect(await json(salt)).toBe(await json(salt, false));
 	});
 
 	it('gives instants exactly as Date.prototype.toISOString does (the JSON of a Date)', async () => {

@@ -1,14 +1,21 @@
-import { dataVersionSql, readerOf, type Db, type Reader } from '$lib/server/db';
+import { dataVersion, dataVersionSql, readerOf, type Db, type Reader } from '$lib/server/db';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { FLEET_STATES, type FleetQuery, type FleetSort } from '$lib/schemas/fleet';
 import { conditions, viewKey, whereOf, type Condition } from './fleet-filters';
-import { keptValues, NotKept, viewCache, type ViewCache } from './fleet-cache';
+import { keepPage, keptPage, viewCacheAt, type ViewCache } from './fleet-cache';
 
 /**
  * Up to this many matches are read through their filters' own index and sorted (a few ms);
  * more, and the page is read walking the sort's index in order, which stops after the page.
  */
 const FEW = 5000;
+
+/**
+ * Answered pages are kept until the data changes (fleet-cache.ts): the same view asked again,
+ * by anyone with the same scope, is one read of the data version. FLEET_PAGE_CACHE=0 turns it
+ * off (to measure the queries themselves: `npm run bench:fleet -- --no-page-cache`).
+ */
+const KEEP_PAGES = process.env.FLEET_PAGE_CACHE !== '0';
 
 type Indexed = 'serial' | 'builtAt' | 'testedAt' | 'shippedAt';
 type Grouped = 'state' | 'model' | 'dealer';
@@ -96,7 +103,8 @@ function columnOrder(sort: Indexed, dir: 'asc' | 'desc', walk: boolean) {
  * answers: `{ items, total, page, pageSize }`. A dealer's staff see only their own
  * organisation's modules, whatever filter is sent: the scope is a condition of every query.
  *
- * The count of the view is kept until the data changes (`viewCache`). Then, by sort:
+ * The whole answer is kept until the data changes (`keptPage`; `keep: false` reads afresh),
+ * and so is the count of the view (`viewCacheAt`). A page not kept is read, by sort:
  * - serial or a date, with up to FEW matches: the matches through their filters' indexes,
  *   sorted (e.g. a cell lot: its 1,500 modules by rowid, ~2 ms);
  * - serial or a date, more matches: walking the sort's index in order, the filters tested
@@ -110,21 +118,19 @@ export async function listModulesJson(
 	db: Db,
 	actor: Actor,
 	query: FleetQuery,
-	{ few = FEW }: { few?: number } = {}
+	{ few = FEW, keep = KEEP_PAGES }: { few?: number; keep?: boolean } = {}
 ): Promise<string> {
 	const { page, pageSize } = query;
 	const conds = conditions(query, dealerScopeOf(actor));
 	if (!conds) return `{"items":[],"total":0,"page":${page},"pageSize":${pageSize}}`;
-	// With every count kept, one statement: the page, and the data version in its snapshot;
-	// if a kept count is of an older version, again with the version read first.
-	const fast = keptValues(db);
-	try {
-		const r = await pageOf(db, conds, query, fast.cache, few);
-		if (fast.allOf(r.version)) return r.json;
-	} catch (e) {
-		if (!(e instanceof NotKept)) throw e;
-	}
-	return (await pageOf(db, conds, query, await viewCache(db), few)).json;
+	// The version first: everything read after it is of it or newer (see fleet-cache.ts).
+	const version = await dataVersion(db);
+	const key = `${viewKey('page', conds)}|${conds.some((c) => c.scope) ? 'scoped' : 'all'}|${query.sort}|${query.dir}|${page}|${pageSize}|${few}`;
+	const hit = keep ? keptPage(db, key, version) : undefined;
+	if (hit !== undefined) return hit;
+	const { json } = await pageOf(db, conds, query, viewCacheAt(db, version), few);
+	if (keep) keepPage(db, key, version, json);
+	return json;
 }
 
 /** The answer of `listModulesJson` with the data version the page was read at (null: none read). */

@@ -42,6 +42,21 @@ function conditions(q: TraceQuery, timeZone: string) {
  * item's module and dealer id (for the service notice).
  */
 export async function traceJson(db: Db, q: TraceQuery, internal = false): Promise<string> {
+	return (await keptTrace(db, q, internal)).json;
+}
+
+/**
+ * `traceJson` as UTF-8 bytes, for the API: encoding a lot's ~250 KB answer again for every
+ * request cost more of the event loop than finding it; the bytes are kept with the text.
+ */
+export async function traceJsonBytes(db: Db, q: TraceQuery): Promise<Uint8Array<ArrayBuffer>> {
+	const answer = await keptTrace(db, q, false);
+	return (answer.bytes ??= Buffer.from(answer.json, 'utf8'));
+}
+
+type Answer = { version: string | null; json: string; bytes?: Uint8Array<ArrayBuffer> };
+
+async function keptTrace(db: Db, q: TraceQuery, internal: boolean): Promise<Answer> {
 	// The answer is the same for every member of staff until the data changes: kept per data
 	// version (read first; see dataVersion), a few at a time (a lot's answer is ~250 KB).
 	const version = await dataVersion(db);
@@ -49,16 +64,16 @@ export async function traceJson(db: Db, q: TraceQuery, internal = false): Promis
 	let answers = answersOf.get(db);
 	if (!answers) answersOf.set(db, (answers = new Map()));
 	const hit = version === null ? undefined : answers.get(key);
-	if (hit && hit.version === version) return hit.json;
-	const json = await computeTrace(db, q, internal);
+	if (hit && hit.version === version) return hit;
+	const answer: Answer = { version, json: await computeTrace(db, q, internal) };
 	if (version !== null) {
 		answers.delete(key);
-		answers.set(key, { version, json });
+		answers.set(key, answer);
 		if (answers.size > 16) answers.delete(answers.keys().next().value!);
 	}
-	return json;
+	return answer;
 }
-const answersOf = new WeakMap<Db, Map<string, { version: string; json: string }>>();
+const answersOf = new WeakMap<Db, Map<string, Answer>>();
 
 async function computeTrace(db: Db, q: TraceQuery, internal: boolean): Promise<string> {
 	const { timeZone } = await assemblerCalendar(db);

@@ -12,7 +12,13 @@ import { sendMail } from '$lib/server/mail';
 import { fleetSearch } from '$lib/schemas/fleet';
 import { TRACE_LIMIT, traceModules } from './trace-query';
 
-export { TRACE_LIMIT, traceJson, traceModules, type TraceItem } from './trace-query';
+export {
+	TRACE_LIMIT,
+	traceJson,
+	traceJsonBytes,
+	traceModules,
+	type TraceItem
+} from './trace-query';
 
 export async function traceCsv(db: Db, q: TraceQuery): Promise<string> {
 	const { items } = await traceModules(db, q);

@@ -3,7 +3,7 @@ import { requireCan } from '$lib/server/auth/guards';
 import { getDb } from '$lib/server/db';
 import { traceQuerySchema } from '$lib/schemas/trace';
 import { parseQuery } from '$lib/server/validation';
-import { traceJson } from '$lib/server/services/trace';
+import { traceJsonBytes } from '$lib/server/services/trace';
 import type { RequestHandler } from './$types';
 
 /** Affected modules of a cell lot / model / build range / import, with counts per dealer. */
@@ -18,8 +18,8 @@ export const GET: RequestHandler = async (event) => {
 			},
 			{ status: 400 }
 		);
-	// Built as JSON text by SQLite (one value for 1,500 modules), sent as it is.
-	return new Response(await traceJson(await getDb(), parsed.data), {
+	// Built as JSON text by SQLite (one value for 1,500 modules), sent as the bytes kept with it.
+	return new Response(await traceJsonBytes(await getDb(), parsed.data), {
 		headers: { 'content-type': 'application/json' }
 	});
 };
