@@ -4,11 +4,16 @@
 // Targets (issue 17): every GET /api/modules case p95 < 20 ms at 4 clients; trace by lot
 // p95 < 50 ms. Bounded: REQUESTS per case, 127.0.0.1 on BENCH_PORT only.
 //
-//   npm run bench:fleet [-- --clients 4] [-- --requests 200] [-- --no-page-cache] [-- --json]
+//   npm run bench:fleet [-- --clients 4] [-- --requests 200] [-- --no-page-cache]
+//                       [-- --processes N] [-- --warmup 20] [-- --json]
+//
+// Every case is first asked --warmup times untimed (0: none), then --requests times measured.
 //
 // --no-page-cache runs the server with FLEET_PAGE_CACHE=0: every request reads its page from
 // the database (the counts are still kept), so the figures are those of the queries, not of
-// answers kept until the data changes.
+// answers kept until the data changes. --processes N serves the build as N worker processes
+// behind the one port (scripts/cluster.js, `npm run start:cluster`); the default, 0, is one
+// `node build` process. Server CPU is then the sum over the primary and its workers.
 import { spawnSync } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 import { loadavg } from 'node:os';
@@ -22,6 +27,7 @@ const opt = (name, fallback) => {
 };
 const CLIENTS = opt('--clients', Number(process.env.BENCH_CONCURRENCY ?? 4));
 const REQUESTS = Math.min(opt('--requests', 200), 2000);
+const WARMUP = Math.min(opt('--warmup', 20), 2000);
 const asJson = args.includes('--json');
 const pageCache = !args.includes('--no-page-cache');
 const serverEnv = pageCache ? {} : { FLEET_PAGE_CACHE: '0' };
@@ -31,26 +37,39 @@ if (!Number.isInteger(CLIENTS) || CLIENTS < 1 || CLIENTS > 64) {
 	process.exit(2);
 }
 const dbDir = 'data/bench-fleet';
+const PROCESSES = opt('--processes', 0);
+if (!Number.isInteger(PROCESSES) || PROCESSES < 0 || PROCESSES > 16) {
+	console.error('--processes takes a whole number from 0 (one `node build`) to 16.');
+	process.exit(2);
+}
+const serve = { port: PORT, dbDir, seed: false, keep: true, env: serverEnv, processes: PROCESSES };
 const FLEET = 200_000;
 const errors = new Set();
 
-/** The server's CPU time so far (user + system, ms), from /proc: a figure the machine's load does not inflate. */
+/**
+ * The server's CPU time so far (user + system, ms), from /proc, with its child processes'
+ * (the workers of --processes): a figure the machine's load does not inflate.
+ */
 const cpuMs = (pid) => {
 	try {
 		const f = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1].split(' ');
-		return ((Number(f[11]) + Number(f[12])) * 1000) / 100; // utime, stime in 1/100 s (USER_HZ)
+		const own = ((Number(f[11]) + Number(f[12])) * 1000) / 100; // utime, stime in 1/100 s (USER_HZ)
+		const children = readFileSync(`/proc/${pid}/task/${pid}/children`, 'utf8')
+			.split(' ')
+			.filter(Boolean);
+		return children.reduce((sum, c) => sum + cpuMs(Number(c)), own);
 	} catch {
 		return NaN;
 	}
 };
 
-async function load(origin, path, cookie) {
+async function load(origin, path, cookie, requests = REQUESTS) {
 	const cpu0 = cpuMs(server.proc.pid);
 	const times = [];
 	let next = 0;
 	let failures = 0;
 	const worker = async () => {
-		while (next < REQUESTS) {
+		while (next < requests) {
 			next++;
 			const t0 = performance.now();
 			try {
@@ -69,7 +88,7 @@ async function load(origin, path, cookie) {
 	await Promise.all(Array.from({ length: CLIENTS }, worker));
 	times.sort((a, b) => a - b);
 	const q = (p) => times[Math.min(times.length - 1, Math.ceil(p * times.length) - 1)];
-	const cpu = (cpuMs(server.proc.pid) - cpu0) / REQUESTS;
+	const cpu = (cpuMs(server.proc.pid) - cpu0) / requests;
 	return { p50: q(0.5), p95: q(0.95), p99: q(0.99), max: times.at(-1), cpu, failures };
 }
 
@@ -87,7 +106,7 @@ async function fleetSize() {
 
 let server;
 if (process.env.BENCH_RESEED !== '1' && (await fleetSize()) >= FLEET)
-	server = await startBenchServer({ port: PORT, dbDir, seed: false, keep: true, env: serverEnv });
+	server = await startBenchServer(serve);
 else {
 	console.log(`Seeding an invented fleet of ${FLEET.toLocaleString('en-GB')} modules…`);
 	server = await startBenchServer({ port: PORT, dbDir, seed: false });
@@ -98,7 +117,7 @@ else {
 		env: server.env
 	});
 	if (s.status !== 0) process.exit(1);
-	server = await startBenchServer({ port: PORT, dbDir, seed: false, keep: true, env: serverEnv });
+	server = await startBenchServer(serve);
 }
 const out = [];
 try {
@@ -119,7 +138,7 @@ try {
 	);
 	c.close();
 	console.log(
-		`Fleet: ${first.total.toLocaleString('en-GB')} modules; ${CLIENTS} concurrent clients, ${REQUESTS} requests per case (ms); pages kept: ${pageCache ? 'yes' : 'no (FLEET_PAGE_CACHE=0)'}; load ${loadavg()
+		`Fleet: ${first.total.toLocaleString('en-GB')} modules; ${CLIENTS} concurrent clients, ${REQUESTS} requests per case (ms); pages kept: ${pageCache ? 'yes' : 'no (FLEET_PAGE_CACHE=0)'}; ${PROCESSES ? `${PROCESSES} worker processes (cluster)` : 'one process'}; load ${loadavg()
 			.map((l) => l.toFixed(2))
 			.join(' ')}`
 	);
@@ -149,6 +168,12 @@ try {
 		['dealer (scoped), sort serial', `${m}&sort=serial&dir=asc`, dealer],
 		['dealer (scoped), state by model', `${m}&state=installed&sort=model`, dealer]
 	];
+	// Untimed first: every case WARMUP times (JIT, the database's pages in memory, every worker
+	// of a cluster), so each case is measured in the steady state, not the first one's start.
+	const tracePath = `/api/trace?lot=${encodeURIComponent(lot)}`;
+	if (WARMUP > 0)
+		for (const [, path, cookie] of [...cases, ['trace', tracePath, admin]])
+			await load(server.origin, path, cookie, WARMUP);
 	for (const [name, path, cookie] of cases) {
 		const r = await load(server.origin, path, cookie);
 		out.push({ name, ...r });
@@ -156,8 +181,8 @@ try {
 			`${name.padEnd(34)} p50 ${r.p50.toFixed(1).padStart(6)}  p95 ${r.p95.toFixed(1).padStart(6)}  p99 ${r.p99.toFixed(1).padStart(6)}  max ${r.max.toFixed(1).padStart(6)}  server CPU ${r.cpu.toFixed(2)} ms/req${r.failures ? `  FAILURES ${r.failures}` : ''}`
 		);
 	}
-	const tr = await get(`/api/trace?lot=${encodeURIComponent(lot)}`);
-	const t = await load(server.origin, `/api/trace?lot=${encodeURIComponent(lot)}`, admin);
+	const tr = await get(tracePath);
+	const t = await load(server.origin, tracePath, admin);
 	const traceName = `trace by cell lot (${tr.total} modules)`;
 	out.push({ name: traceName, ...t });
 	console.log(
@@ -179,6 +204,7 @@ if (asJson) {
 		JSON.stringify({
 			clients: CLIENTS,
 			pageCache,
+			processes: PROCESSES,
 			load: loadavg()[0],
 			cases: out.map((r) => ({
 				name: r.name,

@@ -9,7 +9,8 @@ export async function startBenchServer({
 	dbDir = 'data/bench',
 	seed = true,
 	keep = false,
-	env: extra = {}
+	env: extra = {},
+	processes = 0
 } = {}) {
 	// BENCH_BUILD serves a copy of the build, so a rebuild during a long run does not change it.
 	const build = process.env.BENCH_BUILD || 'build';
@@ -41,7 +42,14 @@ export async function startBenchServer({
 	await assertPortFree(port);
 	// BENCH_NODE_ARGS passes flags to the server's node, e.g. "--cpu-prof --cpu-prof-dir=tmp/prof".
 	const nodeArgs = (process.env.BENCH_NODE_ARGS ?? '').split(' ').filter(Boolean);
-	const proc = spawn('node', [...nodeArgs, build], { stdio: ['ignore', 'ignore', 'inherit'], env });
+	// processes > 0: the build behind one port as that many workers (scripts/cluster.js).
+	const proc =
+		processes > 0
+			? spawn('node', [...nodeArgs, 'scripts/cluster.js'], {
+					stdio: ['ignore', 'ignore', 'inherit'],
+					env: { ...env, PACKLEDGER_PROCESSES: String(processes), PACKLEDGER_BUILD: build }
+				})
+			: spawn('node', [...nodeArgs, build], { stdio: ['ignore', 'ignore', 'inherit'], env });
 	let stopping = false;
 	// A server that dies under load says so (and how), rather than surfacing as a client's ECONNRESET.
 	proc.once('exit', (code, signal) => {
