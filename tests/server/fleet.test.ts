@@ -373,6 +373,8 @@ describe('counts kept between requests', () => {
 		// A write through this process's own pool …
 		await makeModules(a, workshop, { code: 'TC-HC-12', count: 2 });
 		expect(await count(a)).toBe(2);
+		// Text inside a serial that nothing has yet: its (empty) list of matches is kept now.
+		expect((await listModules(a, admin, q({ q: '900002' }))).total).toBe(0);
 		// … and one by another process (its own client on the same file).
 		expect(await count(b)).toBe(2);
 		await b.$client.execute({

@@ -1,4 +1,6 @@
 import type { FleetQuery } from '$lib/schemas/fleet';
+import type { Reader } from '$lib/server/db';
+import type { ViewCache } from './fleet-cache';
 
 /**
  * The filters of a fleet view as SQL over `modules` (no alias), written by hand: drizzle's
@@ -12,6 +14,10 @@ export type Condition = {
 	/** state, model, dealer (a filter or the dealer scope), builtAt range, serial range, or an id list. */
 	on: 'state' | 'model' | 'dealer' | 'builtAt' | 'serial' | 'list';
 	scope?: boolean;
+	/** Text inside a serial looked up in the trigram index: the LIKE pattern (see `containsCondition`). */
+	trigram?: string;
+	/** What `viewKey` keys the condition by, when its SQL and arguments are not it (a resolved list). */
+	key?: string;
 };
 
 /** Days are UTC days: `builtTo` 2026-03-31 includes everything built before 2026-04-01T00:00Z. */
@@ -45,7 +51,8 @@ function containsCondition(text: string): Condition {
 		return {
 			on: 'list',
 			sql: `modules.id IN (SELECT rowid FROM module_serial_search WHERE serial LIKE ?)`,
-			args: [`%${text}%`]
+			args: [`%${text}%`],
+			trigram: `%${text}%`
 		};
 	return { on: 'list', sql: `instr(modules.serial, ?) > 0`, args: [text] };
 }
@@ -111,4 +118,38 @@ export function whereOf(conds: Condition[], ...extra: Condition[]) {
 
 /** The key a view's counts are kept under: the same filters give the same key, whatever the page or sort. */
 export const viewKey = (kind: string, conds: Condition[]) =>
-	`${kind}|${conds.map((c) => c.sql).join('&')}|${JSON.stringify(conds.flatMap((c) => c.args))}`;
+	`${kind}|${conds.map((c) => c.key ?? `${c.sql}${JSON.stringify(c.args)}`).join('&')}`;
+
+/**
+ * Text inside a serial: its matches are kept per data version as a JSON list of ids, and the
+ * condition reads that list. With FTS5's `detail=none` the trigram index gives the rows that
+ * have every trigram of the text, and LIKE then reads each of them again to check the text
+ * itself (sqlite.org/fts5.html §4.3.5): ~2 ms for the 689 serials with "0012" among 200,000,
+ * the count ~3 ms (EXPLAIN QUERY PLAN: `SCAN module_serial_search VIRTUAL TABLE INDEX 0:L0`).
+ * Kept, the count and every page and sort of the same text read the list (a few hundred µs).
+ */
+export async function keptMatches(
+	client: Reader,
+	cache: ViewCache,
+	conds: Condition[]
+): Promise<Condition[]> {
+	return Promise.all(
+		conds.map(async (c) => {
+			if (c.trigram === undefined) return c;
+			const pattern = c.trigram;
+			const ids = await cache(`matches|${pattern}`, async () => {
+				const r = await client.execute({
+					sql: 'SELECT json_group_array(rowid) FROM module_serial_search WHERE serial LIKE ?',
+					args: [pattern]
+				});
+				return String(r.rows[0][0]);
+			});
+			return {
+				on: c.on,
+				sql: 'modules.id IN (SELECT value FROM json_each(?))',
+				args: [ids],
+				key: `${c.sql}${JSON.stringify(c.args)}`
+			};
+		})
+	);
+}

@@ -1,7 +1,7 @@
 import { dataVersion, dataVersionSql, readerOf, type Db, type Reader } from '$lib/server/db';
 import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { FLEET_STATES, type FleetQuery, type FleetSort } from '$lib/schemas/fleet';
-import { conditions, viewKey, whereOf, type Condition } from './fleet-filters';
+import { conditions, keptMatches, viewKey, whereOf, type Condition } from './fleet-filters';
 import { keepPage, keptPage, viewCacheAt, type ViewCache } from './fleet-cache';
 
 /**
@@ -128,7 +128,9 @@ export async function listModulesJson(
 	const key = `${viewKey('page', conds)}|${conds.some((c) => c.scope) ? 'scoped' : 'all'}|${query.sort}|${query.dir}|${page}|${pageSize}|${few}`;
 	const hit = keep ? keptPage(db, key, version) : undefined;
 	if (hit !== undefined) return hit;
-	const { json } = await pageOf(db, conds, query, viewCacheAt(db, version), few);
+	const cache = viewCacheAt(db, version);
+	const resolved = await keptMatches(readerOf(db), cache, conds);
+	const { json } = await pageOf(db, resolved, query, cache, few);
 	if (keep) keepPage(db, key, version, json);
 	return json;
 }
