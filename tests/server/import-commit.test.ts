@@ -9,7 +9,9 @@ import { sha256Text } from '$lib/server/services/import-preview';
 import { CHUNK_ROWS } from '$lib/server/services/import-analysis';
 import type { Actor } from '$lib/server/actor';
 import { actorFor, createSeededDb } from '../factories/db';
-import { makeModules } from '../factories/modules';
+import { assignToDealer, makeModules } from '../factories/modules';
+import { PLAN_ROW_SPAN } from '$lib/server/services/import-plans';
+import { INSERT_STAGED_SQL, STATE_STAGED_SQL } from '$lib/server/services/imports';
 
 const HEADER =
 	'serial,tested_at,capacity_ah,energy_wh,dcir_mohm,ocv_v,cell_spread_mv,insulation_mohm,ambient_c,rig,operator';
@@ -168,6 +170,152 @@ describe('the commit in plan slices', () => {
 		expect((await db.select({ id: importPlanChunks.id }).from(importPlanChunks)).length).toBe(
 			before
 		);
+	});
+});
+
+describe('the plan staged as table rows (files of more than eight slices)', () => {
+	let three: string[];
+	beforeAll(async () => {
+		three = await makeModules(db, workshop, { count: 3, built: 3 });
+	});
+	const rowsOf = (n: number, offset: number, failAt = -1) =>
+		Array.from({ length: n }, (_, i) => line(three[i % 3], offset + i, i === failAt ? 44 : 46.8));
+	/** Staged rows and states of an import's plan slices (ids are slice id × PLAN_ROW_SPAN + place). */
+	const staged = async (importId: number) => {
+		const r = await db.$client.execute({
+			sql: `SELECT (SELECT count(*) FROM import_plan_rows WHERE id / ${PLAN_ROW_SPAN} IN (SELECT id FROM import_plan_chunks WHERE import_id = ?1)) AS r,
+			             (SELECT count(*) FROM import_plan_states WHERE id / ${PLAN_ROW_SPAN} IN (SELECT id FROM import_plan_chunks WHERE import_id = ?1)) AS s`,
+			args: [importId]
+		});
+		return { rows: Number(r.rows[0].r), states: Number(r.rows[0].s) };
+	};
+	const allStaged = async () => {
+		const r = await db.$client.execute(
+			'SELECT (SELECT count(*) FROM import_plan_rows) AS r, (SELECT count(*) FROM import_plan_states) AS s'
+		);
+		return { rows: Number(r.rows[0].r), states: Number(r.rows[0].s) };
+	};
+
+	it('stages the first eight slices as rows, keeps the rest as JSON, and stores both kinds', async () => {
+		const n = CHUNK_ROWS * 9 + 5;
+		// Module 0's last row fails (44 Ah, below TC-HC-48's 45 Ah minimum), in the last
+		// (JSON) slice; module 1's last row passes.
+		const lastOf0 = n - 1 - ((n - 1) % 3);
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'staged.csv', content: csv(rowsOf(n, 10_000, lastOf0)), bytes: 0 },
+			NOW
+		);
+		expect(p.import).toMatchObject({ accepted: n, failed: 1 });
+		// Eight slices of 1,000 rows staged (3 modules → 3 states each); two kept as JSON.
+		expect(await staged(p.import.id)).toEqual({ rows: CHUNK_ROWS * 8, states: 8 * 3 });
+		const kept = await db
+			.select()
+			.from(importPlanChunks)
+			.where(eq(importPlanChunks.importId, p.import.id));
+		expect(kept.filter((k) => k.rows === '[]').map((k) => k.seq)).toEqual([0, 1, 2, 3, 4, 5, 6, 7]);
+		expect(kept.filter((k) => k.rows !== '[]').map((k) => k.seq)).toEqual([8, 9]);
+
+		const c = await commitImport(db, workshop, p.import.id, NOW);
+		expect(c.import).toMatchObject({ status: 'committed', accepted: n, passed: n - 1, failed: 1 });
+		const stored = await db
+			.select({ rowKey: factoryTests.rowKey, capacityAh: factoryTests.capacityAh })
+			.from(factoryTests)
+			.where(eq(factoryTests.importId, p.import.id));
+		expect(stored).toHaveLength(n);
+		// A staged row arrives as it was read: serial, time and rig in its key, its capacity.
+		const firstKey = `${three[0]}\u001f${Date.parse(at(10_000))}\u001fRIG-2`;
+		expect(stored.find((r) => r.rowKey === firstKey)?.capacityAh).toBe(46.8);
+		const state = async (s: string) =>
+			(await db.select().from(modules).where(eq(modules.serial, s)))[0];
+		expect((await state(three[0])).state).toBe('test_failed');
+		expect((await state(three[0])).testedAt?.toISOString()).toBe(at(10_000 + lastOf0));
+		expect((await state(three[1])).state).toBe('in_stock');
+		// The slices and their staged rows are gone (trigger import_plan_chunks_drop_staged).
+		expect(await staged(p.import.id)).toEqual({ rows: 0, states: 0 });
+		expect(await allStaged()).toEqual({ rows: 0, states: 0 });
+	});
+
+	it('a staged row that cannot be stored rolls the whole import back and keeps its plan', async () => {
+		const n = CHUNK_ROWS * 8 + 2;
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'staged-broken.csv', content: csv(rowsOf(n, 30_000)), bytes: 0 },
+			NOW
+		);
+		const before = (await db.select({ id: factoryTests.id }).from(factoryTests)).length;
+		const [m0] = await db.select().from(modules).where(eq(modules.serial, three[0]));
+		// A row of the sixth slice loses its key: factory_tests refuses it (NOT NULL), after
+		// five slices' rows and states were written inside the transaction.
+		await db.$client.execute({
+			sql: `UPDATE import_plan_rows SET row_key = NULL
+			      WHERE id = (SELECT id FROM import_plan_chunks WHERE import_id = ? AND seq = 5) * ${PLAN_ROW_SPAN} + 7`,
+			args: [p.import.id]
+		});
+		await expect(commitImport(db, workshop, p.import.id, NOW)).rejects.toThrow(/NOT NULL/i);
+		expect((await db.select({ id: factoryTests.id }).from(factoryTests)).length).toBe(before);
+		const [m0After] = await db.select().from(modules).where(eq(modules.serial, three[0]));
+		expect(m0After).toMatchObject({ state: m0.state, testedAt: m0.testedAt });
+		const [row] = await db.select().from(imports).where(eq(imports.id, p.import.id));
+		expect(row.status).toBe('previewed');
+		expect(await staged(p.import.id)).toEqual({ rows: CHUNK_ROWS * 8, states: 8 * 3 });
+	});
+
+	it('a module that left the workshop since the preview gets none of its staged rows', async () => {
+		const [extra] = await makeModules(db, workshop, { count: 1, built: 1 });
+		// Rows of three modules and the extra one, the extra one's only in staged slices.
+		const rows = rowsOf(CHUNK_ROWS * 8 + 3, 50_000);
+		for (let i = 0; i < 40; i++) rows.splice(i * 100, 0, line(extra, 70_000 + i));
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'staged-left.csv', content: csv(rows), bytes: 0 },
+			NOW
+		);
+		expect(p.import.accepted).toBe(rows.length);
+		await assignToDealer(db, [extra], 'Saltmarsh Solar');
+		const [shipped] = await db.select().from(modules).where(eq(modules.serial, extra));
+		const c = await commitImport(db, workshop, p.import.id, NOW);
+		expect(c.import).toMatchObject({ status: 'committed', accepted: rows.length - 40 });
+		const [m] = await db.select().from(modules).where(eq(modules.serial, extra));
+		expect(m).toMatchObject({ state: shipped.state, testedAt: shipped.testedAt });
+		const mine = await db.$client.execute({
+			sql: 'SELECT count(*) AS n FROM factory_tests WHERE module_id = ?',
+			args: [m.id]
+		});
+		expect(Number(mine.rows[0].n)).toBe(0);
+	});
+
+	it('a refused file leaves no staged rows behind', async () => {
+		const before = await allStaged();
+		const rows = rowsOf(CHUNK_ROWS * 9, 110_000);
+		// The unclosed quote comes after nine slices, eight of them already staged.
+		rows.push(`${three[0]},"${at(999_998)},46.8,2390,5.1,51.2,8,500,22.5,RIG-2,T.Vale`);
+		await expect(
+			previewImport(db, workshop, { name: 'staged-quote.csv', content: csv(rows), bytes: 0 }, NOW)
+		).rejects.toThrow(/never closed/);
+		expect(await allStaged()).toEqual(before);
+	});
+
+	it('reads a staged slice by primary-key range and each module by primary key', async () => {
+		// EXPLAIN QUERY PLAN (sqlite.org/eqp.html): the staged rows are one rowid range, so
+		// neither statement scans the staging tables or starts at a modules index.
+		const fresh = await createSeededDb();
+		const plan = async (sql: string) =>
+			(await fresh.$client.execute({ sql: `EXPLAIN QUERY PLAN ${sql}`, args: [1, 1] })).rows.map(
+				(r) => String(r.detail)
+			);
+		const insert = await plan(INSERT_STAGED_SQL);
+		expect(insert[0]).toMatch(/^SEARCH p USING INTEGER PRIMARY KEY \(rowid>\? AND rowid<\?\)/);
+		expect(insert).toContain('SEARCH modules USING INTEGER PRIMARY KEY (rowid=?)');
+		const update = await plan(STATE_STAGED_SQL);
+		expect(update[0]).toMatch(
+			/import_plan_states USING INTEGER PRIMARY KEY \(rowid>\? AND rowid<\?\)/
+		);
+		expect(update).toContain('SEARCH modules USING INTEGER PRIMARY KEY (rowid=?)');
+		expect(update.join('\n')).not.toMatch(/modules USING (COVERING )?INDEX/);
 	});
 });
 
