@@ -396,41 +396,6 @@ export const importPlanChunks = sqliteTable(
 	]
 );
 
-/**
- * A plan slice's accepted rows, one table row each, in factory_tests' column order (staged
- * while the preview reads the file, so the commit copies rows from table to table instead of
- * decoding JSON). The id is the slice's id × PLAN_ROW_SPAN + the row's place in the slice:
- * a slice's rows are one primary-key range (no index to keep). Dropped with their slice by the
- * trigger `import_plan_chunks_drop_staged`. Staging, written only from the plan: no constraints
- * (factory_tests' own apply when a row is stored).
- */
-export const importPlanRows = sqliteTable('import_plan_rows', {
-	id: integer('id').primaryKey(),
-	moduleId: integer('module_id'),
-	rowKey: text('row_key'),
-	testedAt: integer('tested_at'),
-	capacityAh: real('capacity_ah'),
-	energyWh: real('energy_wh'),
-	dcirMohm: real('dcir_mohm'),
-	dcirSource: text('dcir_source'),
-	ocvV: real('ocv_v'),
-	cellSpreadMv: real('cell_spread_mv'),
-	insulationMohm: real('insulation_mohm'),
-	ambientC: real('ambient_c'),
-	rig: text('rig'),
-	operator: text('operator'),
-	outcome: text('outcome'),
-	failures: text('failures')
-});
-
-/** A plan slice's latest result per module (id as in `importPlanRows`). Staging: no constraints. */
-export const importPlanStates = sqliteTable('import_plan_states', {
-	id: integer('id').primaryKey(),
-	moduleId: integer('module_id'),
-	outcome: text('outcome'),
-	testedAt: integer('tested_at')
-});
-
 export const factoryTests = sqliteTable(
 	'factory_tests',
 	{

@@ -6,7 +6,7 @@ import { importFiles, imports } from '$lib/server/db/schema';
 import type { Actor } from '$lib/server/actor';
 import { NotFoundError } from '$lib/server/errors';
 import { analyseFactoryFile, PLAN_COLUMNS, TESTABLE_SQL, type PreviewRow } from './import-analysis';
-import { PLAN_ROW_SPAN, planChunkIds, planWriter } from './import-plans';
+import { planChunkIds, planWriter } from './import-plans';
 import { summary, type ImportResult } from './import-summary';
 import { importWriter, type WriteTx } from './import-writer';
 
@@ -30,31 +30,6 @@ export const INSERT_CHUNK_SQL = `WITH r AS MATERIALIZED (
 	FROM r
 	WHERE (SELECT state FROM modules WHERE id = ${field(0)}) IN ${TESTABLE_SQL}
 	  AND NOT EXISTS (SELECT 1 FROM factory_tests f WHERE f.row_key = ${field(1)})`;
-
-/** A staged slice's rows (`import_plan_rows`), one primary-key range: `?1` the slice's id. */
-const stagedRange = `BETWEEN ?1 * ${PLAN_ROW_SPAN} AND ?1 * ${PLAN_ROW_SPAN} + ${PLAN_ROW_SPAN - 1}`;
-
-/**
- * A staged slice into factory_tests, copied from table to table (nothing to decode), with the
- * same two guards as INSERT_CHUNK_SQL: the module is still in the workshop, the row is not
- * stored yet. A slice kept as JSON has no staged rows (and a staged one `[]` as JSON), so the
- * commit runs both statements for every slice.
- */
-export const INSERT_STAGED_SQL = `INSERT INTO factory_tests (${TEST_COLUMNS})
-	SELECT p.module_id, ?2, ${PLAN_COLUMNS.slice(1)
-		.map((c) => `p.${c}`)
-		.join(', ')}
-	FROM import_plan_rows AS p
-	WHERE p.id ${stagedRange}
-	  AND (SELECT state FROM modules WHERE id = p.module_id) IN ${TESTABLE_SQL}
-	  AND NOT EXISTS (SELECT 1 FROM factory_tests f WHERE f.row_key = p.row_key)`;
-
-/** Each module's new state from a staged slice (as STATE_UPDATE_SQL; `?2` the time, `?1` the slice). */
-export const STATE_STAGED_SQL = `UPDATE modules SET state = CASE s.outcome WHEN 'pass' THEN 'in_stock' ELSE 'test_failed' END,
-	  test_outcome = s.outcome, tested_at = s.tested_at, updated_at = ?2
-	FROM (SELECT module_id, outcome, tested_at FROM import_plan_states WHERE id ${stagedRange}) AS s
-	WHERE modules.id = s.module_id AND +modules.state IN ${TESTABLE_SQL}
-	  AND (modules.tested_at IS NULL OR modules.tested_at <= s.tested_at)`;
 
 /**
  * Each module's new state from a plan slice. The unary `+` keeps SQLite from starting at the
@@ -169,16 +144,12 @@ export async function storePlan(
 	if (claimed.rowsAffected === 0) return false;
 	let stored = 0;
 	for (const chunk of chunks) {
-		// A slice is staged (table rows) or kept as JSON: the other kind's statements find nothing.
-		// Deleting the slice deletes its staged rows (trigger import_plan_chunks_drop_staged).
-		const [staged, kept] = await tx.batch([
-			{ sql: INSERT_STAGED_SQL, args: [chunk, importId] },
+		const [inserted] = await tx.batch([
 			{ sql: INSERT_CHUNK_SQL, args: [chunk, importId] },
-			{ sql: STATE_STAGED_SQL, args: [chunk, now.getTime()] },
 			{ sql: STATE_UPDATE_SQL, args: [now.getTime(), chunk] },
 			{ sql: 'DELETE FROM import_plan_chunks WHERE id = ?', args: [chunk] }
 		]);
-		stored += staged.rowsAffected + kept.rowsAffected;
+		stored += inserted.rowsAffected;
 		// Through the in-process client, the event loop gets a turn between slices.
 		await breathe();
 	}

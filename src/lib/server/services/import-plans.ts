@@ -1,7 +1,7 @@
 import type { InStatement } from '@libsql/client';
 import type { Db } from '$lib/server/db';
 import { withWriteLock } from '$lib/server/db';
-import { PLAN_COLUMNS, type PlanChunk } from './import-analysis';
+import type { PlanChunk } from './import-analysis';
 import { importWriter } from './import-writer';
 
 /** A plan no import row ever claimed (a preview that failed or a server that stopped) is dropped after this long. */
@@ -10,52 +10,16 @@ const ORPHAN_MS = 60 * 60 * 1000;
 /** Plan slices written together (about 2 MB): a small file's plan goes with the preview's last batch. */
 const SLICES_PER_WRITE = 8;
 
-/** A slice held whole: its rows and states as JSON in the slice's own row (a small file's plan). */
 const insertSlice = (planKey: string, chunk: PlanChunk, now: Date): InStatement => ({
 	sql: 'INSERT INTO import_plan_chunks (plan_key, seq, rows, states, created_at) VALUES (?, ?, ?, ?, ?)',
 	args: [planKey, chunk.seq, chunk.rows, chunk.states, now.getTime()]
 });
 
 /**
- * A staged row's id: its slice's id × PLAN_ROW_SPAN + its place in the slice, so a slice's
- * rows are one primary-key range (see `importPlanRows`; the migration's trigger uses the
- * same number). More than CHUNK_ROWS.
- */
-export const PLAN_ROW_SPAN = 1 << 20;
-
-/** The first id of a slice's staged rows, from the slice's plan key and place (evaluated once). */
-const sliceBase = `(SELECT id FROM import_plan_chunks WHERE plan_key = ?2 AND seq = ?3) * ${PLAN_ROW_SPAN}`;
-
-/**
- * Decodes a slice's JSON once, on the writer's thread while the file is still being read,
- * into one table row per accepted row: the commit then copies rows from table to table
- * (measured on 100,000 rows: 0.85 s instead of 2.1–2.8 s decoding JSON in the commit, which
- * holds the write transaction). `jsonb(value)` once per row, then `b ->> i` (see DEVELOPERS.md).
- */
-export const STAGE_ROWS_SQL = `WITH r AS MATERIALIZED (SELECT key AS k, jsonb(value) AS b FROM json_each(?1))
-	INSERT INTO import_plan_rows (id, ${PLAN_COLUMNS.join(', ')})
-	SELECT ${sliceBase} + k, ${PLAN_COLUMNS.map((_, i) => `b ->> ${i}`).join(', ')} FROM r`;
-
-/** Each module's latest result in a slice, one table row each (id as for the rows). */
-export const STAGE_STATES_SQL = `INSERT INTO import_plan_states (id, module_id, outcome, tested_at)
-	SELECT ${sliceBase} + key, value ->> 0, value ->> 1, value ->> 2 FROM json_each(?1)`;
-
-/** A slice staged as table rows: its own row keeps empty JSON arrays. */
-const stageSlice = (planKey: string, chunk: PlanChunk, now: Date): InStatement[] => [
-	{
-		sql: "INSERT INTO import_plan_chunks (plan_key, seq, rows, states, created_at) VALUES (?, ?, '[]', '[]', ?)",
-		args: [planKey, chunk.seq, now.getTime()]
-	},
-	{ sql: STAGE_ROWS_SQL, args: [chunk.rows, planKey, chunk.seq] },
-	{ sql: STAGE_STATES_SQL, args: [chunk.states, planKey, chunk.seq] }
-];
-
-/**
- * Writes a preview's plan slices as they are made, a few at a time (staged as table rows, see
- * STAGE_ROWS_SQL), each write queued behind
+ * Writes a preview's plan slices as they are made, a few at a time, each write queued behind
  * this process's other writers without holding the preview's loop: the reading of the file
  * goes on while a commit elsewhere holds the write lock. `rest` hands over the slices not
- * written yet (for the preview's last batch, one statement each, their JSON kept whole) after waiting for every write and rethrowing the
+ * written yet (for the preview's last batch) after waiting for every write and rethrowing the
  * first failure; `discard` removes what was written (a preview that failed stores nothing).
  * `write` answers a promise to wait for when the writes have fallen behind (more than one
  * write in flight): the reader then waits, so the slices waiting in memory stay bounded
@@ -64,13 +28,13 @@ const stageSlice = (planKey: string, chunk: PlanChunk, now: Date): InStatement[]
 export function planWriter(db: Db, planKey: string, now: Date) {
 	let queue: Promise<void> = Promise.resolve();
 	let failure: unknown = null;
-	let pending: PlanChunk[] = [];
+	let pending: InStatement[] = [];
 	let inFlight = 0;
 	return {
 		write(chunk: PlanChunk): Promise<void> | undefined {
-			pending.push(chunk);
+			pending.push(insertSlice(planKey, chunk, now));
 			if (pending.length < SLICES_PER_WRITE) return;
-			const stmts = pending.flatMap((c) => stageSlice(planKey, c, now));
+			const stmts = pending;
 			pending = [];
 			const ahead = queue;
 			inFlight++;
@@ -89,7 +53,7 @@ export function planWriter(db: Db, planKey: string, now: Date) {
 		async rest(): Promise<InStatement[]> {
 			await queue;
 			if (failure) throw failure;
-			const stmts = pending.map((c) => insertSlice(planKey, c, now));
+			const stmts = pending;
 			pending = [];
 			return stmts;
 		},

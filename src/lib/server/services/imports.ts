@@ -10,13 +10,7 @@ import { summary } from './import-summary';
  * of stored imports.
  */
 export { previewImport } from './import-preview';
-export {
-	commitImport,
-	STATE_UPDATE_SQL,
-	INSERT_CHUNK_SQL,
-	STATE_STAGED_SQL,
-	INSERT_STAGED_SQL
-} from './import-commit';
+export { commitImport, STATE_UPDATE_SQL, INSERT_CHUNK_SQL } from './import-commit';
 export type { ImportResult } from './import-summary';
 
 export const MAX_IMPORT_BYTES = 25 * 1024 * 1024;
