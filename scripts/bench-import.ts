@@ -7,6 +7,9 @@
 // read from inside (GET /api/diagnostics/event-loop, Node's monitorEventLoopDelay, the server
 // started with PACKLEDGER_DIAGNOSTICS=1) and from outside: a static file is fetched every
 // 20 ms while the import runs, and its slowest answer is printed beside it.
+// Beside the wall-clock figures, CPU seconds: the server's (all threads, /proc/PID/stat) for
+// preview and commit and this process's for the anchor, with their ratio (`cpuRatio`), which
+// a busy machine hardly changes; `load` is the 1-minute load average after each round.
 // An extra anchor, labelled as such: the same rows through a synchronous native driver (one
 // prepared INSERT in a transaction: better-sqlite3 when installed, else libsql), the
 // "different driver path" issue 17 asks to measure; its fields `nativeDriver`,
@@ -35,6 +38,17 @@ function rssMb(pid: number) {
 		return Number(line.replace(/[^0-9]/g, '')) / 1024;
 	};
 	return { rss: get('VmRSS:'), peak: get('VmHWM:') };
+}
+
+/**
+ * CPU seconds the process has used, all its threads (the import writer's too), from
+ * /proc/PID/stat (utime + stime, fields 14 and 15, in clock ticks of 1/100 s: proc(5)).
+ * Unlike wall time, this hardly changes with what else the machine runs.
+ */
+function cpuS(pid: number) {
+	const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
+	const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+	return (Number(f[11]) + Number(f[12])) / 100;
 }
 
 /** Fetches a static file every 20 ms until stopped; returns the slowest answer in ms. */
@@ -151,6 +165,7 @@ async function runRound(round: number) {
 			await new Promise((r) => setTimeout(r, 100));
 		}
 	})();
+	const cpuA = cpuS(pid);
 	const tA = performance.now();
 	const res = await fetch(`${server.origin}/api/imports/factory-tests?name=bench.csv`, {
 		method: 'POST',
@@ -159,6 +174,7 @@ async function runRound(round: number) {
 	});
 	const preview = await res.json();
 	const tB = performance.now();
+	const cpuB = cpuS(pid);
 	if (res.status !== 201 || preview.import.accepted !== N)
 		throw new Error(`preview failed: ${res.status} ${JSON.stringify(preview).slice(0, 300)}`);
 	const res2 = await fetch(`${server.origin}/api/imports/${preview.import.id}/commit`, {
@@ -167,6 +183,7 @@ async function runRound(round: number) {
 	});
 	const committed = await res2.json();
 	const tC = performance.now();
+	const cpuC = cpuS(pid);
 	const probeMs = await probe();
 	sampling = false;
 	await sampler;
@@ -233,6 +250,7 @@ async function runRound(round: number) {
 		return cols.map((k) => (v[k] ?? null) as string | number | null);
 	});
 	const tP = performance.now();
+	const anchorCpu0 = process.cpuUsage();
 	const stmts = [];
 	const tuple = `(${cols.map(() => '?').join(',')})`;
 	for (let i = 0; i < values.length; i += 500) {
@@ -244,6 +262,8 @@ async function runRound(round: number) {
 	}
 	await anchorDb.batch(stmts, 'write');
 	const anchorS = (performance.now() - tP) / 1000;
+	const anchorCpu = process.cpuUsage(anchorCpu0);
+	const anchorCpuS = (anchorCpu.user + anchorCpu.system) / 1e6;
 	anchorDb.close();
 
 	// 5. An extra anchor, for comparison only (the app keeps @libsql/client): what a different
@@ -260,6 +280,13 @@ async function runRound(round: number) {
 		memoryGrowthMB: mem1.peak - mem0.rss,
 		previewS: (tB - tA) / 1000,
 		commitS: (tC - tB) / 1000,
+		// CPU seconds (all threads) of the server for the route and of this process for the
+		// anchor: a second, load-independent view (the server's also include the probe's and
+		// the memory sampler's requests, a few per cent).
+		previewCpuS: cpuB - cpuA,
+		commitCpuS: cpuC - cpuB,
+		anchorCpuS,
+		cpuRatio: anchorCpuS / (cpuC - cpuA),
 		nativeDriver: native?.driver ?? null,
 		nativeRowsPerSecond: betterS === null ? null : N / betterS,
 		stallMs,
@@ -268,7 +295,7 @@ async function runRound(round: number) {
 		load: loadavg()[0]
 	};
 	log(
-		`Round ${round + 1}: preview ${r.previewS.toFixed(2)} s, commit ${r.commitS.toFixed(2)} s → ${Math.round(r.rowsPerSecond).toLocaleString('en-GB')} rows/s; anchor ${anchorS.toFixed(2)} s → ${Math.round(r.anchorRowsPerSecond).toLocaleString('en-GB')} rows/s; ratio ${r.ratio.toFixed(2)}${betterS === null ? '' : `; ${native?.driver} ${betterS.toFixed(2)} s → ${Math.round(N / betterS).toLocaleString('en-GB')} rows/s (route ${(betterS / secs).toFixed(2)} of it)`}; server memory ${mem0.rss.toFixed(0)} → peak ${mem1.peak.toFixed(0)} MB (+${r.memoryGrowthMB.toFixed(0)}; peak heap ${heap.heapUsed} MB, external ${heap.external} MB of which buffers ${heap.arrayBuffers} MB); event loop held ≤ ${stallMs.toFixed(0)} ms (first import of the server ${coldStallMs.toFixed(0)} ms; slowest probe ${probeMs.toFixed(0)} ms); load ${r.load.toFixed(2)}`
+		`Round ${round + 1}: preview ${r.previewS.toFixed(2)} s, commit ${r.commitS.toFixed(2)} s → ${Math.round(r.rowsPerSecond).toLocaleString('en-GB')} rows/s; anchor ${anchorS.toFixed(2)} s → ${Math.round(r.anchorRowsPerSecond).toLocaleString('en-GB')} rows/s; ratio ${r.ratio.toFixed(2)}${betterS === null ? '' : `; ${native?.driver} ${betterS.toFixed(2)} s → ${Math.round(N / betterS).toLocaleString('en-GB')} rows/s (route ${(betterS / secs).toFixed(2)} of it)`}; CPU preview ${r.previewCpuS.toFixed(2)} s + commit ${r.commitCpuS.toFixed(2)} s, anchor ${r.anchorCpuS.toFixed(2)} s (ratio ${r.cpuRatio.toFixed(2)}); server memory ${mem0.rss.toFixed(0)} → peak ${mem1.peak.toFixed(0)} MB (+${r.memoryGrowthMB.toFixed(0)}; peak heap ${heap.heapUsed} MB, external ${heap.external} MB of which buffers ${heap.arrayBuffers} MB); event loop held ≤ ${stallMs.toFixed(0)} ms (first import of the server ${coldStallMs.toFixed(0)} ms; slowest probe ${probeMs.toFixed(0)} ms); load ${r.load.toFixed(2)}`
 	);
 	return r;
 }
@@ -349,6 +376,11 @@ const summary = {
 	memoryGrowthMB: Number(show('memory growth', (r) => r.memoryGrowthMB, 0, ' MB').toFixed(1)),
 	previewS: Number(show('preview', (r) => r.previewS, 2, ' s').toFixed(3)),
 	commitS: Number(show('commit', (r) => r.commitS, 2, ' s').toFixed(3)),
+	previewCpuS: Number(show('preview CPU', (r) => r.previewCpuS, 2, ' s').toFixed(3)),
+	commitCpuS: Number(show('commit CPU', (r) => r.commitCpuS, 2, ' s').toFixed(3)),
+	anchorCpuS: Number(show('anchor CPU', (r) => r.anchorCpuS, 2, ' s').toFixed(3)),
+	cpuRatio: Number(show('CPU ratio', (r) => r.cpuRatio, 2).toFixed(3)),
+	load: Number(show('load (1 min)', (r) => r.load, 2).toFixed(2)),
 	...(results.every((r) => r.nativeRowsPerSecond !== null)
 		? (() => {
 				const driver = results[0].nativeDriver;

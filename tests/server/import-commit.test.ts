@@ -208,6 +208,70 @@ describe('preview and store in one call (?commit=accepted)', () => {
 	});
 });
 
+describe('row keys looked up only for modules that have a result', () => {
+	it('every stored result has set its module’s tested_at (the rule the preview relies on)', async () => {
+		// After the imports above (slices, retries, a rolled-back commit) and the demo's own.
+		const r = await db.$client.execute(
+			'SELECT count(*) AS n FROM factory_tests t JOIN modules m ON m.id = t.module_id WHERE m.tested_at IS NULL'
+		);
+		expect(Number(r.rows[0].n)).toBe(0);
+		const stored = await db.$client.execute('SELECT count(*) AS n FROM factory_tests');
+		expect(Number(stored.rows[0].n)).toBeGreaterThan(0);
+	});
+
+	it('finds a stored row of a tested module as a duplicate, and the commit still skips one the preview could not see', async () => {
+		const [fresh, other] = await makeModules(db, workshop, { count: 2, built: 2 });
+		const first = await previewImport(
+			db,
+			workshop,
+			{ name: 'first-test.csv', content: csv([line(fresh, 430_000)]), bytes: 0 },
+			NOW
+		);
+		await commitImport(db, workshop, first.import.id, NOW);
+		// The same measurement again, with a new one: the module has a result now, so its row
+		// key is looked up and found.
+		const again = await previewImport(
+			db,
+			workshop,
+			{ name: 'again.csv', content: csv([line(fresh, 430_000), line(fresh, 430_001)]), bytes: 0 },
+			NOW
+		);
+		expect(again.import).toMatchObject({ accepted: 1, duplicates: 1 });
+		// A result stored for a module whose tested_at was cleared by hand (the rule broken):
+		// the preview takes the row as new, the commit's own check skips it and the counts
+		// say what was stored.
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'blind.csv', content: csv([line(other, 430_010)]), bytes: 0 },
+			NOW
+		);
+		await commitImport(db, workshop, p.import.id, NOW);
+		await db.$client.execute({
+			sql: 'UPDATE modules SET tested_at = NULL WHERE serial = ?',
+			args: [other]
+		});
+		const blind = await previewImport(
+			db,
+			workshop,
+			{
+				name: 'blind-again.csv',
+				content: csv([line(other, 430_010), line(other, 430_011)]),
+				bytes: 0
+			},
+			NOW
+		);
+		expect(blind.import).toMatchObject({ accepted: 2, duplicates: 0 });
+		const c = await commitImport(db, workshop, blind.import.id, NOW);
+		expect(c.import).toMatchObject({ status: 'committed', accepted: 1 });
+		const rows = await db.$client.execute({
+			sql: 'SELECT count(*) AS n FROM factory_tests t JOIN modules m ON m.id = t.module_id WHERE m.serial = ?',
+			args: [other]
+		});
+		expect(Number(rows.rows[0].n)).toBe(2);
+	});
+});
+
 describe('sha256Text', () => {
 	it('gives the FIPS 180-2 digest of "abc"', async () => {
 		// FIPS 180-2, appendix B.1 (one-block message "abc").

@@ -78,8 +78,9 @@ const breathe = () => new Promise<void>((r) => setImmediate(r));
 /**
  * Reads a rig file and judges every row in one pass, slice by slice: file-level problems
  * throw; row problems (unknown serial, not built, left the workshop, bad values) become
- * errors with the row number; rows already stored are duplicates; the rest are evaluated
- * against their model's limits and written straight into the insert-ready JSON. Each slice's
+ * errors with the row number; rows already stored are duplicates (looked up only for modules
+ * that have a result); the rest are evaluated against their model's limits and written
+ * straight into the insert-ready JSON. Each slice's
  * serials and row keys are looked up in one query each, with the values as one JSON
  * parameter and the answer as one JSON value (no per-parameter or per-row cost).
  */
@@ -120,20 +121,29 @@ export async function analyseFactoryFile(
 	const judge = async (slice: Held[]) => {
 		if (slice.length === 0) return;
 		const found = await db.$client.execute({
-			sql: `SELECT json_group_array(json_array(m.id, m.serial, m.state, m.model_id)) AS rows
+			sql: `SELECT json_group_array(json_array(m.id, m.serial, m.state, m.model_id, m.tested_at IS NOT NULL)) AS rows
 			      FROM json_each(?) AS j JOIN modules AS m ON m.serial = j.value`,
 			args: [JSON.stringify([...new Set(slice.map((h) => h.serialKey))])]
 		});
 		const bySerial = new Map(
-			(JSON.parse(found.rows[0].rows as string) as [number, string, string, number][]).map(
-				([id, serial, state, modelId]) => [serial, { id, state, modelId }]
+			(JSON.parse(found.rows[0].rows as string) as [number, string, string, number, 0 | 1][]).map(
+				([id, serial, state, modelId, tested]) => [serial, { id, state, modelId, tested }]
 			)
 		);
-		const storedRows = await db.$client.execute({
-			sql: `SELECT json_group_array(t.row_key) AS keys FROM json_each(?) AS j JOIN factory_tests AS t ON t.row_key = j.value`,
-			args: [JSON.stringify(slice.map((h) => h.key))]
-		});
-		const stored = new Set(JSON.parse(storedRows.rows[0].keys as string) as string[]);
+		// Only a module with a result can have this row stored already: every stored result
+		// sets its module's tested_at (the commit's state update, in the same transaction; the
+		// seeds alike) and nothing clears it. A file of first tests (the usual one) needs no
+		// look-up of its row keys at all. The commit's own NOT EXISTS stays the guarantee.
+		const keys: string[] = [];
+		for (const h of slice) if (bySerial.get(h.serialKey)?.tested) keys.push(h.key);
+		const stored = new Set<string>();
+		if (keys.length > 0) {
+			const storedRows = await db.$client.execute({
+				sql: `SELECT json_group_array(t.row_key) AS keys FROM json_each(?) AS j JOIN factory_tests AS t ON t.row_key = j.value`,
+				args: [JSON.stringify(keys)]
+			});
+			for (const k of JSON.parse(storedRows.rows[0].keys as string) as string[]) stored.add(k);
+		}
 		for (const h of slice) {
 			const serial = h.serialKey;
 			const mod = bySerial.get(serial);
