@@ -30,7 +30,19 @@ if (cluster.isPrimary) {
 		);
 		process.exit(2);
 	}
-	const shutdownS = Number(process.env.SHUTDOWN_TIMEOUT ?? 30);
+	const rawShutdown = process.env.SHUTDOWN_TIMEOUT ?? '30';
+	const shutdownS = Number(rawShutdown);
+	if (
+		rawShutdown.trim() === '' ||
+		!Number.isFinite(shutdownS) ||
+		shutdownS < 0 ||
+		shutdownS > 3600
+	) {
+		console.error(
+			`SHUTDOWN_TIMEOUT is "${rawShutdown.slice(0, 40)}": give the seconds open requests may take at a stop, from 0 to 3600.`
+		);
+		process.exit(2);
+	}
 	let stopping = false;
 	const deaths = [];
 

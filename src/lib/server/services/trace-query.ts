@@ -66,13 +66,24 @@ async function keptTrace(db: Db, q: TraceQuery, internal: boolean): Promise<Answ
 	const hit = version === null ? undefined : answers.get(key);
 	if (hit && hit.version === version) return hit;
 	const answer: Answer = { version, json: await computeTrace(db, q, internal) };
-	if (version !== null) {
+	if (version !== null && answer.json.length <= MAX_KEPT_CHARS / 4) {
 		answers.delete(key);
 		answers.set(key, answer);
-		if (answers.size > 16) answers.delete(answers.keys().next().value!);
+		// At most 16 answers and MAX_KEPT_CHARS in all (a wide model or date range is ~10 MB of
+		// text, its bytes as much again once asked for), the least recently kept going first.
+		const size = (a: Answer) => a.json.length + (a.bytes?.byteLength ?? 0);
+		let total = 0;
+		for (const a of answers.values()) total += size(a);
+		while (answers.size > 16 || total > MAX_KEPT_CHARS) {
+			const [first, a] = answers.entries().next().value!;
+			answers.delete(first);
+			total -= size(a);
+		}
 	}
 	return answer;
 }
+/** Characters (and bytes) of kept trace answers in all. */
+const MAX_KEPT_CHARS = 32 * 1024 * 1024;
 const answersOf = new WeakMap<Db, Map<string, Answer>>();
 
 async function computeTrace(db: Db, q: TraceQuery, internal: boolean): Promise<string> {
