@@ -251,9 +251,10 @@ async function runRound(round: number) {
 	});
 	const tP = performance.now();
 	const anchorCpu0 = process.cpuUsage();
-	// No checkpoint inside the anchor's COMMIT: the route's runs on another thread after its
-	// answer (the import writer, src/lib/server/services/import-writer.ts), so neither pays one in its measured time. Set in
-	// the batch itself: @libsql/client may run a batch on a fresh connection.
+	// No checkpoint inside the anchor's COMMIT: the route's runs on the import writer's thread
+	// after its answer (src/lib/server/services/import-writer.ts), so neither pays one in its
+	// measured time. Set in the batch itself: @libsql/client may run a batch on a fresh
+	// connection.
 	const stmts: { sql: string; args?: (string | number | null)[] }[] = [
 		{ sql: 'PRAGMA wal_autocheckpoint = 0' }
 	];
