@@ -13,7 +13,8 @@ const FEW = 5000;
 /**
  * Answered pages are kept until the data changes (fleet-cache.ts): the same view asked again,
  * by anyone with the same scope, is one read of the data version. FLEET_PAGE_CACHE=0 turns it
- * off (to measure the queries themselves: `npm run bench:fleet -- --no-page-cache`).
+ * off: `npm run bench:fleet` runs so by default, to measure the queries themselves
+ * (`--page-cache` measures with pages kept).
  */
 const KEEP_PAGES = process.env.FLEET_PAGE_CACHE !== '0';
 
