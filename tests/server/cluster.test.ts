@@ -10,11 +10,11 @@
  * That both really answered is measured, not assumed: each worker's CPU time (/proc) grows.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
-import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
+import { spawn, type ChildProcess } from 'node:child_process';
+import { readFileSync } from 'node:fs';
 import { request } from 'node:http';
-import { createServer } from 'node:net';
 import { MAX_FAILURES_PER_ACCOUNT } from '$lib/server/auth/rate-limit';
+import { freePort, seededBuildEnv } from './served-build';
 
 const DIR = 'data/test-cluster';
 const PASSWORD = 'packledger-demo';
@@ -22,17 +22,6 @@ const PASSWORD = 'packledger-demo';
 let origin = '';
 let primary: ChildProcess;
 let log = '';
-
-function freePort(): Promise<number> {
-	return new Promise((resolve, reject) => {
-		const s = createServer();
-		s.once('error', reject);
-		s.listen(0, '127.0.0.1', () => {
-			const addr = s.address();
-			s.close(() => (addr && typeof addr === 'object' ? resolve(addr.port) : reject()));
-		});
-	});
-}
 
 /** The pids of the workers that said they listen, in order (a replaced worker stays listed). */
 const listening = () => [...log.matchAll(/worker (\d+) listening/g)].map((m) => Number(m[1]));
@@ -111,22 +100,7 @@ async function signIn(email: string, password: string) {
 }
 
 beforeAll(async () => {
-	if (!existsSync('build/handler.js')) {
-		const b = spawnSync('npm', ['run', 'build', '--silent'], { stdio: 'pipe' });
-		if (b.status !== 0) throw new Error(`build failed: ${b.stderr}`);
-	}
-	rmSync(DIR, { recursive: true, force: true });
-	mkdirSync(DIR, { recursive: true });
-	const env = {
-		...process.env,
-		DATABASE_URL: `file:${DIR}/shared.db`,
-		AUTH_SECRET: 'cluster-test-secret-0123456789',
-		UPLOAD_DIR: `${DIR}/uploads`,
-		SMTP_URL: '',
-		DEMO_PASSWORD: PASSWORD
-	};
-	const seeded = spawnSync('npm', ['run', 'db:seed', '--silent'], { env, stdio: 'pipe' });
-	if (seeded.status !== 0) throw new Error(`seed failed: ${seeded.stderr}`);
+	const env = seededBuildEnv(DIR, 'cluster-test-secret-0123456789', PASSWORD);
 	const port = await freePort();
 	origin = `http://127.0.0.1:${port}`;
 	primary = spawn('node', ['scripts/cluster.js'], {

@@ -6,25 +6,12 @@
  * process runs its own loopback fake SMTP server, which stores into the shared table).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
-import { existsSync, mkdirSync, rmSync } from 'node:fs';
-import { createServer } from 'node:net';
+import { spawn, type ChildProcess } from 'node:child_process';
 import { MAX_FAILURES_PER_ACCOUNT } from '$lib/server/auth/rate-limit';
+import { freePort, seededBuildEnv } from './served-build';
 
 const DIR = 'data/test-two-servers';
 const PASSWORD = 'packledger-demo';
-
-/** A port nobody listens on now (the kernel picks it), for one of the two servers. */
-function freePort(): Promise<number> {
-	return new Promise((resolve, reject) => {
-		const s = createServer();
-		s.once('error', reject);
-		s.listen(0, '127.0.0.1', () => {
-			const addr = s.address();
-			s.close(() => (addr && typeof addr === 'object' ? resolve(addr.port) : reject()));
-		});
-	});
-}
 
 interface Server {
 	origin: string;
@@ -100,22 +87,7 @@ const api = (server: Server, path: string, jar: Jar) =>
 	fetch(`${server.origin}${path}`, { headers: { cookie: jar.header }, redirect: 'manual' });
 
 beforeAll(async () => {
-	if (!existsSync('build/handler.js')) {
-		const b = spawnSync('npm', ['run', 'build', '--silent'], { stdio: 'pipe' });
-		if (b.status !== 0) throw new Error(`build failed: ${b.stderr}`);
-	}
-	rmSync(DIR, { recursive: true, force: true });
-	mkdirSync(DIR, { recursive: true });
-	const env = {
-		...process.env,
-		DATABASE_URL: `file:${DIR}/shared.db`,
-		AUTH_SECRET: 'two-servers-test-secret-0123456789',
-		UPLOAD_DIR: `${DIR}/uploads`,
-		SMTP_URL: '',
-		DEMO_PASSWORD: PASSWORD
-	};
-	const seeded = spawnSync('npm', ['run', 'db:seed', '--silent'], { env, stdio: 'pipe' });
-	if (seeded.status !== 0) throw new Error(`seed failed: ${seeded.stderr}`);
+	const env = seededBuildEnv(DIR, 'two-servers-test-secret-0123456789', PASSWORD);
 	const [a, b] = [await freePort(), await freePort()];
 	await Promise.all([start(a, env), start(b, env)]);
 }, 600_000);
