@@ -8,7 +8,8 @@
 // event-loop stall < 100 ms — read from inside the server (GET /api/diagnostics/event-loop,
 // Node's monitorEventLoopDelay; the server runs with PACKLEDGER_DIAGNOSTICS=1).
 //
-//   npm run bench:load [-- --clients 200] [-- --duration 60] [-- --big 20000] [-- --think 100] [-- --json]
+//   npm run bench:load [-- --clients 200] [-- --duration 60] [-- --big 20000] [-- --think 100]
+//                      [-- --only fleet,record,public,design,import] [-- --json]
 import { createClient } from '@libsql/client';
 import { loadavg } from 'node:os';
 import { serialRun } from '$lib/domain/serial';
@@ -25,6 +26,10 @@ const DURATION_S = Math.min(opt('--duration', 60), 600);
 const BIG = Math.min(opt('--big', 20_000), 200_000);
 const THINK_MS = opt('--think', 100);
 const asJson = args.includes('--json');
+const ONLY = (() => {
+	const i = args.indexOf('--only');
+	return i >= 0 && args[i + 1] ? args[i + 1].split(',') : null;
+})();
 const PORT = Number(process.env.BENCH_PORT ?? 4173);
 const dbDir = 'data/bench-load';
 const log = (s: string) => console.log(s);
@@ -122,6 +127,8 @@ const OPS = [
 		}
 	}
 ];
+// --only fleet,record: just those operations (to measure one kind's cost on its own).
+if (ONLY) OPS.splice(0, OPS.length, ...OPS.filter((o) => ONLY.includes(o.kind)));
 const totalShare = OPS.reduce((a, o) => a + o.share, 0);
 const chooseOp = () => {
 	let r = Math.random() * totalShare;

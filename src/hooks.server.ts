@@ -8,6 +8,7 @@ import { getDb } from '$lib/server/db';
 import { startScheduler } from '$lib/server/scheduler';
 import { securityHeaders } from '$lib/server/security-headers';
 import { originCheck } from '$lib/server/origin-check';
+import { admissionHandle } from '$lib/server/admission';
 
 export const init: ServerInit = async () => {
 	assertAuthSecret();
@@ -16,6 +17,7 @@ export const init: ServerInit = async () => {
 };
 
 export const handle = sequence(
+	admissionHandle,
 	compressHtml,
 	securityHeaders,
 	originCheck,

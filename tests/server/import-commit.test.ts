@@ -190,6 +190,13 @@ describe('preview and store in one call (?commit=accepted)', () => {
 			args: [String(p.import.id)]
 		});
 		expect(Number(audit.rows[0].n)).toBe(1);
+		// One message to the writer stored it all: no plan slice is left behind.
+		const left = await db.$client.execute({
+			sql: 'SELECT count(*) AS n FROM import_plan_chunks WHERE import_id = ?',
+			args: [p.import.id]
+		});
+		expect(Number(left.rows[0].n)).toBe(0);
+		expect(p.import.failed).toBe(0);
 	});
 
 	it('leaves a file of more than eight plan slices previewed, for commitImport', async () => {

@@ -62,10 +62,10 @@ describe('LocalReader', () => {
 		writer.close();
 	});
 
-	it('keeps at most 256 prepared statements and never writes', async () => {
+	it('keeps at most 512 prepared statements and never writes', async () => {
 		const { writer, reader } = await twoConnections();
-		for (let i = 0; i < 300; i++) await reader.execute(`SELECT ${i} AS n`);
-		expect(reader.statementCount).toBe(256);
+		for (let i = 0; i < 600; i++) await reader.execute(`SELECT ${i} AS n`);
+		expect(reader.statementCount).toBe(512);
 		await expect(reader.execute("INSERT INTO t (name, flag) VALUES ('x', 0)")).rejects.toThrow();
 		expect((await writer.execute('SELECT count(*) AS n FROM t')).rows[0].n).toBe(2);
 		reader.close();

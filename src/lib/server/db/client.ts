@@ -5,6 +5,8 @@ import { mkdirSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import * as schema from './schema';
 import { clientReader, LocalReader, type Reader } from './reader';
+import { leavePlace } from '../admission-place';
+import { keepSelects } from './kept-selects';
 
 export type Db = LibSQLDatabase<typeof schema> & { $client: Client };
 export type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
@@ -23,7 +25,11 @@ export async function openDb(url: string = DEFAULT_DATABASE_URL, authToken?: str
 		// WAL lets the fleet table read while the workshop writes; it persists in the file.
 		await client.execute('PRAGMA journal_mode = WAL');
 	}
-	const db = drizzle(client, { schema }) as Db;
+	// Plain SELECTs on the read connection with their statements kept (kept-selects.ts);
+	// PACKLEDGER_KEPT_SELECTS=0 sends them through the client as before (to compare).
+	const keep = local && process.env.PACKLEDGER_KEPT_SELECTS !== '0';
+	const reader = () => readerOf(db) as LocalReader;
+	const db: Db = drizzle(keep ? keepSelects(client, reader) : client, { schema }) as Db;
 	if (local) localUrls.set(db, url);
 	return db;
 }
@@ -103,7 +109,11 @@ export function dataVersionSql(db: Db): string {
  * every writing transaction (drizzle's or a raw batch) queues here.
  */
 export async function withWriteLock<T>(db: Db, fn: () => Promise<T>): Promise<T> {
-	const previous = locks.get(db) ?? Promise.resolve();
+	const held = locks.get(db);
+	// Waiting here is waiting for the database, not for this process: the request's place in
+	// the admission gate goes to the next request in line (admission.ts).
+	if (held) leavePlace();
+	const previous = held ?? Promise.resolve();
 	let release!: () => void;
 	const mine = new Promise<void>((r) => (release = r));
 	const chained = previous.then(() => mine);

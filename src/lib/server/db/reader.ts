@@ -14,7 +14,7 @@ export interface Reader {
 }
 
 /** Most prepared statements kept per connection (least recently used go first). */
-const MAX_STATEMENTS = 256;
+const MAX_STATEMENTS = 512;
 
 /**
  * A reader on a local SQLite file, straight on the `libsql` driver that `@libsql/client` itself
@@ -28,6 +28,7 @@ const MAX_STATEMENTS = 256;
 export class LocalReader implements Reader {
 	readonly #db: Database.Database;
 	readonly #statements = new Map<string, Database.Statement>();
+	readonly #columns = new Map<string, string[]>();
 
 	constructor(path: string, { timeoutMs = 5000, cacheKiB = 65536 } = {}) {
 		this.#db = new Database(path, { timeout: timeoutMs });
@@ -37,19 +38,37 @@ export class LocalReader implements Reader {
 		this.#db.exec('PRAGMA query_only = 1');
 	}
 
-	/** Rows of one statement (synchronous underneath, as every local SQLite call here is). */
-	rows(sql: string, args: unknown[] = []): ReaderRow[] {
+	#statement(sql: string): Database.Statement {
 		let stmt = this.#statements.get(sql);
 		if (stmt) {
 			// Most recently used last: the first key is the one to drop.
 			this.#statements.delete(sql);
 		} else {
 			stmt = this.#db.prepare(sql).raw(true);
-			if (this.#statements.size >= MAX_STATEMENTS)
-				this.#statements.delete(this.#statements.keys().next().value!);
+			if (this.#statements.size >= MAX_STATEMENTS) {
+				const first = this.#statements.keys().next().value!;
+				this.#statements.delete(first);
+				this.#columns.delete(first);
+			}
 		}
 		this.#statements.set(sql, stmt);
-		return stmt.all(args.map(toSql)) as ReaderRow[];
+		return stmt;
+	}
+
+	/** Rows of one statement (synchronous underneath, as every local SQLite call here is). */
+	rows(sql: string, args: unknown[] = []): ReaderRow[] {
+		return this.#statement(sql).all(args.map(toSql)) as ReaderRow[];
+	}
+
+	/** Rows of one statement and its columns' names (kept with the statement). */
+	select(sql: string, args: unknown[] = []): { columns: string[]; rows: ReaderRow[] } {
+		const stmt = this.#statement(sql);
+		let columns = this.#columns.get(sql);
+		if (!columns) {
+			columns = stmt.columns().map((c) => c.name);
+			this.#columns.set(sql, columns);
+		}
+		return { columns, rows: stmt.all(args.map(toSql)) as ReaderRow[] };
 	}
 
 	async execute(stmt: ReaderStatement): Promise<{ rows: ReaderRow[] }> {
@@ -65,6 +84,7 @@ export class LocalReader implements Reader {
 
 	close(): void {
 		this.#statements.clear();
+		this.#columns.clear();
 		this.#db.close();
 	}
 }

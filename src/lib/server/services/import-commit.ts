@@ -1,5 +1,6 @@
 import { randomUUID } from 'node:crypto';
 import { eq } from 'drizzle-orm';
+import type { InStatement } from '@libsql/client';
 import type { Db } from '$lib/server/db';
 import { withWriteLock } from '$lib/server/db';
 import { importFiles, imports } from '$lib/server/db/schema';
@@ -8,7 +9,7 @@ import { NotFoundError } from '$lib/server/errors';
 import { analyseFactoryFile, PLAN_COLUMNS, TESTABLE_SQL, type PreviewRow } from './import-analysis';
 import { planChunkIds, planWriter } from './import-plans';
 import { summary, type ImportResult } from './import-summary';
-import { importWriter, type WriteTx } from './import-writer';
+import { importWriter, type UnitArg, type UnitStatement, type WriteTx } from './import-writer';
 
 const TEST_COLUMNS = `module_id, import_id, ${PLAN_COLUMNS.slice(1).join(', ')}`;
 const field = (i: number) => `b ->> ${i}`;
@@ -121,6 +122,19 @@ export async function commitImport(
 	});
 }
 
+/** The claim of a previewed import: no statement stores anything for an import no longer previewed. */
+const claimStatement = (importId: UnitArg, now: Date): UnitStatement => ({
+	sql: "UPDATE imports SET status = 'committed', committed_at = ? WHERE id = ? AND status = 'previewed'",
+	args: [now.getTime(), importId]
+});
+
+/** One plan slice into factory_tests and the modules' states, then the slice itself deleted. */
+const sliceStatements = (importId: UnitArg, chunk: UnitArg, now: Date): UnitStatement[] => [
+	{ sql: INSERT_CHUNK_SQL, args: [chunk, importId] },
+	{ sql: STATE_UPDATE_SQL, args: [now.getTime(), chunk] },
+	{ sql: 'DELETE FROM import_plan_chunks WHERE id = ?', args: [chunk] }
+];
+
 /**
  * Inside an open write transaction: claims the previewed import, stores its plan slices (in
  * file order) and their states, deletes them, stores the counts and the audit entry. False
@@ -137,38 +151,54 @@ export async function storePlan(
 ): Promise<boolean> {
 	// Claimed first, in the transaction: another app server committing the same import at the
 	// same time stores nothing twice.
-	const claimed = await tx.execute({
-		sql: "UPDATE imports SET status = 'committed', committed_at = ? WHERE id = ? AND status = 'previewed'",
-		args: [now.getTime(), importId]
-	});
+	const claimed = await tx.execute(claimStatement(importId, now) as InStatement);
 	if (claimed.rowsAffected === 0) return false;
 	let stored = 0;
 	for (const chunk of chunks) {
-		const [inserted] = await tx.batch([
-			{ sql: INSERT_CHUNK_SQL, args: [chunk, importId] },
-			{ sql: STATE_UPDATE_SQL, args: [now.getTime(), chunk] },
-			{ sql: 'DELETE FROM import_plan_chunks WHERE id = ?', args: [chunk] }
-		]);
+		const [inserted] = await tx.batch(sliceStatements(importId, chunk, now) as InStatement[]);
 		stored += inserted.rowsAffected;
 		// Through the in-process client, the event loop gets a turn between slices.
 		await breathe();
 	}
-	await storeCounts(tx, actor, importId, stored, planned, now);
+	await tx.batch(countStatements(actor, importId, stored, planned, now) as InStatement[]);
 	return true;
 }
 
-/** The counts of what was stored (recounted only if rows went missing since the preview) and the audit entry. */
-async function storeCounts(
-	tx: WriteTx,
+/**
+ * The same as `storePlan`, as statements of one unit (`ImportWriter.unit`) that also holds the
+ * import's own insert: `importId` and the slices are references to row ids the unit inserts,
+ * so a small file is previewed and stored in one message to the writer. The import was
+ * inserted as previewed in the same transaction, so its claim cannot fail; the counts are
+ * counted (the rows stored are not known before the unit runs).
+ */
+export function storePlanUnit(
 	actor: Actor,
-	importId: number,
-	stored: number,
+	importId: UnitArg,
+	chunks: UnitArg[],
 	planned: number,
 	now: Date
-) {
-	await tx.batch([
+): UnitStatement[] {
+	return [
+		claimStatement(importId, now),
+		...chunks.flatMap((chunk) => sliceStatements(importId, chunk, now)),
+		...countStatements(actor, importId, null, planned, now)
+	];
+}
+
+/**
+ * The counts of what was stored and the audit entry. With `stored` (what the inserts said)
+ * they are recounted only if rows went missing since the preview; without, counted.
+ */
+function countStatements(
+	actor: Actor,
+	importId: UnitArg,
+	stored: number | null,
+	planned: number,
+	now: Date
+): UnitStatement[] {
+	return [
 		{
-			sql: `UPDATE imports SET accepted = ?1,
+			sql: `UPDATE imports SET accepted = coalesce(?1, (SELECT count(*) FROM factory_tests WHERE import_id = ?2)),
 			        passed = CASE WHEN ?1 = ?3 THEN passed ELSE (SELECT count(*) FROM factory_tests WHERE import_id = ?2 AND outcome = 'pass') END
 			      WHERE id = ?2`,
 			args: [stored, importId, planned]
@@ -176,17 +206,16 @@ async function storeCounts(
 		{ sql: 'UPDATE imports SET failed = accepted - passed WHERE id = ?', args: [importId] },
 		{
 			sql: `INSERT INTO audit_log (at, actor_user_id, actor_label, action, entity, entity_id, before, after)
-			      SELECT ?, ?, ?, 'import.commit', 'import', ?, ?, json_object('status', 'committed', 'fileName', file_name,
+			      SELECT ?, ?, ?, 'import.commit', 'import', CAST(id AS TEXT), ?, json_object('status', 'committed', 'fileName', file_name,
 			        'accepted', accepted, 'rejected', rejected, 'duplicates', duplicates, 'passed', passed, 'failed', failed)
 			      FROM imports WHERE id = ?`,
 			args: [
 				now.getTime(),
 				actor.userId,
 				actor.label,
-				String(importId),
 				JSON.stringify({ status: 'previewed' }),
 				importId
 			]
 		}
-	]);
+	];
 }

@@ -8,7 +8,7 @@ import type { Actor } from '$lib/server/actor';
 import { analyseFactoryFile } from './import-analysis';
 import { claimPlanStatement, dropOrphansStatement, planWriter } from './import-plans';
 import { summary, type ImportResult } from './import-summary';
-import { storePlan } from './import-commit';
+import { storePlanUnit } from './import-commit';
 import { importWriter } from './import-writer';
 
 /**
@@ -114,23 +114,19 @@ export async function previewImport(
 			dropOrphansStatement(now)
 		];
 		// A small file sent with ?commit=accepted (its whole plan still in hand) is previewed and
-		// stored in one transaction: one sync instead of two.
+		// stored in one transaction: one sync, and one message to the writer (the import's id
+		// and its slices' ids are references to the rows the unit inserts).
 		const storeNow = options.commit === true && rest.length === a.chunks;
 		id = await withWriteLock(db, async () => {
 			const writer = await importWriter(db);
 			if (!storeNow) return Number((await writer.batch(statements))[0].lastInsertRowid);
-			const tx = await writer.transaction();
-			try {
-				const done = await tx.batch(statements);
-				const importId = Number(done[0].lastInsertRowid);
-				const chunkIds = done.slice(2, 2 + rest.length).map((r) => Number(r.lastInsertRowid));
-				await storePlan(tx, actor, importId, chunkIds, a.accepted, now);
-				await tx.commit();
-				committed = true;
-				return importId;
-			} finally {
-				tx.close();
-			}
+			const slices = rest.map((_, i) => ({ ref: 2 + i }));
+			const done = await writer.unit([
+				...statements,
+				...storePlanUnit(actor, { ref: 0 }, slices, a.accepted, now)
+			]);
+			committed = true;
+			return Number(done[0].lastInsertRowid);
 		});
 	} catch (e) {
 		// Nothing of a refused file stays: its plan slices go (the import row was never written).

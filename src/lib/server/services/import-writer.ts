@@ -1,5 +1,5 @@
 import { Worker } from 'node:worker_threads';
-import type { InStatement } from '@libsql/client';
+import type { InStatement, InValue } from '@libsql/client';
 import type { Db } from '$lib/server/db';
 
 /**
@@ -29,6 +29,13 @@ export interface WriteTx {
 	close(): void;
 }
 
+/** An argument of a unit's statement: a value, or the row id an earlier statement of the unit inserted. */
+export type UnitArg = InValue | { ref: number };
+export interface UnitStatement {
+	sql: string;
+	args: UnitArg[];
+}
+
 export interface ImportWriter {
 	/** One statement, its own transaction. */
 	execute(stmt: InStatement): Promise<{ rowsAffected: number }>;
@@ -36,6 +43,26 @@ export interface ImportWriter {
 	batch(stmts: InStatement[]): Promise<{ rowsAffected: number; lastInsertRowid: bigint | null }[]>;
 	/** An open write transaction (BEGIN IMMEDIATE). */
 	transaction(): Promise<WriteTx>;
+	/**
+	 * Statements as one transaction in one message, in order, where an argument `{ ref: i }`
+	 * is the row id statement `i` of the unit inserted: a small import is stored without a
+	 * round trip per step (each of which would wait for the server's event loop).
+	 */
+	unit(stmts: (InStatement | UnitStatement)[]): Promise<StatementResult[]>;
+}
+
+/** The statement with its `{ ref }` arguments replaced by the row ids of earlier results. */
+export function resolveRefs(
+	stmt: InStatement | UnitStatement,
+	done: StatementResult[]
+): InStatement {
+	if (typeof stmt === 'string' || !Array.isArray(stmt.args)) return stmt as InStatement;
+	return {
+		sql: stmt.sql,
+		args: stmt.args.map((a) =>
+			a !== null && typeof a === 'object' && 'ref' in a ? (done[a.ref]?.lastInsertRowid ?? null) : a
+		)
+	};
 }
 
 // CommonJS, run with `eval`: `require` resolves from the working directory, where the
@@ -46,7 +73,18 @@ const { createClient } = require('@libsql/client');
 const client = createClient({ url: workerData.url, timeout: 5000 });
 // This connection checkpoints after answering, not inside its COMMIT (see below).
 const ready = client.execute('PRAGMA wal_autocheckpoint = 0');
+const CKPT_IDLE_MS = 25;
+const CKPT_WRITES = 32;
+let writes = 0;
+let timer = null;
+const checkpoint = () => {
+	if (timer) clearTimeout(timer);
+	timer = null;
+	writes = 0;
+	return client.execute('PRAGMA wal_checkpoint(PASSIVE)').catch(() => {});
+};
 let tx = null;
+const ref = (a, done) => (a !== null && typeof a === 'object' && 'ref' in a ? (done[a.ref] ? done[a.ref].lastInsertRowid : null) : a);
 const plain = (r) => ({ rowsAffected: r.rowsAffected, lastInsertRowid: r.lastInsertRowid ?? null });
 parentPort.on('message', async ({ id, op, stmt, stmts }) => {
 	let wrote = false;
@@ -55,19 +93,35 @@ parentPort.on('message', async ({ id, op, stmt, stmts }) => {
 		let value = null;
 		if (op === 'execute') value = plain(await (tx ?? client).execute(stmt));
 		else if (op === 'batch') value = (await (tx ? tx.batch(stmts) : client.batch(stmts, 'write'))).map(plain);
+		else if (op === 'unit') {
+			const t = await client.transaction('write');
+			try {
+				const done = [];
+				for (const st of stmts) done.push(plain(await t.execute(typeof st === 'string' || !Array.isArray(st.args) ? st : { sql: st.sql, args: st.args.map((a) => ref(a, done)) })));
+				await t.commit();
+				value = done;
+			} finally {
+				t.close();
+			}
+		}
 		else if (op === 'begin') tx = await client.transaction('write');
 		else if (op === 'commit') { const t = tx; tx = null; await t.commit(); }
 		else if (op === 'rollback') { const t = tx; tx = null; if (t) await t.rollback(); }
 		else if (op === 'close') { const t = tx; tx = null; if (t) t.close(); }
-		wrote = tx === null && (op === 'commit' || op === 'batch' || op === 'execute');
+		wrote = tx === null && (op === 'commit' || op === 'batch' || op === 'execute' || op === 'unit');
 		parentPort.postMessage({ id, value });
 	} catch (e) {
 		parentPort.postMessage({ id, error: { message: String(e && e.message), code: e && e.code } });
 	}
 	// The committed pages are copied into the database file after the caller has its answer
 	// (the commit itself is durable once the WAL is synced). PASSIVE: readers are not waited
-	// for and nothing is blocked; the next message waits for it.
-	if (wrote) await client.execute('PRAGMA wal_checkpoint(PASSIVE)').catch(() => {});
+	// for and nothing is blocked. Not after every write: many small imports a second would
+	// each pay a checkpoint's sync of the database file; once the writes pause (CKPT_IDLE_MS),
+	// or after CKPT_WRITES of them without a pause.
+	if (wrote) {
+		if (++writes >= CKPT_WRITES) await checkpoint();
+		else if (!timer) timer = setTimeout(checkpoint, CKPT_IDLE_MS);
+	}
 });
 `;
 
@@ -134,7 +188,11 @@ class WorkerWriter implements ImportWriter {
 		this.#idle.unref();
 	}
 
-	#send<T>(message: { op: string; stmt?: InStatement; stmts?: InStatement[] }): Promise<T> {
+	#send<T>(message: {
+		op: string;
+		stmt?: InStatement;
+		stmts?: (InStatement | UnitStatement)[];
+	}): Promise<T> {
 		const w = this.#start();
 		w.ref();
 		if (this.#idle) clearTimeout(this.#idle);
@@ -160,6 +218,9 @@ class WorkerWriter implements ImportWriter {
 			op: 'batch',
 			stmts
 		});
+	}
+	unit(stmts: (InStatement | UnitStatement)[]) {
+		return this.#send<StatementResult[]>({ op: 'unit', stmts });
 	}
 	async transaction(): Promise<WriteTx> {
 		await this.#send({ op: 'begin' });
@@ -193,7 +254,21 @@ function clientWriter(db: Db): ImportWriter {
 				rowsAffected: r.rowsAffected,
 				lastInsertRowid: r.lastInsertRowid ?? null
 			})),
-		transaction: () => c.transaction('write')
+		transaction: () => c.transaction('write'),
+		unit: async (stmts) => {
+			const tx = await c.transaction('write');
+			try {
+				const done: StatementResult[] = [];
+				for (const st of stmts) {
+					const r = await tx.execute(resolveRefs(st, done));
+					done.push({ rowsAffected: r.rowsAffected, lastInsertRowid: r.lastInsertRowid ?? null });
+				}
+				await tx.commit();
+				return done;
+			} finally {
+				tx.close();
+			}
+		}
 	};
 }
 
