@@ -154,10 +154,15 @@ export async function storePlan(
 	const claimed = await tx.execute(claimStatement(importId, now) as InStatement);
 	if (claimed.rowsAffected === 0) return false;
 	let stored = 0;
-	for (const chunk of chunks) {
-		const [inserted] = await tx.batch(sliceStatements(importId, chunk, now) as InStatement[]);
-		stored += inserted.rowsAffected;
-		// Through the in-process client, the event loop gets a turn between slices.
+	// On the writer's thread several slices go in one message (each message's answer waits for
+	// a turn of this busy event loop); through the in-process client one at a time, with the
+	// event loop let through between them.
+	const per = tx.slicesPerMessage ?? 1;
+	for (let i = 0; i < chunks.length; i += per) {
+		const done = await tx.batch(
+			chunks.slice(i, i + per).flatMap((c) => sliceStatements(importId, c, now)) as InStatement[]
+		);
+		for (let j = 0; j < done.length; j += 3) stored += done[j].rowsAffected;
 		await breathe();
 	}
 	await tx.batch(countStatements(actor, importId, stored, planned, now) as InStatement[]);

@@ -27,6 +27,8 @@ export interface WriteTx {
 	commit(): Promise<void>;
 	rollback(): Promise<void>;
 	close(): void;
+	/** Plan slices a large commit sends per `batch` (1 when absent). */
+	slicesPerMessage?: number;
 }
 
 /** An argument of a unit's statement: a value, or the row id an earlier statement of the unit inserted. */
@@ -226,6 +228,8 @@ class WorkerWriter implements ImportWriter {
 		await this.#send({ op: 'begin' });
 		let open = true;
 		return {
+			// About 8,000 rows, a few hundred ms of the writer's thread, per message.
+			slicesPerMessage: 8,
 			execute: (stmt) => this.#send({ op: 'execute', stmt }),
 			batch: (stmts) => this.#send({ op: 'batch', stmts }),
 			commit: async () => {
