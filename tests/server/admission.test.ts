@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { Gate } from '$lib/server/admission';
+import { admissionGate, admissionHandle, Gate } from '$lib/server/admission';
 import { leavePlace, places } from '$lib/server/admission-place';
 import { openDb, withWriteLock } from '$lib/server/db/client';
 
@@ -91,5 +91,65 @@ describe('admission gate', () => {
 		await expect(writer).resolves.toBe('written');
 		// Outside any request, giving a place up does nothing.
 		expect(() => leavePlace()).not.toThrow();
+	});
+});
+
+describe('admission of a request with a body', () => {
+	const event = (request: Request) =>
+		({ isSubRequest: false, request, url: new URL(request.url) }) as unknown as Parameters<
+			typeof admissionHandle
+		>[0]['event'];
+
+	it('receives a small body in full before the request queues for a place', async () => {
+		const gate = admissionGate();
+		const held = Array.from({ length: gate.limit }, () => gate.enter() as { leave(): void });
+		let push!: (s: string) => void;
+		let end!: () => void;
+		const body = new ReadableStream<Uint8Array>({
+			start(c) {
+				push = (s) => c.enqueue(new TextEncoder().encode(s));
+				end = () => c.close();
+			}
+		});
+		const request = new Request('http://register.test/api/design-check', {
+			method: 'POST',
+			body,
+			headers: { 'content-length': '11' },
+			duplex: 'half'
+		} as RequestInit);
+		const answer = admissionHandle({
+			event: event(request),
+			resolve: async (e) => new Response(await e.request.text())
+		});
+		await turn();
+		// Still receiving: the request waits for its client, not in the queue.
+		expect(gate.queued).toBe(0);
+		push('hello ');
+		push('world');
+		end();
+		for (let i = 0; i < 5 && gate.queued === 0; i++) await turn();
+		expect(gate.queued).toBe(1);
+		held[0].leave();
+		// The handler reads the whole body, though the gate read a copy of it first.
+		expect(await (await answer).text()).toBe('hello world');
+		for (const h of held.slice(1)) h.leave();
+		expect(gate.active).toBe(0);
+	});
+
+	it('lets a large upload in without a place', async () => {
+		const gate = admissionGate();
+		const held = Array.from({ length: gate.limit }, () => gate.enter() as { leave(): void });
+		const request = new Request('http://register.test/api/imports/factory-tests', {
+			method: 'POST',
+			body: 'x'.repeat(100_000),
+			headers: { 'content-length': '100000' }
+		});
+		const res = await admissionHandle({
+			event: event(request),
+			resolve: async (e) => new Response(String((await e.request.text()).length))
+		});
+		expect(await res.text()).toBe('100000');
+		expect(gate.active).toBe(gate.limit);
+		for (const h of held) h.leave();
 	});
 });

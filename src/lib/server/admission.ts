@@ -17,11 +17,12 @@ import { places, type Place } from './admission-place';
  *
  * A request about to wait for the database's one writer (`withWriteLock`) gives its place up
  * to the next in line, so the queue never stalls behind writes waiting their turn; it then
- * runs as the writer without a place, which is one more request inside at most. Requests SvelteKit makes to itself while rendering a
- * page (`event.isSubRequest`) pass: their outer request already holds a place, and queueing
- * them behind it could wait for ever. A full queue answers 503 with `Retry-After` at once,
- * so memory stays bounded however many clients come; a request whose client went away while
- * it waited leaves the queue unserved.
+ * runs as the writer without a place, which is one more request inside at most. Requests
+ * SvelteKit makes to itself while rendering a page (`event.isSubRequest`) pass: their outer
+ * request already holds a place, and queueing them behind it could wait for ever. A
+ * request's body is received before it takes a place (below). A full queue answers 503 with
+ * `Retry-After` at once, so memory stays bounded however many clients come; a request whose
+ * client went away while it waited leaves the queue unserved.
  */
 export class Gate {
 	#active = 0;
@@ -122,8 +123,25 @@ const busy = (api: boolean) =>
 		}
 	);
 
+/** Largest body received before the request takes a place; a larger one goes in without one. */
+const RECEIVE_FIRST_BYTES = 64 * 1024;
+
 export const admissionHandle: Handle = async ({ event, resolve }) => {
 	if (event.isSubRequest || env.PACKLEDGER_ADMIT === 'off') return resolve(event);
+	if (event.request.body !== null) {
+		// A place is for work, not for waiting on a client: a small body is received in full
+		// first (a slow sender holds no place), through a clone, so the request keeps its own
+		// body, now buffered (Fetch standard, Request.clone tees the body). A large upload or one
+		// of unknown length (rig files, photos) is let in without a place, as before the gate:
+		// receiving it twice in memory would cost more than it saves, and uploads are few.
+		const declared = Number(event.request.headers.get('content-length') ?? NaN);
+		if (!(declared >= 0 && declared <= RECEIVE_FIRST_BYTES)) return resolve(event);
+		// A failed read (the client went away) fails the same way when the handler reads.
+		await event.request
+			.clone()
+			.arrayBuffer()
+			.catch(() => undefined);
+	}
 	const entered = admissionGate().enter();
 	if (entered === null) return busy(event.url.pathname.startsWith('/api/'));
 	const place = entered instanceof Promise ? await entered : entered;
