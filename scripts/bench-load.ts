@@ -9,7 +9,7 @@
 // Node's monitorEventLoopDelay; the server runs with PACKLEDGER_DIAGNOSTICS=1).
 //
 //   npm run bench:load [-- --clients 200] [-- --duration 60] [-- --warmup 15] [-- --big 20000] [-- --think 100]
-//                      [-- --only fleet,record,public,design,import] [-- --json]
+//                      [-- --only fleet,record,public,design,import] [-- --processes N] [-- --json]
 import { createClient } from '@libsql/client';
 import { loadavg } from 'node:os';
 import { serialRun } from '$lib/domain/serial';
@@ -29,6 +29,9 @@ const THINK_MS = opt('--think', 100);
 // and its JIT settles over its first ~10,000 requests); --warmup 0 measures from a cold start.
 const WARMUP_S = Math.min(opt('--warmup', 15), 600);
 const asJson = args.includes('--json');
+// --processes N: the build as N cluster workers behind the one port (scripts/cluster.js);
+// the default, 0, is one `node build`. The event-loop figures are then one worker's.
+const PROCESSES = Math.max(0, Math.min(Math.trunc(opt('--processes', 0)), 16));
 const ONLY = (() => {
 	const i = args.indexOf('--only');
 	return i >= 0 && args[i + 1] ? args[i + 1].split(',') : null;
@@ -43,7 +46,8 @@ const MODULES = 5_000;
 const server = await startBenchServer({
 	port: PORT,
 	dbDir,
-	env: { PACKLEDGER_DIAGNOSTICS: '1' }
+	env: { PACKLEDGER_DIAGNOSTICS: '1' },
+	processes: PROCESSES
 });
 const origin = server.origin;
 const db = createClient({ url: `file:${dbDir}/bench.db` });
@@ -262,6 +266,7 @@ if (asJson)
 			clients: CLIENTS,
 			durationS: DURATION_S,
 			warmupS: WARMUP_S,
+			processes: PROCESSES,
 			requests: all.requests,
 			rps: Math.round(all.requests / elapsed),
 			errors: all.errors,
