@@ -388,6 +388,40 @@ describe('counts kept between requests', () => {
 		]);
 	});
 
+	it('keeps the ordered list of a few matches only for the data version it was read at', async () => {
+		const a = await createSeededDb();
+		const url = (await a.$client.execute('PRAGMA database_list')).rows[0].file as string;
+		const b = await openDb(`file:${url}`);
+		const admin = await actorFor(a, 'admin@tidewater.example');
+		const workshop = await actorFor(a, 'workshop@tidewater.example');
+		const made = await makeModules(a, workshop, { count: 3, built: 3, lots: ['HCL-2699-Q'] });
+		const view = (raw: Record<string, unknown>) =>
+			listModules(a, admin, q({ lot: 'HCL-2699-Q', pageSize: 2, ...raw }), { keep: false });
+		const bySerial = { sort: 'serial', dir: 'asc' } as const;
+		expect(serials(await view(bySerial))).toEqual(made.slice(0, 2));
+		expect(serials(await view({ ...bySerial, page: 2 }))).toEqual(made.slice(2));
+		// Sorted by state (all built: ties by id): a few matches of a list filter, kept per state.
+		expect(serials(await view({ sort: 'state', dir: 'asc' }))).toEqual(made.slice(0, 2));
+		// Another app server moves the first one to the end of both orders: the lists kept at the
+		// older version are not given again (the pages are not kept: `keep: false`).
+		await b.$client.execute({
+			sql: `UPDATE modules SET serial = 'PL99-99-999999Z', state = 'scrapped' WHERE serial = ?`,
+			args: [made[0]]
+		});
+		expect(serials(await view(bySerial))).toEqual([made[1], made[2]]);
+		expect(serials(await view({ ...bySerial, page: 2 }))).toEqual(['PL99-99-999999Z']);
+		expect(serials(await view({ sort: 'state', dir: 'asc' }))).toEqual([made[1], made[2]]);
+		expect(serials(await view({ sort: 'state', dir: 'desc' }))).toEqual([
+			'PL99-99-999999Z',
+			made[2]
+		]);
+		// A module added to the lot by this process's own pool is counted and listed at once.
+		const [extra] = await makeModules(a, workshop, { count: 1, built: 1, lots: ['HCL-2699-Q'] });
+		const last = await view({ ...bySerial, page: 2 });
+		expect(last.total).toBe(4);
+		expect(serials(last)).toEqual([extra, 'PL99-99-999999Z']);
+	});
+
 	it('keeps a whole page only for the same scope, view and data version', async () => {
 		const a = await createSeededDb();
 		const url = (await a.$client.execute('PRAGMA database_list')).rows[0].file as string;
