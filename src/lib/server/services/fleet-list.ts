@@ -177,12 +177,12 @@ export type FleetItem = {
 	site: string | null;
 };
 
-/** `listModulesJson` read back, with instants as Dates: for callers in the server (`few`: tests choose the plan). */
+/** `listModulesJson` read back, with instants as Dates: for callers in the server (`few`, `keep`: tests choose the plan). */
 export async function listModules(
 	db: Db,
 	actor: Actor,
 	query: FleetQuery,
-	plan: { few?: number } = {}
+	plan: { few?: number; keep?: boolean } = {}
 ) {
 	const r = JSON.parse(await listModulesJson(db, actor, query, plan)) as {
 		items: (Omit<FleetItem, 'builtAt' | 'testedAt' | 'shippedAt'> &
