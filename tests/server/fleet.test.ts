@@ -28,7 +28,7 @@ import {
 	type FleetQuery
 } from '$lib/schemas/fleet';
 import type { Actor } from '$lib/server/actor';
-import { actorFor, createSeededDb, createTestDb } from '../factories/db';
+import { actorFor, createSeededDb } from '../factories/db';
 import { openDb } from '$lib/server/db/client';
 import { assignToDealer, makeModules } from '../factories/modules';
 
@@ -458,8 +458,10 @@ describe('counts kept between requests', () => {
 	});
 
 	it('gives instants exactly as Date.prototype.toISOString does (the JSON of a Date)', async () => {
-		const c = await createTestDb();
-		// Milliseconds on both sides of midnight, the year 2000 and 2028 leap days, a far year.
+		const c = await createSeededDb();
+		const admin = await actorFor(c, 'admin@tidewater.example');
+		// Milliseconds on both sides of midnight, the year 2000 and 2028 leap days, a far year
+		// (the reference: the engine's own Date.prototype.toISOString, ECMA-262 §21.4.4.36).
 		const ms = [
 			0,
 			1,
@@ -470,11 +472,24 @@ describe('counts kept between requests', () => {
 			Date.UTC(2099, 6, 1, 12, 30, 15, 123),
 			...Array.from({ length: 200 }, (_, i) => 1_700_000_000_000 + i * 86_399_997)
 		];
-		const r = await c.$client.execute({
-			sql: `SELECT json_group_array(strftime('%Y-%m-%dT%H:%M:%fZ', value / 1000.0, 'unixepoch')) FROM json_each(?)`,
+		await c.$client.execute({
+			sql: `INSERT INTO modules (serial, model_id, state, built_at, tested_at, shipped_at)
+				SELECT 'PL12-26-' || printf('%06d', 700000 + key) || 'T', (SELECT id FROM module_models WHERE code = 'TC-HC-12'), 'in_stock', value, value + 1, CASE WHEN key % 2 = 0 THEN value + 86400000 END
+				FROM json_each(?)`,
 			args: [JSON.stringify(ms)]
 		});
-		expect(JSON.parse(String(r.rows[0][0]))).toEqual(ms.map((m) => new Date(m).toISOString()));
+		const page = JSON.parse(
+			await listModulesJson(
+				c,
+				admin,
+				q({ q: 'PL12-26-7', sort: 'serial', dir: 'asc', pageSize: 500 })
+			)
+		) as { items: Record<'builtAt' | 'testedAt' | 'shippedAt', string | null>[] };
+		expect(page.items.map((i) => i.builtAt)).toEqual(ms.map((m) => new Date(m).toISOString()));
+		expect(page.items.map((i) => i.testedAt)).toEqual(ms.map((m) => new Date(m + 1).toISOString()));
+		expect(page.items.map((i) => i.shippedAt)).toEqual(
+			ms.map((m, i) => (i % 2 === 0 ? new Date(m + 86_400_000).toISOString() : null))
+		);
 	});
 });
 

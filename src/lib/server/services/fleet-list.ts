@@ -3,6 +3,7 @@ import { dealerScopeOf, type Actor } from '$lib/server/actor';
 import { FLEET_STATES, type FleetQuery } from '$lib/schemas/fleet';
 import { conditions, keptMatches, viewKey, whereOf, type Condition } from './fleet-filters';
 import { keepPage, keptPage, viewCacheAt, type ViewCache } from './fleet-cache';
+import { isoInstantsInJson } from '$lib/domain/iso-instant';
 import { groupedPage, idsOf, isGrouped, orderedIds, scalar } from './fleet-groups';
 
 /**
@@ -29,24 +30,21 @@ const SORTED: Record<Indexed, { col: string; index: string; dated: boolean }> = 
 };
 type Args = (string | number)[];
 
-/** An instant as JSON gives it (`Date.prototype.toISOString`), computed by SQLite. */
-const iso = (col: string) =>
-	`CASE WHEN ${col} IS NULL THEN NULL ELSE strftime('%Y-%m-%dT%H:%M:%fZ', ${col} / 1000.0, 'unixepoch') END`;
-
 /**
  * The rows of a page as one JSON array, in the order of `ids` (a JSON array of module ids or
  * a query giving them): one result row, however many modules (libSQL spends ~1 µs a value
  * turning result rows into objects; JSON text passes through as one string). The scope is
- * tested here again.
+ * tested here again. Instants come as epoch milliseconds and are written as JSON writes a
+ * Date by `isoInstantsInJson` (SQLite's strftime took ~1.4 µs an instant, 0.2 ms a page).
  */
 function itemsSql(db: Db, scope: Condition[]) {
 	const where = whereOf(scope);
 	return {
 		sql: `SELECT ${dataVersionSql(db)}, json_group_array(json_object(
 				'serial', modules.serial, 'state', modules.state, 'model', module_models.code,
-				'dealer', organisations.name, 'builtAt', ${iso('modules.built_at')},
-				'testedAt', ${iso('modules.tested_at')}, 'testOutcome', modules.test_outcome,
-				'shippedAt', ${iso('modules.shipped_at')},
+				'dealer', organisations.name, 'builtAt', modules.built_at,
+				'testedAt', modules.tested_at, 'testOutcome', modules.test_outcome,
+				'shippedAt', modules.shipped_at,
 				'cellLots', json(coalesce(modules.cell_lots, '[]')), 'site', sites.name
 			) ORDER BY page.key)
 			FROM json_each(?) AS page
@@ -125,7 +123,7 @@ async function pageOf(
 	);
 	const withItems = async (sql: string, args: Args, total: number) => {
 		const row = (await client.execute({ sql, args })).rows[0];
-		return answer(String(row[1]), total, row[0]);
+		return answer(isoInstantsInJson(String(row[1])), total, row[0]);
 	};
 
 	if (isGrouped(sort)) {
