@@ -28,7 +28,7 @@ import {
 	type FleetQuery
 } from '$lib/schemas/fleet';
 import type { Actor } from '$lib/server/actor';
-import { actorFor, createSeededDb, createTestDb } from '../factories/db';
+import { actorFor, createSeededDb } from '../factories/db';
 import { openDb } from '$lib/server/db/client';
 import { assignToDealer, makeModules } from '../factories/modules';
 
@@ -388,6 +388,40 @@ describe('counts kept between requests', () => {
 		]);
 	});
 
+	it('keeps the ordered list of a few matches only for the data version it was read at', async () => {
+		const a = await createSeededDb();
+		const url = (await a.$client.execute('PRAGMA database_list')).rows[0].file as string;
+		const b = await openDb(`file:${url}`);
+		const admin = await actorFor(a, 'admin@tidewater.example');
+		const workshop = await actorFor(a, 'workshop@tidewater.example');
+		const made = await makeModules(a, workshop, { count: 3, built: 3, lots: ['HCL-2699-Q'] });
+		const view = (raw: Record<string, unknown>) =>
+			listModules(a, admin, q({ lot: 'HCL-2699-Q', pageSize: 2, ...raw }), { keep: false });
+		const bySerial = { sort: 'serial', dir: 'asc' } as const;
+		expect(serials(await view(bySerial))).toEqual(made.slice(0, 2));
+		expect(serials(await view({ ...bySerial, page: 2 }))).toEqual(made.slice(2));
+		// Sorted by state (all built: ties by id): a few matches of a list filter, kept per state.
+		expect(serials(await view({ sort: 'state', dir: 'asc' }))).toEqual(made.slice(0, 2));
+		// Another app server moves the first one to the end of both orders: the lists kept at the
+		// older version are not given again (the pages are not kept: `keep: false`).
+		await b.$client.execute({
+			sql: `UPDATE modules SET serial = 'PL99-99-999999Z', state = 'scrapped' WHERE serial = ?`,
+			args: [made[0]]
+		});
+		expect(serials(await view(bySerial))).toEqual([made[1], made[2]]);
+		expect(serials(await view({ ...bySerial, page: 2 }))).toEqual(['PL99-99-999999Z']);
+		expect(serials(await view({ sort: 'state', dir: 'asc' }))).toEqual([made[1], made[2]]);
+		expect(serials(await view({ sort: 'state', dir: 'desc' }))).toEqual([
+			'PL99-99-999999Z',
+			made[2]
+		]);
+		// A module added to the lot by this process's own pool is counted and listed at once.
+		const [extra] = await makeModules(a, workshop, { count: 1, built: 1, lots: ['HCL-2699-Q'] });
+		const last = await view({ ...bySerial, page: 2 });
+		expect(last.total).toBe(4);
+		expect(serials(last)).toEqual([extra, 'PL99-99-999999Z']);
+	});
+
 	it('keeps a whole page only for the same scope, view and data version', async () => {
 		const a = await createSeededDb();
 		const url = (await a.$client.execute('PRAGMA database_list')).rows[0].file as string;
@@ -424,8 +458,10 @@ describe('counts kept between requests', () => {
 	});
 
 	it('gives instants exactly as Date.prototype.toISOString does (the JSON of a Date)', async () => {
-		const c = await createTestDb();
-		// Milliseconds on both sides of midnight, the year 2000 and 2028 leap days, a far year.
+		const c = await createSeededDb();
+		const admin = await actorFor(c, 'admin@tidewater.example');
+		// Milliseconds on both sides of midnight, the year 2000 and 2028 leap days, a far year
+		// (the reference: the engine's own Date.prototype.toISOString, ECMA-262 §21.4.4.36).
 		const ms = [
 			0,
 			1,
@@ -436,11 +472,24 @@ describe('counts kept between requests', () => {
 			Date.UTC(2099, 6, 1, 12, 30, 15, 123),
 			...Array.from({ length: 200 }, (_, i) => 1_700_000_000_000 + i * 86_399_997)
 		];
-		const r = await c.$client.execute({
-			sql: `SELECT json_group_array(strftime('%Y-%m-%dT%H:%M:%fZ', value / 1000.0, 'unixepoch')) FROM json_each(?)`,
+		await c.$client.execute({
+			sql: `INSERT INTO modules (serial, model_id, state, built_at, tested_at, shipped_at)
+				SELECT 'PL12-26-' || printf('%06d', 700000 + key) || 'T', (SELECT id FROM module_models WHERE code = 'TC-HC-12'), 'in_stock', value, value + 1, CASE WHEN key % 2 = 0 THEN value + 86400000 END
+				FROM json_each(?)`,
 			args: [JSON.stringify(ms)]
 		});
-		expect(JSON.parse(String(r.rows[0][0]))).toEqual(ms.map((m) => new Date(m).toISOString()));
+		const page = JSON.parse(
+			await listModulesJson(
+				c,
+				admin,
+				q({ q: 'PL12-26-7', sort: 'serial', dir: 'asc', pageSize: 500 })
+			)
+		) as { items: Record<'builtAt' | 'testedAt' | 'shippedAt', string | null>[] };
+		expect(page.items.map((i) => i.builtAt)).toEqual(ms.map((m) => new Date(m).toISOString()));
+		expect(page.items.map((i) => i.testedAt)).toEqual(ms.map((m) => new Date(m + 1).toISOString()));
+		expect(page.items.map((i) => i.shippedAt)).toEqual(
+			ms.map((m, i) => (i % 2 === 0 ? new Date(m + 86_400_000).toISOString() : null))
+		);
 	});
 });
 

@@ -56,13 +56,18 @@ class VersionedStore {
 	}
 }
 
-/** Counts, groups, orders and match lists: 500 of them, 8 M characters in all. */
+/** Counts, groups, orders, match lists and ordered ids of a few matches: 500 of them, 8 M characters in all. */
 const values = new VersionedStore(500, 8 * 1024 * 1024);
 /** Answered pages: 400 of them, 16 M characters of JSON in all. */
 const pages = new VersionedStore(400, 16 * 1024 * 1024);
 
-/** The characters a kept value holds (strings by length, anything else as a small value). */
-const charsOf = (v: unknown) => (typeof v === 'string' ? v.length : 64);
+/**
+ * The characters a kept value holds: strings by length, a list of ids as its JSON would be
+ * (8 characters an id: a 200,000-module register's ids are up to 6 digits and a comma),
+ * anything else as a small value.
+ */
+const charsOf = (v: unknown) =>
+	typeof v === 'string' ? v.length : Array.isArray(v) ? 64 + v.length * 8 : 64;
 
 export type ViewCache = <T>(key: string, compute: () => Promise<T>) => Promise<T>;
 
