@@ -443,6 +443,56 @@ describe('rowKey and duplicates', () => {
 	});
 });
 
+describe('repeated tests in a file of many', () => {
+	it('finds a repeat among earlier tests of the same serial, whatever the case, and only a true one', () => {
+		const header =
+			'Serial,Tested At,Capacity (Ah),DCIR (mOhm),Cell spread (mV),Insulation (MOhm),Rig';
+		const r = (serial: string, at: string, rig: string) => `${serial},${at},46.2,2.1,12,550,${rig}`;
+		const text = csv(
+			header,
+			r('TW48-0001', '2026-03-12T08:00:00Z', 'RIG-2'), // row 2
+			r('TW48-0001', '2026-03-12T09:00:00Z', 'RIG-2'), // row 3: another instant
+			r('TW48-0001', '2026-03-12T10:00:00Z', 'RIG-2'), // row 4
+			r('TW48-0001', '2026-03-12T09:00:00Z', 'RIG-3'), // row 5: same instant, other rig
+			r('tw48-0001', '2026-03-12T09:00:00Z', 'RIG-2'), // row 6: row 3 again, in lower case
+			r('TW48-0002', '2026-03-12T08:00:00Z', ''), // row 7: no rig
+			r('TW48-0002', '2026-03-12T08:00:00.000Z', ''), // row 8: row 7 again
+			r('TW48-0001', '2026-03-12T08:00:00Z', 'RIG-2') // row 9: row 2 again, behind three more
+		);
+		const v = validateFactoryCsv(text, NOW);
+		if (!v.ok) throw new Error(v.error);
+		expect(v.rows.map((x) => x.row)).toEqual([2, 3, 4, 5, 7]);
+		expect(v.errors.map((e) => [e.row, e.message])).toEqual([
+			[6, 'Same serial, test time and rig as row 3; remove the duplicate row.'],
+			[8, 'Same serial, test time and rig as row 7; remove the duplicate row.'],
+			[9, 'Same serial, test time and rig as row 2; remove the duplicate row.']
+		]);
+	});
+
+	it('keeps every test of 3,000 serials tested twice apart (past the first table of 1,024)', () => {
+		const header =
+			'Serial,Tested At,Capacity (Ah),DCIR (mOhm),Cell spread (mV),Insulation (MOhm),Rig';
+		const lines: string[] = [];
+		for (let pass = 0; pass < 2; pass++)
+			for (let i = 0; i < 3000; i++)
+				lines.push(
+					`TW48-${String(i).padStart(4, '0')},2026-03-12T0${8 + pass}:00:00Z,46.2,2.1,12,550,RIG-2`
+				);
+		// The first row of the file once more at the end: the only repeat.
+		lines.push(lines[0]);
+		const v = validateFactoryCsv(csv(header, ...lines), NOW);
+		if (!v.ok) throw new Error(v.error);
+		expect(v.rows).toHaveLength(6000);
+		expect(v.errors).toEqual([
+			{
+				row: 6002,
+				column: 'Serial',
+				message: 'Same serial, test time and rig as row 2; remove the duplicate row.'
+			}
+		]);
+	});
+});
+
 describe('error report CSV — OWASP CSV injection (from memory) and RFC 4180 writing', () => {
 	it('neutralises cells that a spreadsheet would run as a formula', () => {
 		expect(['=1+1', '+41', '-2', '@SUM(A1)', '\t=1', '\r=1'].map(neutraliseCell)).toEqual([

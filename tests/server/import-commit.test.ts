@@ -279,6 +279,43 @@ describe('row keys looked up only for modules that have a result', () => {
 	});
 });
 
+describe('the row key the commit makes', () => {
+	it('is the serial in capitals, the instant in ms and the rig, between U+001F', async () => {
+		const [a, b] = await makeModules(db, workshop, { count: 2, built: 2 });
+		// One row as the rig wrote it (serial in lower case, a fraction of a second), one with
+		// no rig; the expected keys are built by hand, the instants read by Date.parse (ECMA-262
+		// date time string format).
+		const withRig = `${a.toLowerCase()},2026-11-21T10:15:30.250Z,46.8,2390,5.1,51.2,8,500,22.5,RIG-7,T.Vale`;
+		const noRig = `${b},2026-11-21T10:16:00Z,46.8,2390,5.1,51.2,8,500,22.5,,T.Vale`;
+		const p = await previewImport(
+			db,
+			workshop,
+			{ name: 'keys.csv', content: csv([withRig, noRig]), bytes: 0 },
+			NOW
+		);
+		expect(p.import).toMatchObject({ accepted: 2 });
+		await commitImport(db, workshop, p.import.id, NOW);
+		const keys = await db
+			.select({ rowKey: factoryTests.rowKey })
+			.from(factoryTests)
+			.where(eq(factoryTests.importId, p.import.id));
+		expect(keys.map((k) => k.rowKey).sort()).toEqual(
+			[
+				`${a.toUpperCase()}\u001f${Date.parse('2026-11-21T10:15:30.250Z')}\u001fRIG-7`,
+				`${b.toUpperCase()}\u001f${Date.parse('2026-11-21T10:16:00Z')}\u001f`
+			].sort()
+		);
+		// And the preview finds them again by the key it makes itself: both are duplicates now.
+		const again = await previewImport(
+			db,
+			workshop,
+			{ name: 'keys-again.csv', content: csv([noRig, withRig]), bytes: 0 },
+			NOW
+		);
+		expect(again.import).toMatchObject({ accepted: 0, duplicates: 2 });
+	});
+});
+
 describe('sha256Text', () => {
 	it('gives the FIPS 180-2 digest of "abc"', async () => {
 		// FIPS 180-2, appendix B.1 (one-block message "abc").

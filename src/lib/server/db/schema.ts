@@ -2,6 +2,7 @@ import { sql } from 'drizzle-orm';
 import {
 	index,
 	integer,
+	blob,
 	primaryKey,
 	real,
 	sqliteTable,
@@ -371,7 +372,10 @@ export const importFiles = sqliteTable('import_files', {
 	importId: integer('import_id')
 		.primaryKey()
 		.references(() => imports.id),
+	/** The file's text; '' when it is kept compressed in `contentGzip`. */
 	content: text('content').notNull(),
+	/** The file's UTF-8 bytes, gzip-compressed (RFC 1952), for files stored since compression. */
+	contentGzip: blob('content_gzip', { mode: 'buffer' }),
 	/** Until commit: the accepted rows as insert-ready JSON and each module's latest result (see import-analysis). */
 	planRows: text('plan_rows'),
 	planStates: text('plan_states')

@@ -1,4 +1,6 @@
 import { randomUUID } from 'node:crypto';
+import { promisify } from 'node:util';
+import { gunzip } from 'node:zlib';
 import { eq } from 'drizzle-orm';
 import type { InStatement } from '@libsql/client';
 import type { Db } from '$lib/server/db';
@@ -44,6 +46,7 @@ export const STATE_UPDATE_SQL = `UPDATE modules SET state = CASE j.value ->> 1 W
 	WHERE modules.id = j.value ->> 0 AND +modules.state IN ${TESTABLE_SQL}
 	  AND (modules.tested_at IS NULL OR modules.tested_at <= j.value ->> 2)`;
 
+const gunzipAsync = promisify(gunzip);
 const breathe = () => new Promise<void>((r) => setImmediate(r));
 
 /**
@@ -57,7 +60,8 @@ async function replan(db: Db, importId: number, now: Date): Promise<PreviewRow[]
 	const planKey = `import-${importId}-${randomUUID()}`;
 	const plan = planWriter(db, planKey, now);
 	try {
-		const a = await analyseFactoryFile(db, f.content, now, (chunk) => plan.write(chunk));
+		const text = f.contentGzip ? (await gunzipAsync(f.contentGzip)).toString('utf8') : f.content;
+		const a = await analyseFactoryFile(db, text, now, (chunk) => plan.write(chunk));
 		const rest = await plan.rest();
 		await withWriteLock(db, async () =>
 			(await importWriter(db)).batch([

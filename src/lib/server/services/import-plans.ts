@@ -11,7 +11,8 @@ const ORPHAN_MS = 60 * 60 * 1000;
 const SLICES_PER_WRITE = 8;
 
 const insertSlice = (planKey: string, chunk: PlanChunk, now: Date): InStatement => ({
-	sql: 'INSERT INTO import_plan_chunks (plan_key, seq, rows, states, created_at) VALUES (?, ?, ?, ?, ?)',
+	// The rows as UTF-8 bytes (moved to the writer's thread, not copied), stored as text.
+	sql: 'INSERT INTO import_plan_chunks (plan_key, seq, rows, states, created_at) VALUES (?, ?, CAST(? AS TEXT), ?, ?)',
 	args: [planKey, chunk.seq, chunk.rows, chunk.states, now.getTime()]
 });
 
