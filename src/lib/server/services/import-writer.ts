@@ -73,8 +73,13 @@ const WORKER_SOURCE = `
 const { parentPort, workerData } = require('node:worker_threads');
 const { createClient } = require('@libsql/client');
 const client = createClient({ url: workerData.url, timeout: 5000 });
-// This connection checkpoints after answering, not inside its COMMIT (see below).
-const ready = client.execute('PRAGMA wal_autocheckpoint = 0');
+// This writer checkpoints after answering, not inside its COMMITs (see below).
+// @libsql/client keeps a pool of connections and a transaction may get a fresh one, so the
+// setting goes with every transaction: without it a COMMIT on a new connection checkpoints
+// inside itself (SQLite's default, 1,000 pages), which after a large import meant copying
+// and syncing a long WAL inside small imports' commits.
+const NO_AUTO_CHECKPOINT = 'PRAGMA wal_autocheckpoint = 0';
+const ready = client.execute(NO_AUTO_CHECKPOINT);
 const CKPT_IDLE_MS = 25;
 const CKPT_WRITES = 32;
 let writes = 0;
@@ -93,11 +98,12 @@ parentPort.on('message', async ({ id, op, stmt, stmts }) => {
 	try {
 		await ready;
 		let value = null;
-		if (op === 'execute') value = plain(await (tx ?? client).execute(stmt));
-		else if (op === 'batch') value = (await (tx ? tx.batch(stmts) : client.batch(stmts, 'write'))).map(plain);
+		if (op === 'execute') value = plain(await (tx ? tx.execute(stmt) : client.batch([NO_AUTO_CHECKPOINT, stmt], 'write').then((r) => r[1])));
+		else if (op === 'batch') value = (await (tx ? tx.batch(stmts) : client.batch([NO_AUTO_CHECKPOINT, ...stmts], 'write').then((r) => r.slice(1)))).map(plain);
 		else if (op === 'unit') {
 			const t = await client.transaction('write');
 			try {
+				await t.execute(NO_AUTO_CHECKPOINT);
 				const done = [];
 				for (const st of stmts) done.push(plain(await t.execute(typeof st === 'string' || !Array.isArray(st.args) ? st : { sql: st.sql, args: st.args.map((a) => ref(a, done)) })));
 				await t.commit();
@@ -106,7 +112,10 @@ parentPort.on('message', async ({ id, op, stmt, stmts }) => {
 				t.close();
 			}
 		}
-		else if (op === 'begin') tx = await client.transaction('write');
+		else if (op === 'begin') {
+			tx = await client.transaction('write');
+			await tx.execute(NO_AUTO_CHECKPOINT);
+		}
 		else if (op === 'commit') { const t = tx; tx = null; await t.commit(); }
 		else if (op === 'rollback') { const t = tx; tx = null; if (t) await t.rollback(); }
 		else if (op === 'close') { const t = tx; tx = null; if (t) t.close(); }
